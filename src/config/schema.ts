@@ -1,0 +1,195 @@
+import { z } from 'zod';
+
+/**
+ * The single source of truth for pipeline.config.json: types, defaults, the JSON
+ * Schema shipped for editors (npm run schema) and the README's config reference all
+ * come from here.
+ */
+
+export const FILE_KINDS = ['prices', 'positions', 'fx', 'securities'] as const;
+export type FileKind = (typeof FILE_KINDS)[number];
+
+export const CANONICAL_COLUMNS: Record<FileKind, { required: string[]; optional: string[] }> = {
+  prices: { required: ['date', 'security_id', 'price'], optional: ['currency'] },
+  positions: { required: ['date', 'portfolio_id', 'security_id', 'quantity'], optional: [] },
+  fx: { required: ['date', 'currency', 'rate'], optional: [] },
+  securities: { required: ['security_id'], optional: ['name', 'asset_class', 'currency'] },
+};
+
+const currencyCode = z.string().regex(/^[A-Z]{3}$/, 'an ISO 4217 code: three capital letters');
+
+export const sourceSchema = z
+  .object({
+    name: z.string().min(1).describe('A label for the custodian or system that sends these files.'),
+    kind: z.enum(FILE_KINDS).describe('Which canonical layout the files are mapped onto.'),
+    pattern: z.string().min(1).describe('Glob on the file name (not the path), e.g. "prices*.csv*".'),
+    delimiter: z.string().length(1).default(',').describe('Field separator, one character.'),
+    decimal: z.enum(['.', ',']).default('.').describe('Decimal separator; with "," a "." is read as a thousands separator.'),
+    dateFormat: z
+      .string()
+      .default('%Y-%m-%d')
+      .describe('strptime format of the date column (DuckDB syntax), e.g. "%d.%m.%Y".'),
+    columns: z
+      .record(z.string(), z.string())
+      .default({})
+      .describe('Map canonical column name -> the name in this source\'s header, e.g. {"price": "Close"}.'),
+  })
+  .strict();
+export type SourceConfig = z.infer<typeof sourceSchema>;
+
+export const DEFAULT_SOURCES: z.input<typeof sourceSchema>[] = [
+  { name: 'prices', kind: 'prices', pattern: 'prices*.csv*' },
+  { name: 'positions', kind: 'positions', pattern: 'positions*.csv*' },
+  { name: 'fx', kind: 'fx', pattern: 'fx*.csv*' },
+  { name: 'securities', kind: 'securities', pattern: 'securities*.csv*' },
+];
+
+export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d'] as const;
+export const ESTIMATORS = ['sample', 'ewma'] as const;
+export type Estimator = (typeof ESTIMATORS)[number];
+
+export const limitSchema = z
+  .object({
+    portfolio: z.string().min(1).describe('A portfolio id, or "*" for every portfolio; a specific id overrides "*".'),
+    metric: z
+      .enum(LIMIT_METRICS)
+      .default('vol_ex_ante')
+      .describe('Figure of risk_daily to watch; var_99_1d is taken as a fraction of portfolio value.'),
+    window: z.number().int().min(0).describe('Window in trading days (0 with estimator "ewma").'),
+    estimator: z.enum(ESTIMATORS).default('sample'),
+    limit: z.number().positive().describe('Mandate limit, a fraction (0.15 = 15%).'),
+    warning: z.number().positive().optional().describe('Warning level; default 0.9 x limit.'),
+    clear: z.number().positive().optional().describe('An episode closes on the first date below this; default 0.85 x limit.'),
+  })
+  .strict();
+
+const riskSchema = z
+  .object({
+    windows: z.array(z.number().int().min(2)).min(1).default([21, 63, 252]).describe('Rolling windows in trading days.'),
+    tradingDaysPerYear: z.number().int().positive().default(252).describe('A in sigma = sqrt(A w\'Sw).'),
+    maxStaleDays: z
+      .number()
+      .int()
+      .min(0)
+      .default(5)
+      .describe('A price (or fx rate) is carried forward for at most this many valuation dates, flagged stale.'),
+    weights: z
+      .enum(['current', 'window_average'])
+      .default('current')
+      .describe('Weights for vol_ex_ante: at the close of the date, or the mean over the window.'),
+    ewma: z
+      .object({
+        enabled: z.boolean().default(true),
+        lambda: z.number().gt(0).lt(1).default(0.94).describe('Decay factor (RiskMetrics daily: 0.94).'),
+        seedDays: z
+          .number()
+          .int()
+          .min(2)
+          .default(21)
+          .describe('The EWMA matrix is seeded with the sample covariance of the first seedDays returns.'),
+      })
+      .strict()
+      .default({ enabled: true, lambda: 0.94, seedDays: 21 }),
+    minCoverage: z
+      .number()
+      .min(0)
+      .max(1)
+      .default(0.9)
+      .describe('Below this fraction of value with full history, volatility is left null (status says why).'),
+    contributions: z
+      .enum(['latest', 'all'])
+      .default('latest')
+      .describe('Keep risk contributions for the latest date of each portfolio only, or for every date.'),
+  })
+  .strict();
+
+const webhookSchema = z
+  .object({
+    url: z.url().describe('HTTP(S) endpoint that receives each alert as a JSON POST.'),
+    tokenEnv: z.string().optional().describe('Name of the environment variable holding the bearer token.'),
+    timeoutMs: z.number().int().positive().default(5000),
+    maxAttempts: z.number().int().positive().default(12).describe('After this many failures an alert stays undelivered until retried by hand.'),
+  })
+  .strict();
+
+const alertsSchema = z
+  .object({
+    file: z.string().optional().describe('JSON Lines file every alert is appended to.'),
+    webhook: webhookSchema.optional(),
+    maxAgeDays: z
+      .number()
+      .int()
+      .min(0)
+      .default(5)
+      .describe('A run over past dates alerts only transitions this many calendar days before its latest valuation date.'),
+  })
+  .strict();
+
+const scheduleSchema = z
+  .object({
+    timezone: z.string().default('UTC').describe('IANA time zone the cron expressions run in.'),
+    missingData: z
+      .object({
+        cron: z.string().default('0 22 * * 1-5').describe('When to check that the previous business day\'s files arrived.'),
+        expect: z.array(z.enum(FILE_KINDS)).default(['prices', 'positions']),
+      })
+      .strict()
+      .default({ cron: '0 22 * * 1-5', expect: ['prices', 'positions'] }),
+    retryAlerts: z.string().default('*/5 * * * *').describe('Cron of the retry of undelivered alerts.'),
+    checkpoint: z.string().default('30 2 * * *').describe('Cron of the nightly database checkpoint.'),
+  })
+  .strict();
+
+export const configSchema = z
+  .object({
+    $schema: z.string().optional(),
+    inbox: z.string().default('inbox').describe('The holdings folder that is watched.'),
+    archive: z.string().default('archive').describe('Ingested files are moved here, in dated subfolders.'),
+    quarantine: z.string().default('quarantine').describe('Rejected files are moved here with a reason file.'),
+    database: z.string().default('riskfold.duckdb').describe('The DuckDB file the worker writes.'),
+    readCopy: z
+      .string()
+      .optional()
+      .describe('Read-only copy published after each committed run; default: <database>.read.duckdb.'),
+    baseCurrency: currencyCode.default('USD'),
+    sources: z.array(sourceSchema).default(DEFAULT_SOURCES as never),
+    watch: z
+      .object({
+        stableMs: z.number().int().min(0).default(1000).describe('A file counts as written once its size holds this long.'),
+        pollMs: z.number().int().positive().default(100),
+      })
+      .strict()
+      .default({ stableMs: 1000, pollMs: 100 }),
+    risk: riskSchema.default(riskSchema.parse({})),
+    limits: z.array(limitSchema).default([]),
+    alerts: alertsSchema.default({ maxAgeDays: 5 }),
+    schedule: scheduleSchema.default(scheduleSchema.parse({})),
+  })
+  .strict()
+  .superRefine((cfg, ctx) => {
+    cfg.limits.forEach((limit, i) => {
+      const warning = limit.warning ?? 0.9 * limit.limit;
+      const clear = limit.clear ?? 0.85 * limit.limit;
+      if (!(clear < warning && warning <= limit.limit)) {
+        ctx.addIssue({
+          code: 'custom',
+          path: ['limits', i],
+          message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${limit.limit}`,
+        });
+      }
+      if (limit.estimator === 'ewma' ? limit.window !== 0 : !cfg.risk.windows.includes(limit.window)) {
+        ctx.addIssue({
+          code: 'custom',
+          path: ['limits', i, 'window'],
+          message:
+            limit.estimator === 'ewma'
+              ? 'an ewma limit has window 0'
+              : `window ${limit.window} is not in risk.windows (${cfg.risk.windows.join(', ')})`,
+        });
+      }
+    });
+  });
+
+export type ConfigInput = z.input<typeof configSchema>;
+export type ParsedConfig = z.infer<typeof configSchema>;
+export type LimitConfig = ParsedConfig['limits'][number];

@@ -1,0 +1,83 @@
+import { DuckDBInstance, type DuckDBConnection, type DuckDBValue } from '@duckdb/node-api';
+import { RiskfoldError } from '../errors.ts';
+
+export type Row = Record<string, unknown>;
+export type Params = DuckDBValue[] | Record<string, DuckDBValue>;
+
+/**
+ * A DuckDB file opened by this process. `all()` returns JSON-friendly rows (dates as
+ * 'YYYY-MM-DD', BIGINT as string, doubles as numbers); bulk readers use `conn` directly
+ * for columnar access.
+ */
+export interface Database {
+  readonly path: string;
+  readonly readOnly: boolean;
+  readonly conn: DuckDBConnection;
+  all<T = Row>(sql: string, params?: Params): Promise<T[]>;
+  run(sql: string, params?: Params): Promise<void>;
+  /** Runs fn inside BEGIN/COMMIT; ROLLBACK and rethrow on any error. Not re-entrant. */
+  transaction<T>(fn: () => Promise<T>): Promise<T>;
+  close(): void;
+}
+
+export async function openDatabase(path: string, options: { readOnly?: boolean } = {}): Promise<Database> {
+  const readOnly = options.readOnly ?? false;
+  let instance: DuckDBInstance;
+  try {
+    instance = await DuckDBInstance.create(path, readOnly ? { access_mode: 'READ_ONLY' } : {});
+  } catch (cause) {
+    const text = String((cause as Error).message);
+    if (/lock/i.test(text)) {
+      throw new RiskfoldError(
+        'database_locked',
+        `${path} is held by another process (${pidIn(text)}); while a riskfold worker runs, read its published copy or let the worker do the writing`,
+        { file: path, cause },
+      );
+    }
+    throw cause;
+  }
+  const conn = await instance.connect();
+  let inTransaction = false;
+  const db: Database = {
+    path,
+    readOnly,
+    conn,
+    async all<T>(sql: string, params?: Params) {
+      const reader = await conn.runAndReadAll(sql, params);
+      return reader.getRowObjectsJson() as T[];
+    },
+    async run(sql: string, params?: Params) {
+      await conn.run(sql, params);
+    },
+    async transaction<T>(fn: () => Promise<T>) {
+      if (inTransaction) throw new Error('nested transaction');
+      inTransaction = true;
+      await conn.run('BEGIN TRANSACTION');
+      try {
+        const out = await fn();
+        await conn.run('COMMIT');
+        return out;
+      } catch (err) {
+        await conn.run('ROLLBACK').catch(() => undefined);
+        throw err;
+      } finally {
+        inTransaction = false;
+      }
+    },
+    close() {
+      conn.closeSync();
+      instance.closeSync();
+    },
+  };
+  return db;
+}
+
+function pidIn(message: string): string {
+  const m = /PID (\d+)/i.exec(message);
+  return m ? `pid ${m[1]}` : 'another process';
+}
+
+/** Quotes a string as a SQL literal, for the few places DuckDB takes no parameter (read_csv options). */
+export function sqlString(value: string): string {
+  return `'${value.replaceAll("'", "''")}'`;
+}

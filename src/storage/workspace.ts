@@ -1,0 +1,71 @@
+import { copyFileSync, existsSync, mkdirSync, renameSync, rmSync } from 'node:fs';
+import path from 'node:path';
+import type { Logger } from 'pino';
+import type { Config } from '../config/load.ts';
+import { RiskfoldError } from '../errors.ts';
+import { openDatabase, type Database } from './database.ts';
+import { applyMigrations, applyViews } from './sqlFiles.ts';
+
+/**
+ * Opens the worker's database for writing: migrations once, settings from the config,
+ * views re-applied. Only one process can hold it; a second gets `database_locked`.
+ */
+export async function openWorkspace(config: Config, log: Logger): Promise<Database> {
+  for (const dir of [config.inbox, config.archive, config.quarantine, path.dirname(config.database)]) {
+    mkdirSync(dir, { recursive: true });
+  }
+  const db = await openDatabase(config.database);
+  try {
+    await applyMigrations(db, log);
+    await db.transaction(async () => {
+      await db.run('delete from pipeline_settings');
+      await db.run('insert into pipeline_settings values ($1, $2, $3, $4::integer[])', [
+        config.baseCurrency,
+        config.risk.maxStaleDays,
+        config.risk.tradingDaysPerYear,
+        `[${config.risk.windows.join(',')}]`,
+      ]);
+    });
+    await applyViews(db, log);
+  } catch (err) {
+    db.close();
+    throw err;
+  }
+  return db;
+}
+
+/**
+ * Publishes the read copy: checkpoint, copy to a temporary name, rename over the old
+ * copy. Readers of the old copy keep their open file; a reader never sees a half-written
+ * copy. Call only between transactions (the worker's queue guarantees it).
+ */
+export async function publishReadCopy(db: Database, config: Config, log: Logger): Promise<void> {
+  await db.run('checkpoint');
+  const tmp = `${config.readCopy}.tmp-${process.pid}`;
+  copyFileSync(config.database, tmp);
+  renameSync(tmp, config.readCopy);
+  rmSync(`${config.readCopy}.wal`, { force: true });
+  log.debug({ stage: 'storage', readCopy: config.readCopy }, 'read copy published');
+}
+
+export interface ReadHandle {
+  db: Database;
+  /** 'database' when the primary file was free, 'read_copy' while a worker holds it. */
+  source: 'database' | 'read_copy';
+}
+
+/** Opens history for reading without ever blocking the worker: the primary file if free, else the read copy. */
+export async function openForReading(config: Config): Promise<ReadHandle> {
+  if (!existsSync(config.database)) {
+    throw new RiskfoldError('not_found', `${config.database} does not exist yet: run "riskfold ingest" or "riskfold watch" first`);
+  }
+  try {
+    return { db: await openDatabase(config.database, { readOnly: true }), source: 'database' };
+  } catch (err) {
+    if (!(err instanceof RiskfoldError && err.kind === 'database_locked')) throw err;
+    if (!existsSync(config.readCopy)) {
+      throw new RiskfoldError('database_locked', `${config.database} is held by the worker and no read copy exists yet at ${config.readCopy}`);
+    }
+    return { db: await openDatabase(config.readCopy, { readOnly: true }), source: 'read_copy' };
+  }
+}
