@@ -1,0 +1,59 @@
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { loadConfig, resolveConfig } from '../../src/config/load.ts';
+
+// The minimal file of SPEC §6, verbatim: it must load with everything else defaulted.
+const MINIMAL = {
+  inbox: 'inbox',
+  archive: 'archive',
+  quarantine: 'quarantine',
+  database: 'riskfold.duckdb',
+  risk: { windows: [63], tradingDaysPerYear: 252 },
+  limits: [{ portfolio: '*', window: 63, limit: 0.15 }],
+  alerts: { file: 'alerts.jsonl' },
+};
+
+describe('loadConfig', () => {
+  it('accepts the minimal config of the specification and fills the defaults', () => {
+    const dir = mkdtempSync(path.join(tmpdir(), 'rf-config-'));
+    const file = path.join(dir, 'pipeline.config.json');
+    writeFileSync(file, JSON.stringify(MINIMAL));
+    const cfg = loadConfig(file);
+    expect(cfg.inbox).toBe(path.join(dir, 'inbox'));
+    expect(cfg.database).toBe(path.join(dir, 'riskfold.duckdb'));
+    expect(cfg.readCopy).toBe(path.join(dir, 'riskfold.read.duckdb'));
+    expect(cfg.alerts.file).toBe(path.join(dir, 'alerts.jsonl'));
+    expect(cfg.baseCurrency).toBe('USD');
+    expect(cfg.risk.maxStaleDays).toBe(5);
+    expect(cfg.risk.ewma.lambda).toBe(0.94);
+    expect(cfg.risk.weights).toBe('current');
+    expect(cfg.alerts.maxAgeDays).toBe(5);
+    expect(cfg.sources.map((s) => s.pattern)).toEqual(['prices*.csv*', 'positions*.csv*', 'fx*.csv*', 'securities*.csv*']);
+    // SPEC §6: warning defaults to 0.9 x limit, clear to 0.85 x limit
+    expect(cfg.limits[0]).toMatchObject({ metric: 'vol_ex_ante', estimator: 'sample', limit: 0.15 });
+    expect(cfg.limits[0].warning).toBeCloseTo(0.135, 12);
+    expect(cfg.limits[0].clear).toBeCloseTo(0.1275, 12);
+    expect(Object.isFrozen(cfg.limits[0])).toBe(true);
+  });
+
+  it('names the field and what was expected when a value is wrong', () => {
+    expect(() => resolveConfig({ risk: { windows: 'sixty-three' } }, 'cfg.json')).toThrow(/cfg\.json[\s\S]*risk\.windows/);
+    expect(() => resolveConfig({ baseCurrency: 'usd' }, 'cfg.json')).toThrow(/baseCurrency[\s\S]*|ISO 4217/);
+    expect(() => resolveConfig({ colour: 'blue' }, 'cfg.json')).toThrow(/colour/);
+  });
+
+  it('refuses limits whose levels are out of order or whose window is not computed', () => {
+    expect(() =>
+      resolveConfig({ risk: { windows: [63] }, limits: [{ portfolio: '*', window: 63, limit: 0.1, clear: 0.2 }] }, 'c.json'),
+    ).toThrow(/clear < warning <= limit[\s\S]*limits\[0\]/);
+    expect(() => resolveConfig({ risk: { windows: [63] }, limits: [{ portfolio: '*', window: 21, limit: 0.1 }] }, 'c.json')).toThrow(
+      /window 21 is not in risk\.windows/,
+    );
+  });
+
+  it('says which file could not be read', () => {
+    expect(() => loadConfig('/nonexistent/pipeline.config.json')).toThrow(/\/nonexistent\/pipeline\.config\.json/);
+  });
+});
