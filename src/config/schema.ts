@@ -103,12 +103,32 @@ const riskSchema = z
   })
   .strict();
 
+/** Delivery retry schedule; also used for the alerts file when no webhook is configured. */
+export const ALERT_RETRY_DEFAULTS = { maxAttempts: 12, retryBaseMs: 30_000, retryMaxMs: 3_600_000 } as const;
+
 const webhookSchema = z
   .object({
     url: z.url().describe('HTTP(S) endpoint that receives each alert as a JSON POST.'),
     tokenEnv: z.string().optional().describe('Name of the environment variable holding the bearer token.'),
     timeoutMs: z.number().int().positive().default(5000),
-    maxAttempts: z.number().int().positive().default(12).describe('After this many failures an alert stays undelivered until retried by hand.'),
+    maxAttempts: z
+      .number()
+      .int()
+      .positive()
+      .default(ALERT_RETRY_DEFAULTS.maxAttempts)
+      .describe('After this many failures an alert stays undelivered until retried by hand.'),
+    retryBaseMs: z
+      .number()
+      .int()
+      .positive()
+      .default(ALERT_RETRY_DEFAULTS.retryBaseMs)
+      .describe('Wait after the first failed delivery; it doubles with each further failure.'),
+    retryMaxMs: z
+      .number()
+      .int()
+      .positive()
+      .default(ALERT_RETRY_DEFAULTS.retryMaxMs)
+      .describe('Longest wait between two delivery attempts.'),
   })
   .strict();
 
@@ -167,7 +187,17 @@ export const configSchema = z
   })
   .strict()
   .superRefine((cfg, ctx) => {
+    const limitKeys = new Set<string>();
     cfg.limits.forEach((limit, i) => {
+      const key = [limit.portfolio, limit.metric, limit.window, limit.estimator].join('|');
+      if (limitKeys.has(key)) {
+        ctx.addIssue({
+          code: 'custom',
+          path: ['limits', i],
+          message: `a second limit for portfolio ${limit.portfolio}, ${limit.metric}, window ${limit.window}, ${limit.estimator}`,
+        });
+      }
+      limitKeys.add(key);
       const warning = limit.warning ?? 0.9 * limit.limit;
       const clear = limit.clear ?? 0.85 * limit.limit;
       if (!(clear < warning && warning <= limit.limit)) {

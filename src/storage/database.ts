@@ -17,6 +17,12 @@ export interface Database {
   run(sql: string, params?: Params): Promise<void>;
   /** Runs fn inside BEGIN/COMMIT; ROLLBACK and rethrow on any error. Not re-entrant. */
   transaction<T>(fn: () => Promise<T>): Promise<T>;
+  /**
+   * A second connection on the same file, with its own transactions: work that runs
+   * beside the worker's queue (alert delivery) must never join a transaction open on
+   * `conn`. Its close() disconnects only that connection.
+   */
+  openSession(): Promise<Database>;
   close(): void;
 }
 
@@ -37,6 +43,16 @@ export async function openDatabase(path: string, options: { readOnly?: boolean }
     throw cause;
   }
   const conn = await instance.connect();
+  return wrapConnection(instance, conn, path, readOnly, () => instance.closeSync());
+}
+
+function wrapConnection(
+  instance: DuckDBInstance,
+  conn: DuckDBConnection,
+  path: string,
+  readOnly: boolean,
+  closeOwner: () => void,
+): Database {
   let inTransaction = false;
   const db: Database = {
     path,
@@ -64,9 +80,13 @@ export async function openDatabase(path: string, options: { readOnly?: boolean }
         inTransaction = false;
       }
     },
+    async openSession() {
+      const session = await instance.connect();
+      return wrapConnection(instance, session, path, readOnly, () => undefined);
+    },
     close() {
       conn.closeSync();
-      instance.closeSync();
+      closeOwner();
     },
   };
   return db;

@@ -40,7 +40,8 @@ export async function openWorkspace(config: Config, log: Logger): Promise<Databa
  * copy. Call only between transactions (the worker's queue guarantees it).
  */
 export async function publishReadCopy(db: Database, config: Config, log: Logger): Promise<void> {
-  await db.run('checkpoint');
+  // force: wait for a short write on another connection (alert delivery) instead of failing
+  await db.run('force checkpoint');
   const tmp = `${config.readCopy}.tmp-${process.pid}`;
   copyFileSync(config.database, tmp);
   renameSync(tmp, config.readCopy);
