@@ -1,0 +1,232 @@
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import * as ss from 'simple-statistics';
+import { afterEach, describe, expect, it } from 'vitest';
+import {
+  covarianceTimesWeights,
+  covarianceTimesWeightsAt,
+  matrixVector,
+  quadraticForm,
+  sampleCovariance,
+  subMatrixVector,
+} from '../../../src/risk/math/covariance.ts';
+import { openDatabase } from '../../../src/storage/database.ts';
+import { column, createRandom, maxRelativeError, pickColumns, randomReturns, randomWeights } from './fixtures.ts';
+
+const rows = 63;
+const cols = 6;
+
+function portfolioSeries(x: Float64Array, w: Float64Array): number[] {
+  const series: number[] = [];
+  for (let t = 0; t < rows; t++) {
+    let r = 0;
+    for (let j = 0; j < cols; j++) r += x[t * cols + j] * w[j];
+    series.push(r);
+  }
+  return series;
+}
+
+describe('sampleCovariance', () => {
+  const random = createRandom(21);
+  const x = randomReturns(random, rows, cols, { scale: 0.01 });
+
+  it('matches simple-statistics sampleCovariance for every pair of columns', () => {
+    const s = sampleCovariance(x, rows, cols);
+    for (let i = 0; i < cols; i++) {
+      for (let j = 0; j < cols; j++) {
+        const reference = ss.sampleCovariance(column(x, rows, cols, i), column(x, rows, cols, j));
+        expect(Math.abs(s[i * cols + j] - reference)).toBeLessThan(1e-12 * Math.abs(s[i * cols + i]));
+      }
+    }
+  });
+
+  describe('against DuckDB covar_samp', () => {
+    let folder: string | null = null;
+    afterEach(() => {
+      if (folder) rmSync(folder, { recursive: true, force: true });
+      folder = null;
+    });
+
+    it("equals DuckDB's own covar_samp aggregate over the same long-format returns", async () => {
+      folder = mkdtempSync(join(tmpdir(), 'riskfold-cov-'));
+      const db = await openDatabase(join(folder, 'reference.duckdb'));
+      try {
+        await db.run('create table r (t integer, j integer, v double)');
+        const appender = await db.conn.createAppender('r');
+        for (let t = 0; t < rows; t++) {
+          for (let j = 0; j < cols; j++) {
+            appender.appendInteger(t);
+            appender.appendInteger(j);
+            appender.appendDouble(x[t * cols + j]);
+            appender.endRow();
+          }
+        }
+        appender.flushSync();
+        appender.closeSync();
+        const pairs = await db.all<{ i: number; j: number; c: number }>(
+          'select a.j as i, b.j as j, covar_samp(a.v, b.v) as c from r a join r b using (t) group by a.j, b.j',
+        );
+        expect(pairs).toHaveLength(cols * cols);
+        const s = sampleCovariance(x, rows, cols);
+        for (const p of pairs) expect(Math.abs(s[p.i * cols + p.j] - p.c)).toBeLessThan(1e-12 * s[p.i * cols + p.i]);
+      } finally {
+        db.close();
+      }
+    });
+  });
+
+  it('is symmetric and positive semi-definite (ml-matrix EigenvalueDecomposition: min eigenvalue >= -1e-12 max)', () => {
+    // fewer dates than securities: S is singular, the hardest case for PSD by rounding
+    const wide = randomReturns(random, 5, 12, { scale: 0.01 });
+    const s = sampleCovariance(wide, 5, 12);
+    const m = new Matrix(12, 12);
+    for (let i = 0; i < 12; i++) for (let j = 0; j < 12; j++) {
+      expect(s[i * 12 + j]).toBe(s[j * 12 + i]);
+      m.set(i, j, s[i * 12 + j]);
+    }
+    const eigenvalues = new EigenvalueDecomposition(m, { assumeSymmetric: true }).realEigenvalues;
+    const largest = Math.max(...eigenvalues);
+    expect(largest).toBeGreaterThan(0);
+    expect(Math.min(...eigenvalues)).toBeGreaterThanOrEqual(-1e-12 * largest);
+  });
+
+  it('is unchanged when every price is scaled by a constant (log returns do not move; common practice, no source)', () => {
+    const prices = new Float64Array((rows + 1) * cols);
+    for (let j = 0; j < cols; j++) prices[j] = 40 + 7 * j;
+    for (let t = 1; t <= rows; t++) {
+      for (let j = 0; j < cols; j++) prices[t * cols + j] = prices[(t - 1) * cols + j] * Math.exp(x[(t - 1) * cols + j]);
+    }
+    const logReturns = (scale: number): Float64Array => {
+      const r = new Float64Array(rows * cols);
+      for (let t = 1; t <= rows; t++) {
+        for (let j = 0; j < cols; j++) r[(t - 1) * cols + j] = Math.log((scale * prices[t * cols + j]) / (scale * prices[(t - 1) * cols + j]));
+      }
+      return r;
+    };
+    const base = sampleCovariance(logReturns(1), rows, cols);
+    const scaled = sampleCovariance(logReturns(1234.5), rows, cols);
+    expect(maxRelativeError(scaled, base, 1e-6)).toBeLessThan(1e-9);
+  });
+
+  it('gives a zero row and column (to rounding of the mean, 1e-30 against variances of 1e-4) for a security whose return never changes', () => {
+    const flat = Float64Array.from(x);
+    for (let t = 0; t < rows; t++) flat[t * cols + 2] = 0.0004;
+    const s = sampleCovariance(flat, rows, cols);
+    for (let j = 0; j < cols; j++) {
+      expect(Math.abs(s[2 * cols + j])).toBeLessThan(1e-30);
+      expect(s[j * cols + 2]).toBe(s[2 * cols + j]);
+    }
+  });
+
+  it('throws for one row and for a matrix of the wrong length', () => {
+    expect(() => sampleCovariance(new Float64Array(cols), 1, cols)).toThrow(/sampleCovariance: rows must be an integer >= 2, got 1/);
+    expect(() => sampleCovariance(new Float64Array(10), 3, 4)).toThrow(/sampleCovariance: x has length 10, expected 12/);
+  });
+});
+
+describe('covarianceTimesWeights', () => {
+  const random = createRandom(22);
+  const x = randomReturns(random, rows, cols, { scale: 0.01, offset: 0.5 });
+  const w = randomWeights(random, cols);
+
+  it('equals sampleCovariance followed by matrixVector, and w\'Sw equals quadraticForm', () => {
+    const s = sampleCovariance(x, rows, cols);
+    const { sw, variance } = covarianceTimesWeights(x, rows, cols, w);
+    expect(maxRelativeError(sw, matrixVector(s, cols, w), 1e-6)).toBeLessThan(1e-11);
+    expect(variance / quadraticForm(s, cols, w)).toBeCloseTo(1, 11);
+  });
+
+  it("gives the sample variance of the constant-weight series Xw as w'Sw (simple-statistics sampleVariance)", () => {
+    const { variance } = covarianceTimesWeights(x, rows, cols, w);
+    expect(variance / ss.sampleVariance(portfolioSeries(x, w))).toBeCloseTo(1, 10);
+  });
+
+  it('gives zero for all-zero weights', () => {
+    const { sw, variance } = covarianceTimesWeights(x, rows, cols, new Float64Array(cols));
+    expect(variance).toBe(0);
+    expect(Array.from(sw)).toEqual(new Array(cols).fill(0));
+  });
+
+  it('throws when the weights do not match the columns', () => {
+    expect(() => covarianceTimesWeights(x, rows, cols, new Float64Array(cols - 1))).toThrow(/w has length 5, expected 6/);
+  });
+
+  it('does not mutate its inputs', () => {
+    const xCopy = Float64Array.from(x);
+    const wCopy = Float64Array.from(w);
+    covarianceTimesWeights(x, rows, cols, w);
+    expect(x).toEqual(xCopy);
+    expect(w).toEqual(wCopy);
+  });
+});
+
+describe('covarianceTimesWeightsAt', () => {
+  const random = createRandom(23);
+  const allRows = 300;
+  const stride = 20;
+  const wide = randomReturns(random, allRows, stride, { scale: 0.012 });
+  const picked = Int32Array.from([17, 3, 8, 11]);
+  const w = Float64Array.from([0.4, 0.3, -0.1, 0.4]);
+
+  it('equals covarianceTimesWeights on the window and columns copied out of the wider matrix', () => {
+    const at = covarianceTimesWeightsAt(wide, 120, 63, stride, picked, w);
+    const copy = covarianceTimesWeights(pickColumns(wide, 120, 63, stride, picked), 63, picked.length, w);
+    expect(maxRelativeError(at.sw, copy.sw, 1e-8)).toBeLessThan(1e-13);
+    expect(at.variance).toBeCloseTo(copy.variance, 17);
+  });
+
+  it('reaches the last rows of the matrix and refuses to read past them', () => {
+    expect(() => covarianceTimesWeightsAt(wide, allRows - 63, 63, stride, picked, w)).not.toThrow();
+    expect(() => covarianceTimesWeightsAt(wide, allRows - 62, 63, stride, picked, w)).toThrow(/exceed x/);
+  });
+
+  it('throws for a column index outside the stride and for a window of one row', () => {
+    expect(() => covarianceTimesWeightsAt(wide, 0, 63, stride, Int32Array.from([0, 20]), Float64Array.from([0.5, 0.5]))).toThrow(
+      /cols\[1\] = 20 is outside 0..19/,
+    );
+    expect(() => covarianceTimesWeightsAt(wide, 0, 1, stride, picked, w)).toThrow(/rowCount must be an integer >= 2/);
+  });
+});
+
+describe('quadraticForm, matrixVector, subMatrixVector', () => {
+  const random = createRandom(24);
+  const n = 9;
+  const s = sampleCovariance(randomReturns(random, 40, n, { scale: 0.01 }), 40, n);
+  const v = randomWeights(random, n);
+
+  it('match ml-matrix products', () => {
+    const m = new Matrix(n, n);
+    for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) m.set(i, j, s[i * n + j]);
+    const reference = m.mmul(Matrix.columnVector(Array.from(v)));
+    expect(maxRelativeError(matrixVector(s, n, v), reference.getColumn(0), 1e-8)).toBeLessThan(1e-13);
+    const form = Matrix.rowVector(Array.from(v)).mmul(reference).get(0, 0);
+    expect(quadraticForm(s, n, v) / form).toBeCloseTo(1, 13);
+  });
+
+  it('subMatrixVector equals the product with the sub-matrix copied out', () => {
+    const idx = Int32Array.from([6, 1, 4]);
+    const sub = new Float64Array(9);
+    for (let a = 0; a < 3; a++) for (let b = 0; b < 3; b++) sub[a * 3 + b] = s[idx[a] * n + idx[b]];
+    const u = Float64Array.from([0.2, -0.5, 1.3]);
+    expect(maxRelativeError(subMatrixVector(s, n, idx, u), matrixVector(sub, 3, u), 1e-8)).toBeLessThan(1e-14);
+  });
+
+  it('throw for mismatched sizes and indices out of range', () => {
+    expect(() => matrixVector(s, n, new Float64Array(n + 1))).toThrow(/matrixVector: v has length 10, expected 9/);
+    expect(() => quadraticForm(s, n + 1, v)).toThrow(/quadraticForm: s has length 81, expected 100/);
+    expect(() => subMatrixVector(s, n, Int32Array.from([9]), Float64Array.from([1]))).toThrow(/idx\[0\] = 9 is outside 0..8/);
+    expect(() => subMatrixVector(s, n, Int32Array.from([1, 2]), Float64Array.from([1]))).toThrow(/v has length 1, expected 2/);
+  });
+
+  it('do not mutate their inputs', () => {
+    const sCopy = Float64Array.from(s);
+    const vCopy = Float64Array.from(v);
+    matrixVector(s, n, v);
+    quadraticForm(s, n, v);
+    subMatrixVector(s, n, Int32Array.from([0, 2]), v.subarray(0, 2));
+    expect(s).toEqual(sCopy);
+    expect(v).toEqual(vCopy);
+  });
+});
