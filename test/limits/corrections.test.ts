@@ -1,0 +1,132 @@
+import { afterEach, describe, expect, it } from 'vitest';
+import { checkLimits } from '../../src/limits/checkLimits.ts';
+import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
+import { alertRows, breachRows, weekdays, writeRiskSeries } from './riskRows.ts';
+
+/** A day-by-day volatility path around a 15% limit (warning 13.5%, clear 12.75%). */
+function path(values: number[], start = '2026-03-02'): [string, number][] {
+  return weekdays(start, values.length).map((d, i) => [d, values[i]]);
+}
+
+describe('checkLimits over corrections and history loads', () => {
+  let ws: TempWorkspace | undefined;
+  afterEach(() => ws?.cleanup());
+
+  async function run(points: [string, number | null][], from: string | null, runId: number, portfolioId = 'acct-growth') {
+    const { db, config, log } = ws!;
+    return db.transaction(async () => {
+      await writeRiskSeries(db, { portfolioId, runId, points });
+      return checkLimits(db, config, log, { runId, from, portfolios: [portfolioId] });
+    });
+  }
+
+  it('retracts an alerted breach that corrected data no longer show, without a second opening alert', async () => {
+    ws = await tempWorkspace();
+    const days = path([0.1, 0.11, 0.16, 0.17, 0.16]);
+    for (const [i, p] of days.entries()) await run([p], p[0], i + 1);
+    const [before] = await breachRows(ws.db);
+    expect(before).toMatchObject({ opened_on: days[2][0], retracted: false });
+
+    // a corrected price file from the third date: volatility stays low after all
+    const corrected = path([0.1, 0.11, 0.11, 0.112, 0.109]).slice(2);
+    const outcome = await run(corrected, corrected[0][0], 10);
+
+    expect(outcome).toEqual({ alertsRaised: 1, openEpisodes: 0 });
+    const [after] = await breachRows(ws.db);
+    expect(after).toMatchObject({ breach_id: before.breach_id, retracted: true });
+    const alerts = await alertRows(ws.db);
+    expect(alerts.map((a) => a.kind)).toEqual(['limit_opened', 'limit_retracted']);
+    expect(alerts[1].breach_id).toBe(before.breach_id);
+    expect(alerts[1].data.text).toBe(
+      `acct-growth: the 63-day volatility episode recorded from ${days[2][0]} is withdrawn; corrected data no longer show it`,
+    );
+  });
+
+  it('keeps the breach_id of an episode a correction only reshapes, updating its peak and closing', async () => {
+    ws = await tempWorkspace();
+    const days = path([0.1, 0.16, 0.17, 0.12, 0.1]);
+    for (const [i, p] of days.entries()) await run([p], p[0], i + 1);
+    const [before] = await breachRows(ws.db);
+    expect(before).toMatchObject({ closed_on: days[3][0], peak_value: 0.17 });
+
+    // corrected from the third date: a higher peak and a later closing
+    const corrected = path([0.1, 0.16, 0.19, 0.14, 0.1]).slice(2);
+    await run(corrected, corrected[0][0], 10);
+
+    const [after] = await breachRows(ws.db);
+    expect(after).toMatchObject({ breach_id: before.breach_id, peak_value: 0.19, closed_on: days[4][0], retracted: false });
+    // each transition is alerted once per episode: the moved closing is recorded, not alerted again
+    const alerts = await alertRows(ws.db);
+    expect(alerts.map((a) => [a.kind, a.as_of])).toEqual([
+      ['limit_opened', days[1][0]],
+      ['limit_closed', days[3][0]],
+    ]);
+  });
+
+  it('continues an episode open at `from` and leaves episodes closed before it untouched', async () => {
+    ws = await tempWorkspace();
+    const history = path([0.16, 0.1, 0.1, 0.14, 0.16, 0.16]);
+    await run(history, null, 1);
+    const before = await breachRows(ws.db);
+    expect(before.map((b) => [b.opened_on, b.closed_on])).toEqual([
+      [history[0][0], history[1][0]],
+      [history[3][0], null],
+    ]);
+    const [next] = path([0.1], '2026-03-10');
+    const outcome = await run([next], next[0], 2);
+    const after = await breachRows(ws.db);
+    expect(after[0]).toEqual(before[0]);
+    expect(after[1]).toMatchObject({ breach_id: before[1].breach_id, opened_on: history[3][0], level: 'breach', closed_on: next[0] });
+    expect(outcome.openEpisodes).toBe(0);
+  });
+
+  it('records every episode of a history load but alerts only recent transitions and a still-open episode, once', async () => {
+    // maxAgeDays 5 (the default): transitions more than 5 calendar days before the last date stay quiet
+    ws = await tempWorkspace();
+    const values = [
+      ...[0.1, 0.16, 0.17, 0.1], // an old breach, opened and closed
+      ...Array(20).fill(0.1),
+      ...[0.14, 0.15, 0.16], // opened at warning, escalated, still open ...
+      ...Array(10).fill(0.155), // ... through to the last date
+    ];
+    const history = path(values);
+    const last = history[history.length - 1][0];
+    const outcome = await run(history, null, 1);
+
+    expect((await breachRows(ws.db)).map((b) => [b.opened_on, b.closed_on])).toEqual([
+      [history[1][0], history[3][0]],
+      [history[24][0], null],
+    ]);
+    const alerts = await alertRows(ws.db);
+    expect(alerts.map((a) => [a.kind, a.as_of, a.data.late])).toEqual([['limit_opened', last, true]]);
+    expect(alerts[0].data).toMatchObject({ level: 'breach', opened_on: history[24][0], value: 0.155, peak_value: 0.16 });
+    expect(alerts[0].data.text).toBe(
+      `acct-growth: 63-day volatility 15.5% has been at or above its 15.0% limit since ${history[24][0]} (peak 16.0% on ${history[26][0]}); found by a run over past dates`,
+    );
+    expect(outcome).toEqual({ alertsRaised: 1, openEpisodes: 1 });
+
+    // the same load again raises nothing; the next day-by-day closing is alerted
+    expect((await run(history, null, 2)).alertsRaised).toBe(0);
+    const next: [string, number] = [weekdays(last, 2)[1], 0.12];
+    expect((await run([next], next[0], 3)).alertsRaised).toBe(1);
+    expect((await alertRows(ws.db)).map((a) => a.kind)).toEqual(['limit_opened', 'limit_closed']);
+  });
+
+  it('alerts a transition inside maxAgeDays of a history load, and then no late opening', async () => {
+    ws = await tempWorkspace({ alerts: { file: 'alerts.jsonl', maxAgeDays: 3 } });
+    const history = path([...Array(10).fill(0.1), 0.16, 0.16, 0.16]);
+    await run(history, null, 1);
+    // Mon 2026-03-16 opening, last date Wed 03-18: within 3 calendar days
+    expect((await alertRows(ws.db)).map((a) => [a.kind, a.as_of, a.data.late])).toEqual([['limit_opened', history[10][0], undefined]]);
+  });
+
+  it('retracts quietly an episode that was never alerted', async () => {
+    ws = await tempWorkspace({ alerts: { file: 'alerts.jsonl', maxAgeDays: 0 } });
+    const history = path([0.16, 0.1, ...Array(8).fill(0.1)]);
+    await run(history, null, 1);
+    expect(await alertRows(ws.db)).toEqual([]);
+    await run([[history[0][0], 0.1]], null, 2);
+    expect((await breachRows(ws.db)).map((b) => b.retracted)).toEqual([true]);
+    expect(await alertRows(ws.db)).toEqual([]);
+  });
+});
