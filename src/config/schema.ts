@@ -172,7 +172,8 @@ export const configSchema = z
       .optional()
       .describe('Read-only copy published after each committed run; default: <database>.read.duckdb.'),
     baseCurrency: currencyCode.default('USD'),
-    sources: z.array(sourceSchema).default(DEFAULT_SOURCES as never),
+    // prefault, not default: the defaults go through sourceSchema and get its own defaults (delimiter, columns, ...)
+    sources: z.array(sourceSchema).prefault(DEFAULT_SOURCES),
     watch: z
       .object({
         stableMs: z.number().int().min(0).default(1000).describe('A file counts as written once its size holds this long.'),
