@@ -1,0 +1,48 @@
+/** The sizes `npm run bench -- --size <name>` knows; `tiny` is for the harness's own test. */
+export const SIZE_NAMES = ['tiny', 'small', 'large'] as const;
+export type SizeName = (typeof SIZE_NAMES)[number];
+
+export interface ScenarioSize {
+  name: SizeName;
+  securities: number;
+  portfolios: number;
+  holdingsPerPortfolio: number;
+  /** Business days (Monday to Friday) of history in the big files. */
+  historyDays: number;
+  /** New business days after the history, dropped one at a time for the latency figure. */
+  newDays: number;
+  windows: number[];
+  /** How many times ingest and backfill are repeated; the median is reported. */
+  runs: number;
+}
+
+// 261 business days a year (52 weeks and a day); holidays are left out on purpose so
+// every valuation date has every price
+const YEAR = 261;
+
+export const SIZES: Record<SizeName, ScenarioSize> = {
+  tiny: { name: 'tiny', securities: 12, portfolios: 2, holdingsPerPortfolio: 6, historyDays: 70, newDays: 2, windows: [21, 63], runs: 1 },
+  small: {
+    name: 'small',
+    securities: 100,
+    portfolios: 5,
+    holdingsPerPortfolio: 40,
+    historyDays: 3 * YEAR,
+    newDays: 5,
+    windows: [21, 63, 252],
+    runs: 3,
+  },
+  large: {
+    name: 'large',
+    securities: 1000,
+    portfolios: 50,
+    holdingsPerPortfolio: 200,
+    historyDays: 10 * YEAR,
+    newDays: 5,
+    windows: [21, 63, 252],
+    runs: 3,
+  },
+};
+
+/** The naive-versus-incremental comparison always runs at this size: the naive way is too slow for more. */
+export const NAIVE_SIZE: SizeName = 'small';

@@ -1,0 +1,176 @@
+import { spawn, type ChildProcess } from 'node:child_process';
+import { createWriteStream, existsSync } from 'node:fs';
+import { once } from 'node:events';
+import path from 'node:path';
+import type { Config } from '../../src/config/load.ts';
+import { openDatabase, sqlString } from '../../src/storage/database.ts';
+import { waitFor } from '../../test/helpers/wait.ts';
+import { figure, unavailable, type Figure } from '../figures.ts';
+import type { GeneratedScenario } from '../generate.ts';
+import { median, peakResidentBytes } from '../measure.ts';
+import { createBenchWorkspace, dropIntoInbox } from '../workspace.ts';
+
+const PROJECT_ROOT = path.resolve(import.meta.dirname, '../..');
+const BIN = path.join(PROJECT_ROOT, 'bin', 'riskfold.js');
+const POLL_MS = 50;
+const STOP_TIMEOUT_MS = 15_000;
+
+/** Where a batch of files stands, as the worker's published read copy shows it. */
+interface Progress {
+  seen: number;
+  ingested: number;
+  problems: string | null;
+  firstReceivedMs: number | null;
+  finishedMs: number | null;
+  running: number;
+  riskRows: number;
+}
+
+/**
+ * The worker as a user runs it (`riskfold watch` in its own process, started through
+ * bin/riskfold.js so its pid is the worker's): the history files wait in the inbox, so
+ * it first catches up (ingest and full backfill), then each new day's files are dropped
+ * and timed until the read copy shows the day's risk rows from a run that started after
+ * the last file was ingested. The peak memory is read from /proc before it is stopped.
+ */
+export async function measureWorker(scenario: GeneratedScenario, root: string): Promise<Figure[]> {
+  const size = scenario.size.name;
+  const ws = createBenchWorkspace(root, 'worker', scenario.size);
+  for (const file of scenario.history) dropIntoInbox(file.path, ws.config.inbox);
+  const logFile = path.join(ws.dir, 'worker.log');
+  const started = Date.now();
+  const child = spawn(process.execPath, [BIN, 'watch', '--config', ws.configPath], {
+    cwd: PROJECT_ROOT,
+    env: { ...process.env, RISKFOLD_LOG_LEVEL: process.env.RISKFOLD_LOG_LEVEL ?? 'info' },
+    stdio: ['ignore', 'pipe', 'pipe'],
+  });
+  const exit = watchExit(child, logFile);
+  try {
+    const lastHistoryDate = scenario.historyDates.at(-1)!;
+    await settle(ws.config, scenario.history.map((f) => path.basename(f.path)), lastHistoryDate, exit, 3_600_000);
+    const catchUpSeconds = (Date.now() - started) / 1000;
+
+    const visible: number[] = [];
+    const committed: number[] = [];
+    const waited: number[] = [];
+    for (const day of scenario.newDays) {
+      const dropped = Date.now();
+      for (const file of day.files) dropIntoInbox(file.path, ws.config.inbox);
+      const done = await settle(ws.config, day.files.map((f) => path.basename(f.path)), day.date, exit, 120_000);
+      visible.push((Date.now() - dropped) / 1000);
+      committed.push((done.finishedMs! - dropped) / 1000);
+      waited.push((done.firstReceivedMs! - dropped) / 1000);
+    }
+    const peak = child.pid === undefined ? null : peakResidentBytes(child.pid);
+    const days = scenario.newDays.length;
+    const latency = figure('new_day_latency_seconds', size, visible, {
+      note: `median of ${days} days (prices, fx, positions files each), until visible in the read copy`,
+      details: {
+        committed_seconds: median(committed),
+        until_ingest_started_seconds: median(waited),
+        stable_ms_setting: ws.config.watch.stableMs,
+      },
+    });
+    const memory =
+      peak === null
+        ? unavailable('worker_peak_memory_mib', 'no /proc/<pid>/status on this system')
+        : figure('worker_peak_memory_mib', size, [peak / 2 ** 20], {
+            note: 'one worker from start: history catch-up (ingest + backfill) and the new days',
+            details: { catch_up_seconds: catchUpSeconds },
+          });
+    return [latency, memory];
+  } finally {
+    await stop(child, exit);
+  }
+}
+
+/** Resolves with the last lines of output once the worker exits; its output also goes to a log file. */
+function watchExit(child: ChildProcess, logFile: string): { done: boolean; tail: string[]; promise: Promise<number | null> } {
+  const log = createWriteStream(logFile);
+  const state = { done: false, tail: [] as string[], promise: Promise.resolve<number | null>(null) };
+  const keep = (chunk: Buffer) => {
+    log.write(chunk);
+    state.tail.push(...chunk.toString('utf8').split('\n').filter(worthShowing));
+    state.tail.splice(0, Math.max(0, state.tail.length - 5));
+  };
+  child.stdout?.on('data', keep);
+  child.stderr?.on('data', keep);
+  state.promise = once(child, 'exit').then(([code]) => {
+    state.done = true;
+    log.end();
+    return code as number | null;
+  });
+  return state;
+}
+
+/** Plain lines (the CLI's one-line failure) and pino records of level warn (40) and up. */
+function worthShowing(line: string): boolean {
+  if (!line.trim()) return false;
+  try {
+    return (JSON.parse(line) as { level?: number }).level! >= 40;
+  } catch {
+    return true;
+  }
+}
+
+/** Waits until the named files are ingested and a finished run after them shows risk rows on `date`. */
+async function settle(
+  config: Config,
+  names: string[],
+  date: string,
+  exit: { done: boolean; tail: string[] },
+  timeoutMs: number,
+): Promise<Progress> {
+  const result = await waitFor(
+    async () => {
+      if (exit.done) return { failed: `the worker exited: ${exit.tail.join(' | ') || 'no output'}` };
+      const p = await progress(config, names, date);
+      if (p === null) return null;
+      if (p.seen === names.length && p.ingested < names.length) return { failed: `not ingested: ${p.problems}` };
+      const done = p.ingested === names.length && p.finishedMs !== null && p.running === 0 && p.riskRows > 0;
+      return done ? { progress: p } : null;
+    },
+    timeoutMs,
+    `the worker to finish ${names.join(', ')}`,
+    POLL_MS,
+  );
+  if ('failed' in result) throw new Error(result.failed);
+  return result.progress;
+}
+
+async function progress(config: Config, names: string[], date: string): Promise<Progress | null> {
+  if (!existsSync(config.readCopy)) return null;
+  const db = await openDatabase(config.readCopy, { readOnly: true });
+  try {
+    const [row] = await db.all<Progress>(`
+      with batch as (
+        select * from ingested_files where name in (${names.map(sqlString).join(', ')})
+      ), summary as (
+        select count(*)::integer as seen,
+               count(*) filter (where status = 'ingested')::integer as ingested,
+               string_agg(case when status <> 'ingested' then name || ': ' || coalesce(error, status) end, '; ') as problems,
+               min(received_at) as first_received,
+               max(received_at) as last_received
+        from batch
+      )
+      select seen, ingested, problems,
+             epoch_ms(first_received)::double as "firstReceivedMs",
+             (select epoch_ms(max(r.finished_at))::double from risk_runs r
+               where r.status = 'done' and r.started_at >= summary.last_received) as "finishedMs",
+             (select count(*) from risk_runs where status = 'running')::integer as running,
+             (select count(*) from risk_daily where date = ${sqlString(date)}::date)::integer as "riskRows"
+      from summary`);
+    return row;
+  } finally {
+    db.close();
+  }
+}
+
+/** SIGTERM (the worker stops cleanly), SIGKILL to that same pid only if it hangs. */
+async function stop(child: ChildProcess, exit: { done: boolean; promise: Promise<number | null> }): Promise<void> {
+  if (exit.done) return;
+  child.kill('SIGTERM');
+  const timer = setTimeout(() => child.kill('SIGKILL'), STOP_TIMEOUT_MS);
+  await exit.promise;
+  clearTimeout(timer);
+}

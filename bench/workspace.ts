@@ -1,0 +1,62 @@
+import { copyFileSync, linkSync, mkdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { loadConfig, type Config } from '../src/config/load.ts';
+import type { ConfigInput } from '../src/config/schema.ts';
+import type { ScenarioSize } from './scenario.ts';
+
+export interface BenchWorkspace {
+  dir: string;
+  configPath: string;
+  config: Config;
+  remove: () => void;
+}
+
+/**
+ * The config every measurement runs with: the scenario's windows, EWMA on (the
+ * default), product defaults everywhere else (stable-file wait included, so the latency
+ * figure is what a user gets), and limits near the simulated portfolios' volatility
+ * so that episodes open and close and the limit check and alert outbox do real work.
+ */
+export function benchConfig(size: ScenarioSize): ConfigInput {
+  return {
+    inbox: 'inbox',
+    archive: 'archive',
+    quarantine: 'quarantine',
+    database: 'riskfold.duckdb',
+    risk: { windows: size.windows, tradingDaysPerYear: 252 },
+    limits: [
+      { portfolio: '*', window: size.windows.includes(63) ? 63 : size.windows[0], limit: 0.16 },
+      { portfolio: '*', window: 0, estimator: 'ewma', limit: 0.18 },
+    ],
+    alerts: { file: 'alerts.jsonl' },
+  };
+}
+
+/** A fresh folder under `root` with its pipeline.config.json; nothing is opened yet. */
+export function createBenchWorkspace(root: string, name: string, size: ScenarioSize): BenchWorkspace {
+  const dir = path.join(root, name);
+  rmSync(dir, { recursive: true, force: true });
+  mkdirSync(dir, { recursive: true });
+  const configPath = path.join(dir, 'pipeline.config.json');
+  writeFileSync(configPath, `${JSON.stringify(benchConfig(size), null, 2)}\n`);
+  const config = loadConfig(configPath);
+  mkdirSync(config.inbox, { recursive: true });
+  return { dir, configPath, config, remove: () => rmSync(dir, { recursive: true, force: true }) };
+}
+
+/**
+ * Puts a scenario file into an inbox in one step. A hard link is instant and the file
+ * appears complete (ingest then moves the link, the scenario keeps its copy); across
+ * file systems it falls back to copy-then-rename, which also lands whole.
+ */
+export function dropIntoInbox(file: string, inbox: string): string {
+  const target = path.join(inbox, path.basename(file));
+  try {
+    linkSync(file, target);
+  } catch {
+    const staging = path.join(path.dirname(inbox), `.${path.basename(file)}.staging`);
+    copyFileSync(file, staging);
+    renameSync(staging, target);
+  }
+  return target;
+}
