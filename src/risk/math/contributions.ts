@@ -71,6 +71,8 @@ export function diversificationRatio(w: Float64Array, vols: Float64Array, portfo
   return portfolioVol === 0 ? Number.NaN : standAlone / portfolioVol;
 }
 
+const NEAR_SINGULAR = 1e-12;
+
 /**
  * Fully invested minimum-variance weights w = S^-1 1 / (1' S^-1 1) (Markowitz; the
  * closed form of min w'Sw subject to 1'w = 1, shorts allowed). Solved by Cholesky,
@@ -87,6 +89,14 @@ export function minimumVarianceWeights(s: Float64Array, n: number): Float64Array
   }
   const cholesky = new CholeskyDecomposition(m);
   if (!cholesky.isPositiveDefinite()) throw new Error(`${fn}: the covariance matrix is not positive definite`);
+  // ml-matrix accepts any positive pivot; a pivot that kept under 1e-12 of its variance
+  // means the security is (to rounding) a mix of the others and the weights are noise
+  const l = cholesky.lowerTriangularMatrix;
+  for (let j = 0; j < n; j++) {
+    if (l.get(j, j) ** 2 <= NEAR_SINGULAR * m.get(j, j)) {
+      throw new Error(`${fn}: the covariance matrix is not positive definite (column ${j} is a combination of the others)`);
+    }
+  }
   const solution = cholesky.solve(Matrix.ones(n, 1));
   let total = 0;
   for (let i = 0; i < n; i++) total += solution.get(i, 0);
