@@ -1,0 +1,95 @@
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { afterEach, describe, expect, it } from 'vitest';
+import { toCsv } from '../../src/cli/format.ts';
+import { RiskfoldError } from '../../src/errors.ts';
+import { readTable, runReadOnlyQuery } from '../../src/pipeline/readQuery.ts';
+import { openDatabase, type Database } from '../../src/storage/database.ts';
+
+describe('runReadOnlyQuery', () => {
+  let cleanup: (() => void) | undefined;
+  afterEach(() => cleanup?.());
+
+  /** A database file with two stored doubles, opened read-only as `sql` opens it. */
+  async function readOnlyCopy(): Promise<Database> {
+    const dir = mkdtempSync(path.join(tmpdir(), 'riskfold-query-'));
+    const file = path.join(dir, 'history.duckdb');
+    const writer = await openDatabase(file);
+    await writer.run('create table prices (line integer, security_id varchar, price double)');
+    await writer.run("insert into prices values (1, 'EQ-NORDWIND', 0.1::double + 0.2::double), (2, 'EQ-NORDWIND', 1::double / 3)");
+    writer.close();
+    const db = await openDatabase(file, { readOnly: true });
+    cleanup = () => {
+      db.close();
+      rmSync(dir, { recursive: true, force: true });
+    };
+    return db;
+  }
+
+  it.each([
+    'select * from prices',
+    'with p as (select price from prices) select max(price) from p',
+    'describe prices',
+    'show tables',
+    'summarize prices',
+    "pragma table_info('prices')",
+    'from prices',
+    'explain select 1',
+  ])('runs the read %s', async (sql) => {
+    const db = await readOnlyCopy();
+    const result = await runReadOnlyQuery(db, sql);
+    expect(result.columns.length).toBeGreaterThan(0);
+  });
+
+  it.each([
+    "insert into prices values (3, 'EQ-NORDWIND', 2)",
+    'update prices set price = 0',
+    'delete from prices',
+    'create table scratch (x integer)',
+    'drop table prices',
+    "copy prices to '/tmp/riskfold-should-not-exist.csv'",
+    "attach '/tmp/riskfold-should-not-exist.duckdb' as other",
+    'set threads = 1',
+    'checkpoint',
+    'load json',
+  ])('refuses %s with a clear message, before DuckDB runs it', async (sql) => {
+    const db = await readOnlyCopy();
+    const err = await runReadOnlyQuery(db, sql).catch((e: unknown) => e);
+    expect(err).toBeInstanceOf(RiskfoldError);
+    expect((err as RiskfoldError).kind).toBe('query_refused');
+    expect((err as Error).message).toMatch(/^refused: [A-Z_]+ statements may write/);
+    const [{ n }] = await db.all<{ n: string }>('select count(*) as n from prices');
+    expect(n).toBe('2');
+  });
+
+  it('refuses two statements at once, so a read cannot smuggle a write behind it', async () => {
+    const db = await readOnlyCopy();
+    await expect(runReadOnlyQuery(db, 'select 1; delete from prices')).rejects.toThrow(/exactly one SQL statement, got 2/);
+  });
+
+  // IEEE 754 doubles: 0.1 + 0.2 is 0.30000000000000004 and 1/3 is 0.3333333333333333 in the
+  // shortest round-trip form (ECMAScript Number::toString, the same digits DuckDB reads back)
+  it('prints stored doubles so they parse back to the same double (IEEE 754 round trip)', async () => {
+    const db = await readOnlyCopy();
+    const result = await runReadOnlyQuery(db, 'select price from prices order by line');
+    expect(result.rows.map((r) => r[0])).toEqual([0.1 + 0.2, 1 / 3]);
+    const csvLines = toCsv(result).trim().split('\n');
+    expect(csvLines).toEqual(['price', '0.30000000000000004', '0.3333333333333333']);
+    expect(csvLines.slice(1).map(Number)).toEqual([0.1 + 0.2, 1 / 3]);
+    // and DuckDB's own cast of the printed text gives back the identical stored value
+    const [{ same }] = await db.all<{ same: boolean }>(
+      `select bool_and(price = case line when 1 then '${csvLines[1]}'::double else '${csvLines[2]}'::double end) as same from prices`,
+    );
+    expect(same).toBe(true);
+  });
+
+  it('turns BIGINT and small DECIMAL values into numbers, keeps what does not fit a double as text', async () => {
+    const db = await readOnlyCopy();
+    const result = await readTable(
+      db,
+      "select (select count(*) from prices) as n, 12.50::decimal(6,2) as d, 9007199254740993::bigint as big, 123456789012345678.5::decimal(38,1) as wide, date '2026-03-02' as day",
+    );
+    expect(result.rows[0]).toEqual([2, 12.5, '9007199254740993', '123456789012345678.5', '2026-03-02']);
+  });
+});
