@@ -20,6 +20,7 @@ const SERIES_LIMIT = 1;
  * relative accuracy in the tails (the device W. J. Cody uses in his erfc, 1969).
  */
 export function normalPdf(x: number): number {
+  if (!Number.isFinite(x)) return Number.isNaN(x) ? x : 0;
   const xh = Math.round(x * 16) / 16;
   return (Math.exp(-0.5 * xh * xh) * Math.exp(-0.5 * (x - xh) * (x + xh))) / SQRT_2PI;
 }
