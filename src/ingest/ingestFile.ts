@@ -1,8 +1,18 @@
+import { statSync, unlinkSync } from 'node:fs';
+import path from 'node:path';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
-import type { FileKind } from '../config/schema.ts';
-import type { Rejection } from '../errors.ts';
+import type { FileKind, SourceConfig } from '../config/schema.ts';
+import { formatRejection, type Rejection, type Result } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
+import { sha256OfFile } from './fingerprint.ts';
+import { findIngested, portfoliosOf, recordFile, updateArchivedPath, type EarlierDelivery } from './ledger.ts';
+import { layoutOf } from './layout.ts';
+import { loadStage } from './load.ts';
+import { archiveDir, freePath, moveWithoutOverwrite, quarantine } from './moves.ts';
+import { matchSource } from './sourceMatch.ts';
+import { dropStage, stageFile } from './stage.ts';
+import { validateStage, type StageSummary } from './validate.ts';
 
 export interface IngestOutcome {
   status: 'ingested' | 'duplicate' | 'rejected';
@@ -16,9 +26,128 @@ export interface IngestOutcome {
   portfolios: string[] | null;
   movedTo: string;
   rejection?: Rejection;
+  /** Status duplicate: the file_id that first delivered these bytes. */
+  duplicateOf?: number;
 }
 
-// PLACEHOLDER: the ingest stage replaces this.
-export async function ingestFile(_db: Database, _config: Config, _log: Logger, _filePath: string): Promise<IngestOutcome> {
-  throw new Error('ingestFile is not built yet');
+/**
+ * Loads one delivered file: recognise its kind by name, stage and check it in DuckDB,
+ * then in one transaction record it and insert its rows; afterwards move it to the
+ * archive (or, rejected, to quarantine with a reason file). Bad input is an outcome,
+ * not an exception; only machine and config faults throw. One file at a time per
+ * database: the stage table is shared.
+ */
+export async function ingestFile(db: Database, config: Config, log: Logger, filePath: string): Promise<IngestOutcome> {
+  const name = path.basename(filePath);
+  const flog = log.child({ stage: 'ingest', file: name });
+  const receivedAt = new Date();
+  const started = performance.now();
+  const source = matchSource(config.sources, name);
+  try {
+    // hashing runs in this thread while DuckDB parses in its own
+    const [sha256, checked] = await Promise.all([
+      sha256OfFile(filePath),
+      source ? stageAndValidate(db, filePath, name, source) : Promise.resolve(unknownKind(config, name)),
+    ]);
+    const base = { name, sha256, kind: source?.kind ?? null, source: source?.name ?? null, receivedAt };
+
+    const earlier = await findIngested(db, sha256);
+    if (earlier) return await alreadyLoaded(db, config, flog, filePath, earlier, base);
+
+    if (!checked.ok) {
+      const movedTo = quarantine(filePath, config.quarantine, checked.rejection, receivedAt);
+      const fileId = await recordFile(db, {
+        ...base, rows: 0, status: 'rejected', error: formatRejection(checked.rejection), archivedPath: movedTo,
+        minDate: null, maxDate: null, duplicateOf: null,
+      });
+      flog.warn({ fileId, movedTo, ...checked.rejection }, 'file rejected');
+      return { status: 'rejected', fileId, name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo, rejection: checked.rejection };
+    }
+
+    const summary = checked.value;
+    const dir = archiveDir(config.archive, receivedAt);
+    const planned = freePath(dir, name);
+    const fileId = await loadStage(db, layoutOf(source!.kind), source!, {
+      ...base, rows: summary.rows, status: 'ingested', error: null, archivedPath: planned,
+      minDate: summary.minDate, maxDate: summary.maxDate, duplicateOf: null,
+    });
+    // committed: from here a crash leaves the file in the inbox, and alreadyLoaded() finishes the move
+    const movedTo = moveWithoutOverwrite(filePath, dir, name);
+    if (movedTo !== planned) await updateArchivedPath(db, fileId, movedTo);
+    const seconds = (performance.now() - started) / 1000;
+    flog.info(
+      { fileId, kind: base.kind, source: base.source, rows: summary.rows, minDate: summary.minDate, maxDate: summary.maxDate, movedTo, seconds, rowsPerSecond: Math.round(summary.rows / seconds) },
+      'file ingested',
+    );
+    return { status: 'ingested', fileId, name, kind: base.kind, rows: summary.rows, minDate: summary.minDate, portfolios: summary.portfolios, movedTo };
+  } finally {
+    await dropStage(db);
+  }
+}
+
+async function stageAndValidate(db: Database, filePath: string, name: string, source: SourceConfig): Promise<Result<StageSummary>> {
+  const layout = layoutOf(source.kind);
+  const staged = await stageFile(db, filePath, name, source, layout);
+  return staged.ok ? validateStage(db, layout, source, name) : staged;
+}
+
+function unknownKind(config: Config, name: string): Result<never> {
+  const patterns = config.sources.map((s) => s.pattern).join(', ');
+  return {
+    ok: false,
+    rejection: {
+      code: 'unknown_kind',
+      file: name,
+      value: name,
+      expected: `a name matching one of ${patterns}`,
+      message: `the name matches no source pattern (${patterns})`,
+    },
+  };
+}
+
+/**
+ * These bytes were loaded before. Under the same name and not yet in the archive, the
+ * process stopped between commit and move: finish the move and report the load again
+ * (its recompute may not have run). Otherwise it is a re-delivery: record a duplicate.
+ */
+async function alreadyLoaded(
+  db: Database,
+  config: Config,
+  flog: Logger,
+  filePath: string,
+  earlier: EarlierDelivery,
+  base: { name: string; sha256: string; kind: FileKind | null; source: string | null; receivedAt: Date },
+): Promise<IngestOutcome> {
+  const here = path.resolve(filePath);
+  const archived = statOrNull(earlier.archivedPath);
+  const sameFile = archived !== null && sameInode(archived, statSync(here));
+  if (earlier.name === base.name && here !== earlier.archivedPath && (archived === null || sameFile)) {
+    let movedTo = earlier.archivedPath;
+    if (sameFile) unlinkSync(here); // the link into the archive was made, only the unlink was lost
+    else movedTo = moveWithoutOverwrite(here, path.dirname(earlier.archivedPath), path.basename(earlier.archivedPath));
+    if (movedTo !== earlier.archivedPath) await updateArchivedPath(db, earlier.fileId, movedTo);
+    flog.info({ fileId: earlier.fileId, movedTo }, 'file was loaded before an interrupted move; move finished');
+    const portfolios = earlier.kind === 'positions' ? await portfoliosOf(db, earlier.fileId) : null;
+    return { status: 'ingested', fileId: earlier.fileId, name: base.name, kind: earlier.kind, rows: earlier.rows, minDate: earlier.minDate, portfolios, movedTo };
+  }
+
+  // re-ingesting the archived copy itself: record it, leave it where it is
+  const movedTo = here === earlier.archivedPath ? here : moveWithoutOverwrite(here, archiveDir(config.archive, base.receivedAt), base.name);
+  const fileId = await recordFile(db, {
+    ...base, rows: 0, status: 'duplicate', error: null, archivedPath: movedTo, minDate: null, maxDate: null, duplicateOf: earlier.fileId,
+  });
+  flog.info({ fileId, duplicateOf: earlier.fileId, firstName: earlier.name, movedTo }, 'file is a duplicate; nothing added');
+  return { status: 'duplicate', fileId, name: base.name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo, duplicateOf: earlier.fileId };
+}
+
+function statOrNull(p: string) {
+  try {
+    return statSync(p);
+  } catch {
+    return null;
+  }
+}
+
+function sameInode(a: { dev: number; ino: number }, b: { dev: number; ino: number }): boolean {
+  return a.dev === b.dev && a.ino === b.ino;
 }

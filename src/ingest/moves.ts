@@ -1,0 +1,74 @@
+import { copyFileSync, constants, existsSync, linkSync, mkdirSync, unlinkSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { formatRejection, type Rejection } from '../errors.ts';
+
+/** `archive/2026-04-12/`: the folder of the day the file was received (local date). */
+export function archiveDir(archiveRoot: string, receivedAt: Date): string {
+  const day = [receivedAt.getFullYear(), receivedAt.getMonth() + 1, receivedAt.getDate()]
+    .map((n) => String(n).padStart(2, '0'))
+    .join('-');
+  return path.join(archiveRoot, day);
+}
+
+/** `prices.csv.gz` -> `prices-2.csv.gz`: the number goes before the extensions, so the kind's pattern still matches. */
+export function withSuffix(name: string, n: number): string {
+  if (n === 0) return name;
+  const m = /^(.+?)((\.[A-Za-z]+)?\.(gz|zst|bz2))$/i.exec(name) ?? /^(.+?)(\.[^.]*)?$/.exec(name);
+  const stem = m?.[1] ?? name;
+  const ext = m?.[2] ?? '';
+  return `${stem}-${n}${ext}`;
+}
+
+/** The first name in `dir` not taken yet: `name`, `name-1`, `name-2`, ... */
+export function freePath(dir: string, name: string): string {
+  for (let n = 0; ; n++) {
+    const candidate = path.join(dir, withSuffix(name, n));
+    if (!existsSync(candidate)) return candidate;
+  }
+}
+
+/**
+ * Moves `from` into `dir` under `name` (or the next free suffix), never over an existing
+ * file: a hard link fails rather than replaces, and the source is removed only once
+ * the link (or, across file systems, an exclusive copy) exists.
+ */
+export function moveWithoutOverwrite(from: string, dir: string, name: string): string {
+  mkdirSync(dir, { recursive: true });
+  for (let n = 0; ; n++) {
+    const target = path.join(dir, withSuffix(name, n));
+    try {
+      linkSync(from, target);
+    } catch (err) {
+      const code = (err as NodeJS.ErrnoException).code;
+      if (code === 'EEXIST') continue;
+      if (code !== 'EXDEV' && code !== 'EPERM' && code !== 'ENOTSUP') throw err;
+      try {
+        copyFileSync(from, target, constants.COPYFILE_EXCL);
+      } catch (copyErr) {
+        if ((copyErr as NodeJS.ErrnoException).code === 'EEXIST') continue;
+        throw copyErr;
+      }
+    }
+    unlinkSync(from);
+    return target;
+  }
+}
+
+/** Moves a rejected file into quarantine and writes `<name>.reason.txt` beside it. */
+export function quarantine(from: string, quarantineDir: string, rejection: Rejection, receivedAt: Date): string {
+  const target = moveWithoutOverwrite(from, quarantineDir, path.basename(from));
+  const lines = [
+    `file:     ${rejection.file}`,
+    `received: ${receivedAt.toISOString()}`,
+    `reason:   ${formatRejection(rejection)}`,
+    `code:     ${rejection.code}`,
+    rejection.row !== undefined ? `row:      ${rejection.row} (data rows count from 1 after the header)` : null,
+    rejection.column !== undefined ? `column:   ${rejection.column}` : null,
+    rejection.value !== undefined ? `value:    "${rejection.value}"` : null,
+    rejection.expected !== undefined ? `expected: ${rejection.expected}` : null,
+    '',
+    'Fix the file and drop it into the inbox again; nothing of it was loaded.',
+  ];
+  writeFileSync(`${target}.reason.txt`, `${lines.filter((l) => l !== null).join('\n')}\n`);
+  return target;
+}

@@ -1,0 +1,176 @@
+import { existsSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { afterEach, describe, expect, it } from 'vitest';
+import { formatRejection, type Rejection } from '../../src/errors.ts';
+import { ingestFile, type IngestOutcome } from '../../src/ingest/ingestFile.ts';
+import { writeCsv } from '../helpers/files.ts';
+import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
+
+let ws: TempWorkspace | undefined;
+afterEach(() => {
+  ws?.cleanup();
+  ws = undefined;
+});
+
+const RAW_TABLES = ['prices', 'positions', 'fx_rates', 'securities'];
+
+async function rawCounts(): Promise<Record<string, number>> {
+  const out: Record<string, number> = {};
+  for (const t of RAW_TABLES) out[t] = (await current().db.all<{ n: number }>(`select count(*)::integer n from ${t}`))[0].n;
+  return out;
+}
+
+/** A workspace that already holds one valid prices file, so "unchanged" is not "still empty". */
+async function workspace(overrides: Parameters<typeof tempWorkspace>[0] = {}): Promise<TempWorkspace> {
+  ws = await tempWorkspace(overrides);
+  const seed = writeCsv(ws.config.inbox, 'prices_seed.csv', [['date', 'security_id', 'price'], ['2026-04-01', 'EQ-SEED', '5']]);
+  expect((await ingestFile(ws.db, ws.config, ws.log, seed)).status).toBe('ingested');
+  return ws;
+}
+
+/** Writes `rows` into the inbox under `name` and ingests it, expecting a rejection. */
+async function rejectRows(name: string, rows: string[][]): Promise<Rejection> {
+  const w = ws ?? (await workspace());
+  return expectRejected(writeCsv(w.config.inbox, name, rows));
+}
+
+/**
+ * What every rejection must do: raw tables unchanged, the file in quarantine with its
+ * reason file, a `rejected` row with the one-line error, a warn log record.
+ */
+async function expectRejected(file: string): Promise<Rejection> {
+  const ws = current();
+  const before = await rawCounts();
+  const out: IngestOutcome = await ingestFile(ws.db, ws.config, ws.log, file);
+  expect(out.status).toBe('rejected');
+  const rejection = out.rejection!;
+  expect(await rawCounts()).toEqual(before);
+  expect(existsSync(file)).toBe(false);
+  expect(path.dirname(out.movedTo)).toBe(ws.config.quarantine);
+  const reason = readFileSync(`${out.movedTo}.reason.txt`, 'utf8');
+  expect(reason).toContain(formatRejection(rejection));
+  expect(reason).toMatch(/^received: \d{4}-\d\d-\d\dT/m);
+  const [rec] = await ws.db.all<{ status: string; error: string; archived_path: string }>(
+    'select status, error, archived_path from ingested_files where file_id = $1',
+    [out.fileId],
+  );
+  expect(rec).toEqual({ status: 'rejected', error: formatRejection(rejection), archived_path: out.movedTo });
+  const logged = ws.logLines().find((l) => l.msg === 'file rejected' && l.fileId === out.fileId);
+  expect(logged).toMatchObject({ level: 40, stage: 'ingest', file: path.basename(file), code: rejection.code, message: rejection.message });
+  expect(logged?.row).toBe(rejection.row);
+  return rejection;
+}
+
+function current(): TempWorkspace {
+  if (!ws) throw new Error('no workspace open');
+  return ws;
+}
+
+const PRICE_HEADER = ['date', 'security_id', 'price', 'currency'];
+
+describe('ingestFile: rejected files', () => {
+  it('names the price that is not positive (the message shape of the style guide)', async () => {
+    const rows = [PRICE_HEADER, ...Array.from({ length: 16 }, (_, i) => [`2026-04-${String(i + 1).padStart(2, '0')}`, 'EQ-NORDWIND', '10', 'EUR'])];
+    rows.push(['2026-04-17', 'EQ-NORDWIND', '-3.0', 'EUR'], ['2026-04-18', 'EQ-NORDWIND', 'x', 'EUR']);
+    const r = await rejectRows('prices_0412.csv', rows);
+    expect(r).toMatchObject({ code: 'bad_value', file: 'prices_0412.csv', row: 17, column: 'price', value: '-3.0', expected: 'a positive number' });
+    expect(formatRejection(r)).toBe('prices_0412.csv row 17, column price: "-3.0" is not a positive number');
+  });
+
+  it('rejects a zero price, a non-finite price and an empty one', async () => {
+    expect(await rejectRows('prices_a.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '0', 'EUR']])).toMatchObject({ row: 1, column: 'price', value: '0' });
+    expect(await rejectRows('prices_b.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', 'inf', 'EUR']])).toMatchObject({ row: 1, column: 'price', value: 'inf' });
+    const empty = await rejectRows('prices_c.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '', 'EUR']]);
+    expect(formatRejection(empty)).toBe('prices_c.csv row 1, column price: is empty; expected a positive number');
+  });
+
+  it('rejects a date that does not parse in the source format', async () => {
+    const r = await rejectRows('prices_d.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '1', ''], ['2026-04-31', 'EQ-NORDWIND', '1', '']]);
+    expect(formatRejection(r)).toBe('prices_d.csv row 2, column date: "2026-04-31" is not a date in the format %Y-%m-%d');
+  });
+
+  it('rejects a currency that is not an ISO 4217 code', async () => {
+    const r = await rejectRows('prices_e.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '1', 'eur']]);
+    expect(r).toMatchObject({ row: 1, column: 'currency', value: 'eur', expected: 'an ISO 4217 currency code (three capital letters)' });
+  });
+
+  it('rejects an fx rate that is not positive, and an fx row without currency', async () => {
+    const header = ['date', 'currency', 'rate'];
+    expect(await rejectRows('fx_a.csv', [header, ['2026-04-10', 'EUR', '1.08'], ['2026-04-10', 'CHF', '-1.1']])).toMatchObject({ code: 'bad_value', row: 2, column: 'rate', value: '-1.1' });
+    expect(await rejectRows('fx_b.csv', [header, ['2026-04-10', '', '1.08']])).toMatchObject({ row: 1, column: 'currency', value: '' });
+  });
+
+  it('accepts negative and zero quantities but not text', async () => {
+    const ws = await workspace();
+    const header = ['date', 'portfolio_id', 'security_id', 'quantity'];
+    const ok = await ingestFile(ws.db, ws.config, ws.log, writeCsv(ws.config.inbox, 'positions_ok.csv', [header, ['2026-04-10', 'acct-growth', 'EQ-NORDWIND', '-40'], ['2026-04-10', 'acct-growth', 'BD-KESTREL-28', '0']]));
+    expect(ok.status).toBe('ingested');
+    const r = await rejectRows('positions_bad.csv', [header, ['2026-04-10', 'acct-growth', 'EQ-NORDWIND', '12 shares']]);
+    expect(formatRejection(r)).toBe('positions_bad.csv row 1, column quantity: "12 shares" is not a number');
+  });
+
+  it('rejects an empty portfolio id and a cash id without a valid currency code', async () => {
+    const header = ['date', 'portfolio_id', 'security_id', 'quantity'];
+    expect(await rejectRows('positions_a.csv', [header, ['2026-04-10', '  ', 'EQ-NORDWIND', '1']])).toMatchObject({ row: 1, column: 'portfolio_id', expected: 'a non-empty id' });
+    const cash = await rejectRows('positions_b.csv', [header, ['2026-04-10', 'acct-growth', 'CASH:EURO', '1000']]);
+    expect(cash).toMatchObject({ row: 1, column: 'security_id', value: 'CASH:EURO', expected: 'CASH: followed by an ISO 4217 currency code' });
+  });
+
+  it('reports the earliest failing row across columns', async () => {
+    const r = await rejectRows('prices_f.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1', ''], ['2026-04-10', 'EQ-B', '1', 'usd'], ['bad', 'EQ-C', '-1', '']]);
+    expect(r).toMatchObject({ row: 2, column: 'currency' });
+  });
+
+  it('names both rows of a repeated key', async () => {
+    const r = await rejectRows('prices_g.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1', ''], ['2026-04-10', 'EQ-B', '2', ''], ['2026-04-10', 'EQ-A', '1.5', '']]);
+    expect(r).toMatchObject({ code: 'duplicate_key', row: 3, column: 'date+security_id' });
+    expect(formatRejection(r)).toBe('prices_g.csv row 3, column date+security_id: "2026-04-10", "EQ-A" repeats the date+security_id of row 1');
+  });
+
+  it('compares keys by value: the same date written two ways is the same key', async () => {
+    await workspace({ sources: [{ name: 'seed', kind: 'prices', pattern: 'prices*' }, { name: 'fx', kind: 'fx', pattern: 'fx*.csv', dateFormat: '%d/%m/%Y' }] });
+    const r = await rejectRows('fx_c.csv', [['date', 'currency', 'rate'], ['1/4/2026', 'EUR', '1.08'], ['01/04/2026', 'EUR', '1.09']]);
+    expect(r).toMatchObject({ code: 'duplicate_key', row: 2, value: '"01/04/2026", "EUR"' });
+  });
+
+  it('names a missing column and lists the header it found', async () => {
+    const r = await rejectRows('positions_c.csv', [['date', 'portfolio', 'security_id', 'quantity'], ['2026-04-10', 'acct-growth', 'EQ-A', '1']]);
+    expect(r).toMatchObject({ code: 'missing_column', column: 'portfolio_id' });
+    expect(formatRejection(r)).toBe('positions_c.csv, column portfolio_id: is missing; header found: "date", "portfolio", "security_id", "quantity"');
+  });
+
+  it('rejects an empty file and a file with a header only', async () => {
+    const ws = await workspace();
+    const empty = path.join(ws.config.inbox, 'prices_empty.csv');
+    writeFileSync(empty, '');
+    expect(await expectRejected(empty)).toMatchObject({ code: 'empty_file' });
+    expect(await rejectRows('prices_header.csv', [PRICE_HEADER])).toMatchObject({ code: 'empty_file', message: 'has a header but no data rows' });
+  });
+
+  it('rejects a row with the wrong number of fields as unreadable, with DuckDB\'s line', async () => {
+    const r = await rejectRows('prices_h.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1', 'EUR'], ['2026-04-10', 'EQ-B', '2']]);
+    expect(r).toMatchObject({ code: 'unreadable', row: 2, value: '2026-04-10,EQ-B,2' });
+    expect(r.message).toContain('Expected Number of Columns: 4 Found: 3');
+  });
+
+  it('rejects a .gz file that is not gzip as unreadable', async () => {
+    const ws = await workspace();
+    const file = path.join(ws.config.inbox, 'prices_i.csv.gz');
+    writeFileSync(file, 'date,security_id,price\n2026-04-10,EQ-A,1\n');
+    expect(await expectRejected(file)).toMatchObject({ code: 'unreadable' });
+  });
+
+  it('rejects a name that matches no source as unknown_kind', async () => {
+    const r = await rejectRows('holdings_0410.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1', '']]);
+    expect(r).toMatchObject({ code: 'unknown_kind', value: 'holdings_0410.csv' });
+    expect(r.message).toContain('prices*.csv*');
+  });
+
+  it('never overwrites in quarantine: a second bad file of the same name gets a suffix', async () => {
+    await rejectRows('prices_j.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '-1', '']]);
+    await rejectRows('prices_j.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '-2', '']]);
+    const ws = current();
+    expect(readdirSync(ws.config.quarantine).sort()).toEqual(['prices_j-1.csv', 'prices_j-1.csv.reason.txt', 'prices_j.csv', 'prices_j.csv.reason.txt']);
+    expect(readFileSync(path.join(ws.config.quarantine, 'prices_j-1.csv.reason.txt'), 'utf8')).toContain('value:    "-2"');
+  });
+});
