@@ -51,7 +51,7 @@ describe('ewmaCovarianceUpdate', () => {
   const row = (t: number): Float64Array => returns.subarray(t * n, (t + 1) * n);
 
   it('has on its diagonal the one-series update of each security', () => {
-    let s = new Float64Array(n * n);
+    let s: Float64Array = new Float64Array(n * n);
     const variances = new Float64Array(n);
     for (let t = 0; t < 300; t++) {
       s = ewmaCovarianceUpdate(s, n, row(t), 0.94);
@@ -71,7 +71,7 @@ describe('ewmaCovarianceUpdate', () => {
   });
 
   it('stays symmetric positive semi-definite (ml-matrix EigenvalueDecomposition)', () => {
-    let s = new Float64Array(n * n);
+    let s: Float64Array = new Float64Array(n * n);
     // fewer updates than securities from zero: rank-deficient, the edge of PSD
     for (let t = 0; t < 3; t++) s = ewmaCovarianceUpdate(s, n, row(t), 0.94);
     const m = new Matrix(n, n);
