@@ -1,0 +1,56 @@
+import { lstatSync, readdirSync, statSync } from 'node:fs';
+import path from 'node:path';
+
+/**
+ * Whether a name in the inbox is a delivery. Hidden files and names ending in .tmp or
+ * .part are a sender's work in progress (many transfer tools write there, then rename).
+ */
+export function isDeliveryName(name: string): boolean {
+  return !name.startsWith('.') && !/\.(tmp|part)$/i.test(name);
+}
+
+/** A regular file, not a symlink: the worker moves what it ingests and must not move a link's target away from its owner. */
+export function isPlainFile(file: string): boolean {
+  try {
+    return lstatSync(file).isFile();
+  } catch {
+    return false;
+  }
+}
+
+/** The deliveries already in the inbox, oldest first (name breaks ties), for the catch-up at start. */
+export function listInbox(inbox: string): string[] {
+  const files = readdirSync(inbox, { withFileTypes: true })
+    .filter((d) => d.isFile() && isDeliveryName(d.name))
+    .map((d) => {
+      const file = path.join(inbox, d.name);
+      return { file, mtime: statSync(file).mtimeMs };
+    });
+  files.sort((a, b) => a.mtime - b.mtime || a.file.localeCompare(b.file));
+  return files.map((f) => f.file);
+}
+
+/**
+ * Resolves once the file's size and mtime have held for `stableMs` (true), or false if
+ * it disappears. The same rule chokidar's awaitWriteFinish applies to new arrivals.
+ */
+export async function waitUntilStable(file: string, stableMs: number, pollMs: number): Promise<boolean> {
+  let last = '';
+  let since = Date.now();
+  for (;;) {
+    let now: string;
+    try {
+      const s = statSync(file);
+      now = `${s.size}:${s.mtimeMs}`;
+    } catch {
+      return false;
+    }
+    if (now !== last) {
+      last = now;
+      since = Date.now();
+    } else if (Date.now() - since >= stableMs) {
+      return true;
+    }
+    await new Promise((resolve) => setTimeout(resolve, pollMs));
+  }
+}

@@ -1,0 +1,146 @@
+import path from 'node:path';
+import type { FSWatcher } from 'chokidar';
+import type { Logger } from 'pino';
+import { deliverAlerts } from '../alerts/deliverAlerts.ts';
+import type { Config } from '../config/load.ts';
+import { RiskfoldError } from '../errors.ts';
+import { processBatch } from '../pipeline/processBatch.ts';
+import type { Database } from '../storage/database.ts';
+import { openWorkspace, publishReadCopy } from '../storage/workspace.ts';
+import { DeliveryLoop } from './deliveryLoop.ts';
+import { listInbox, waitUntilStable } from './inboxFiles.ts';
+import { watchInbox } from './inboxWatcher.ts';
+import { describeOwner, removePidFile, writePidFile } from './workerPidFile.ts';
+import { WorkQueue } from './workQueue.ts';
+
+/** What the scheduled jobs (src/schedule/) get from the worker that runs them. */
+export interface ScheduleHost {
+  config: Config;
+  log: Logger;
+  /** Runs fn between batches, the only time `db` may be used. */
+  exclusive<T>(fn: (db: Database) => Promise<T>): Promise<T>;
+  /** Asks for a delivery round now (retry of undelivered alerts). */
+  deliverNow(): void;
+}
+export type StartSchedules = (host: ScheduleHost) => { stop(): void | Promise<void> };
+
+export interface WorkerOptions {
+  /** The scheduled jobs; absent in tests that only exercise the file path. */
+  startSchedules?: StartSchedules;
+}
+
+export interface Worker {
+  /** Stops taking files, lets the current batch finish, closes everything. Safe to call twice. */
+  stop(): Promise<void>;
+  /** Resolves once stopped; rejects if the worker hit a fault it cannot go on after. */
+  readonly done: Promise<void>;
+  /** Resolves when no batch runs and no file waits (tests). */
+  idle(): Promise<void>;
+}
+
+/**
+ * The worker: owns the database (one per file, DuckDB's lock enforces it), catches up on
+ * the inbox, then watches it. Each batch commits file by file, recomputes once, publishes
+ * the read copy; alerts go out from a loop beside it.
+ */
+export async function startWorker(config: Config, log: Logger, options: WorkerOptions = {}): Promise<Worker> {
+  const wlog = log.child({ stage: 'worker' });
+  const db = await openOwned(config, log);
+  writePidFile(config);
+  const session = await db.openSession();
+
+  let stopping = false;
+  let publishWanted = false;
+  let fault: unknown = null;
+  let resolveDone!: () => void;
+  let rejectDone!: (err: unknown) => void;
+  const done = new Promise<void>((resolve, reject) => {
+    resolveDone = resolve;
+    rejectDone = reject;
+  });
+  // a fault is reported through `done` to whoever awaits it, never as an unhandled rejection
+  done.catch(() => undefined);
+
+  const runBatch = async (files: string[]) => {
+    try {
+      await processBatch(db, config, log, files, { deliver: false, shouldStop: () => stopping });
+      publishWanted = false;
+      delivery.kick();
+    } catch (err) {
+      // a fault of the machine (disk, database): stop cleanly, the supervisor restarts us
+      // and the catch-up takes the files still in the inbox
+      wlog.fatal({ err }, 'batch failed; stopping the worker');
+      fault = err;
+      void stop();
+    }
+  };
+  const queue = new WorkQueue(runBatch);
+  const republish = () => {
+    publishWanted = true;
+    queue.exclusive(() => (publishWanted ? publishReadCopy(db, config, log) : Promise.resolve())).then(
+      () => (publishWanted = false),
+      (err: unknown) => wlog.debug({ err }, 'read copy not republished'),
+    );
+  };
+  const delivery = new DeliveryLoop(() => deliverAlerts(session, config, log), republish, log);
+
+  let watcher: FSWatcher | null = null;
+  let schedules: { stop(): void | Promise<void> } | null = null;
+  let stopped: Promise<void> | null = null;
+  const stop = () =>
+    (stopped ??= (async () => {
+      stopping = true;
+      wlog.info({ waiting: queue.waiting }, 'stopping: finishing the current file');
+      await watcher?.close();
+      await schedules?.stop();
+      await queue.stop();
+      await delivery.stop();
+      if (publishWanted && !fault) await publishReadCopy(db, config, log).catch((err) => wlog.error({ err }, 'final publish failed'));
+      session.close();
+      db.close();
+      removePidFile(config);
+      wlog.info('stopped');
+      if (fault) rejectDone(fault);
+      else resolveDone();
+    })());
+
+  try {
+    // new arrivals queue up (lane still closed) while the catch-up list is made
+    watcher = await watchInbox(config, log, (file) => queue.addFile(file));
+    const present = listInbox(config.inbox);
+    const stable = await Promise.all(present.map((f) => waitUntilStable(f, config.watch.stableMs, config.watch.pollMs)));
+    const catchUp = present.filter((_, i) => stable[i]);
+    wlog.info({ files: catchUp.map((f) => path.basename(f)) }, 'catching up on the inbox');
+    // an empty catch-up still runs: it recomputes what a killed worker left uncovered and publishes a fresh copy
+    if (!stopping) {
+      queue.start(catchUp);
+      schedules =
+        options.startSchedules?.({
+          config,
+          log,
+          exclusive: (fn) => queue.exclusive(() => fn(db)),
+          deliverNow: () => delivery.kick(),
+        }) ?? null;
+    }
+  } catch (err) {
+    fault = err;
+    await stop().catch(() => undefined);
+    throw err;
+  }
+  return { stop: () => stop().then(() => done), done, idle: () => queue.idle() };
+}
+
+async function openOwned(config: Config, log: Logger): Promise<Database> {
+  try {
+    return await openWorkspace(config, log);
+  } catch (err) {
+    if (err instanceof RiskfoldError && err.kind === 'database_locked') {
+      throw new RiskfoldError(
+        'database_locked',
+        `a riskfold worker already owns ${config.database} (${describeOwner(config, err.message)}); stop it first (sql and status keep working: they read its published copy)`,
+        { file: config.database, cause: err },
+      );
+    }
+    throw err;
+  }
+}
