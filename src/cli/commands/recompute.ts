@@ -1,9 +1,42 @@
 import type { Command } from 'commander';
-import { withConfigOption } from '../context.ts';
+import { deliverAlerts } from '../../alerts/deliverAlerts.ts';
+import { recompute, requireIsoDate, type RunSummary } from '../../risk/recompute.ts';
+import { openWorkspace, publishReadCopy } from '../../storage/workspace.ts';
+import { contextFrom, withConfigOption } from '../context.ts';
 
-// PLACEHOLDER: replaced by the stage that owns this command.
+interface RecomputeOptions {
+  config?: string;
+  from?: string;
+  portfolio: string[];
+}
+
+/** `riskfold recompute [--from DATE] [--portfolio ID]...`: a full backfill without --from. */
 export function registerRecompute(program: Command): void {
-  withConfigOption(program.command('recompute').description('(not built yet)')).action(() => {
-    throw new Error('recompute is not built yet');
+  withConfigOption(
+    program
+      .command('recompute')
+      .description('recomputes risk, limits and alerts; without --from the whole history (a full backfill)')
+      .option('--from <date>', 'recompute from this date on (YYYY-MM-DD); earlier rows stay as they are')
+      .option('--portfolio <id>', 'only this portfolio (repeat for several)', (id: string, ids: string[]) => [...ids, id], [] as string[]),
+  ).action(async (opts: RecomputeOptions) => {
+    if (opts.from !== undefined) requireIsoDate(opts.from);
+    const { config, log } = contextFrom(opts);
+    const db = await openWorkspace(config, log);
+    try {
+      const portfolios = opts.portfolio.length > 0 ? [...new Set(opts.portfolio)] : null;
+      const run = await recompute(db, config, log, { trigger: 'recompute', from: opts.from ?? null, portfolios });
+      await deliverAlerts(db, config, log);
+      await publishReadCopy(db, config, log);
+      process.stdout.write(`${describeRun(run)}\n`);
+    } finally {
+      db.close();
+    }
   });
+}
+
+/** "run 7: 3 portfolios, 2020-01-02 .. 2026-11-30, 12,345 risk rows, 2 alerts, 4.1 s" */
+export function describeRun(run: RunSummary): string {
+  const range = run.to === null ? 'no valuation dates' : `${run.from ?? 'start'} .. ${run.to}`;
+  const plural = (n: number, word: string) => `${n.toLocaleString('en-US')} ${word}${n === 1 ? '' : 's'}`;
+  return `run ${run.runId}: ${plural(run.portfolios, 'portfolio')}, ${range}, ${plural(run.riskRows, 'risk row')}, ${plural(run.alertsRaised, 'alert')}, ${run.seconds.toFixed(1)} s`;
 }

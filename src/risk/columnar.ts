@@ -1,0 +1,160 @@
+import { DuckDBDataChunk, type DuckDBType, type DuckDBVector } from '@duckdb/node-api';
+import type { Database, Params } from '../storage/database.ts';
+
+/**
+ * Bulk transfer between DuckDB and typed arrays, chunk by chunk (2,048 rows), so the
+ * risk stage reads tens of millions of holdings without one JS object per row and
+ * writes its results at appender speed.
+ */
+
+export type ColumnKind = 'int' | 'double' | 'bool' | 'text';
+
+type ColumnOf<K extends ColumnKind> = K extends 'int'
+  ? Int32Array
+  : K extends 'double'
+    ? Float64Array
+    : K extends 'bool'
+      ? Uint8Array
+      : (string | null)[];
+
+export type Columns<S extends Record<string, ColumnKind>> = { [name in keyof S]: ColumnOf<S[name]> };
+
+/**
+ * Runs `sql` and returns its columns by name as typed arrays of exactly the row count.
+ * Kinds: 'int' (INTEGER, never null: a null is a fault of the query), 'double' (null
+ * becomes NaN), 'bool' (1/0, null 0), 'text'. The query must select the columns in
+ * the order of `spec`.
+ */
+export async function readColumns<S extends Record<string, ColumnKind>>(
+  db: Database,
+  sql: string,
+  params: Params | undefined,
+  spec: S,
+): Promise<{ rows: number; columns: Columns<S> }> {
+  const names = Object.keys(spec);
+  const kinds = names.map((n) => spec[n]);
+  let capacity = 1 << 14;
+  let buffers = kinds.map((k) => allocate(k, capacity));
+  let rows = 0;
+  const result = await db.conn.stream(sql, params);
+  if (result.columnCount !== names.length) {
+    throw new Error(`readColumns: query returns ${result.columnCount} columns, expected ${names.length} (${names.join(', ')})`);
+  }
+  for (;;) {
+    const chunk = await result.fetchChunk();
+    if (!chunk || chunk.rowCount === 0) break;
+    const n = chunk.rowCount;
+    if (rows + n > capacity) {
+      while (rows + n > capacity) capacity *= 2;
+      buffers = buffers.map((b, c) => grow(kinds[c], b, capacity, rows));
+    }
+    for (let c = 0; c < names.length; c++) fill(kinds[c], names[c], buffers[c], chunk.getColumnVector(c), rows, n);
+    rows += n;
+  }
+  const columns = {} as Record<string, unknown>;
+  names.forEach((name, c) => {
+    const b = buffers[c];
+    columns[name] = Array.isArray(b) ? b.slice(0, rows) : b.slice(0, rows);
+  });
+  return { rows, columns: columns as Columns<S> };
+}
+
+type Buffer = Int32Array | Float64Array | Uint8Array | (string | null)[];
+
+function allocate(kind: ColumnKind, n: number): Buffer {
+  if (kind === 'int') return new Int32Array(n);
+  if (kind === 'double') return new Float64Array(n);
+  if (kind === 'bool') return new Uint8Array(n);
+  return new Array<string | null>(n);
+}
+
+function grow(kind: ColumnKind, old: Buffer, n: number, used: number): Buffer {
+  if (Array.isArray(old)) return old;
+  const next = allocate(kind, n) as Int32Array;
+  next.set((old as Int32Array).subarray(0, used));
+  return next;
+}
+
+function fill(kind: ColumnKind, name: string, out: Buffer, vector: DuckDBVector, at: number, n: number): void {
+  if (kind === 'text') {
+    const texts = out as (string | null)[];
+    for (let i = 0; i < n; i++) texts[at + i] = vector.getItem(i) as string | null;
+    return;
+  }
+  if (kind === 'bool') {
+    const flags = out as Uint8Array;
+    for (let i = 0; i < n; i++) flags[at + i] = vector.getItem(i) === true ? 1 : 0;
+    return;
+  }
+  const nums = out as Int32Array | Float64Array;
+  for (let i = 0; i < n; i++) {
+    const v = vector.getItem(i) as number | null;
+    if (v === null) {
+      if (kind === 'int') throw new Error(`readColumns: column ${name} has a null at row ${at + i + 1}`);
+      nums[at + i] = Number.NaN;
+    } else {
+      nums[at + i] = v;
+    }
+  }
+}
+
+/**
+ * Appends rows to a table through data chunks: values are set column-wise into a
+ * 2,048-row chunk that is handed to the appender when full. `null` (or NaN for a
+ * double) is written as NULL. Call `close()` to flush the last partial chunk.
+ */
+export class ChunkAppender {
+  private readonly chunk: DuckDBDataChunk;
+  private readonly vectors: DuckDBVector[];
+  private readonly capacity: number;
+  private row = 0;
+  private written = 0;
+
+  private constructor(
+    private readonly appender: Awaited<ReturnType<Database['conn']['createAppender']>>,
+    types: readonly DuckDBType[],
+  ) {
+    this.capacity = 2048;
+    this.chunk = DuckDBDataChunk.create(types, this.capacity);
+    this.vectors = types.map((_, c) => this.chunk.getColumnVector(c));
+  }
+
+  static async open(db: Database, table: string, types: readonly DuckDBType[]): Promise<ChunkAppender> {
+    const appender = await db.conn.createAppender(table);
+    if (appender.columnCount !== types.length) {
+      appender.closeSync();
+      throw new Error(`ChunkAppender: ${table} has ${appender.columnCount} columns, ${types.length} types given`);
+    }
+    return new ChunkAppender(appender, types);
+  }
+
+  /** Sets column `c` of the current row. */
+  set(c: number, value: number | string | null): void {
+    this.vectors[c].setItem(this.row, typeof value === 'number' && Number.isNaN(value) ? null : (value as never));
+  }
+
+  endRow(): void {
+    this.row++;
+    if (this.row === this.capacity) this.flushChunk();
+  }
+
+  /** Rows handed over so far, the current chunk included. */
+  get rows(): number {
+    return this.written + this.row;
+  }
+
+  close(): number {
+    if (this.row > 0) this.flushChunk();
+    this.appender.flushSync();
+    this.appender.closeSync();
+    return this.written;
+  }
+
+  private flushChunk(): void {
+    for (const v of this.vectors) v.flush();
+    this.chunk.rowCount = this.row;
+    this.appender.appendDataChunk(this.chunk);
+    this.written += this.row;
+    this.row = 0;
+  }
+}

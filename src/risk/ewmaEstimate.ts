@@ -1,0 +1,141 @@
+import { annualizedVolatility } from './math/annualize.ts';
+import { subMatrixVector } from './math/covariance.ts';
+import { ewmaCovarianceUpdateInPlace } from './math/ewma.ts';
+import type { ReturnPanel } from './inputs.ts';
+import type { CovarianceView } from './portfolioRow.ts';
+
+/**
+ * The `ewma` estimate S_t = lambda S_t-1 + (1 - lambda) r_t r_t' (zero mean) over the
+ * securities that are "in" the matrix, advanced one date at a time.
+ *
+ * Entry (seeding): a security enters on the date its run of consecutive returns
+ * reaches seedDays. Its row and column are then set from those seedDays dates u with
+ * the EWMA's own weights c_u = (1 - lambda) lambda^(t - u):
+ *   S_jk = a_j a_k sum_u c_u r_j,u r_k,u,  a = 1 / sqrt(1 - lambda^seedDays) for a
+ *   newcomer, 1 for a security already in,
+ * so a newcomer's variance is a weighted mean (the c_u sum to 1 - lambda^seedDays) and
+ * the matrix stays positive semi-definite: it remains a weighted sum of outer products
+ * r r' (a newcomer's earlier returns read as 0), rescaled by a positive diagonal. On
+ * the first dates this is simply the normalised EWMA of the first seedDays returns.
+ * The update of the entry date is the seed itself; from the next date on the
+ * recursion applies.
+ * Exit: a missing return takes the security out; it re-enters, freshly seeded, once it
+ * has seedDays consecutive returns again.
+ */
+
+export interface EwmaState {
+  /** Date row the state is at (after its update). */
+  row: number;
+  /** Securities in the matrix and their co-moments, row-major k x k. */
+  securityIds: string[];
+  matrix: Float64Array;
+}
+
+export class EwmaEstimate implements CovarianceView {
+  readonly estimator = 'ewma';
+  readonly windowDays = 0;
+  readonly startRow: number;
+  private readonly n: number;
+  private readonly t: number;
+  private readonly s: Float64Array;
+  private readonly active: Uint8Array;
+  private readonly seedWeights: Float64Array;
+  private readonly newcomerScale: number;
+  private row: number;
+
+  constructor(
+    private readonly panel: ReturnPanel,
+    private readonly lambda: number,
+    private readonly seedDays: number,
+    state: EwmaState | null,
+  ) {
+    this.n = panel.securityIds.length;
+    this.t = panel.dates.length;
+    this.s = new Float64Array(this.n * this.n);
+    this.active = new Uint8Array(this.n);
+    // c_u for u = t - seedDays + 1 .. t, oldest first
+    this.seedWeights = Float64Array.from({ length: seedDays }, (_, k) => (1 - lambda) * lambda ** (seedDays - 1 - k));
+    this.newcomerScale = 1 / Math.sqrt(1 - lambda ** seedDays);
+    this.row = state ? state.row : -1;
+    this.startRow = this.row + 1;
+    if (state) this.restore(state);
+  }
+
+  advance(d: number): void {
+    if (d !== this.row + 1) throw new Error(`EwmaEstimate: advanced to row ${d} after ${this.row}`);
+    this.row = d;
+    const { n, active, panel } = this;
+    const r = panel.returns.subarray(d * n, (d + 1) * n);
+    for (let j = 0; j < n; j++) if (active[j] === 1 && !Number.isFinite(r[j])) active[j] = 0;
+    ewmaCovarianceUpdateInPlace(this.s, n, r, this.lambda, active);
+    const newcomers: number[] = [];
+    for (let j = 0; j < n; j++) {
+      if (active[j] === 0 && panel.runLength[d * n + j] >= this.seedDays) newcomers.push(j);
+    }
+    if (newcomers.length > 0) this.seed(d, newcomers);
+  }
+
+  covered(j: number): boolean {
+    return this.active[j] === 1;
+  }
+
+  variance(j: number): number {
+    return this.s[j * this.n + j];
+  }
+
+  product(idx: Int32Array, w: Float64Array): Float64Array {
+    return subMatrixVector(this.s, this.n, idx, w);
+  }
+
+  /** security_stats of the current date: every security in the matrix (no return for ewma). */
+  forEachSecurity(emit: (j: number, annReturn: number, annVol: number) => void, periodsPerYear: number): void {
+    for (let j = 0; j < this.n; j++) {
+      if (this.active[j] === 1) emit(j, Number.NaN, annualizedVolatility(this.variance(j), periodsPerYear));
+    }
+  }
+
+  /** The state at the current date, compact (only the securities in the matrix). */
+  snapshot(): EwmaState {
+    const members: number[] = [];
+    for (let j = 0; j < this.n; j++) if (this.active[j] === 1) members.push(j);
+    const k = members.length;
+    const matrix = new Float64Array(k * k);
+    members.forEach((i, a) => members.forEach((j, b) => (matrix[a * k + b] = this.s[i * this.n + j])));
+    return { row: this.row, securityIds: members.map((j) => this.panel.securityIds[j]), matrix };
+  }
+
+  private restore(state: EwmaState): void {
+    const position = new Map(this.panel.securityIds.map((id, j) => [id, j]));
+    const members = state.securityIds.map((id) => {
+      const j = position.get(id);
+      if (j === undefined) throw new Error(`EWMA state names ${id}, which has no returns now`);
+      return j;
+    });
+    const k = members.length;
+    members.forEach((i, a) => {
+      this.active[i] = 1;
+      members.forEach((j, b) => (this.s[i * this.n + j] = state.matrix[a * k + b]));
+    });
+  }
+
+  private seed(d: number, newcomers: number[]): void {
+    const { n, t, s, active, seedDays, seedWeights, newcomerScale } = this;
+    const series = this.panel.returnsBySecurity;
+    const first = d - seedDays + 1;
+    const isNew = new Uint8Array(n);
+    for (const j of newcomers) isNew[j] = 1;
+    for (const j of newcomers) active[j] = 1;
+    const weighted = new Float64Array(seedDays);
+    for (const j of newcomers) {
+      for (let u = 0; u < seedDays; u++) weighted[u] = seedWeights[u] * series[j * t + first + u];
+      for (let k = 0; k < n; k++) {
+        if (active[k] === 0 || (isNew[k] === 1 && k < j)) continue;
+        let sum = 0;
+        for (let u = 0; u < seedDays; u++) sum += weighted[u] * series[k * t + first + u];
+        const v = sum * newcomerScale * (isNew[k] === 1 ? newcomerScale : 1);
+        s[j * n + k] = v;
+        s[k * n + j] = v;
+      }
+    }
+  }
+}

@@ -1,0 +1,66 @@
+import { blobValue, listValue, type DuckDBBlobValue, type DuckDBListValue } from '@duckdb/node-api';
+import type { Database } from '../storage/database.ts';
+import type { EwmaState } from './ewmaEstimate.ts';
+
+/**
+ * The stored EWMA matrix (table risk_ewma_state). A run may continue from it only when
+ * it sits exactly on the date before the run's first date and was computed with the
+ * same lambda and seedDays; otherwise the EWMA replays from the first date in memory.
+ */
+
+export interface EwmaSettings {
+  lambda: number;
+  seedDays: number;
+}
+
+/** The state to continue from before date row `fromRow`, or null (replay from the start). */
+export async function loadEwmaState(
+  db: Database,
+  settings: EwmaSettings,
+  dates: readonly string[],
+  fromRow: number,
+): Promise<EwmaState | null> {
+  if (fromRow < 1 || fromRow > dates.length) return null;
+  const reader = await db.conn.runAndReadAll(
+    `select security_ids, matrix from risk_ewma_state
+     where as_of = $1::date and decay = $2 and seed_days = $3`,
+    [dates[fromRow - 1], settings.lambda, settings.seedDays],
+  );
+  const rows = reader.getRows();
+  if (rows.length !== 1) return null;
+  const ids = (rows[0][0] as DuckDBListValue).items as string[];
+  const bytes = (rows[0][1] as DuckDBBlobValue).bytes;
+  const k = ids.length;
+  if (bytes.byteLength !== k * k * 8) throw new Error(`risk_ewma_state: matrix has ${bytes.byteLength} bytes for ${k} securities`);
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  const matrix = new Float64Array(k * k);
+  for (let i = 0; i < matrix.length; i++) matrix[i] = view.getFloat64(i * 8, true);
+  return { row: fromRow - 1, securityIds: ids, matrix };
+}
+
+/** Replaces the stored state; runs inside the run's write transaction. */
+export async function saveEwmaState(
+  db: Database,
+  settings: EwmaSettings,
+  dates: readonly string[],
+  state: EwmaState,
+  runId: number,
+): Promise<void> {
+  const bytes = new Uint8Array(state.matrix.length * 8);
+  const view = new DataView(bytes.buffer);
+  for (let i = 0; i < state.matrix.length; i++) view.setFloat64(i * 8, state.matrix[i], true);
+  await db.run('delete from risk_ewma_state');
+  await db.run('insert into risk_ewma_state values ($1::date, $2, $3, $4::varchar[], $5, $6)', [
+    dates[state.row],
+    settings.lambda,
+    settings.seedDays,
+    listValue(state.securityIds),
+    blobValue(bytes),
+    runId,
+  ]);
+}
+
+/** Drops the stored state (EWMA switched off, or no dates left). */
+export async function clearEwmaState(db: Database): Promise<void> {
+  await db.run('delete from risk_ewma_state');
+}

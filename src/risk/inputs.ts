@@ -1,0 +1,174 @@
+import { listValue } from '@duckdb/node-api';
+import type { Database } from '../storage/database.ts';
+import { readColumns } from './columnar.ts';
+
+/**
+ * The risk stage's inputs, read from the views in bulk into typed arrays. Dates are
+ * addressed by row d = date_index - 1 of align_valuation_dates; securities (cash
+ * included) by their position j in the sorted list of every id that has a return or a
+ * position. Cash and a security without returns have all-NaN columns, so they never
+ * have a full window.
+ */
+
+export interface ReturnPanel {
+  /** 'YYYY-MM-DD' of every valuation date, d = date_index - 1. */
+  dates: string[];
+  securityIds: string[];
+  /** 1 where security j is a cash balance (CASH:<ISO 4217>). */
+  isCash: Uint8Array;
+  /** T x N row-major log returns in base currency, NaN = missing (row 0 has none). */
+  returns: Float64Array;
+  /** The same, N x T: each security's series contiguous, for per-security windows. */
+  returnsBySecurity: Float64Array;
+  /** T x N: consecutive non-missing returns ending at row d (a window of W is full iff >= W). */
+  runLength: Int32Array;
+}
+
+export interface PortfolioPanel {
+  ids: string[];
+  /** First date row whose holdings were read; earlier rows are empty. */
+  firstRow: number;
+  /** P x T, slot p * T + d. Missing = NaN / 0. */
+  present: Uint8Array;
+  value: Float64Array;
+  unpriced: Uint8Array;
+  stale: Uint8Array;
+  logReturn: Float64Array;
+  /** CSR over slots: holdings of slot s are offsets[s] .. offsets[s + 1] - 1, sorted by security. */
+  offsets: Int32Array;
+  security: Int32Array;
+  weight: Float64Array;
+}
+
+/**
+ * Reads all valuation dates and all security returns (the EWMA may need to replay from
+ * the first date; N x T doubles stay small), then the holdings of the portfolios in
+ * scope from `firstRow` on.
+ */
+export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
+  await db.run('create or replace temp table risk_in_dates as select date, date_index from align_valuation_dates');
+  await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities');
+  await db.run(`create or replace temp table risk_in_securities as
+    select security_id, (row_number() over (order by security_id) - 1)::integer as k
+    from (select security_id from risk_in_returns union select security_id from clean_positions)`);
+  const dateRows = await readColumns(db, 'select date::varchar, date_index from risk_in_dates order by date_index', undefined, {
+    date: 'text',
+    date_index: 'int',
+  });
+  const { date_index } = dateRows.columns;
+  for (let d = 0; d < dateRows.rows; d++) {
+    if (date_index[d] !== d + 1) throw new Error(`align_valuation_dates: date_index ${date_index[d]} at position ${d + 1}`);
+  }
+  const dates = dateRows.columns.date as string[];
+  const ids = await readColumns(
+    db,
+    `select security_id, security_id like 'CASH:%' from risk_in_securities order by k`,
+    undefined,
+    { security_id: 'text', is_cash: 'bool' },
+  );
+  const securityIds = ids.columns.security_id as string[];
+  const isCash = ids.columns.is_cash;
+  const t = dates.length;
+  const n = securityIds.length;
+  const returns = new Float64Array(t * n).fill(Number.NaN);
+  const raw = await readColumns(
+    db,
+    `select s.k, r.date_index, r.log_return::double
+     from risk_in_returns r join risk_in_securities s using (security_id)
+     join risk_in_dates d using (date_index)`,
+    undefined,
+    { k: 'int', date_index: 'int', log_return: 'double' },
+  );
+  for (let i = 0; i < raw.rows; i++) returns[(raw.columns.date_index[i] - 1) * n + raw.columns.k[i]] = raw.columns.log_return[i];
+  const returnsBySecurity = new Float64Array(n * t);
+  const runLength = new Int32Array(t * n);
+  for (let d = 0; d < t; d++) {
+    for (let j = 0; j < n; j++) {
+      const r = returns[d * n + j];
+      returnsBySecurity[j * t + d] = r;
+      runLength[d * n + j] = Number.isFinite(r) ? (d > 0 ? runLength[(d - 1) * n + j] : 0) + 1 : 0;
+    }
+  }
+  return { dates, securityIds, isCash, returns, returnsBySecurity, runLength };
+}
+
+/** The portfolios in scope (null: every portfolio with a position), sorted by id. */
+export async function readPortfolioPanel(
+  db: Database,
+  dateCount: number,
+  firstRow: number,
+  portfolios: readonly string[] | null,
+): Promise<PortfolioPanel> {
+  const scope = portfolios === null ? '' : 'where list_contains($1, portfolio_id)';
+  const scopeParams = portfolios === null ? undefined : [listValue([...portfolios])];
+  await db.run(
+    `create or replace temp table risk_in_portfolios as
+     select portfolio_id, (row_number() over (order by portfolio_id) - 1)::integer as k
+     from (select distinct portfolio_id from clean_positions ${scope})`,
+    scopeParams,
+  );
+  const idRows = await readColumns(db, 'select portfolio_id from risk_in_portfolios order by k', undefined, { portfolio_id: 'text' });
+  const ids = idRows.columns.portfolio_id as string[];
+  const slots = ids.length * dateCount;
+  const present = new Uint8Array(slots);
+  const value = new Float64Array(slots).fill(Number.NaN);
+  const unpriced = new Uint8Array(slots);
+  const stale = new Uint8Array(slots);
+  const logReturn = new Float64Array(slots).fill(Number.NaN);
+
+  const totals = await readColumns(
+    db,
+    `select p.k, v.date_index, v.value_base::double, v.n_unpriced, v.n_stale > 0
+     from value_portfolios v join risk_in_portfolios p using (portfolio_id)
+     where v.date_index > $1`,
+    [firstRow],
+    { k: 'int', date_index: 'int', value_base: 'double', n_unpriced: 'int', any_stale: 'bool' },
+  );
+  for (let i = 0; i < totals.rows; i++) {
+    const s = totals.columns.k[i] * dateCount + totals.columns.date_index[i] - 1;
+    present[s] = 1;
+    value[s] = totals.columns.value_base[i];
+    unpriced[s] = totals.columns.n_unpriced[i] > 0 || Number.isNaN(totals.columns.value_base[i]) ? 1 : 0;
+    stale[s] = totals.columns.any_stale[i];
+  }
+  const returns = await readColumns(
+    db,
+    `select p.k, r.date_index, r.log_return::double
+     from ret_portfolios r join risk_in_portfolios p using (portfolio_id)
+     where r.date_index > $1`,
+    [firstRow],
+    { k: 'int', date_index: 'int', log_return: 'double' },
+  );
+  for (let i = 0; i < returns.rows; i++) {
+    logReturn[returns.columns.k[i] * dateCount + returns.columns.date_index[i] - 1] = returns.columns.log_return[i];
+  }
+
+  // sorted by slot then security, so the sums over a portfolio's holdings run in the
+  // same order in every run (full or incremental)
+  const holdings = await readColumns(
+    db,
+    `select p.k, w.date_index, s.k as j, w.weight::double
+     from value_weights w
+     join risk_in_portfolios p using (portfolio_id)
+     join risk_in_securities s using (security_id)
+     where w.date_index > $1
+     order by p.k, w.date_index, j`,
+    [firstRow],
+    { k: 'int', date_index: 'int', j: 'int', weight: 'double' },
+  );
+  const offsets = new Int32Array(slots + 1);
+  for (let i = 0; i < holdings.rows; i++) offsets[holdings.columns.k[i] * dateCount + holdings.columns.date_index[i]]++;
+  for (let s = 0; s < slots; s++) offsets[s + 1] += offsets[s];
+  return {
+    ids,
+    firstRow,
+    present,
+    value,
+    unpriced,
+    stale,
+    logReturn,
+    offsets,
+    security: holdings.columns.j,
+    weight: holdings.columns.weight,
+  };
+}

@@ -1,0 +1,147 @@
+import { annualizedVolatility } from './math/annualize.ts';
+import { diversificationRatio, eulerContributions } from './math/contributions.ts';
+import { parametricES, parametricVaR } from './math/loss.ts';
+
+/**
+ * One portfolio on one date under one covariance estimate: which holdings have a full
+ * history (coverage), why a figure is missing (status), and, when enough is covered,
+ * the ex-ante volatility, its Euler contributions, the diversification ratio and the
+ * normal VaR / ES. The caller supplies the estimate's products, so the same code serves
+ * the rolling sample windows and the EWMA.
+ */
+
+/** The weight vector a row is computed from (current weights, or a window average). */
+export interface Exposure {
+  /** Every holding (security index and weight), cash and uncovered ones included. */
+  j: Int32Array;
+  w: Float64Array;
+  /** By security index (not by holding): 1 for a cash balance. */
+  isCash: Uint8Array;
+}
+
+export interface CovarianceView {
+  /** True when security j has the history the estimate needs at this date. */
+  covered(j: number): boolean;
+  /** Daily variance S_jj of a covered security. */
+  variance(j: number): number;
+  /** S[idx, idx] w (daily), for covered securities only. */
+  product(idx: Int32Array, w: Float64Array): Float64Array;
+}
+
+export interface RiskSettings {
+  periodsPerYear: number;
+  minCoverage: number;
+}
+
+export interface RowFigures {
+  volExAnte: number;
+  var99_1d: number;
+  es975_1d: number;
+  var99_10d: number;
+  es975_10d: number;
+  diversification: number;
+  coverage: number;
+  status: string;
+  nHoldings: number;
+  nCovered: number;
+  /** Per holding of the exposure (same order): NaN for an uncovered one; cash 0. */
+  contributions: { mcr: Float64Array; ccr: Float64Array; pct: Float64Array } | null;
+}
+
+export interface SlotFlags {
+  /** Portfolio value in base currency, NaN when unknown. */
+  value: number;
+  unpriced: boolean;
+  stale: boolean;
+}
+
+const NOTHING = Number.NaN;
+
+/**
+ * coverage = (|cash| + sum |w_i| over covered securities) / sum |w_i| over all holdings:
+ * the share of the gross value (absolute values, so a short counts as exposure, not as
+ * an offset) that has a full history.
+ */
+export function assessRow(exposure: Exposure, flags: SlotFlags, cov: CovarianceView, settings: RiskSettings): RowFigures {
+  const n = exposure.j.length;
+  let gross = 0;
+  let coveredGross = 0;
+  let nHoldings = 0;
+  const coveredAt: number[] = [];
+  for (let a = 0; a < n; a++) {
+    const abs = Math.abs(exposure.w[a]);
+    gross += abs;
+    if (exposure.isCash[exposure.j[a]] === 1) {
+      coveredGross += abs;
+      continue;
+    }
+    nHoldings++;
+    if (cov.covered(exposure.j[a])) {
+      coveredGross += abs;
+      coveredAt.push(a);
+    }
+  }
+  const priced = !flags.unpriced && Number.isFinite(flags.value) && flags.value !== 0 && Number.isFinite(gross);
+  const coverage = priced && gross > 0 ? coveredGross / gross : NOTHING;
+  const reasons: string[] = [];
+  if (!priced) reasons.push(flags.unpriced || !Number.isFinite(flags.value) ? 'unpriced' : 'zero_value');
+  else if (coverage < settings.minCoverage) reasons.push('insufficient_history');
+  else if (coverage < 1) reasons.push('partial_history');
+  if (flags.stale) reasons.push('stale_prices');
+  const status = reasons.length === 0 ? 'ok' : reasons.join(',');
+  const empty: RowFigures = {
+    volExAnte: NOTHING,
+    var99_1d: NOTHING,
+    es975_1d: NOTHING,
+    var99_10d: NOTHING,
+    es975_10d: NOTHING,
+    diversification: NOTHING,
+    coverage,
+    status,
+    nHoldings,
+    nCovered: coveredAt.length,
+    contributions: null,
+  };
+  if (!priced || !(coverage >= settings.minCoverage)) return empty;
+
+  const idx = new Int32Array(coveredAt.length);
+  const w = new Float64Array(coveredAt.length);
+  const vols = new Float64Array(coveredAt.length);
+  coveredAt.forEach((a, b) => {
+    idx[b] = exposure.j[a];
+    w[b] = exposure.w[a];
+    vols[b] = annualizedVolatility(cov.variance(idx[b]), settings.periodsPerYear);
+  });
+  // an all-cash portfolio (or one whose covered part is empty) has no risk: vol 0
+  const sw = idx.length > 0 ? cov.product(idx, w) : new Float64Array(0);
+  const euler = eulerContributions(sw, w, settings.periodsPerYear);
+  const loss = (horizonDays: number, level: number, estimate: typeof parametricVaR) =>
+    estimate({ volAnnual: euler.vol, periodsPerYear: settings.periodsPerYear, horizonDays, level, value: flags.value });
+
+  const mcr = new Float64Array(n).fill(NOTHING);
+  const ccr = new Float64Array(n).fill(NOTHING);
+  const pct = new Float64Array(n).fill(NOTHING);
+  for (let a = 0; a < n; a++) {
+    if (exposure.isCash[exposure.j[a]] === 1) {
+      // zero covariance with everything: adds no risk at the margin
+      mcr[a] = 0;
+      ccr[a] = 0;
+      pct[a] = euler.vol > 0 ? 0 : NOTHING;
+    }
+  }
+  coveredAt.forEach((a, b) => {
+    mcr[a] = euler.mcr[b];
+    ccr[a] = euler.ccr[b];
+    pct[a] = euler.pct[b];
+  });
+  return {
+    ...empty,
+    volExAnte: euler.vol,
+    var99_1d: loss(1, 0.99, parametricVaR),
+    es975_1d: loss(1, 0.975, parametricES),
+    var99_10d: loss(10, 0.99, parametricVaR),
+    es975_10d: loss(10, 0.975, parametricES),
+    diversification: diversificationRatio(w, vols, euler.vol),
+    contributions: { mcr, ccr, pct },
+  };
+}

@@ -1,0 +1,120 @@
+import { annualizedReturn, annualizedVolatility } from './math/annualize.ts';
+import { covarianceTimesWeightsAt } from './math/covariance.ts';
+import { mean, sampleVariance } from './math/moments.ts';
+import { SlidingCovariance } from './math/slidingCovariance.ts';
+import type { ReturnPanel } from './inputs.ts';
+import type { CovarianceView } from './portfolioRow.ts';
+
+/**
+ * The rolling `sample` estimate over a window of W returns, advanced one date at a
+ * time. Two ways to get S w, picked by cost (`chooseSamplePath`):
+ * - 'window': S w = X'(X w) / (W - 1) on the window's return rows, per portfolio, in
+ *   O(W n_p), never forming S (cheap for short windows);
+ * - 'sliding': one SlidingCovariance over all securities, O(N^2) per date shared by all
+ *   portfolios, then S[idx, idx] w per portfolio in O(n_p^2) (cheap for long windows).
+ * Per-security means and variances always come from the exact two-pass formulas on
+ * the security's contiguous series, so security_stats do not depend on the path.
+ */
+
+export type SamplePath = 'window' | 'sliding';
+
+/** Exact two-pass refresh of the sliding state every this many dates (counted from date row 0). */
+export const SLIDING_REFRESH = 256;
+
+export interface PathCostInputs {
+  window: number;
+  /** Securities with at least one return (the sliding matrix's live columns). */
+  securities: number;
+  /** Per output date, summed over portfolios: non-cash holdings n_p, and n_p^2. */
+  holdingsPerDate: number;
+  holdingsSquaredPerDate: number;
+  outputDates: number;
+  /** Dates the sliding state must be fed before the first output date. */
+  warmupDates: number;
+}
+
+/** Multiply-adds of each path over the run; the sliding one pays for its warm-up too. */
+export function chooseSamplePath(c: PathCostInputs): SamplePath {
+  const sliding = (c.outputDates + c.warmupDates) * c.securities * c.securities + c.outputDates * c.holdingsSquaredPerDate;
+  const window = c.outputDates * 3 * c.window * c.holdingsPerDate;
+  return sliding < window ? 'sliding' : 'window';
+}
+
+/**
+ * First date row the sliding state must be fed from so that, at `fromRow`, it has gone
+ * through the same exact refresh as a run from row 0: refreshes happen after rows
+ * r with (r + 1) % SLIDING_REFRESH == 0, and a refresh with a full window makes the
+ * state a function of the window's rows alone. So incremental and full runs agree bit
+ * for bit from there on.
+ */
+export function slidingStartRow(fromRow: number, window: number): number {
+  const refreshRow = Math.floor((fromRow + 1) / SLIDING_REFRESH) * SLIDING_REFRESH - 1;
+  const start = Math.floor((refreshRow - window + 1) / SLIDING_REFRESH) * SLIDING_REFRESH;
+  return Math.max(0, start);
+}
+
+export class SampleEstimate implements CovarianceView {
+  readonly estimator = 'sample';
+  readonly startRow: number;
+  private readonly n: number;
+  private readonly t: number;
+  private readonly sliding: SlidingCovariance | null;
+  private readonly means: Float64Array;
+  private readonly variances: Float64Array;
+  private row = -1;
+
+  constructor(
+    private readonly panel: ReturnPanel,
+    readonly windowDays: number,
+    readonly path: SamplePath,
+    fromRow: number,
+  ) {
+    this.n = panel.securityIds.length;
+    this.t = panel.dates.length;
+    this.sliding = path === 'sliding' && this.n > 0 ? new SlidingCovariance(this.n, windowDays, SLIDING_REFRESH) : null;
+    this.startRow = this.sliding ? slidingStartRow(fromRow, windowDays) : fromRow;
+    this.means = new Float64Array(this.n);
+    this.variances = new Float64Array(this.n);
+  }
+
+  /** Feeds date row d (rows in increasing order from `startRow`); `output` also computes the per-security moments. */
+  advance(d: number, output: boolean): void {
+    if (d !== this.row + 1 && this.row !== -1) throw new Error(`SampleEstimate: advanced to row ${d} after ${this.row}`);
+    this.row = d;
+    const { n, t, panel, windowDays } = this;
+    this.sliding?.push(panel.returns.subarray(d * n, (d + 1) * n));
+    if (!output) return;
+    for (let j = 0; j < n; j++) {
+      if (panel.runLength[d * n + j] >= windowDays) {
+        const series = panel.returnsBySecurity.subarray(j * t + d - windowDays + 1, j * t + d + 1);
+        this.means[j] = mean(series);
+        this.variances[j] = sampleVariance(series);
+      } else {
+        this.means[j] = Number.NaN;
+        this.variances[j] = Number.NaN;
+      }
+    }
+  }
+
+  covered(j: number): boolean {
+    return this.panel.runLength[this.row * this.n + j] >= this.windowDays;
+  }
+
+  variance(j: number): number {
+    return this.variances[j];
+  }
+
+  product(idx: Int32Array, w: Float64Array): Float64Array {
+    if (this.sliding) return this.sliding.subMatrixVector(idx, w);
+    return covarianceTimesWeightsAt(this.panel.returns, this.row - this.windowDays + 1, this.windowDays, this.n, idx, w).sw;
+  }
+
+  /** security_stats of the current date: every security with a full window. */
+  forEachSecurity(emit: (j: number, annReturn: number, annVol: number) => void, periodsPerYear: number): void {
+    for (let j = 0; j < this.n; j++) {
+      if (!Number.isNaN(this.variances[j])) {
+        emit(j, annualizedReturn(this.means[j], periodsPerYear), annualizedVolatility(this.variances[j], periodsPerYear));
+      }
+    }
+  }
+}
