@@ -1,38 +1,23 @@
 import cron, { type ScheduledTask, type TaskContext } from 'node-cron';
 import type { Logger } from 'pino';
-import { deliverAlerts } from '../alerts/deliverAlerts.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
-import type { Database } from '../storage/database.ts';
+import type { ScheduleHost } from '../watch/runWorker.ts';
 import { checkMissingData, checkpointDatabase } from './jobs.ts';
-
-export interface ScheduleDeps {
-  db: Database;
-  config: Config;
-  log: Logger;
-  /** Runs a job on the worker's serial queue; jobs that write to the database go there. */
-  enqueue: (name: string, job: () => Promise<void>) => Promise<void>;
-  /**
-   * Starts a delivery of due alerts without waiting for it. Delivery runs beside the
-   * queue (its own connection, its own serial lane), so a slow webhook never holds up
-   * ingest. Default: deliverAlerts, a fault logged.
-   */
-  deliver?: () => void;
-}
 
 /**
  * Starts the cron jobs in config.schedule.timezone: the missing-data check, the retry
  * of undelivered alerts, the nightly checkpoint. The job bodies are plain functions of
- * (db, config, log, now) in ./jobs.ts; here they are only timed and queued.
+ * (db, config, log, now) in ./jobs.ts; here they are only timed and handed to the
+ * worker: jobs that write run through `host.exclusive` (the worker's serial queue,
+ * between batches); delivery goes through `host.deliverNow`, beside the queue, so a
+ * slow webhook never holds up ingest.
  */
-export function startSchedules(deps: ScheduleDeps): { stop(): void } {
-  const { db, config } = deps;
-  const log = deps.log.child({ stage: 'schedule' });
+export function startSchedules(host: ScheduleHost): { stop(): void } {
+  const { config } = host;
+  const log = host.log.child({ stage: 'schedule' });
   const { timezone, missingData, retryAlerts, checkpoint } = config.schedule;
   checkSchedule(config);
-  const deliver =
-    deps.deliver ??
-    (() => void deliverAlerts(db, config, log).catch((err: unknown) => log.error({ err }, 'alert delivery failed')));
 
   const every = (name: string, expression: string, body: (now: Date) => Promise<void>): ScheduledTask =>
     cron.schedule(
@@ -49,11 +34,11 @@ export function startSchedules(deps: ScheduleDeps): { stop(): void } {
 
   const tasks = [
     every('missing-data', missingData.cron, async (now) => {
-      await deps.enqueue('missing-data', async () => void (await checkMissingData(db, config, log, now)));
-      deliver();
+      await host.exclusive((db) => checkMissingData(db, config, log, now));
+      host.deliverNow();
     }),
-    every('retry-alerts', retryAlerts, async () => deliver()),
-    every('checkpoint', checkpoint, (now) => deps.enqueue('checkpoint', () => checkpointDatabase(db, config, log, now))),
+    every('retry-alerts', retryAlerts, async () => host.deliverNow()),
+    every('checkpoint', checkpoint, (now) => host.exclusive((db) => checkpointDatabase(db, config, log, now))),
   ];
   log.info({ timezone, jobs: tasks.map((t) => t.name) }, 'schedules started');
   return {
