@@ -1,9 +1,19 @@
 import type { Command } from 'commander';
+import { loadConfig } from '../../config/load.ts';
+import { writeReport } from '../../report/writeReport.ts';
 import { withConfigOption } from '../context.ts';
 
-// PLACEHOLDER: replaced by the stage that owns this command.
 export function registerReport(program: Command): void {
-  withConfigOption(program.command('report').description('(not built yet)')).action(() => {
-    throw new Error('report is not built yet');
+  withConfigOption(
+    program
+      .command('report')
+      .description('writes a self-contained HTML page of one portfolio\'s risk: charts, limit episodes, data quality')
+      .requiredOption('--portfolio <id>', 'portfolio id, as in the positions files')
+      .option('--out <file>', 'output file (default: report-<portfolio>-<as of date>.html in the current folder)'),
+  ).action(async (opts: { config: string; portfolio: string; out?: string }) => {
+    const config = loadConfig(opts.config);
+    const written = await writeReport(config, { portfolio: opts.portfolio, out: opts.out });
+    const note = written.source === 'read_copy' ? ' (from the worker\'s published read copy)' : '';
+    process.stdout.write(`report of ${opts.portfolio} as of ${written.asOf} written to ${written.file}${note}\n`);
   });
 }

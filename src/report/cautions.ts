@@ -1,0 +1,7 @@
+/** The cautions the report and the demo print (SPEC section 8), in one place so they cannot drift apart. */
+export const CAUTIONS: readonly string[] = [
+  'These figures are estimates from historical prices: they describe how the holdings moved, not how they will move.',
+  'Nothing here is investment advice or a recommendation to buy, sell or hold.',
+  'Parametric VaR and expected shortfall assume normally distributed returns; real returns have fatter tails, so losses beyond these figures are more frequent than the model says.',
+  "Check every figure against the firm's official risk process and the rules that apply to it before acting on it.",
+];

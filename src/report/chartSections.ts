@@ -1,0 +1,119 @@
+import { barChart } from './charts/barChart.ts';
+import { correlationColor, heatmap } from './charts/heatmap.ts';
+import { legend, lineChart, type DateBand, type LineSeries, type ReferenceLine } from './charts/lineChart.ts';
+import { escapeHtml, formatPercent } from './format.ts';
+import type { ReportData } from './reportData.ts';
+import { PALETTE } from './style.ts';
+
+const pct1 = (v: number) => formatPercent(v, 1);
+
+function section(title: string, lede: string, body: string, extraClass = ''): string {
+  return `<section class="${extraClass}"><h2>${escapeHtml(title)}</h2><p class="lede">${lede}</p>${body}</section>`;
+}
+
+/** Limit and warning lines of the volatility limits that apply (only those drawn on a chart of vol_ex_ante). */
+function limitLines(data: ReportData): ReferenceLine[] {
+  const limits = data.limits.filter((l) => l.metric === 'vol_ex_ante');
+  const many = limits.length > 1;
+  return limits.flatMap((l) => {
+    const tag = many ? ` ${l.estimator === 'ewma' ? 'EWMA' : `${l.window}d`}` : '';
+    return [
+      { label: `limit${tag} ${pct1(l.limit)}`, value: l.limit, color: PALETTE.limit },
+      { label: `warning${tag} ${pct1(l.warning)}`, value: l.warning, color: PALETTE.warning, dashed: true },
+    ];
+  });
+}
+
+function episodeBands(data: ReportData, metric: string): DateBand[] {
+  return data.breaches
+    .filter((b) => b.metric === metric && !b.retracted)
+    .map((b) => ({
+      from: b.opened_on,
+      to: b.closed_on ?? data.asOf,
+      label: `${b.level} episode ${b.opened_on} to ${b.closed_on ?? 'open'}`,
+      color: b.level === 'breach' ? PALETTE.breachBand : PALETTE.warningBand,
+    }));
+}
+
+function seriesOf(data: ReportData, estimator: 'sample' | 'ewma', window: number, field: 'vol_ex_ante' | 'vol_realized') {
+  return data.series
+    .filter((p) => p.estimator === estimator && p.window_days === window)
+    .map((p) => ({ date: p.date, value: p[field] }));
+}
+
+export function volatilitySection(data: ReportData): string {
+  const series: LineSeries[] = data.windows.map((w, i) => ({
+    label: `${w}-day`,
+    color: PALETTE.windows[i % PALETTE.windows.length],
+    points: seriesOf(data, 'sample', w, 'vol_ex_ante'),
+  }));
+  const ewma = seriesOf(data, 'ewma', 0, 'vol_ex_ante');
+  if (ewma.length) series.push({ label: 'EWMA', color: PALETTE.ewma, points: ewma, dashed: true });
+  const references = limitLines(data);
+  const bands = episodeBands(data, 'vol_ex_ante');
+  const chart = lineChart({ id: 'vol-ex-ante', title: 'Ex-ante volatility by window', series, references, bands, formatValue: pct1 });
+  const key = legend([
+    ...series.map((s) => ({ label: s.label, color: s.color, kind: s.dashed ? ('dashed' as const) : ('line' as const) })),
+    ...references.map((r) => ({ label: r.label, color: r.color, kind: r.dashed ? ('dashed' as const) : ('line' as const) })),
+    ...bands
+      .filter((b, i) => bands.findIndex((o) => o.color === b.color) === i)
+      .map((b) => ({ label: b.color === PALETTE.breachBand ? 'breach episode' : 'warning episode', color: b.color, kind: 'band' as const })),
+  ]);
+  return section(
+    'Ex-ante volatility by window',
+    'Annualized volatility from each window\'s covariance of daily log returns and the day\'s weights, against the mandate limit. Shaded: limit episodes, from the day one opened to the day it closed.',
+    chart + key,
+  );
+}
+
+export function realizedSection(data: ReportData): string {
+  const w = data.focusWindow;
+  const series: LineSeries[] = [
+    { label: `ex-ante ${w}-day`, color: PALETTE.exAnte, points: seriesOf(data, 'sample', w, 'vol_ex_ante') },
+    { label: `realized ${w}-day`, color: PALETTE.realized, points: seriesOf(data, 'sample', w, 'vol_realized') },
+  ];
+  const chart = lineChart({ id: 'vol-realized', title: `Realized against ex-ante volatility, ${w}-day`, series, formatValue: pct1, height: 220 });
+  return section(
+    `Realized against ex-ante, ${w}-day`,
+    'Ex-ante uses today\'s weights on the window\'s covariance; realized is the standard deviation of the portfolio\'s own daily returns over the same window. A wide gap means the holdings changed or correlations moved.',
+    chart + legend(series.map((s) => ({ label: s.label, color: s.color, kind: 'line' as const }))),
+  );
+}
+
+export function contributionsSection(data: ReportData): string {
+  const { rows, date } = data.contributions;
+  const bars = rows
+    .filter((r) => r.pct !== null)
+    .map((r) => ({ label: r.name ?? r.security_id, detail: `(weight ${formatPercent(r.weight, 1)})`, value: r.pct as number }));
+  const chart = barChart({
+    id: 'contributions',
+    title: 'Contribution to risk by holding',
+    bars,
+    formatValue: pct1,
+    color: PALETTE.barUp,
+    negativeColor: PALETTE.barDown,
+  });
+  return section(
+    'What drives the risk',
+    `Share of the ${data.focusWindow}-day ex-ante volatility contributed by each holding on ${escapeHtml(date ?? 'n/a')} (Euler allocation: the shares add up to 100%; a negative share lowers the total).`,
+    chart,
+    'page-start',
+  );
+}
+
+export function correlationSection(data: ReportData): string {
+  const c = data.correlation;
+  if ('error' in c) {
+    return section('How the largest holdings move together', `No correlation matrix: ${escapeHtml(c.error)}.`, '');
+  }
+  // ids, not names, label the grid: they are short enough for rotated column labels
+  const chart = heatmap({ id: 'correlation', title: 'Correlation of the largest holdings', labels: c.ids, values: c.values });
+  const key = legend(
+    [-1, -0.5, 0, 0.5, 1].map((v) => ({ label: v > 0 ? `+${v}` : String(v), color: correlationColor(v), kind: 'band' as const })),
+  );
+  return section(
+    'How the largest holdings move together',
+    `Correlation of daily log returns (base currency) of the ${c.ids.length} largest holdings by weight on ${escapeHtml(data.asOf)}, over the latest ${c.window} valuation dates (${c.observations} with a return for every one of them).`,
+    chart + key,
+  );
+}

@@ -1,0 +1,101 @@
+import { copyFileSync, statSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { pathToFileURL } from 'node:url';
+import { chromium, type Browser } from 'playwright-core';
+import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
+import { reportHtml } from '../../src/report/writeReport.ts';
+import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
+import { FIXTURE_CONFIG, FIXTURE_PORTFOLIO, FIXTURE_SECURITIES, fillReportFixture } from './fixture.ts';
+
+// Debian's chromium (CI installs it with apt); playwright drives it, it downloads nothing.
+const CHROMIUM = '/usr/bin/chromium';
+const CHROMIUM_ARGS = [
+  '--headless',
+  '--no-sandbox',
+  '--disable-gpu',
+  '--disable-quic',
+  '--no-first-run',
+  '--disable-background-networking',
+  '--disable-component-update',
+  '--disable-sync',
+];
+
+interface ChartGeometry {
+  id: string;
+  width: number;
+  height: number;
+  polylines: number[];
+  bars: { width: number; height: number }[];
+  bands: { width: number; height: number }[];
+  cells: { width: number; height: number; fill: string }[];
+}
+
+describe('the report in a real browser', () => {
+  let browser: Browser;
+  let ws: TempWorkspace | undefined;
+  beforeAll(async () => {
+    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+  });
+  afterAll(async () => browser?.close());
+  afterEach(() => ws?.cleanup());
+
+  it('draws every chart with data, loads nothing from outside, and prints on white over several pages', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    await fillReportFixture(ws.db);
+    const { html } = await reportHtml(ws.db, ws.config, FIXTURE_PORTFOLIO, new Date('2026-12-01T12:00:00Z'));
+    const file = path.join(ws.dir, 'report.html');
+    writeFileSync(file, html);
+
+    const page = await browser.newPage({ viewport: { width: 1100, height: 900 } });
+    const requests: string[] = [];
+    page.on('request', (r) => requests.push(r.url()));
+    await page.goto(pathToFileURL(file).href);
+    const screenshot = path.join(ws.dir, 'report.png');
+    await page.screenshot({ path: screenshot, fullPage: true });
+    expect(statSync(screenshot).size).toBeGreaterThan(50_000);
+    // RISKFOLD_KEEP_SCREENSHOT=path keeps a copy for a person to look at
+    if (process.env.RISKFOLD_KEEP_SCREENSHOT) copyFileSync(screenshot, process.env.RISKFOLD_KEEP_SCREENSHOT);
+    expect(requests).toEqual([pathToFileURL(file).href]);
+
+    const charts = await page.evaluate(() => {
+      const box = (e: Element) => {
+        const r = e.getBoundingClientRect();
+        return { width: r.width, height: r.height };
+      };
+      return [...document.querySelectorAll('svg[data-chart]')].map((svg) => ({
+        id: svg.getAttribute('data-chart') ?? '',
+        ...box(svg),
+        polylines: [...svg.querySelectorAll('polyline')].map((p) => (p.getAttribute('points') ?? '').trim().split(/\s+/).length),
+        bars: [...svg.querySelectorAll('rect.bar')].map(box),
+        bands: [...svg.querySelectorAll('rect.band')].map(box),
+        cells: [...svg.querySelectorAll('rect.cell')].map((c) => ({ ...box(c), fill: getComputedStyle(c).fill })),
+      }));
+    });
+    const byId = new Map<string, ChartGeometry>(charts.map((c) => [c.id, c]));
+    expect([...byId.keys()]).toEqual(['vol-ex-ante', 'vol-realized', 'contributions', 'correlation']);
+    for (const c of charts) {
+      expect(c.width, c.id).toBeGreaterThan(300);
+      expect(c.height, c.id).toBeGreaterThan(100);
+    }
+    // three windows and EWMA over 320 dates: each line has hundreds of points
+    const volatility = byId.get('vol-ex-ante')!;
+    expect(volatility.polylines.length).toBeGreaterThanOrEqual(4);
+    expect(Math.min(...volatility.polylines)).toBeGreaterThan(60);
+    expect(volatility.bands).toHaveLength(1);
+    expect(volatility.bands[0].width).toBeGreaterThan(50);
+    expect(byId.get('vol-realized')!.polylines.filter((n) => n > 200)).toHaveLength(2);
+    const bars = byId.get('contributions')!.bars;
+    expect(bars).toHaveLength(FIXTURE_SECURITIES.length);
+    expect(bars.every((b) => b.width > 0 && b.height > 5)).toBe(true);
+    const cells = byId.get('correlation')!.cells;
+    expect(cells).toHaveLength(FIXTURE_SECURITIES.length ** 2);
+    expect(cells.every((c) => c.width > 20 && c.height > 20)).toBe(true);
+    expect(new Set(cells.map((c) => c.fill)).size).toBeGreaterThan(5);
+
+    await page.emulateMedia({ media: 'print' });
+    expect(await page.evaluate(() => getComputedStyle(document.body).backgroundColor)).toBe('rgb(255, 255, 255)');
+    const pdf = await page.pdf({ format: 'A4' });
+    expect(pdf.toString('latin1').match(/\/Type\s*\/Page\b/g)?.length ?? 0).toBeGreaterThanOrEqual(2);
+    await page.close();
+  });
+});

@@ -1,0 +1,131 @@
+import { execFile } from 'node:child_process';
+import { createHash } from 'node:crypto';
+import { existsSync, readFileSync } from 'node:fs';
+import path from 'node:path';
+import { promisify } from 'node:util';
+import { sampleCorrelation } from 'simple-statistics';
+import { afterEach, describe, expect, it } from 'vitest';
+import { RiskfoldError } from '../../src/errors.ts';
+import { CAUTIONS } from '../../src/report/cautions.ts';
+import { escapeHtml } from '../../src/report/format.ts';
+import { loadReportData } from '../../src/report/reportData.ts';
+import { renderReport } from '../../src/report/renderReport.ts';
+import { defaultReportName, writeReport } from '../../src/report/writeReport.ts';
+import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
+import { FIXTURE_CONFIG, FIXTURE_LIMIT, FIXTURE_PORTFOLIO, fillReportFixture } from './fixture.ts';
+
+const run = promisify(execFile);
+const CLI = path.resolve(import.meta.dirname, '../../bin/riskfold.js');
+
+describe('loadReportData', () => {
+  let ws: TempWorkspace | undefined;
+  afterEach(() => ws?.cleanup());
+
+  it('reads the latest date, the applicable limit, the contributions and the episode of the portfolio', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    const fixture = await fillReportFixture(ws.db);
+    const data = await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO);
+    expect(data.asOf).toBe(fixture.asOf);
+    expect(data.focusWindow).toBe(63);
+    expect(data.limits.map((l) => l.limit)).toEqual([FIXTURE_LIMIT]);
+    expect(data.contributions.date).toBe(fixture.asOf);
+    expect(data.contributions.rows.map((r) => r.pct)).toEqual([0.34, 0.29, 0.22, 0.17, -0.02]);
+    expect(data.contributions.rows[0].name).toBe('Brambleford Rail Holdings');
+    expect(data.breaches).toHaveLength(1);
+    expect(data.breaches[0]).toMatchObject({ level: 'breach', ...fixture.breach });
+    expect(data.latest.map((r) => `${r.estimator}:${r.window_days}`)).toEqual(['sample:21', 'sample:63', 'sample:252', 'ewma:0']);
+    expect(data.provenance.runId).toBe(7);
+    const configHash = createHash('sha256').update(readFileSync(ws.config.configPath)).digest('hex').slice(0, 12);
+    expect(data.provenance.configHash).toBe(configHash);
+  });
+
+  it('ranks the largest holdings by weight and correlates their last 63 base-currency log returns like simple-statistics does', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    const fixture = await fillReportFixture(ws.db);
+    const data = await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO);
+    if ('error' in data.correlation) throw new Error(data.correlation.error);
+    // independent of the views: value = quantity * price * fx straight from the raw tables
+    const valued = await ws.db.all<{ security_id: string }>(
+      `select p.security_id from positions p
+       join prices x on x.security_id = p.security_id and x.date = $1
+       left join fx_rates f on f.currency = x.currency and f.date = $1
+       where p.security_id not like 'CASH:%'
+       order by p.quantity * x.price * coalesce(f.rate, 1) desc`,
+      [fixture.asOf],
+    );
+    expect(data.correlation.ids).toEqual(valued.map((r) => r.security_id));
+    const baseLogReturns = async (id: string) => {
+      const rows = await ws!.db.all<{ v: number }>(
+        `select x.price * coalesce(f.rate, 1) as v from prices x
+         left join fx_rates f on f.currency = x.currency and f.date = x.date
+         where x.security_id = $1 order by x.date desc limit 64`,
+        [id],
+      );
+      const v = rows.map((r) => r.v).reverse();
+      return v.slice(1).map((p, i) => Math.log(p / v[i]));
+    };
+    const ids = data.correlation.ids;
+    const i = ids.indexOf('EQ-NORDWIND');
+    const j = ids.indexOf('EQ-VELLANCE');
+    expect(data.correlation.observations).toBe(63);
+    expect(data.correlation.values[i][j]).toBeCloseTo(sampleCorrelation(await baseLogReturns('EQ-NORDWIND'), await baseLogReturns('EQ-VELLANCE')), 10);
+  });
+
+  it('refuses an unknown portfolio and lists the known ones', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    await fillReportFixture(ws.db);
+    const err = await loadReportData(ws.db, ws.config, 'acct-nowhere').catch((e: unknown) => e);
+    expect(err).toBeInstanceOf(RiskfoldError);
+    expect((err as RiskfoldError).kind).toBe('not_found');
+    expect((err as Error).message).toMatch(/"acct-nowhere" is not in .* \(known: acct-growth\)/);
+  });
+});
+
+describe('renderReport', () => {
+  let ws: TempWorkspace | undefined;
+  afterEach(() => ws?.cleanup());
+
+  it('is one self-contained page: no script, no external stylesheet, image or font, and the cautions are in it', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    const fixture = await fillReportFixture(ws.db);
+    const html = renderReport(await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO), new Date('2026-12-01T12:00:00Z'));
+    expect(html).not.toMatch(/<script|<link|<img|<iframe|@import|url\(/i);
+    // the only URLs are the SVG namespace declarations
+    expect([...html.matchAll(/https?:\/\/[^\s"']+/g)].map((m) => m[0]).every((u) => u === 'http://www.w3.org/2000/svg')).toBe(true);
+    for (const caution of CAUTIONS) expect(html).toContain(escapeHtml(caution));
+    for (const chart of ['vol-ex-ante', 'vol-realized', 'contributions', 'correlation']) expect(html).toContain(`data-chart="${chart}"`);
+    expect(html).toContain(`<td>${fixture.breach.opened_on}</td>`);
+    expect(html).toContain('2026-12-01T12:00:00.000Z');
+  });
+});
+
+describe('writeReport and riskfold report', () => {
+  let ws: TempWorkspace | undefined;
+  afterEach(() => ws?.cleanup());
+
+  it('writes report-<portfolio>-<as of>.html into the current folder by default', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    const fixture = await fillReportFixture(ws.db);
+    ws.db.close();
+    const written = await writeReport(ws.config, { portfolio: FIXTURE_PORTFOLIO, cwd: ws.dir });
+    expect(written.file).toBe(path.join(ws.dir, `report-acct-growth-${fixture.asOf}.html`));
+    expect(readFileSync(written.file, 'utf8')).toContain('<h1>acct-growth</h1>');
+    expect(defaultReportName('a/b c', '2026-01-02')).toBe('report-a_b_c-2026-01-02.html');
+  });
+
+  it('runs from the command line: a file with --out, and a one-line reason and non-zero exit for an unknown portfolio', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    await fillReportFixture(ws.db);
+    ws.db.close();
+    const out = path.join(ws.dir, 'growth.html');
+    const ok = await run(process.execPath, [CLI, 'report', '--config', ws.config.configPath, '--portfolio', FIXTURE_PORTFOLIO, '--out', out]);
+    expect(ok.stdout).toContain(`written to ${out}`);
+    expect(existsSync(out)).toBe(true);
+    const failed = await run(process.execPath, [CLI, 'report', '--config', ws.config.configPath, '--portfolio', 'acct-nowhere']).catch(
+      (e: { code: number; stderr: string }) => e,
+    );
+    expect('code' in failed && failed.code).toBe(1);
+    expect(failed.stderr.trim().split('\n')).toHaveLength(1);
+    expect(failed.stderr).toContain('known: acct-growth');
+  });
+});
