@@ -67,7 +67,7 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
     const summary = checked.value;
     const dir = archiveDir(config.archive, receivedAt);
     const planned = freePath(dir, name);
-    const fileId = await loadStage(db, layoutOf(source!.kind), source!, {
+    const fileId = await loadStage(db, layoutOf(source!.kind), {
       ...base, rows: summary.rows, status: 'ingested', error: null, archivedPath: planned,
       minDate: summary.minDate, maxDate: summary.maxDate, duplicateOf: null,
     });

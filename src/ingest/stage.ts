@@ -2,7 +2,7 @@ import type { SourceConfig } from '../config/schema.ts';
 import type { Rejection, Result } from '../errors.ts';
 import { sqlString, type Database } from '../storage/database.ts';
 import { HeaderTooLong, mapColumns, readHeaderLine, splitHeader, type ColumnMapping } from './header.ts';
-import type { KindLayout } from './layout.ts';
+import type { FieldSpec, FieldType, KindLayout } from './layout.ts';
 
 /** The connection-local table one file is staged in; the worker ingests one file at a time. */
 export const STAGE_TABLE = 'ingest_stage';
@@ -12,10 +12,28 @@ export function ident(name: string): string {
   return `"${name.replaceAll('"', '""')}"`;
 }
 
+/** Types whose staged column is parsed; the text as delivered stays beside it for the error messages. */
+const PARSED: ReadonlySet<FieldType> = new Set(['date', 'positive', 'finite']);
+
+/** The staged column holding a field's text as delivered. */
+export function textColumn(field: FieldSpec): string {
+  return PARSED.has(field.type) ? `${field.name}_text` : field.name;
+}
+
+/** The field parsed from its text column, null where the text does not parse. */
+function parsedSql(field: FieldSpec, source: SourceConfig): string {
+  const col = ident(field.name);
+  if (field.type === 'date') return `try_strptime(${col}, ${sqlString(source.dateFormat)})::date`;
+  // decimal comma: "1.234,56" -> "1234.56"
+  const text = source.decimal === ',' ? `replace(replace(${col}, '.', ''), ',', '.')` : col;
+  return `try_cast(${text} as double)`;
+}
+
 /**
- * Reads the file into STAGE_TABLE: one varchar column per canonical field (optional
- * fields absent from the header are null), ids and codes trimmed. Row numbers are the
- * table's rowid + 1: CREATE TABLE AS keeps the file's order.
+ * Reads the file into STAGE_TABLE in one scan: per canonical field a column named after
+ * it, typed (date, double) or, for ids and codes, trimmed text; parsed fields keep their
+ * text in `<name>_text`. Optional fields absent from the header are null. Row numbers
+ * are the table's rowid + 1: CREATE TABLE AS keeps the file's order.
  */
 export async function stageFile(
   db: Database,
@@ -39,10 +57,11 @@ export async function stageFile(
   const mapped = mapColumns(splitHeader(line, source.delimiter), source, layout, name);
   if (!mapped.ok) return mapped;
 
-  const select = layout.fields.map((f) => {
-    const present = mapped.value.includes(f.name);
-    if (!present) return `null::varchar as ${ident(f.name)}`;
-    return f.type === 'id' || f.type === 'currency' ? `trim(${ident(f.name)}) as ${ident(f.name)}` : ident(f.name);
+  const select = layout.fields.flatMap((f) => {
+    const col = ident(f.name);
+    if (!mapped.value.includes(f.name)) return [`null::varchar as ${col}`];
+    if (PARSED.has(f.type)) return [`${parsedSql(f, source)} as ${col}`, `${col} as ${ident(textColumn(f))}`];
+    return [f.type === 'text' ? col : `trim(${col}) as ${col}`];
   });
   try {
     await db.run(`create or replace temp table ${STAGE_TABLE} as select ${select.join(', ')} from ${readCsvSql(filePath, source, mapped.value)}`);

@@ -1,8 +1,8 @@
 import type { SourceConfig } from '../config/schema.ts';
 import type { Rejection, Result } from '../errors.ts';
-import { sqlString, type Database } from '../storage/database.ts';
+import type { Database } from '../storage/database.ts';
 import type { FieldSpec, KindLayout } from './layout.ts';
-import { STAGE_TABLE, ident } from './stage.ts';
+import { STAGE_TABLE, ident, textColumn } from './stage.ts';
 
 export interface StageSummary {
   rows: number;
@@ -14,34 +14,16 @@ export interface StageSummary {
 
 const CURRENCY_CODE = `'[A-Z]{3}'`;
 
-/** The typed value of a staged column, null where the text does not parse. */
-export function typedSql(field: FieldSpec, source: SourceConfig): string {
-  const col = ident(field.name);
-  switch (field.type) {
-    case 'date':
-      return `try_strptime(${col}, ${sqlString(source.dateFormat)})::date`;
-    case 'positive':
-    case 'finite': {
-      // decimal comma: "1.234,56" -> "1234.56"
-      const text = source.decimal === ',' ? `replace(replace(${col}, '.', ''), ',', '.')` : col;
-      return `try_cast(${text} as double)`;
-    }
-    default:
-      return col;
-  }
-}
-
 /** True for a row whose value breaks the field's rule; null for a field without one. */
-function badSql(field: FieldSpec, source: SourceConfig): string | null {
+function badSql(field: FieldSpec): string | null {
   const col = ident(field.name);
-  const typed = typedSql(field, source);
   switch (field.type) {
     case 'date':
-      return `${typed} is null`;
+      return `${col} is null`;
     case 'positive':
-      return `not coalesce(isfinite(${typed}) and ${typed} > 0, false)`;
+      return `not coalesce(isfinite(${col}) and ${col} > 0, false)`;
     case 'finite':
-      return `not coalesce(isfinite(${typed}), false)`;
+      return `not coalesce(isfinite(${col}), false)`;
     case 'id':
       return `${col} is null or ${col} = '' or (starts_with(${col}, 'CASH:') and not regexp_full_match(${col}, 'CASH:' || ${CURRENCY_CODE}))`;
     case 'currency': {
@@ -76,16 +58,16 @@ function explain(field: FieldSpec, source: SourceConfig, raw: string | null): { 
  */
 export async function validateStage(db: Database, layout: KindLayout, source: SourceConfig, file: string): Promise<Result<StageSummary>> {
   const checked = layout.fields.flatMap((f) => {
-    const bad = badSql(f, source);
+    const bad = badSql(f);
     return bad === null ? [] : [{ field: f, bad }];
   });
   const dateField = layout.fields.find((f) => f.type === 'date');
-  const keyTyped = layout.key.map((k) => typedSql(layout.fields.find((f) => f.name === k)!, source));
+  const keys = layout.key.map(ident);
   const select = [
     'count(*)::integer as n_rows',
-    dateField ? `min(${typedSql(dateField, source)}) as min_date, max(${typedSql(dateField, source)}) as max_date` : 'null as min_date, null as max_date',
+    dateField ? `min(${ident(dateField.name)}) as min_date, max(${ident(dateField.name)}) as max_date` : 'null as min_date, null as max_date',
     layout.kind === 'positions' ? 'list(distinct portfolio_id order by portfolio_id) as portfolios' : 'null as portfolios',
-    `count(distinct hash(${keyTyped.join(', ')}))::integer as n_keys`,
+    `count(distinct hash(${keys.join(', ')}))::integer as n_keys`,
     ...checked.map((c, i) => `(min(rowid) filter (where ${c.bad}))::integer + 1 as bad_${i}`),
   ];
   const [summary] = await db.all<Record<string, unknown>>(`select ${select.join(', ')} from ${STAGE_TABLE}`);
@@ -100,7 +82,7 @@ export async function validateStage(db: Database, layout: KindLayout, source: So
     if (row !== null) failures.push({ row, rejection: () => valueRejection(db, c.field, source, file, row) });
   });
   if ((summary.n_keys as number) < rows) {
-    const repeat = await firstRepeatedKey(db, layout, keyTyped);
+    const repeat = await firstRepeatedKey(db, layout);
     // a hash collision without a real repeat leaves `repeat` null
     if (repeat) failures.push({ row: repeat.row, rejection: async () => duplicateRejection(layout, file, repeat) });
   }
@@ -120,7 +102,7 @@ export async function validateStage(db: Database, layout: KindLayout, source: So
 }
 
 async function valueRejection(db: Database, field: FieldSpec, source: SourceConfig, file: string, row: number): Promise<Rejection> {
-  const [hit] = await db.all<{ v: string | null }>(`select ${ident(field.name)} as v from ${STAGE_TABLE} where rowid = $1`, [row - 1]);
+  const [hit] = await db.all<{ v: string | null }>(`select ${ident(textColumn(field))} as v from ${STAGE_TABLE} where rowid = $1`, [row - 1]);
   const raw = hit?.v ?? null;
   return { code: 'bad_value', file, row, column: field.name, value: raw ?? '', ...explain(field, source, raw) };
 }
@@ -132,17 +114,23 @@ interface RepeatedKey {
 }
 
 /** The earliest row whose key an earlier row of the file already had. */
-async function firstRepeatedKey(db: Database, layout: KindLayout, keyTyped: string[]): Promise<RepeatedKey | null> {
-  const keys = keyTyped.map((sql, i) => `${sql} as k${i}`).join(', ');
-  const partition = keyTyped.map((_, i) => `k${i}`).join(', ');
-  const raw = layout.key.map((k) => `${ident(k)}`).join(', ');
+async function firstRepeatedKey(db: Database, layout: KindLayout): Promise<RepeatedKey | null> {
+  const partition = layout.key.map(ident).join(', ');
+  const texts = layout.key.map((k, i) => `${ident(textColumn(fieldOf(layout, k)))} as k${i}`).join(', ');
+  const textNames = layout.key.map((_, i) => `k${i}`).join(', ');
   const [hit] = await db.all<Record<string, unknown>>(
-    `with keyed as (select rowid + 1 as row, ${keys}, ${raw} from ${STAGE_TABLE}),
-          ranked as (select *, min(row) over (partition by ${partition}) as first_row from keyed)
-     select row::integer as row, first_row::integer as first_row, ${raw} from ranked where row > first_row order by row limit 1`,
+    `with ranked as (select rowid + 1 as row, min(rowid + 1) over (partition by ${partition}) as first_row, ${texts} from ${STAGE_TABLE})
+     select row::integer as row, first_row::integer as first_row, ${textNames} from ranked
+     where row > first_row order by row limit 1`,
   );
   if (!hit) return null;
-  return { row: hit.row as number, firstRow: hit.first_row as number, values: layout.key.map((k) => hit[k] as string | null) };
+  return { row: hit.row as number, firstRow: hit.first_row as number, values: layout.key.map((_, i) => hit[`k${i}`] as string | null) };
+}
+
+function fieldOf(layout: KindLayout, name: string): FieldSpec {
+  const field = layout.fields.find((f) => f.name === name);
+  if (!field) throw new Error(`${layout.kind} has no field ${name}`);
+  return field;
 }
 
 function duplicateRejection(layout: KindLayout, file: string, repeat: RepeatedKey): Rejection {

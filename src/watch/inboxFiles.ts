@@ -3,10 +3,11 @@ import path from 'node:path';
 
 /**
  * Whether a name in the inbox is a delivery. Hidden files and names ending in .tmp or
- * .part are a sender's work in progress (many transfer tools write there, then rename).
+ * .part are a sender's work in progress (many transfer tools write there, then rename);
+ * a `.reason.txt` is ingest's note beside a quarantined file, copied back with it.
  */
 export function isDeliveryName(name: string): boolean {
-  return !name.startsWith('.') && !/\.(tmp|part)$/i.test(name);
+  return !name.startsWith('.') && !/\.(tmp|part)$/i.test(name) && !/\.reason\.txt$/i.test(name);
 }
 
 /** A regular file, not a symlink: the worker moves what it ingests and must not move a link's target away from its owner. */

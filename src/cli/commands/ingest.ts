@@ -1,9 +1,68 @@
+import { lstatSync } from 'node:fs';
+import path from 'node:path';
 import type { Command } from 'commander';
-import { withConfigOption } from '../context.ts';
+import { formatRejection, RiskfoldError } from '../../errors.ts';
+import type { IngestOutcome } from '../../ingest/ingestFile.ts';
+import { processBatch } from '../../pipeline/processBatch.ts';
+import { openWorkspace } from '../../storage/workspace.ts';
+import { listInbox } from '../../watch/inboxFiles.ts';
+import { contextFrom, withConfigOption } from '../context.ts';
+import { describeRun } from './recompute.ts';
 
-// PLACEHOLDER: replaced by the stage that owns this command.
+/**
+ * `riskfold ingest [FILE...]`: the given files (in the order given) or the inbox (oldest
+ * first), through the same batch as the worker: ingest each, one recompute, limits,
+ * alerts, read copy. A rejected file is data, not a failure: it is printed and the exit
+ * code stays 0; a missing file, a locked database or a failed recompute exit non-zero.
+ */
 export function registerIngest(program: Command): void {
-  withConfigOption(program.command('ingest').description('(not built yet)')).action(() => {
-    throw new Error('ingest is not built yet');
+  withConfigOption(
+    program
+      .command('ingest')
+      .description('loads the given files, or everything now in the inbox, exactly as the worker would, then exits')
+      .argument('[files...]', 'files to load (default: every delivery in the inbox, oldest first)'),
+  ).action(async (files: string[], opts: { config: string }) => {
+    const { config, log } = contextFrom(opts);
+    const given = files.map((f) => path.resolve(f));
+    given.forEach(requirePlainFile);
+    const db = await openWorkspace(config, log);
+    try {
+      const batch = given.length > 0 ? given : listInbox(config.inbox);
+      if (batch.length === 0) process.stdout.write(`no files in ${path.relative(process.cwd(), config.inbox) || '.'}\n`);
+      const summary = await processBatch(db, config, log, batch, { deliver: true, onFile: (o) => process.stdout.write(`${describeOutcome(o)}\n`) });
+      for (const skipped of summary.skipped) process.stdout.write(`skipped    ${path.basename(skipped)}: gone before its turn\n`);
+      const rejected = summary.files.filter((f) => f.status === 'rejected').length;
+      if (rejected > 0) process.stdout.write(`${rejected} file${rejected === 1 ? '' : 's'} rejected: see the reason files in ${shown(config.quarantine)}\n`);
+      if (summary.run) process.stdout.write(`${describeRun(summary.run)}\n`);
+      if (summary.runError !== null) throw new Error(`the files are loaded but the recompute failed: ${summary.runError}`);
+    } finally {
+      db.close();
+    }
   });
+}
+
+function requirePlainFile(file: string): void {
+  let isFile = false;
+  try {
+    isFile = lstatSync(file).isFile();
+  } catch {
+    throw new RiskfoldError('not_found', `${file}: no such file`);
+  }
+  if (!isFile) throw new RiskfoldError('usage', `${file}: not a regular file (folders and symlinks are not ingested)`);
+}
+
+/** One line per file: status, name, rows or reason, and where the file went. */
+export function describeOutcome(o: IngestOutcome): string {
+  const what =
+    o.status === 'ingested'
+      ? `${o.name}: ${o.rows.toLocaleString('en-US')} row${o.rows === 1 ? '' : 's'} of ${o.kind}`
+      : o.status === 'duplicate'
+        ? `${o.name}: same bytes as file ${o.duplicateOf}, nothing added`
+        : formatRejection(o.rejection!); // starts with the file name
+  return `${o.status.padEnd(10)} ${what} -> ${shown(o.movedTo)}`;
+}
+
+function shown(p: string): string {
+  const rel = path.relative(process.cwd(), p);
+  return rel.startsWith('..') ? p : rel;
 }
