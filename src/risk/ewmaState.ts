@@ -1,4 +1,4 @@
-import { blobValue, listValue, type DuckDBBlobValue, type DuckDBListValue } from '@duckdb/node-api';
+import { blobValue, type DuckDBBlobValue, type DuckDBListValue } from '@duckdb/node-api';
 import type { Database } from '../storage/database.ts';
 import type { EwmaState } from './ewmaEstimate.ts';
 
@@ -50,11 +50,12 @@ export async function saveEwmaState(
   const view = new DataView(bytes.buffer);
   for (let i = 0; i < state.matrix.length; i++) view.setFloat64(i * 8, state.matrix[i], true);
   await db.run('delete from risk_ewma_state');
-  await db.run('insert into risk_ewma_state values ($1::date, $2, $3, $4::varchar[], $5, $6)', [
+  // ids as JSON: an empty JS list cannot be bound (DuckDB cannot type a list of nothing)
+  await db.run(`insert into risk_ewma_state values ($1::date, $2, $3, from_json($4, '["VARCHAR"]'), $5, $6)`, [
     dates[state.row],
     settings.lambda,
     settings.seedDays,
-    listValue(state.securityIds),
+    JSON.stringify(state.securityIds),
     blobValue(bytes),
     runId,
   ]);
