@@ -17,6 +17,8 @@ export interface TempWorkspace {
   log: Logger;
   /** Parsed log lines written so far through `log`. */
   logLines: () => Record<string, unknown>[];
+  /** Closes the database (to let another process open it); safe to call twice. */
+  closeDb: () => void;
   /** Closes the database and removes the folder; safe to call twice. */
   cleanup: () => void;
 }
@@ -51,15 +53,19 @@ export async function tempWorkspace(overrides: Partial<ConfigInput> = {}): Promi
     throw err;
   }
   let closed = false;
+  const closeDb = () => {
+    if (!closed) db.close();
+    closed = true;
+  };
   return {
     dir,
     config,
     db,
     log,
     logLines: lines,
+    closeDb,
     cleanup: () => {
-      if (!closed) db.close();
-      closed = true;
+      closeDb();
       rmSync(dir, { recursive: true, force: true });
     },
   };
