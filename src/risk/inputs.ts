@@ -1,4 +1,3 @@
-import { listValue } from '@duckdb/node-api';
 import type { Database } from '../storage/database.ts';
 import { readColumns } from './columnar.ts';
 
@@ -99,8 +98,9 @@ export async function readPortfolioPanel(
   firstRow: number,
   portfolios: readonly string[] | null,
 ): Promise<PortfolioPanel> {
-  const scope = portfolios === null ? '' : 'where list_contains($1, portfolio_id)';
-  const scopeParams = portfolios === null ? undefined : [listValue([...portfolios])];
+  // ids bound as JSON: DuckDB cannot type an empty JS list
+  const scope = portfolios === null ? '' : `where list_contains(from_json($1, '["VARCHAR"]'), portfolio_id)`;
+  const scopeParams = portfolios === null ? undefined : [JSON.stringify(portfolios)];
   await db.run(
     `create or replace temp table risk_in_portfolios as
      select portfolio_id, (row_number() over (order by portfolio_id) - 1)::integer as k

@@ -1,4 +1,3 @@
-import { listValue } from '@duckdb/node-api';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
@@ -44,8 +43,8 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
   const scope = request.portfolios ?? null;
   const rlog = log.child({ stage: 'risk' });
   const [{ run_id: runId }] = await db.all<{ run_id: number }>(
-    `insert into risk_runs (trigger, from_date, portfolios, status) values ($1, $2::date, $3::varchar[], 'running') returning run_id`,
-    [request.trigger, from, scope === null ? null : listValue(scope)],
+    `insert into risk_runs (trigger, from_date, portfolios, status) values ($1, $2::date, from_json($3, '["VARCHAR"]'), 'running') returning run_id`,
+    [request.trigger, from, scope === null ? null : JSON.stringify(scope)],
   );
   rlog.info({ runId, trigger: request.trigger, from, portfolios: scope }, 'recompute started');
   try {

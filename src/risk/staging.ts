@@ -1,4 +1,4 @@
-import { DOUBLE, INTEGER, VARCHAR, listValue } from '@duckdb/node-api';
+import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
 import type { Database } from '../storage/database.ts';
 import { ChunkAppender } from './columnar.ts';
 
@@ -117,8 +117,9 @@ export interface ReplaceScope {
 
 /** Inside the write transaction: delete the scope's old rows, insert the staged ones. */
 export async function replaceResults(db: Database, scope: ReplaceScope): Promise<void> {
-  const inScope = `($1::date is null or date >= $1::date) and ($2::varchar[] is null or list_contains($2::varchar[], portfolio_id))`;
-  const params = [scope.from, scope.portfolios === null ? null : listValue([...scope.portfolios])];
+  // portfolio ids bound as JSON: DuckDB cannot type an empty JS list
+  const inScope = `($1::date is null or date >= $1::date) and ($2::varchar is null or list_contains(from_json($2, '["VARCHAR"]'), portfolio_id))`;
+  const params = [scope.from, scope.portfolios === null ? null : JSON.stringify(scope.portfolios)];
   await db.run(`delete from risk_daily where ${inScope}`, params);
   await db.run(
     `insert into risk_daily (portfolio_id, date, window_days, estimator, ${DAILY_FIGURES.join(', ')}, status, n_holdings, n_covered, run_id)

@@ -5,13 +5,7 @@ import { recompute } from '../../../src/risk/recompute.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
 import { expectMatchesReference, readDaily } from './compare.ts';
 import { referenceRisk, type ReferenceOptions } from './reference.ts';
-import { buildScenario, LISTING_DAY, loadDays, LONG_GAP, STALE_GAP, type Scenario } from './scenario.ts';
-
-export const RISK: ConfigInput['risk'] = {
-  windows: [21, 63],
-  tradingDaysPerYear: 252,
-  ewma: { enabled: true, lambda: 0.94, seedDays: 10 },
-};
+import { buildScenario, LISTING_DAY, loadDays, LONG_GAP, RISK, STALE_GAP, type Scenario } from './scenario.ts';
 
 const reference = (s: Scenario, weights: ReferenceOptions['weights'] = 'current') =>
   referenceRisk(s, { windows: [21, 63], periodsPerYear: 252, maxStaleDays: 5, minCoverage: 0.9, weights, ewma: { lambda: 0.94, seedDays: 10 } });

@@ -1,5 +1,6 @@
 import { businessDays } from '../../../src/demo/market.ts';
 import { createRandom } from '../../../src/demo/random.ts';
+import type { ConfigInput } from '../../../src/config/schema.ts';
 import type { Database } from '../../../src/storage/database.ts';
 
 /**
@@ -34,6 +35,13 @@ export interface Scenario {
   eurUsd: number[];
   snapshots: Snapshot[];
 }
+
+/** The risk settings the stage tests run with (a short seed so the EWMA starts early). */
+export const RISK: ConfigInput['risk'] = {
+  windows: [21, 63],
+  tradingDaysPerYear: 252,
+  ewma: { enabled: true, lambda: 0.94, seedDays: 10 },
+};
 
 export const STALE_GAP: [number, number] = [100, 102];
 export const LONG_GAP: [number, number] = [170, 176];
@@ -75,6 +83,7 @@ export function buildScenario(days = 230, seed = 20240102): Scenario {
     },
     { day: 10, portfolio: 'acct-income', quantities: { 'BD-KESTREL-28': 900, 'EQ-SALTMARSH': 500, 'EQ-FERNHOLT': 100, 'CASH:EUR': 9000 } },
     { day: 90, portfolio: 'acct-income', quantities: { 'BD-KESTREL-28': 950, 'EQ-SALTMARSH': 450, 'EQ-FERNHOLT': 110, 'CASH:EUR': 8000 } },
+    { day: 227, portfolio: 'acct-income', quantities: { 'BD-KESTREL-28': 900, 'EQ-SALTMARSH': 500, 'EQ-FERNHOLT': 110, 'CASH:EUR': 7000 } },
   ];
   return { dates, securities: SECURITIES.map(({ id, currency, firstDay, gaps }) => ({ id, currency, firstDay, gaps })), prices, eurUsd, snapshots };
 }
