@@ -61,6 +61,19 @@ describe('ingestFile: loading', () => {
     expect(ours).toEqual(ref);
   });
 
+  it('numbers lines by data row even when DuckDB reads the file in parallel chunks', async () => {
+    ws = await tempWorkspace();
+    const n = 1_200_000; // ~45 MB: more than one 32 MB CSV buffer, read by both threads
+    const file = path.join(ws.config.inbox, 'positions_big.csv');
+    await ws.db.run(
+      `copy (select '2026-04-10' as date, 'acct-growth' as portfolio_id, 'EQ-SEC' || i as security_id, i as quantity
+             from range(1, ${n + 1}) t(i)) to '${file}' (header, delimiter ',')`,
+    );
+    const out = await ingestFile(ws.db, ws.config, ws.log, file);
+    expect(out.rows).toBe(n);
+    expect(await ws.db.all('select count(*)::integer n from positions where line <> quantity')).toEqual([{ n: 0 }]);
+  });
+
   it('reads the UTF-8 byte-order mark and CRLF line ends', async () => {
     ws = await tempWorkspace();
     const file = writeCsv(ws.config.inbox, 'fx_0410.csv', [['date', 'currency', 'rate'], ['2026-04-10', 'EUR', '1.0825'], ['2026-04-10', 'CHF', '1.131']], {

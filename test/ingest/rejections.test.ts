@@ -166,6 +166,14 @@ describe('ingestFile: rejected files', () => {
     expect(r.message).toContain('prices*.csv*');
   });
 
+  it('throws a config fault (not a rejection) for a source mapping a column its kind does not have, and leaves the file', async () => {
+    ws = await tempWorkspace({ sources: [{ name: 'typo', kind: 'prices', pattern: 'prices*', columns: { prise: 'Close' } }] });
+    const file = writeCsv(ws.config.inbox, 'prices_k.csv', [['date', 'security_id', 'Close'], ['2026-04-10', 'EQ-A', '1']]);
+    await expect(ingestFile(ws.db, ws.config, ws.log, file)).rejects.toMatchObject({ kind: 'config_invalid', message: expect.stringContaining('"prise"') });
+    expect(existsSync(file)).toBe(true);
+    expect(await ws.db.all('select count(*)::integer n from ingested_files')).toEqual([{ n: 0 }]);
+  });
+
   it('never overwrites in quarantine: a second bad file of the same name gets a suffix', async () => {
     await rejectRows('prices_j.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '-1', '']]);
     await rejectRows('prices_j.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '-2', '']]);
