@@ -1,0 +1,146 @@
+import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import * as ss from 'simple-statistics';
+import { describe, expect, it } from 'vitest';
+import { createRandom } from '../../../src/demo/random.ts';
+import { EwmaEstimate } from '../../../src/risk/ewmaEstimate.ts';
+import type { ReturnPanel } from '../../../src/risk/inputs.ts';
+import { chooseSamplePath, SampleEstimate, SLIDING_REFRESH, slidingStartRow } from '../../../src/risk/sampleEstimate.ts';
+
+/** T x N returns with a few holes (NaN) and one late starter, laid out as inputs.ts does. */
+function panel(t: number, n: number, seed = 7): ReturnPanel {
+  const random = createRandom(seed);
+  const returns = new Float64Array(t * n);
+  for (let d = 0; d < t; d++) {
+    const market = 0.01 * random.normal();
+    for (let j = 0; j < n; j++) {
+      const missing = d === 0 || (j === 1 && d >= 300 && d < 303) || (j === n - 1 && d < 350);
+      returns[d * n + j] = missing ? Number.NaN : 0.0004 + market * (0.5 + j / n) + 0.012 * random.normal();
+    }
+  }
+  const returnsBySecurity = new Float64Array(n * t);
+  const runLength = new Int32Array(t * n);
+  for (let d = 0; d < t; d++) {
+    for (let j = 0; j < n; j++) {
+      const r = returns[d * n + j];
+      returnsBySecurity[j * t + d] = r;
+      runLength[d * n + j] = Number.isFinite(r) ? (d > 0 ? runLength[(d - 1) * n + j] : 0) + 1 : 0;
+    }
+  }
+  return {
+    dates: Array.from({ length: t }, (_, d) => `d${d}`),
+    securityIds: Array.from({ length: n }, (_, j) => `EQ-TEST-${j}`),
+    isCash: new Uint8Array(n),
+    returns,
+    returnsBySecurity,
+    runLength,
+  };
+}
+
+const column = (p: ReturnPanel, j: number, from: number, to: number) => Array.from(p.returnsBySecurity.subarray(j * p.dates.length + from, j * p.dates.length + to + 1));
+
+describe('SampleEstimate', () => {
+  const p = panel(700, 6);
+  const idx = Int32Array.from([0, 1, 2, 4]);
+  const w = Float64Array.from([0.3, -0.1, 0.5, 0.2]);
+
+  it('gives S w equal to the two-pass sample covariance of simple-statistics on both paths', () => {
+    const W = 63;
+    const window = new SampleEstimate(p, W, 'window', 100);
+    const sliding = new SampleEstimate(p, W, 'sliding', 100);
+    for (let d = sliding.startRow; d < 700; d++) {
+      sliding.advance(d, d >= 100);
+      if (d >= 100) window.advance(d, true);
+      if (d < 100 || !idx.every((j) => window.covered(j))) continue;
+      const expected = Array.from(idx, (i) => idx.reduce((sum, j, b) => sum + ss.sampleCovariance(column(p, i, d - W + 1, d), column(p, j, d - W + 1, d)) * w[b], 0));
+      const a = window.product(idx, w);
+      const b = sliding.product(idx, w);
+      expected.forEach((e, k) => {
+        expect(a[k]).toBeCloseTo(e, 15);
+        expect(b[k]).toBeCloseTo(e, 15);
+        expect(Math.abs(a[k] - b[k])).toBeLessThanOrEqual(1e-10 * Math.abs(e));
+      });
+    }
+  });
+
+  it('marks a security covered only with W returns in a row (the hole at 300..302 and the late starter)', () => {
+    const e = new SampleEstimate(p, 21, 'window', 0);
+    const coveredAt = (d: number, j: number) => {
+      const est = new SampleEstimate(p, 21, 'window', d);
+      est.advance(d, true);
+      return est.covered(j);
+    };
+    expect(e.startRow).toBe(0);
+    expect(coveredAt(299, 1)).toBe(true);
+    expect(coveredAt(302 + 20, 1)).toBe(false);
+    expect(coveredAt(302 + 21, 1)).toBe(true);
+    expect(coveredAt(349 + 21, 5)).toBe(true);
+    expect(coveredAt(349 + 20, 5)).toBe(false);
+  });
+
+  it('started at slidingStartRow, the sliding state matches a run from the first row bit for bit', () => {
+    for (const W of [21, 252]) {
+      const from = 611;
+      const start = slidingStartRow(from, W);
+      expect(start % SLIDING_REFRESH).toBe(0);
+      expect(start).toBeLessThanOrEqual(from - W + 1);
+      const full = new SampleEstimate(p, W, 'sliding', 0);
+      const late = new SampleEstimate(p, W, 'sliding', from);
+      expect(late.startRow).toBe(start);
+      for (let d = 0; d < 700; d++) {
+        full.advance(d, d >= from);
+        if (d >= start) late.advance(d, d >= from);
+        if (d >= from) expect(Array.from(late.product(idx.subarray(0, 1), w.subarray(0, 1)))).toEqual(Array.from(full.product(idx.subarray(0, 1), w.subarray(0, 1))));
+      }
+    }
+  });
+
+  it('picks the sliding path for long windows over many securities and the window path for short ones (cost model)', () => {
+    const large = { securities: 1000, holdingsPerDate: 50 * 200, holdingsSquaredPerDate: 50 * 200 * 200, outputDates: 2610, warmupDates: 0 };
+    expect(chooseSamplePath({ ...large, window: 21 })).toBe('window');
+    expect(chooseSamplePath({ ...large, window: 252 })).toBe('sliding');
+    // one new day: the sliding warm-up is not worth it
+    expect(chooseSamplePath({ ...large, window: 252, outputDates: 1, warmupDates: 500 })).toBe('window');
+  });
+});
+
+describe('EwmaEstimate', () => {
+  const p = panel(420, 6);
+
+  it('continues from its snapshot exactly as an uninterrupted run', () => {
+    const full = new EwmaEstimate(p, 0.94, 15, null);
+    let resumed: EwmaEstimate | null = null;
+    for (let d = 0; d < 420; d++) {
+      full.advance(d);
+      if (d === 333) resumed = new EwmaEstimate(p, 0.94, 15, full.snapshot());
+      else if (resumed) resumed.advance(d);
+    }
+    expect(resumed!.snapshot()).toEqual(full.snapshot());
+  });
+
+  it('keeps the matrix positive semi-definite when a security is seeded into it (ml-matrix eigenvalues)', () => {
+    const e = new EwmaEstimate(p, 0.94, 15, null);
+    for (let d = 0; d < 420; d++) {
+      e.advance(d);
+      if (d !== 303 + 14 && d !== 349 + 15) continue; // the dates security 1 re-enters and security 5 enters
+      const { matrix, securityIds } = e.snapshot();
+      expect(securityIds.length).toBe(d === 317 ? 5 : 6);
+      const k = securityIds.length;
+      const eig = new EigenvalueDecomposition(new Matrix(Array.from({ length: k }, (_, i) => Array.from(matrix.subarray(i * k, (i + 1) * k)))));
+      const largest = Math.max(...eig.realEigenvalues);
+      expect(Math.min(...eig.realEigenvalues)).toBeGreaterThan(-1e-12 * largest);
+    }
+  });
+
+  it('drops a security on a missing return and seeds it again after seedDays returns in a row', () => {
+    const e = new EwmaEstimate(p, 0.94, 15, null);
+    const membersAt: Record<number, boolean> = {};
+    for (let d = 0; d < 420; d++) {
+      e.advance(d);
+      membersAt[d] = e.covered(1);
+    }
+    expect(membersAt[299]).toBe(true);
+    expect(membersAt[300]).toBe(false);
+    expect(membersAt[303 + 13]).toBe(false);
+    expect(membersAt[303 + 14]).toBe(true);
+  });
+});
