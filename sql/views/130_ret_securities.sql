@@ -1,0 +1,44 @@
+-- Daily log return of each held security between consecutive valuation dates:
+-- log_return = ln(P_base_t / P_base_t-1) with P_base = price_local * fx_rate (base
+-- currency), log_return_local the same in the security's own currency. Null when either
+-- side is missing. Cash has no rows: its return is zero by definition.
+create or replace view ret_securities as
+with prices as (
+  select a.security_id, a.date, a.date_index, a.price_local, a.is_stale as price_is_stale, f.rate as fx_rate, f.is_stale as fx_is_stale
+  from align_prices a
+  left join align_fx f on f.currency = a.currency and f.date = a.date
+),
+
+-- align_prices has a row for every valuation date from a security's first price on,
+-- so the previous row is date_index - 1
+paired as (
+  select
+    security_id,
+    date,
+    date_index,
+    price_local,
+    price_local * fx_rate as price_base,
+    lag(price_local) over by_date as prev_price_local,
+    lag(price_local * fx_rate) over by_date as prev_price_base,
+    lag(date_index) over by_date as prev_date_index,
+    coalesce(price_is_stale or fx_is_stale, price_is_stale) as is_stale
+  from prices
+  window by_date as (partition by security_id order by date_index)
+),
+
+returns as (
+  select
+    security_id,
+    date,
+    date_index,
+    case when price_base > 0 and prev_price_base > 0 then ln(price_base / prev_price_base) end as log_return,
+    case when price_local > 0 and prev_price_local > 0 then ln(price_local / prev_price_local) end as log_return_local,
+    is_stale,
+    price_base / prev_price_base - 1 as simple_return,
+    price_base,
+    prev_price_base
+  from paired
+  where prev_date_index is not null
+)
+
+select * from returns;

@@ -1,0 +1,117 @@
+-- One row per data problem, with a reason in plain words, so operations can see why a
+-- value is missing or a risk figure rests on thin data. security_id is null for a
+-- problem of the whole portfolio.
+create or replace view check_data_quality as
+with settings as (
+  select base_currency, max_stale_days, list_max(windows) as longest_window
+  from pipeline_settings
+),
+
+positions as (
+  select
+    portfolio_id, date, date_index, security_id, is_cash, currency,
+    price_local, price_observed_on, price_stale_days, fx_rate, fx_observed_on, fx_stale_days
+  from value_positions
+),
+
+-- returns available per security up to each date; the difference of two running
+-- counts gives the count inside the window without a per-row subquery
+return_counts as (
+  select
+    security_id,
+    date_index,
+    count(log_return) over (partition by security_id order by date_index rows between unbounded preceding and current row) as returns_so_far
+  from ret_securities
+),
+
+returns_in_window as (
+  select c.security_id, c.date_index, c.returns_so_far - coalesce(e.returns_so_far, 0) as n_returns
+  from return_counts c
+  cross join settings
+  left join return_counts e on e.security_id = c.security_id and e.date_index = c.date_index - settings.longest_window
+),
+
+stale_past_limit as (
+  select
+    p.portfolio_id, p.date, p.security_id, 'stale_past_limit' as problem,
+    format('price last observed on {} is {} valuation dates old, past the limit of {}: the position has no value',
+      p.price_observed_on, p.price_stale_days, settings.max_stale_days) as reason
+  from positions p
+  cross join settings
+  where not p.is_cash and p.price_local is null and p.price_observed_on is not null
+),
+
+stale_price as (
+  select
+    p.portfolio_id, p.date, p.security_id, 'stale_price' as problem,
+    format('price carried from {}, {} of at most {} valuation dates',
+      p.price_observed_on, p.price_stale_days, settings.max_stale_days) as reason
+  from positions p
+  cross join settings
+  where not p.is_cash and p.price_local is not null and p.price_stale_days > 0
+),
+
+no_price as (
+  select
+    p.portfolio_id, p.date, p.security_id, 'no_price' as problem,
+    format('{} is held but has no price on or before this date', p.security_id) as reason
+  from positions p
+  where not p.is_cash and p.price_observed_on is null
+),
+
+stale_fx as (
+  select
+    p.portfolio_id, p.date, p.security_id, 'stale_fx' as problem,
+    format('{} rate carried from {}, {} of at most {} valuation dates',
+      p.currency, p.fx_observed_on, p.fx_stale_days, settings.max_stale_days) as reason
+  from positions p
+  cross join settings
+  where p.fx_rate is not null and p.fx_stale_days > 0
+),
+
+missing_fx as (
+  select
+    p.portfolio_id, p.date, p.security_id, 'missing_fx' as problem,
+    case
+      when p.fx_observed_on is null then
+        format('no {} rate on or before this date: the position has no value in {}', p.currency, settings.base_currency)
+      else
+        format('{} rate last observed on {} is {} valuation dates old, past the limit of {}: the position has no value in {}',
+          p.currency, p.fx_observed_on, p.fx_stale_days, settings.max_stale_days, settings.base_currency)
+    end as reason
+  from positions p
+  cross join settings
+  where p.fx_rate is null
+),
+
+short_history as (
+  select
+    p.portfolio_id, p.date, p.security_id, 'short_history' as problem,
+    format('{} of the {} daily returns the longest window needs',
+      coalesce(r.n_returns, 0), settings.longest_window) as reason
+  from positions p
+  cross join settings
+  left join returns_in_window r on r.security_id = p.security_id and r.date_index = p.date_index
+  where not p.is_cash and coalesce(r.n_returns, 0) < settings.longest_window
+),
+
+nonpositive_value as (
+  select
+    v.portfolio_id, v.date, null::varchar as security_id, 'nonpositive_value' as problem,
+    format('portfolio value is {} {}: weights and returns have no meaning', v.value_base, settings.base_currency) as reason
+  from value_portfolios v
+  cross join settings
+  where v.value_base <= 0
+),
+
+problems as (
+  select * from stale_past_limit
+  union all select * from stale_price
+  union all select * from no_price
+  union all select * from stale_fx
+  union all select * from missing_fx
+  union all select * from short_history
+  union all select * from nonpositive_value
+)
+
+select * from problems;
