@@ -35,7 +35,7 @@ converted as (
     f.observed_on as fx_observed_on,
     f.stale_days as fx_stale_days,
     p.price_local * f.rate as price_base,
-    p.quantity * p.price_local * f.rate as value_base
+    p.quantity * (p.price_local * f.rate) as value_base
   from priced p
   left join align_fx f on f.currency = p.currency and f.date = p.date
 ),

@@ -1,6 +1,7 @@
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
+import { expect } from 'vitest';
 import { resolveConfig } from '../../src/config/load.ts';
 import type { ConfigInput } from '../../src/config/schema.ts';
 import { memoryLogger } from '../../src/log/logger.ts';
@@ -56,3 +57,15 @@ export const insertFx = (db: Database, fileId: number, rows: Cell[][]) =>
 /** rows: [security_id, name, asset_class, currency] */
 export const insertSecurities = (db: Database, fileId: number, rows: Cell[][]) =>
   insertFile(db, 'securities', ['security_id', 'name', 'asset_class', 'currency'], fileId, rows);
+
+/** Rows equal to the expected ones, numbers to `digits` decimals (floating point), the rest exactly. */
+export function expectRowsClose(actual: Record<string, unknown>[], expected: Record<string, unknown>[], digits = 12): void {
+  expect(actual).toHaveLength(expected.length);
+  expected.forEach((want, i) => {
+    expect(Object.keys(actual[i]).sort()).toEqual(Object.keys(want).sort());
+    for (const [key, value] of Object.entries(want)) {
+      if (typeof value === 'number') expect(actual[i][key], `row ${i} ${key}`).toBeCloseTo(value, digits);
+      else expect(actual[i][key], `row ${i} ${key}`).toEqual(value);
+    }
+  });
+}
