@@ -34,7 +34,7 @@ export async function readHeaderLine(filePath: string): Promise<string | null> {
   return bytes.length === 0 ? null : decodeLine(bytes);
 }
 
-export class HeaderTooLong extends Error {
+class HeaderTooLong extends Error {
   constructor() {
     super(`the first line is longer than ${MAX_HEADER_BYTES} bytes`);
   }
@@ -75,6 +75,28 @@ export function splitHeader(line: string, delimiter: string): string[] {
 
 /** For each header position: the canonical column it carries, or null (a column we do not read). */
 export type ColumnMapping = (string | null)[];
+
+/** Reads the header and maps it; an empty or unreadable first line is a rejection. */
+export async function readColumnMapping(filePath: string, name: string, source: SourceConfig, layout: KindLayout): Promise<Result<ColumnMapping>> {
+  let line: string | null;
+  try {
+    line = await readHeaderLine(filePath);
+  } catch (err) {
+    if (err instanceof HeaderTooLong || isZlibError(err)) {
+      return { ok: false, rejection: { code: 'unreadable', file: name, message: `cannot be read: ${(err as Error).message}` } };
+    }
+    throw err;
+  }
+  if (line === null || line.trim() === '') {
+    return { ok: false, rejection: { code: 'empty_file', file: name, message: 'is empty; expected a header row and data rows' } };
+  }
+  return mapColumns(splitHeader(line, source.delimiter), source, layout, name);
+}
+
+function isZlibError(err: unknown): boolean {
+  const code = (err as { code?: unknown } | null)?.code;
+  return typeof code === 'string' && code.startsWith('Z_');
+}
 
 /**
  * Maps the source's header onto canonical names: `source.columns` renames

@@ -6,13 +6,14 @@ import type { FileKind, SourceConfig } from '../config/schema.ts';
 import { formatRejection, type Rejection, type Result } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
 import { sha256OfFile } from './fingerprint.ts';
+import { readColumnMapping, type ColumnMapping } from './header.ts';
 import { findIngested, portfoliosOf, recordFile, updateArchivedPath, type EarlierDelivery } from './ledger.ts';
-import { layoutOf } from './layout.ts';
-import { loadStage } from './load.ts';
+import { layoutOf, type KindLayout } from './layout.ts';
+import { loadFile } from './load.ts';
 import { archiveDir, freePath, moveWithoutOverwrite, quarantine } from './moves.ts';
 import { matchSource } from './sourceMatch.ts';
 import { dropStage, stageFile } from './stage.ts';
-import { validateStage, type StageSummary } from './validate.ts';
+import { findFirstProblem } from './validate.ts';
 
 export interface IngestOutcome {
   status: 'ingested' | 'duplicate' | 'rejected';
@@ -31,64 +32,95 @@ export interface IngestOutcome {
 }
 
 /**
- * Loads one delivered file: recognise its kind by name, stage and check it in DuckDB,
- * then in one transaction record it and insert its rows; afterwards move it to the
- * archive (or, rejected, to quarantine with a reason file). Bad input is an outcome,
- * not an exception; only machine and config faults throw. One file at a time per
- * database: the stage table is shared.
+ * Loads one delivered file: recognise its kind by name, then in one transaction insert
+ * its rows (typed and checked on the way from read_csv) and record it; afterwards move
+ * it to the archive. A file that fails is staged and examined for its first bad row,
+ * then moved to quarantine with a reason file. Bad input is an outcome, not an
+ * exception; only machine and config faults throw. One file at a time per database.
  */
 export async function ingestFile(db: Database, config: Config, log: Logger, filePath: string): Promise<IngestOutcome> {
   const name = path.basename(filePath);
   const flog = log.child({ stage: 'ingest', file: name });
   const receivedAt = new Date();
   const started = performance.now();
-  const source = matchSource(config.sources, name);
-  try {
-    // hashing runs in this thread while DuckDB parses in its own
-    const [sha256, checked] = await Promise.all([
-      sha256OfFile(filePath),
-      source ? stageAndValidate(db, filePath, name, source) : Promise.resolve(unknownKind(config, name)),
-    ]);
-    const base = { name, sha256, kind: source?.kind ?? null, source: source?.name ?? null, receivedAt };
+  // hashing runs in this thread while DuckDB reads the file in its own
+  const hashing = sha256OfFile(filePath);
+  hashing.catch(() => undefined); // awaited below; a read error surfaces there, or first from the header
+  const matched = matchSource(config.sources, name);
+  const prepared = matched ? await prepare(filePath, name, matched) : unknownKind(config, name);
+  const base = { name, kind: matched?.kind ?? null, source: matched?.name ?? null, receivedAt };
 
-    const earlier = await findIngested(db, sha256);
-    if (earlier) return await alreadyLoaded(db, config, flog, filePath, earlier, base);
-
-    if (!checked.ok) {
-      const movedTo = quarantine(filePath, config.quarantine, checked.rejection, receivedAt);
-      const fileId = await recordFile(db, {
-        ...base, rows: 0, status: 'rejected', error: formatRejection(checked.rejection), archivedPath: movedTo,
-        minDate: null, maxDate: null, duplicateOf: null,
-      });
-      flog.warn({ fileId, movedTo, ...checked.rejection }, 'file rejected');
-      return { status: 'rejected', fileId, name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo, rejection: checked.rejection };
-    }
-
-    const summary = checked.value;
+  let sha256: string;
+  let rejection: Rejection;
+  if (prepared.ok) {
+    const { source, layout, mapping } = prepared.value;
     const dir = archiveDir(config.archive, receivedAt);
     const planned = freePath(dir, name);
-    const fileId = await loadStage(db, layoutOf(source!.kind), {
-      ...base, rows: summary.rows, status: 'ingested', error: null, archivedPath: planned,
-      minDate: summary.minDate, maxDate: summary.maxDate, duplicateOf: null,
-    });
-    // committed: from here a crash leaves the file in the inbox, and alreadyLoaded() finishes the move
-    const movedTo = moveWithoutOverwrite(filePath, dir, name);
-    if (movedTo !== planned) await updateArchivedPath(db, fileId, movedTo);
-    const seconds = (performance.now() - started) / 1000;
-    flog.info(
-      { fileId, kind: base.kind, source: base.source, rows: summary.rows, minDate: summary.minDate, maxDate: summary.maxDate, movedTo, seconds, rowsPerSecond: Math.round(summary.rows / seconds) },
-      'file ingested',
-    );
-    return { status: 'ingested', fileId, name, kind: base.kind, rows: summary.rows, minDate: summary.minDate, portfolios: summary.portfolios, movedTo };
+    const attempt = await loadFile(db, filePath, source, layout, mapping, hashing, { ...base, archivedPath: planned });
+    if (attempt.kind === 'known') return alreadyLoaded(db, config, flog, filePath, attempt.earlier, { ...base, sha256: attempt.sha256 });
+    if (attempt.kind === 'loaded') {
+      // committed: from here a crash leaves the file in the inbox, and alreadyLoaded() finishes the move
+      const movedTo = moveWithoutOverwrite(filePath, dir, name);
+      if (movedTo !== planned) await updateArchivedPath(db, attempt.fileId, movedTo);
+      const { rows, minDate, maxDate, portfolios } = attempt.summary;
+      const seconds = (performance.now() - started) / 1000;
+      flog.info(
+        { fileId: attempt.fileId, kind: base.kind, source: base.source, rows, minDate, maxDate, movedTo, seconds, rowsPerSecond: Math.round(rows / seconds) },
+        'file ingested',
+      );
+      return { status: 'ingested', fileId: attempt.fileId, name, kind: base.kind, rows, minDate, portfolios, movedTo };
+    }
+    sha256 = attempt.sha256;
+    const earlier = await findIngested(db, sha256);
+    if (earlier) return alreadyLoaded(db, config, flog, filePath, earlier, { ...base, sha256 });
+    rejection = await diagnose(db, filePath, name, source, layout, mapping, attempt.cause);
+  } else {
+    sha256 = await hashing;
+    const earlier = await findIngested(db, sha256);
+    if (earlier) return alreadyLoaded(db, config, flog, filePath, earlier, { ...base, sha256 });
+    rejection = prepared.rejection;
+  }
+
+  const movedTo = quarantine(filePath, config.quarantine, rejection, receivedAt);
+  const fileId = await recordFile(db, {
+    ...base, sha256, rows: 0, status: 'rejected', error: formatRejection(rejection), archivedPath: movedTo, minDate: null, maxDate: null, duplicateOf: null,
+  });
+  flog.warn({ fileId, movedTo, ...rejection }, 'file rejected');
+  return { status: 'rejected', fileId, name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo, rejection };
+}
+
+interface Prepared {
+  source: SourceConfig;
+  layout: KindLayout;
+  mapping: ColumnMapping;
+}
+
+/** The source's layout and the header mapped onto it. */
+async function prepare(filePath: string, name: string, source: SourceConfig): Promise<Result<Prepared>> {
+  const layout = layoutOf(source.kind);
+  const mapped = await readColumnMapping(filePath, name, source, layout);
+  return mapped.ok ? { ok: true, value: { source, layout, mapping: mapped.value } } : mapped;
+}
+
+/** Why the load failed: the file staged again and examined for its first bad row. */
+async function diagnose(
+  db: Database,
+  filePath: string,
+  name: string,
+  source: SourceConfig,
+  layout: KindLayout,
+  mapping: ColumnMapping,
+  loadError: unknown,
+): Promise<Rejection> {
+  try {
+    const staged = await stageFile(db, filePath, name, source, layout, mapping);
+    const problem = staged.ok ? await findFirstProblem(db, layout, source, name) : staged.rejection;
+    // the load and the checks apply the same rules; a failure neither explains is the machine's
+    if (problem === null) throw new Error(`${name}: the load failed and no row breaks a rule`, { cause: loadError });
+    return problem;
   } finally {
     await dropStage(db);
   }
-}
-
-async function stageAndValidate(db: Database, filePath: string, name: string, source: SourceConfig): Promise<Result<StageSummary>> {
-  const layout = layoutOf(source.kind);
-  const staged = await stageFile(db, filePath, name, source, layout);
-  return staged.ok ? validateStage(db, layout, source, name) : staged;
 }
 
 function unknownKind(config: Config, name: string): Result<never> {

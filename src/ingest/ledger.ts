@@ -3,6 +3,8 @@ import type { Database } from '../storage/database.ts';
 
 /** One `ingested_files` row as this stage writes it. */
 export interface FileRecord {
+  /** Taken from file_id_seq beforehand when the raw rows are inserted first; else the default. */
+  fileId?: number;
   name: string;
   sha256: string;
   kind: FileKind | null;
@@ -21,8 +23,8 @@ export interface FileRecord {
 export async function recordFile(db: Database, r: FileRecord): Promise<number> {
   const [row] = await db.all<{ file_id: number }>(
     `insert into ingested_files
-       (name, sha256, kind, source, rows, status, error, received_at, archived_path, min_date, max_date, duplicate_of)
-     values ($1, $2, $3, $4, $5, $6, $7, $8::timestamptz, $9, $10::date, $11::date, $12)
+       (file_id, name, sha256, kind, source, rows, status, error, received_at, archived_path, min_date, max_date, duplicate_of)
+     values (${r.fileId === undefined ? `nextval('file_id_seq')` : '$13'}, $1, $2, $3, $4, $5, $6, $7, $8::timestamptz, $9, $10::date, $11::date, $12)
      returning file_id`,
     [
       r.name,
@@ -37,6 +39,7 @@ export async function recordFile(db: Database, r: FileRecord): Promise<number> {
       r.minDate,
       r.maxDate,
       r.duplicateOf,
+      ...(r.fileId === undefined ? [] : [r.fileId]),
     ],
   );
   return row.file_id;

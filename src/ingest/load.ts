@@ -1,22 +1,92 @@
+import type { SourceConfig } from '../config/schema.ts';
 import type { Database } from '../storage/database.ts';
-import { recordFile, type FileRecord } from './ledger.ts';
+import { ident, readCsvSql, typedSelect } from './csvSql.ts';
+import type { ColumnMapping } from './header.ts';
+import { findIngested, recordFile, type EarlierDelivery, type FileRecord } from './ledger.ts';
 import type { KindLayout } from './layout.ts';
-import { STAGE_TABLE, ident } from './stage.ts';
+import { badSql, summaryOf, summarySelect, type FileSummary } from './rules.ts';
+
+export type LoadAttempt =
+  | { kind: 'loaded'; sha256: string; fileId: number; summary: FileSummary }
+  /** These bytes were loaded before: nothing of this attempt stays. */
+  | { kind: 'known'; sha256: string; earlier: EarlierDelivery }
+  /** A row broke a rule, a key repeats, there are no rows or DuckDB could not read it: rolled back. */
+  | { kind: 'failed'; sha256: string; cause: unknown };
+
+export type LoadRecord = Omit<FileRecord, 'fileId' | 'sha256' | 'rows' | 'status' | 'error' | 'minDate' | 'maxDate' | 'duplicateOf'>;
+
+/** Unwinds the transaction (ROLLBACK) carrying the attempt's outcome. */
+class Abort extends Error {
+  constructor(readonly attempt: LoadAttempt) {
+    super(attempt.kind);
+  }
+}
 
 /**
- * One transaction: the `ingested_files` row, then every staged row typed into the raw
- * table by a single INSERT ... SELECT. Either both are there or neither.
+ * The whole load in ONE transaction and one pass over the file: the rows go straight
+ * from read_csv into the raw table, typed and checked on the way (a row that breaks a
+ * rule raises, and the statement fails); then a summary of what went in (count, dates,
+ * portfolios, distinct keys), the duplicate check on the hash (computed meanwhile in
+ * this thread) and the `ingested_files` row. Anything wrong rolls it all back and the
+ * caller finds out which row it was; a good file, the common case, costs one read.
  */
-export async function loadStage(db: Database, layout: KindLayout, record: FileRecord): Promise<number> {
-  return db.transaction(async () => {
-    const fileId = await recordFile(db, record);
-    // the stage already holds typed values under the canonical names
-    const columns = layout.fields.map((f) => ident(f.name)).join(', ');
-    await db.run(
-      `insert into ${layout.table} (file_id, line, ${columns})
-       select $1, rowid + 1, ${columns} from ${STAGE_TABLE}`,
-      [fileId],
-    );
-    return fileId;
-  });
+export async function loadFile(
+  db: Database,
+  filePath: string,
+  source: SourceConfig,
+  layout: KindLayout,
+  mapping: ColumnMapping,
+  hashing: Promise<string>,
+  record: LoadRecord,
+): Promise<LoadAttempt> {
+  try {
+    return await db.transaction(async () => {
+      const [{ id }] = await db.all<{ id: number }>(`select nextval('file_id_seq')::integer as id`);
+      const columns = layout.fields.map((f) => ident(f.name));
+      const checked = layout.fields.map((f) => {
+        const bad = badSql(f);
+        return bad === null ? ident(f.name) : `case when ${bad} then error('row ' || ordinality || ' breaks the ${f.name} rule') else ${ident(f.name)} end`;
+      });
+      try {
+        await db.run(
+          `insert into ${layout.table} (file_id, line, ${columns.join(', ')})
+           select $1, ordinality, ${checked.join(', ')}
+           from (select ordinality, ${typedSelect(layout, source, mapping).join(', ')} from ${readCsvSql(filePath, source, mapping)} with ordinality)`,
+          [id],
+        );
+      } catch (cause) {
+        throw new Abort({ kind: 'failed', sha256: await hashing, cause });
+      }
+      const [row] = await db.all<Record<string, unknown>>(`select ${summarySelect(layout).join(', ')} from ${layout.table} where file_id = $1`, [id]);
+      const summary = summaryOf(row);
+      const sha256 = await hashing;
+      const earlier = await findIngested(db, sha256);
+      if (earlier) throw new Abort({ kind: 'known', sha256, earlier });
+      if (summary.rows === 0 || (summary.keys < summary.rows && (await keyRepeats(db, layout, id)))) {
+        throw new Abort({ kind: 'failed', sha256, cause: null });
+      }
+      await recordFile(db, {
+        ...record,
+        fileId: id,
+        sha256,
+        rows: summary.rows,
+        status: 'ingested',
+        error: null,
+        minDate: summary.minDate,
+        maxDate: summary.maxDate,
+        duplicateOf: null,
+      });
+      return { kind: 'loaded' as const, sha256, fileId: id, summary };
+    });
+  } catch (err) {
+    if (err instanceof Abort) return err.attempt;
+    throw err;
+  }
+}
+
+/** The exact test behind a short count of key hashes (which a hash collision could also cause). */
+async function keyRepeats(db: Database, layout: KindLayout, fileId: number): Promise<boolean> {
+  const keys = layout.key.map(ident).join(', ');
+  const rows = await db.all(`select 1 from ${layout.table} where file_id = $1 group by ${keys} having count(*) > 1 limit 1`, [fileId]);
+  return rows.length > 0;
 }

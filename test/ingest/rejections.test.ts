@@ -116,6 +116,12 @@ describe('ingestFile: rejected files', () => {
     expect(cash).toMatchObject({ row: 1, column: 'security_id', value: 'CASH:EURO', expected: 'CASH: followed by an ISO 4217 currency code' });
   });
 
+  it('rejects an id with surrounding spaces rather than load it as another security', async () => {
+    const header = ['date', 'portfolio_id', 'security_id', 'quantity'];
+    const r = await rejectRows('positions_d.csv', [header, ['2026-04-10', 'acct-growth', ' EQ-NORDWIND', '1']]);
+    expect(formatRejection(r)).toBe('positions_d.csv row 1, column security_id: " EQ-NORDWIND" is not an id without surrounding spaces');
+  });
+
   it('reports the earliest failing row across columns', async () => {
     const r = await rejectRows('prices_f.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1', ''], ['2026-04-10', 'EQ-B', '1', 'usd'], ['bad', 'EQ-C', '-1', '']]);
     expect(r).toMatchObject({ row: 2, column: 'currency' });
