@@ -1,10 +1,14 @@
-import { copyFileSync, existsSync, mkdirSync, renameSync, rmSync } from 'node:fs';
+import { execFile } from 'node:child_process';
+import { existsSync, mkdirSync, renameSync, rmSync } from 'node:fs';
 import path from 'node:path';
+import { promisify } from 'node:util';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { openDatabase, type Database } from './database.ts';
 import { applyMigrations, applyViews } from './sqlFiles.ts';
+
+const execFileAsync = promisify(execFile);
 
 /**
  * Opens the worker's database for writing: migrations once, settings from the config,
@@ -43,10 +47,19 @@ export async function publishReadCopy(db: Database, config: Config, log: Logger)
   // force: wait for a short write on another connection (alert delivery) instead of failing
   await db.run('force checkpoint');
   const tmp = `${config.readCopy}.tmp-${process.pid}`;
-  copyFileSync(config.database, tmp);
+  await copyInChildProcess(config.database, tmp);
   renameSync(tmp, config.readCopy);
   rmSync(`${config.readCopy}.wal`, { force: true });
   log.debug({ stage: 'storage', readCopy: config.readCopy }, 'read copy published');
+}
+
+/**
+ * DuckDB's lock on its file is a POSIX record lock, and the kernel drops such a lock when
+ * the owning process closes ANY descriptor of that file: a copyFileSync here would end
+ * the worker's lock and let a second writer in. A child's open and close leave it alone.
+ */
+async function copyInChildProcess(from: string, to: string): Promise<void> {
+  await execFileAsync(process.execPath, ['-e', 'require("node:fs").copyFileSync(process.argv[1], process.argv[2])', from, to]);
 }
 
 export interface ReadHandle {

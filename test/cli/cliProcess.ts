@@ -1,0 +1,40 @@
+import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
+import path from 'node:path';
+
+export const CLI = path.resolve(import.meta.dirname, '../../bin/riskfold.js');
+
+export interface RunningCli {
+  child: ChildProcess;
+  /** JSON log lines the child has written to stderr so far (other lines are kept as { text }). */
+  logLines: () => Record<string, unknown>[];
+  exited: Promise<{ code: number | null; signal: NodeJS.Signals | null }>;
+}
+
+/** Starts `riskfold <args>` as a real child process, the way a user or a supervisor would. */
+export function startCli(args: string[], env: NodeJS.ProcessEnv = {}): RunningCli {
+  const child = spawn(process.execPath, [CLI, ...args], { env: { ...process.env, ...env }, stdio: ['ignore', 'pipe', 'pipe'] });
+  let stderr = '';
+  child.stderr!.on('data', (chunk: Buffer) => (stderr += chunk.toString()));
+  child.stdout!.resume();
+  const exited = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) =>
+    child.on('exit', (code, signal) => resolve({ code, signal })),
+  );
+  const logLines = () =>
+    stderr
+      .split('\n')
+      .filter(Boolean)
+      .map((l) => {
+        try {
+          return JSON.parse(l) as Record<string, unknown>;
+        } catch {
+          return { text: l };
+        }
+      });
+  return { child, logLines, exited };
+}
+
+/** Runs a one-off command to completion (sql, status); killed after `timeoutMs` so a hang fails the test instead of stalling it. */
+export function runCli(args: string[], timeoutMs = 60_000): { status: number | null; stdout: string; stderr: string } {
+  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8', timeout: timeoutMs, killSignal: 'SIGKILL' });
+  return { status: r.status, stdout: r.stdout, stderr: r.stderr };
+}

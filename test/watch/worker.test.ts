@@ -1,0 +1,73 @@
+import { existsSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { afterEach, describe, expect, it } from 'vitest';
+import { memoryLogger } from '../../src/log/logger.ts';
+import { openDatabase } from '../../src/storage/database.ts';
+import { startWorker, type Worker } from '../../src/watch/runWorker.ts';
+import { pidFilePath } from '../../src/watch/workerPidFile.ts';
+import { waitFor } from '../helpers/wait.ts';
+import { pricesCsv, workerDir, type WorkerDir } from './fixtures.ts';
+
+type Line = Record<string, unknown>;
+
+describe('startWorker (in this process)', () => {
+  let wd: WorkerDir | undefined;
+  let worker: Worker | undefined;
+  afterEach(async () => {
+    await worker?.stop();
+    worker = undefined;
+    wd?.cleanup();
+  });
+
+  async function filesTable(wdir: WorkerDir) {
+    const db = await openDatabase(wdir.config.database, { readOnly: true });
+    try {
+      return await db.all<{ file_id: number; name: string; status: string; rows: string }>(
+        'select file_id, name, status, rows::varchar as rows from ingested_files order by file_id',
+      );
+    } finally {
+      db.close();
+    }
+  }
+
+  it('catches up on the files already in the inbox in one batch, oldest first, then writes and removes its pid file', async () => {
+    wd = workerDir();
+    writeFileSync(path.join(wd.config.inbox, 'prices_20200101.csv'), pricesCsv(5));
+    writeFileSync(path.join(wd.config.inbox, 'prices_20200201.csv'), pricesCsv(5, 4, '2020-02-01'));
+    const { log, lines } = memoryLogger();
+    worker = await startWorker(wd.config, log);
+    expect(existsSync(pidFilePath(wd.config))).toBe(true);
+    const batch = await waitFor(() => lines().find((l) => l.msg === 'batch done'), 10_000, 'the catch-up batch');
+    expect((batch.files as Line[]).map((f) => f.name)).toEqual(['prices_20200101.csv', 'prices_20200201.csv']);
+    await worker.stop();
+    worker = undefined;
+    expect(existsSync(pidFilePath(wd.config))).toBe(false);
+    expect((await filesTable(wd)).map((f) => [f.name, f.status, f.rows])).toEqual([
+      ['prices_20200101.csv', 'ingested', '20'],
+      ['prices_20200201.csv', 'ingested', '20'],
+    ]);
+    expect(existsSync(wd.config.readCopy)).toBe(true);
+  });
+
+  it('processes a file that arrives while another is being loaded next, as its own batch', async () => {
+    wd = workerDir();
+    const { log, lines } = memoryLogger();
+    worker = await startWorker(wd.config, log);
+    await worker.idle();
+    const big = path.join(wd.config.inbox, 'prices_big.csv');
+    writeFileSync(big, pricesCsv(3000, 40)); // 120,000 rows: loading takes a moment
+    await waitFor(() => lines().some((l) => l.msg === 'ingesting file' && l.file === 'prices_big.csv'), 10_000, 'the big file to start');
+    writeFileSync(path.join(wd.config.inbox, 'prices_late.csv'), pricesCsv(2, 4, '2030-01-01'));
+    await waitFor(() => lines().filter((l) => l.msg === 'batch done').length >= 3, 20_000, 'two batches after the catch-up');
+    const batches = lines()
+      .filter((l) => l.msg === 'batch done')
+      .map((l) => (l.files as Line[]).map((f) => f.name));
+    expect(batches).toEqual([[], ['prices_big.csv'], ['prices_late.csv']]);
+    await worker.stop();
+    worker = undefined;
+    expect((await filesTable(wd)).map((f) => [f.name, f.rows])).toEqual([
+      ['prices_big.csv', '120000'],
+      ['prices_late.csv', '8'],
+    ]);
+  });
+});
