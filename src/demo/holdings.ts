@@ -8,11 +8,18 @@ export interface CashFlow {
   amount: number;
 }
 
+/** From `date` on, an account is rebalanced to new targets (that day, then every month). */
+export interface TargetChange {
+  date: string;
+  portfolioId: string;
+  targets: Readonly<Record<string, number>>;
+}
+
 /** A full snapshot of one account: it holds until the account's next snapshot. */
 export interface Snapshot {
   date: string;
   portfolioId: string;
-  reason: 'rebalance' | 'cash_flow';
+  reason: 'rebalance' | 'new_targets' | 'cash_flow';
   /** Security id (or CASH:<CCY>) -> quantity; absent ids are zero. */
   quantities: ReadonlyMap<string, number>;
 }
@@ -42,10 +49,10 @@ function isRebalanceDay(dates: string[], t: number): boolean {
  * Targets bought at the day's close in whole units; the rounding remainder stays in
  * USD cash, so a rebalance neither creates nor destroys value.
  */
-function rebalance(market: MarketPath, account: DemoAccount, value: number, t: number): Map<string, number> {
+function rebalance(market: MarketPath, targets: Readonly<Record<string, number>>, value: number, t: number): Map<string, number> {
   const out = new Map<string, number>();
   let invested = 0;
-  for (const [id, weight] of Object.entries(account.targets)) {
+  for (const [id, weight] of Object.entries(targets)) {
     if (id === 'CASH:USD') continue;
     const unit = priceInBase(market, id, t);
     const q = id.startsWith('CASH:') ? round((weight * value) / unit, 2) : Math.round((weight * value) / unit);
@@ -57,18 +64,27 @@ function rebalance(market: MarketPath, account: DemoAccount, value: number, t: n
 }
 
 /**
- * Monthly rebalancing to each account's targets plus the given cash flows, which sit in
- * USD cash until the next rebalance (so the value jumps while the return does not).
+ * Monthly rebalancing to each account's targets (or the new ones of a target change,
+ * bought on the day of the change), plus the given cash flows, which sit in USD cash
+ * until the next rebalance (so the value jumps while the return does not).
  */
-export function simulateHoldings(market: MarketPath, accounts: readonly DemoAccount[], flows: readonly CashFlow[]): Snapshot[] {
+export function simulateHoldings(
+  market: MarketPath,
+  accounts: readonly DemoAccount[],
+  flows: readonly CashFlow[],
+  changes: readonly TargetChange[] = [],
+): Snapshot[] {
   const snapshots: Snapshot[] = [];
   for (const account of accounts) {
     let quantities = new Map<string, number>();
+    let targets = account.targets;
     market.dates.forEach((date, t) => {
-      if (isRebalanceDay(market.dates, t)) {
+      const change = changes.find((c) => c.date === date && c.portfolioId === account.id);
+      if (change) targets = change.targets;
+      if (change || isRebalanceDay(market.dates, t)) {
         const value = t === 0 ? account.startValue : valueOf(market, quantities, t);
-        quantities = rebalance(market, account, value, t);
-        snapshots.push({ date, portfolioId: account.id, reason: 'rebalance', quantities });
+        quantities = rebalance(market, targets, value, t);
+        snapshots.push({ date, portfolioId: account.id, reason: change ? 'new_targets' : 'rebalance', quantities });
       }
       for (const flow of flows.filter((f) => f.date === date && f.portfolioId === account.id)) {
         quantities = new Map(quantities);

@@ -18,7 +18,7 @@ export interface MarketPath {
 
 const DAYS_PER_YEAR = 252;
 // In stress, vols rise and equities move together: common practice, no source.
-const STRESS_VOL: Record<AssetClass | 'fx', number> = { equity: 2.4, commodity: 1.8, bond: 1.5, fx: 1.4 };
+const STRESS_VOL: Record<AssetClass | 'fx', number> = { equity: 3.0, commodity: 2.0, bond: 1.5, fx: 1.4 };
 const STRESS_DRIFT: Record<AssetClass | 'fx', number> = { equity: -0.45, commodity: -0.2, bond: 0.02, fx: -0.05 };
 const STRESS_EQUITY_LOADING = 1.4;
 const MAX_LOADING_NORM = 0.95;

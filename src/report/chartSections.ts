@@ -61,7 +61,7 @@ export function volatilitySection(data: ReportData): string {
   ]);
   return section(
     'Ex-ante volatility by window',
-    'Annualized volatility from each window\'s covariance of daily log returns and the day\'s weights, against the mandate limit. Shaded: limit episodes, from the day one opened to the day it closed.',
+    `Annualized volatility from each window's covariance of daily log returns and the day's weights, against the mandate limit, from ${escapeHtml(data.chartFrom)} to ${escapeHtml(data.asOf)}. Shaded: limit episodes, from the day one opened to the day it closed.`,
     chart + key,
   );
 }

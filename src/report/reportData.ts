@@ -69,6 +69,8 @@ export interface ReportData {
   /** The window the realized-vs-ex-ante chart and the contributions use: the limit's, else 63, else the first. */
   focusWindow: number;
   limits: ResolvedLimit[];
+  /** First date of the line charts (CHART_DATES valuation dates up to asOf). */
+  chartFrom: string;
   series: RiskPoint[];
   latest: LatestRisk[];
   contributions: { date: string | null; rows: Contribution[] };
@@ -78,6 +80,8 @@ export interface ReportData {
   provenance: { runId: number | null; runFinishedAt: string | null; trigger: string | null; configHash: string; database: string };
 }
 
+/** Valuation dates the line charts cover (about six months). */
+export const CHART_DATES = 126;
 const TOP_HOLDINGS = 10;
 const CORRELATION_WINDOW = 63;
 const QUALITY_ROWS = 20;
@@ -107,10 +111,16 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
   const limitWindow = limits.find((l) => l.estimator === 'sample')?.window;
   const focusWindow = limitWindow ?? (windows.includes(63) ? 63 : windows[0]);
 
+  // the charts show the latest half year: a breach of last week stays readable (the full history is in risk_daily)
+  const [{ chart_from: chartFrom }] = await db.all<{ chart_from: string }>(
+    `select min(date) as chart_from from (
+       select distinct date from risk_daily where portfolio_id = $1 order by date desc limit ${CHART_DATES})`,
+    [portfolioId],
+  );
   const series = await db.all<RiskPoint>(
     `select date, window_days, estimator, vol_ex_ante, vol_realized
-     from risk_daily where portfolio_id = $1 order by estimator, window_days, date`,
-    [portfolioId],
+     from risk_daily where portfolio_id = $1 and date >= $2 order by estimator, window_days, date`,
+    [portfolioId, chartFrom],
   );
   const latest = await db.all<LatestRisk>(
     'select * from risk_daily where portfolio_id = $1 and date = $2 order by estimator desc, window_days',
@@ -123,6 +133,7 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
     windows,
     focusWindow,
     limits,
+    chartFrom,
     series,
     latest,
     contributions: await loadContributions(db, portfolioId, focusWindow),

@@ -67,7 +67,7 @@ export function lineChart(spec: LineChartSpec): string {
   const xOf = (date: string) => x(dayTime(date)).toFixed(1);
   const yOf = (v: number) => y(v).toFixed(1);
 
-  const bands = (spec.bands ?? []).map((b) => {
+  const bands = (spec.bands ?? []).filter((b) => b.to >= first && b.from <= last).map((b) => {
     const x0 = x(dayTime(b.from < first ? first : b.from));
     const x1 = x(dayTime(b.to > last ? last : b.to));
     return `<rect class="band" x="${x0.toFixed(1)}" y="${MARGIN.top}" width="${Math.max(x1 - x0, 1.5).toFixed(1)}" height="${height - MARGIN.top - MARGIN.bottom}" fill="${b.color}"><title>${escapeHtml(b.label)}</title></rect>`;

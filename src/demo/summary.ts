@@ -1,0 +1,162 @@
+import { existsSync, readFileSync } from 'node:fs';
+import path from 'node:path';
+import type { Config } from '../config/load.ts';
+import { CAUTIONS } from '../report/cautions.ts';
+import { formatMoney, formatPercent } from '../report/format.ts';
+import type { Database } from '../storage/database.ts';
+import { DEMO_LIMIT_WINDOW } from './demoConfig.ts';
+import { ACCOUNTS, FIRM_NAME, SECURITIES } from './universe.ts';
+
+export interface EpisodeSummary {
+  level: 'warning' | 'breach';
+  opened_on: string;
+  escalated_on: string | null;
+  closed_on: string | null;
+  peak_value: number;
+  peak_on: string;
+  retracted: boolean;
+}
+
+export interface AccountSummary {
+  portfolioId: string;
+  mandate: string;
+  asOf: string | null;
+  value: number | null;
+  vol: number | null;
+  limit: number;
+  status: 'within limit' | 'warning' | 'breach';
+  episodes: EpisodeSummary[];
+}
+
+export interface DemoSummary {
+  accounts: AccountSummary[];
+  alerts: { kind: string; portfolio_id: string | null; as_of: string | null; text: string | null }[];
+  /** Lines of the JSON Lines alert file (each alert delivered there once). */
+  alertsInFile: number;
+  files: { ingested: number; duplicate: number; rejected: number };
+  quarantined: { name: string; error: string; archived_path: string | null }[];
+  /** Files that re-delivered prices an earlier file had sent (the later delivery wins). */
+  corrections: { name: string; prices: number }[];
+}
+
+/** Reads the demo's outcome back from the database, so what is printed is what was stored. */
+export async function readDemoSummary(db: Database, config: Config): Promise<DemoSummary> {
+  const accounts: AccountSummary[] = [];
+  for (const account of ACCOUNTS) {
+    const [latest] = await db.all<{ date: string; portfolio_value: number | null; vol_ex_ante: number | null }>(
+      `select date, portfolio_value, vol_ex_ante from risk_daily
+       where portfolio_id = $1 and window_days = $2 and estimator = 'sample' order by date desc limit 1`,
+      [account.id, DEMO_LIMIT_WINDOW],
+    );
+    const episodes = await db.all<EpisodeSummary>(
+      `select level, opened_on, escalated_on, closed_on, peak_value, peak_on, retracted from limit_breaches
+       where portfolio_id = $1 and window_days = $2 order by opened_on`,
+      [account.id, DEMO_LIMIT_WINDOW],
+    );
+    const open = episodes.find((e) => e.closed_on === null && !e.retracted);
+    const limit = config.limits.find((l) => l.portfolio === account.id && l.window === DEMO_LIMIT_WINDOW);
+    accounts.push({
+      portfolioId: account.id,
+      mandate: account.mandate,
+      asOf: latest?.date ?? null,
+      value: latest?.portfolio_value ?? null,
+      vol: latest?.vol_ex_ante ?? null,
+      limit: limit?.limit ?? account.volLimit,
+      status: open ? open.level : 'within limit',
+      episodes,
+    });
+  }
+  const alerts = await db.all<DemoSummary['alerts'][number]>(
+    "select kind, portfolio_id, as_of, payload->>'text' as text from alerts order by as_of, created_at, alert_id",
+  );
+  const counts = await db.all<{ status: string; n: number }>('select status, count(*)::integer as n from ingested_files group by status');
+  const count = (status: string) => counts.find((c) => c.status === status)?.n ?? 0;
+  const quarantined = await db.all<DemoSummary['quarantined'][number]>(
+    "select name, error, archived_path from ingested_files where status = 'rejected' order by file_id",
+  );
+  const corrections = await db.all<DemoSummary['corrections'][number]>(
+    `select f.name, count(*)::integer as prices
+     from prices p join ingested_files f using (file_id)
+     where exists (select 1 from prices q where q.date = p.date and q.security_id = p.security_id and q.file_id < p.file_id)
+     group by f.file_id, f.name order by f.file_id`,
+  );
+  const file = config.alerts.file;
+  const alertsInFile = file && existsSync(file) ? readFileSync(file, 'utf8').split('\n').filter(Boolean).length : 0;
+  return {
+    accounts,
+    alerts,
+    alertsInFile,
+    files: { ingested: count('ingested'), duplicate: count('duplicate'), rejected: count('rejected') },
+    quarantined,
+    corrections,
+  };
+}
+
+function episodeText(e: EpisodeSummary): string {
+  if (e.retracted) return `${e.level} from ${e.opened_on}, retracted`;
+  const end = e.closed_on ? `closed ${e.closed_on}` : 'still open';
+  return `${e.level} opened ${e.opened_on}, ${end}, peak ${formatPercent(e.peak_value)} on ${e.peak_on}`;
+}
+
+const pad = (text: string, width: number) => text.padEnd(width);
+const padLeft = (text: string, width: number) => text.padStart(width);
+
+export interface SummaryPlaces {
+  dir: string;
+  config: Config;
+  reportFile: string;
+  deliveries: number;
+  seconds: number;
+}
+
+/** The summary the demo prints: accounts against limits, alerts, quarantine, places, commands to try, cautions. */
+export function formatSummary(summary: DemoSummary, places: SummaryPlaces): string {
+  const { config } = places;
+  const asOf = summary.accounts.map((a) => a.asOf).filter(Boolean).sort().at(-1) ?? 'n/a';
+  const lines: string[] = [
+    `riskfold demo: ${FIRM_NAME}, an invented wealth manager (${ACCOUNTS.length} accounts, ${SECURITIES.length} securities, all made up)`,
+    `Folder: ${places.dir}`,
+    `Processed ${places.deliveries} deliveries (a history load, then one per business day) in ${places.seconds.toFixed(1)} s: ` +
+      `${summary.files.ingested} files ingested, ${summary.files.duplicate} duplicates, ${summary.files.rejected} rejected.`,
+    '',
+    `Accounts on ${asOf}: ${DEMO_LIMIT_WINDOW}-day ex-ante volatility against the mandate limit`,
+    `  ${pad('account', 14)} ${pad('mandate', 9)} ${padLeft(`value ${config.baseCurrency}`, 13)} ${padLeft('vol', 8)} ${padLeft('limit', 8)}  status`,
+  ];
+  for (const a of summary.accounts) {
+    lines.push(
+      `  ${pad(a.portfolioId, 14)} ${pad(a.mandate, 9)} ${padLeft(formatMoney(a.value), 13)} ${padLeft(formatPercent(a.vol), 8)} ${padLeft(formatPercent(a.limit), 8)}  ${a.status}`,
+    );
+    for (const e of a.episodes) lines.push(`  ${' '.repeat(14)} episode: ${episodeText(e)}`);
+  }
+  lines.push('', `Alerts raised: ${summary.alerts.length} (${summary.alertsInFile} lines in ${config.alerts.file ?? 'no alert file'})`);
+  for (const a of summary.alerts) lines.push(`  ${a.as_of ?? '----------'}  ${pad(a.kind, 16)} ${a.text ?? ''}`);
+  lines.push('', 'Quarantined files:');
+  if (summary.quarantined.length === 0) lines.push('  none');
+  for (const q of summary.quarantined) lines.push(`  ${q.name}: ${q.error}`, `    now at ${q.archived_path ?? 'n/a'}`);
+  lines.push('', 'Corrections (later files that re-delivered earlier prices; the later delivery counts):');
+  if (summary.corrections.length === 0) lines.push('  none');
+  for (const c of summary.corrections) lines.push(`  ${c.name}: ${c.prices} price${c.prices === 1 ? '' : 's'}`);
+  const cfg = config.configPath;
+  lines.push(
+    '',
+    'Where things are:',
+    `  config    ${cfg}`,
+    `  database  ${config.database}`,
+    `  read copy ${config.readCopy}`,
+    `  report    ${places.reportFile}`,
+    `  alerts    ${config.alerts.file ?? 'n/a'}`,
+    `  files     ${path.relative(places.dir, config.archive)}/ (ingested), ${path.relative(places.dir, config.quarantine)}/ (rejected, with a reason file)`,
+    '',
+    'Try:',
+    `  npx riskfold sql --config ${cfg} "select portfolio_id, date, vol_ex_ante, vol_realized from risk_daily where window_days = ${DEMO_LIMIT_WINDOW} and estimator = 'sample' order by date desc limit 6"`,
+    `  npx riskfold sql --config ${cfg} "select portfolio_id, level, opened_on, closed_on, peak_value from limit_breaches"`,
+    `  npx riskfold sql --config ${cfg} "select security_id, weight, pct from risk_contributions where portfolio_id = '${summary.accounts[0].portfolioId}' order by pct desc"`,
+    `  npx riskfold sql --config ${cfg} "select * from check_data_quality where problem = 'stale_price'"`,
+    `  npx riskfold status --config ${cfg}`,
+    `  npx riskfold report --config ${cfg} --portfolio ${summary.accounts[0].portfolioId}`,
+    '',
+    'Cautions:',
+    ...CAUTIONS.map((c) => `  - ${c}`),
+  );
+  return `${lines.join('\n')}\n`;
+}
