@@ -113,6 +113,29 @@ describe('buildScenario', () => {
     }
   });
 
+  it('moves the growth account to lower-risk targets on the de-risk drop: equities fall from 85% to 40% of value', () => {
+    const { derisk } = scenario.incidents;
+    const { dates } = scenario.market;
+    const t = dates.indexOf(derisk.date);
+    const equityShare = (date: string, at: number) => {
+      const q = holdingsOn(scenario.snapshots, derisk.portfolioId, date);
+      const equity = new Map([...q].filter(([id]) => id.startsWith('EQ-')));
+      return valueOf(scenario.market, equity, at) / valueOf(scenario.market, q, at);
+    };
+    expect(t).toBe(scenario.historyDays + derisk.drop);
+    expect(equityShare(dates[t - 1], t - 1)).toBeGreaterThan(0.75);
+    expect(equityShare(dates[t], t)).toBeCloseTo(0.4, 2);
+    expect(Object.values(derisk.targets).reduce((x, y) => x + y, 0)).toBeCloseTo(1, 12);
+  });
+
+  it('puts every mishap on its own day inside the daily drops', () => {
+    const { stale, correction, malformed, derisk } = scenario.incidents;
+    const drops = scenario.market.dates.length - scenario.historyDays;
+    const days = [stale.drop, correction.drop, correction.drop + 1, malformed.drop, malformed.drop + 1, derisk.drop];
+    expect(new Set(days).size).toBe(days.length);
+    expect(days.every((d) => d >= 0 && d < drops)).toBe(true);
+  });
+
   it('moves cash in and out without touching the securities held', () => {
     for (const flow of scenario.incidents.cashFlows) {
       const { dates } = scenario.market;
