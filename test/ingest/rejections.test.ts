@@ -89,6 +89,12 @@ describe('ingestFile: rejected files', () => {
     expect(formatRejection(r)).toBe('prices_d.csv row 2, column date: "2026-04-31" is not a date in the format %Y-%m-%d');
   });
 
+  // ISO 8601 calendar date, extended format YYYY-MM-DD: nothing shorter, longer or signed
+  it.each(['26-04-10', '2026/04/10', '2026-04-10 17:30', 'infinity', '-2026-04-10', '2026-4-10'])('rejects %s as an ISO date', async (text) => {
+    const r = await rejectRows('prices_iso.csv', [PRICE_HEADER, ['2026-04-09', 'EQ-NORDWIND', '1', ''], [text, 'EQ-NORDWIND', '1', '']]);
+    expect(r).toMatchObject({ code: 'bad_value', row: 2, column: 'date', value: text });
+  });
+
   it('rejects a currency that is not an ISO 4217 code', async () => {
     const r = await rejectRows('prices_e.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '1', 'eur']]);
     expect(r).toMatchObject({ row: 1, column: 'currency', value: 'eur', expected: 'an ISO 4217 currency code (three capital letters)' });
