@@ -67,6 +67,19 @@ export async function loadEpisodesInScope(
   }));
 }
 
+/**
+ * The last date before `from` on which an episode of this limit closed: on it no episode
+ * was open, so a replay can start there. Null: none closed before, replay everything.
+ */
+export async function lastClosingBefore(db: Database, portfolioId: string, limit: ResolvedLimit, from: string): Promise<string | null> {
+  const [row] = await db.all<{ closed_on: string | null }>(
+    `select max(closed_on) as closed_on from limit_breaches
+     where portfolio_id = $1 and metric = $2 and window_days = $3 and estimator = $4 and not retracted and closed_on < $5::date`,
+    [portfolioId, limit.metric, limit.window, limit.estimator, from],
+  );
+  return row.closed_on;
+}
+
 export async function insertEpisode(
   db: Database,
   portfolioId: string,

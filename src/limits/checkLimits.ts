@@ -7,6 +7,7 @@ import { applicableLimits } from './applicableLimits.ts';
 import {
   alertedKinds,
   insertEpisode,
+  lastClosingBefore,
   loadEpisodesInScope,
   loadMetricSeries,
   retractEpisode,
@@ -75,9 +76,11 @@ export async function checkLimits(db: Database, config: Config, log: Logger, sco
 async function checkOneLimit(run: LimitRun): Promise<LimitOutcome> {
   const { db, scope, portfolioId, limit } = run;
   const recorded = await loadEpisodesInScope(db, portfolioId, limit, scope.from);
-  // An episode open at `from` is replayed from its opening: the dates before `from` are
-  // unchanged, so the replay re-derives it exactly up to `from` and continues it.
-  const replayFrom = scope.from === null ? null : [scope.from, ...recorded.map((e) => e.openedOn)].sort()[0];
+  // The state at `from` is known only by replaying from a date with no episode open: the
+  // last closing before `from`. The dates before `from` are unchanged, so an episode open
+  // at `from` is re-derived exactly up to it and continued; one a previous run could not
+  // see (a limit added since) is found too.
+  const replayFrom = scope.from === null ? null : await lastClosingBefore(db, portfolioId, limit, scope.from);
   const points = await loadMetricSeries(db, portfolioId, limit, replayFrom);
   if (points.length === 0) {
     // no rows for this window/estimator: nothing to judge, so nothing recorded is retracted

@@ -80,6 +80,17 @@ describe('checkLimits over corrections and history loads', () => {
     expect(outcome.openEpisodes).toBe(0);
   });
 
+  it('finds an episode open since before `from` that no run had recorded (a limit added later)', async () => {
+    ws = await tempWorkspace();
+    const history = path([0.1, 0.16, 0.17, 0.14, 0.13]);
+    await ws.db.transaction(() => writeRiskSeries(ws!.db, { portfolioId: 'acct-growth', points: history }));
+    const [today] = path([0.13], '2026-03-09');
+    const outcome = await run([today], today[0], 2);
+    expect((await breachRows(ws.db)).map((b) => [b.opened_on, b.closed_on, b.peak_value])).toEqual([[history[1][0], null, 0.17]]);
+    expect(outcome).toEqual({ alertsRaised: 1, openEpisodes: 1 });
+    expect((await alertRows(ws.db)).map((a) => [a.kind, a.as_of, a.data.late])).toEqual([['limit_opened', today[0], true]]);
+  });
+
   it('records every episode of a history load but alerts only recent transitions and a still-open episode, once', async () => {
     // maxAgeDays 5 (the default): transitions more than 5 calendar days before the last date stay quiet
     ws = await tempWorkspace();
