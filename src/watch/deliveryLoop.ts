@@ -2,7 +2,7 @@ import type { Logger } from 'pino';
 import type { DeliverySummary } from '../alerts/deliverAlerts.ts';
 
 /**
- * Runs alert delivery beside the worker's queue (on its own database session), so the
+ * Runs alert delivery beside the worker's queue (deliverAlerts uses its own session), so the
  * network never holds up the next file. Kicks while a round runs fold into one more
  * round. After a round that changed the outbox, `onChange` republishes the read copy.
  */

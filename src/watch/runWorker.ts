@@ -47,7 +47,6 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
   const wlog = log.child({ stage: 'worker' });
   const db = await openOwned(config, log);
   writePidFile(config);
-  const session = await db.openSession();
 
   let stopping = false;
   let publishWanted = false;
@@ -82,7 +81,8 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       (err: unknown) => wlog.debug({ err }, 'read copy not republished'),
     );
   };
-  const delivery = new DeliveryLoop(() => deliverAlerts(session, config, log), republish, log);
+  // deliverAlerts works on a session of its own, so it may run while a batch holds a transaction
+  const delivery = new DeliveryLoop(() => deliverAlerts(db, config, log), republish, log);
 
   let watcher: FSWatcher | null = null;
   let schedules: { stop(): void | Promise<void> } | null = null;
@@ -96,7 +96,6 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       await queue.stop();
       await delivery.stop();
       if (publishWanted && !fault) await publishReadCopy(db, config, log).catch((err) => wlog.error({ err }, 'final publish failed'));
-      session.close();
       db.close();
       removePidFile(config);
       wlog.info('stopped');

@@ -1,4 +1,5 @@
 import type { Command } from 'commander';
+import { startSchedules } from '../../schedule/startSchedules.ts';
 import { startWorker } from '../../watch/runWorker.ts';
 import { contextFrom, withConfigOption } from '../context.ts';
 
@@ -9,7 +10,7 @@ export function registerWatch(program: Command): void {
       .description('the worker: catches up on the inbox, then watches it; logs JSON lines on stderr; stops cleanly on SIGINT/SIGTERM'),
   ).action(async (opts: { config: string }) => {
     const { config, log } = contextFrom(opts);
-    const worker = await startWorker(config, log);
+    const worker = await startWorker(config, log, { startSchedules });
     let signalled = false;
     const onSignal = (signal: NodeJS.Signals) => {
       if (signalled) {

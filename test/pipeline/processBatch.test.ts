@@ -1,0 +1,106 @@
+import { writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { afterEach, describe, expect, it } from 'vitest';
+import { processBatch } from '../../src/pipeline/processBatch.ts';
+import { applyViews } from '../../src/storage/sqlFiles.ts';
+import { writeCsv } from '../helpers/files.ts';
+import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
+import { pricesCsv } from '../watch/fixtures.ts';
+
+interface RunRow {
+  run_id: number;
+  trigger: string;
+  from_date: string | null;
+  portfolios: string[] | null;
+  status: string;
+}
+
+describe('processBatch', () => {
+  let ws: TempWorkspace | undefined;
+  afterEach(() => ws?.cleanup());
+
+  const runs = () => ws!.db.all<RunRow>('select run_id, trigger, from_date, portfolios, status from risk_runs order by run_id');
+  const inbox = (name: string, text: string) => {
+    const file = path.join(ws!.config.inbox, name);
+    writeFileSync(file, text);
+    return file;
+  };
+  const positions = (name: string, date: string, portfolio: string) =>
+    writeCsv(ws!.config.inbox, name, [
+      ['date', 'portfolio_id', 'security_id', 'quantity'],
+      [date, portfolio, 'EQ-NORDWIND', 100],
+      [date, portfolio, 'EQ-SALTMARSH', 50],
+    ]);
+
+  it('ingests the files in order and runs ONE recompute from the earliest date for every portfolio', async () => {
+    ws = await tempWorkspace();
+    const files = [
+      inbox('prices_late.csv', pricesCsv(80, 2, '2020-03-01')),
+      inbox('prices_early.csv', pricesCsv(40, 2, '2020-01-01')),
+      positions('positions_start.csv', '2020-01-01', 'acct-growth'),
+    ];
+    const summary = await processBatch(ws.db, ws.config, ws.log, files);
+    expect(summary.files.map((f) => [f.name, f.status])).toEqual([
+      ['prices_late.csv', 'ingested'],
+      ['prices_early.csv', 'ingested'],
+      ['positions_start.csv', 'ingested'],
+    ]);
+    expect(summary.runError).toBeNull();
+    expect(await runs()).toEqual([
+      { run_id: summary.run!.runId, trigger: 'ingest:prices_late.csv(+2)', from_date: '2020-01-01', portfolios: null, status: 'done' },
+    ]);
+    const [{ n }] = await ws.db.all<{ n: number }>("select count(*)::integer as n from risk_daily where portfolio_id = 'acct-growth'");
+    expect(n).toBeGreaterThan(0);
+  });
+
+  it('limits a positions-only batch to its portfolios, and runs nothing for a duplicate', async () => {
+    ws = await tempWorkspace();
+    await processBatch(ws.db, ws.config, ws.log, [inbox('prices_all.csv', pricesCsv(80, 2, '2020-01-01'))]);
+    const second = await processBatch(ws.db, ws.config, ws.log, [
+      positions('positions_b.csv', '2020-02-03', 'acct-income'),
+      positions('positions_a.csv', '2020-01-06', 'acct-growth'),
+    ]);
+    expect((await runs()).at(-1)).toMatchObject({
+      trigger: 'ingest:positions_b.csv(+1)',
+      from_date: '2020-01-06',
+      portfolios: ['acct-growth', 'acct-income'],
+      status: 'done',
+    });
+    expect(second.scope?.portfolios).toEqual(['acct-growth', 'acct-income']);
+    const before = (await runs()).length;
+    const dup = await processBatch(ws.db, ws.config, ws.log, [inbox('prices_again.csv', pricesCsv(80, 2, '2020-01-01'))]);
+    expect(dup.files[0].status).toBe('duplicate');
+    expect(dup.run).toBeNull();
+    expect((await runs()).length).toBe(before);
+  });
+
+  it('after a failed recompute, the next batch covers the files the failure left behind', async () => {
+    ws = await tempWorkspace();
+    // a missing view makes the risk stage fail, as a broken migration or disk would
+    await ws.db.run('drop view ret_portfolios');
+    const failed = await processBatch(ws.db, ws.config, ws.log, [inbox('prices_first.csv', pricesCsv(80, 2, '2020-01-01'))]);
+    expect(failed.files[0].status).toBe('ingested');
+    expect(failed.runError).not.toBeNull();
+    await applyViews(ws.db, ws.log);
+    const next = await processBatch(ws.db, ws.config, ws.log, [positions('positions_a.csv', '2020-03-02', 'acct-growth')]);
+    expect(next.runError).toBeNull();
+    // the prices file widens the positions-only batch back to every portfolio and its first date
+    expect(next.scope).toEqual({ from: '2020-01-01', portfolios: null, files: ['positions_a.csv', 'prices_first.csv'] });
+    expect((await runs()).map((r) => r.status)).toEqual(['failed', 'done']);
+  });
+
+  it('skips a file that left the inbox before its turn and, once asked to stop, leaves the rest there', async () => {
+    ws = await tempWorkspace();
+    const gone = path.join(ws.config.inbox, 'prices_gone.csv');
+    const first = inbox('prices_a.csv', pricesCsv(5, 2, '2020-01-01'));
+    const rest = inbox('prices_b.csv', pricesCsv(5, 2, '2020-02-01'));
+    let stop = false;
+    const summary = await processBatch(ws.db, ws.config, ws.log, [gone, first, rest], {
+      onFile: () => (stop = true),
+      shouldStop: () => stop,
+    });
+    expect(summary.files.map((f) => f.name)).toEqual(['prices_a.csv']);
+    expect(summary.skipped).toEqual([gone, rest]);
+    expect(summary.run?.runId).toBeGreaterThan(0);
+  });
+});
