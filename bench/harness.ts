@@ -18,6 +18,8 @@ export interface BenchOptions {
   /** Where <size>-latest.json is written; null: nowhere. */
   resultsDir: string | null;
   log: Logger;
+  /** Repetitions of ingest, backfill and the naive run; default the size's own. */
+  runs?: number;
   /** Keep the temporary scenario and workspaces (their folder is in the result). */
   keep?: boolean;
   /** Called as each stage starts, for progress output. */
@@ -51,7 +53,7 @@ export interface BenchResult {
 /** Generates the scenario, measures the five figures stage by stage and writes the result. */
 export async function runBench(options: BenchOptions): Promise<BenchResult> {
   const started = performance.now();
-  const size = SIZES[options.size];
+  const size = { ...SIZES[options.size], runs: options.runs ?? SIZES[options.size].runs };
   const root = mkdtempSync(path.join(os.tmpdir(), `riskfold-bench-${size.name}-`));
   const stage = options.onStage ?? (() => undefined);
   const found = new Map<FigureKey, Figure>();

@@ -6,18 +6,24 @@ import { formatResult } from './report.ts';
 import { SIZE_NAMES, type SizeName } from './scenario.ts';
 
 /**
- * `npm run bench [-- --size small|large] [--keep]`: prints the figures and writes
+ * `npm run bench [-- --size small|large] [--runs N] [--keep]`: prints the figures and writes
  * bench/results/<size>-latest.json. A missed goal is reported, never an exit code, so
  * CI can run the small size without failing on a slow machine.
  */
 const { values } = parseArgs({
   options: {
     size: { type: 'string', default: 'small' },
+    runs: { type: 'string' },
     keep: { type: 'boolean', default: false },
   },
 });
 if (!(SIZE_NAMES as readonly string[]).includes(values.size)) {
   process.stderr.write(`bench: --size must be one of ${SIZE_NAMES.join(', ')}, got "${values.size}"\n`);
+  process.exit(2);
+}
+const runs = values.runs === undefined ? undefined : Number(values.runs);
+if (runs !== undefined && !(Number.isInteger(runs) && runs >= 1)) {
+  process.stderr.write(`bench: --runs must be a whole number >= 1, got "${values.runs}"\n`);
   process.exit(2);
 }
 
@@ -28,6 +34,7 @@ const result = await runBench({
   // tiny is a smoke run of the harness, not a figure worth keeping
   resultsDir: values.size === 'tiny' ? null : path.join(import.meta.dirname, 'results'),
   log,
+  runs,
   keep: values.keep,
   onStage: (name) => process.stderr.write(`bench: ${name}\n`),
 });

@@ -14,6 +14,9 @@ const PROJECT_ROOT = path.resolve(import.meta.dirname, '../..');
 const BIN = path.join(PROJECT_ROOT, 'bin', 'riskfold.js');
 const POLL_MS = 50;
 const STOP_TIMEOUT_MS = 15_000;
+// only guards against a hung worker: a slow stage must show up as a slow figure, not a timeout
+const CATCH_UP_TIMEOUT_MS = 4 * 3_600_000;
+const DAY_TIMEOUT_MS = 3_600_000;
 
 /** Where a batch of files stands, as the worker's published read copy shows it. */
 interface Progress {
@@ -47,7 +50,7 @@ export async function measureWorker(scenario: GeneratedScenario, root: string): 
   const exit = watchExit(child, logFile);
   try {
     const lastHistoryDate = scenario.historyDates.at(-1)!;
-    await settle(ws.config, scenario.history.map((f) => path.basename(f.path)), lastHistoryDate, exit, 3_600_000);
+    await settle(ws.config, scenario.history.map((f) => path.basename(f.path)), lastHistoryDate, exit, CATCH_UP_TIMEOUT_MS);
     const catchUpSeconds = (Date.now() - started) / 1000;
 
     const visible: number[] = [];
@@ -56,7 +59,7 @@ export async function measureWorker(scenario: GeneratedScenario, root: string): 
     for (const day of scenario.newDays) {
       const dropped = Date.now();
       for (const file of day.files) dropIntoInbox(file.path, ws.config.inbox);
-      const done = await settle(ws.config, day.files.map((f) => path.basename(f.path)), day.date, exit, 120_000);
+      const done = await settle(ws.config, day.files.map((f) => path.basename(f.path)), day.date, exit, DAY_TIMEOUT_MS);
       visible.push((Date.now() - dropped) / 1000);
       committed.push((done.finishedMs! - dropped) / 1000);
       waited.push((done.firstReceivedMs! - dropped) / 1000);
