@@ -1,4 +1,4 @@
-import { existsSync, writeFileSync } from 'node:fs';
+import { existsSync, readFileSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { memoryLogger } from '../../src/log/logger.ts';
@@ -69,5 +69,47 @@ describe('startWorker (in this process)', () => {
       ['prices_big.csv', '120000'],
       ['prices_late.csv', '8'],
     ]);
+  });
+
+  it('delivers the alert of a limit breach from its loop and republishes the read copy with it delivered', async () => {
+    wd = workerDir();
+    // two invented securities swinging 2-3% a day: an annualized volatility near
+    // 0.03 * sqrt(252) = 0.48, far over the 0.15 limit of the minimal config
+    const lines = ['date,security_id,price'];
+    let a = 100;
+    let b = 50;
+    for (let d = 0; d < 80; d++) {
+      const date = new Date(Date.UTC(2020, 0, 1) + d * 86_400_000).toISOString().slice(0, 10);
+      a *= Math.exp(d % 2 === 0 ? 0.03 : -0.03);
+      b *= Math.exp(d % 3 === 0 ? 0.03 : -0.02);
+      lines.push(`${date},EQ-NORDWIND,${a}`, `${date},EQ-SALTMARSH,${b}`);
+    }
+    writeFileSync(path.join(wd.config.inbox, 'prices_2020.csv'), `${lines.join('\n')}\n`);
+    writeFileSync(
+      path.join(wd.config.inbox, 'positions_2020.csv'),
+      'date,portfolio_id,security_id,quantity\n2020-01-01,acct-growth,EQ-NORDWIND,100\n2020-01-01,acct-growth,EQ-SALTMARSH,200\n',
+    );
+    worker = await startWorker(wd.config, memoryLogger().log);
+    const alertsFile = wd.config.alerts.file!;
+    const delivered = await waitFor(
+      () => existsSync(alertsFile) && readFileSync(alertsFile, 'utf8').trim().split('\n').map((l) => JSON.parse(l) as Line),
+      30_000,
+      'an alert in the alerts file',
+    );
+    expect(delivered).toEqual([expect.objectContaining({ kind: 'limit_opened', portfolio_id: 'acct-growth' })]);
+    // the delivery is recorded in the read copy too, so status shows nothing undelivered
+    await waitFor(
+      async () => {
+        const copy = await openDatabase(wd!.config.readCopy, { readOnly: true });
+        try {
+          const [{ n }] = await copy.all<{ n: number }>('select count(*)::integer as n from alerts where delivered_at is not null');
+          return n === 1;
+        } finally {
+          copy.close();
+        }
+      },
+      30_000,
+      'the delivered alert in the read copy',
+    );
   });
 });
