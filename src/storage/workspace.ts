@@ -47,8 +47,13 @@ export async function publishReadCopy(db: Database, config: Config, log: Logger)
   // force: wait for a short write on another connection (alert delivery) instead of failing
   await db.run('force checkpoint');
   const tmp = `${config.readCopy}.tmp-${process.pid}`;
-  await copyInChildProcess(config.database, tmp);
-  renameSync(tmp, config.readCopy);
+  try {
+    await copyInChildProcess(config.database, tmp);
+    renameSync(tmp, config.readCopy);
+  } catch (err) {
+    rmSync(tmp, { force: true }); // a full disk must not leave a stray copy behind
+    throw err;
+  }
   rmSync(`${config.readCopy}.wal`, { force: true });
   log.debug({ stage: 'storage', readCopy: config.readCopy }, 'read copy published');
 }

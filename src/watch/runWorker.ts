@@ -10,7 +10,7 @@ import { openWorkspace, publishReadCopy } from '../storage/workspace.ts';
 import { DeliveryLoop } from './deliveryLoop.ts';
 import { listInbox, waitUntilStable } from './inboxFiles.ts';
 import { watchInbox } from './inboxWatcher.ts';
-import { describeOwner, removePidFile, writePidFile } from './workerPidFile.ts';
+import { describeHolder, removePidFile, writePidFile } from './workerPidFile.ts';
 import { WorkQueue } from './workQueue.ts';
 
 /** What the scheduled jobs (src/schedule/) get from the worker that runs them. */
@@ -136,7 +136,7 @@ async function openOwned(config: Config, log: Logger): Promise<Database> {
     if (err instanceof RiskfoldError && err.kind === 'database_locked') {
       throw new RiskfoldError(
         'database_locked',
-        `a riskfold worker already owns ${config.database} (${describeOwner(config, err.message)}); stop it first (sql and status keep working: they read its published copy)`,
+        `${describeHolder(config, err.message)}; stop it first (while a worker runs, sql and status read its published copy)`,
         { file: config.database, cause: err },
       );
     }

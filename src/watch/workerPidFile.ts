@@ -35,15 +35,15 @@ export function removePidFile(config: Config): void {
 }
 
 /**
- * "pid 4242 on host-a, started 2026-12-01T21:55:00.000Z". DuckDB's lock error names the
- * pid that holds the file; the pid file adds when it started, if it is the same process
- * (the holder may also be a one-off `ingest`).
+ * Who holds the database, for the refusal of a second worker. DuckDB's lock error names
+ * the pid; when the pid file names the same process it is a worker and we can say since
+ * when. Otherwise a one-off command (ingest, or sql on a free file) has it open.
  */
-export function describeOwner(config: Config, lockMessage: string): string {
+export function describeHolder(config: Config, lockMessage: string): string {
   const info = readPidFile(config);
   const lockPid = /PID (\d+)/i.exec(lockMessage)?.[1];
   if (info && (lockPid === undefined || Number(lockPid) === info.pid)) {
-    return `pid ${info.pid} on ${info.host}, started ${info.startedAt}`;
+    return `a riskfold worker already owns ${config.database} (pid ${info.pid} on ${info.host}, started ${info.startedAt})`;
   }
-  return lockPid ? `pid ${lockPid}` : 'pid unknown';
+  return `another process holds ${config.database} (${lockPid ? `pid ${lockPid}` : 'pid unknown'}; not a worker, perhaps a one-off ingest or sql)`;
 }
