@@ -26,10 +26,15 @@ interface Touch {
  */
 export async function uncoveredFiles(db: Database): Promise<Touch[]> {
   const rows = await db.all<{ file_id: number; name: string; min_date: string | null; portfolios: string[] | null }>(`
-    with ingested as (
+    with last_full_run as (
+      -- a finished full backfill covers everything received before it: look only after it
+      select coalesce(max(started_at), '-infinity'::timestamptz) as started_at
+      from risk_runs where status = 'done' and from_date is null and portfolios is null
+    ),
+    ingested as (
       select f.file_id, f.name, f.kind, f.min_date, f.received_at
       from ingested_files f
-      where f.status = 'ingested'
+      where f.status = 'ingested' and f.received_at > (select started_at from last_full_run)
     ),
     file_portfolios as (
       select p.file_id, list(distinct p.portfolio_id order by p.portfolio_id) as portfolios

@@ -79,6 +79,15 @@ describe('uncoveredFiles', () => {
     // file 2 was covered by run 3 (from 2026-03-01, every portfolio, after it arrived)
   });
 
+  it('counts everything received before a finished full backfill as covered', async () => {
+    ws = await tempWorkspace();
+    await file(1, 'prices_1.csv', 'prices', null, '2026-03-02 20:00:00+00');
+    await file(2, 'securities_2.csv', 'securities', null, '2026-03-03 20:00:00+00');
+    await run(1, '2026-03-04 08:00:00+00', null, null);
+    await file(3, 'prices_3.csv', 'prices', '2026-03-04', '2026-03-04 20:00:00+00');
+    expect((await uncoveredFiles(ws.db)).map((f) => f.name)).toEqual(['prices_3.csv']);
+  });
+
   it('gives a positions file its portfolios from the rows it delivered', async () => {
     ws = await tempWorkspace();
     await file(7, 'positions_7.csv', 'positions', '2026-03-03', '2026-03-03 20:00:00+00');
