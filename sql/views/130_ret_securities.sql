@@ -1,4 +1,4 @@
--- Daily log return of each held security between consecutive valuation dates:
+-- Daily log return of each ever-held security between consecutive valuation dates:
 -- log_return = ln(P_base_t / P_base_t-1) with P_base = price_local * fx_rate (base
 -- currency), log_return_local the same in the security's own currency. Null when either
 -- side is missing. Cash has no rows: its return is zero by definition.
@@ -21,7 +21,8 @@ paired as (
     lag(price_local) over by_date as prev_price_local,
     lag(price_local * fx_rate) over by_date as prev_price_base,
     lag(date_index) over by_date as prev_date_index,
-    coalesce(price_is_stale or fx_is_stale, price_is_stale) as is_stale
+    -- carried price or rate at t: the return is 0 today and the move shows up later
+    price_is_stale or coalesce(fx_is_stale, false) as is_stale
   from prices
   window by_date as (partition by security_id order by date_index)
 ),

@@ -1,5 +1,5 @@
 import { afterEach, describe, expect, it } from 'vitest';
-import { insertFx, insertPositions, insertPrices, insertSecurities, openTestWorkspace, type TestWorkspace } from './workspace.ts';
+import { expectRowsClose, insertFx, insertPositions, insertPrices, insertSecurities, openTestWorkspace, type TestWorkspace } from './workspace.ts';
 
 let ws: TestWorkspace;
 afterEach(() => ws.close());
@@ -72,20 +72,13 @@ describe('align_prices', () => {
     ]);
     // local returns: EQ-SALTMARSH ln(11/10) on Tuesday and ln(12/11) on Wednesday; EQ-NORDWIND
     // ln(20/20) = 0 over the holiday and the catch-up ln(22/20) on Wednesday
-    const returns = await ws.db.all<{ security_id: string; date: string; log_return_local: number }>(
-      'select security_id, date, log_return_local from ret_securities order by security_id, date',
-    );
-    const expected = [
-      ['EQ-NORDWIND', '2024-03-05', 0],
-      ['EQ-NORDWIND', '2024-03-06', Math.log(22 / 20)],
-      ['EQ-SALTMARSH', '2024-03-05', Math.log(11 / 10)],
-      ['EQ-SALTMARSH', '2024-03-06', Math.log(12 / 11)],
-    ] as const;
-    expect(returns).toHaveLength(expected.length);
-    expected.forEach(([security, date, value], i) => {
-      expect(returns[i]).toMatchObject({ security_id: security, date });
-      expect(returns[i].log_return_local).toBeCloseTo(value, 14);
-    });
+    const returns = await ws.db.all('select security_id, date, log_return_local, is_stale from ret_securities order by security_id, date');
+    expectRowsClose(returns, [
+      { security_id: 'EQ-NORDWIND', date: '2024-03-05', log_return_local: 0, is_stale: true },
+      { security_id: 'EQ-NORDWIND', date: '2024-03-06', log_return_local: Math.log(22 / 20), is_stale: false },
+      { security_id: 'EQ-SALTMARSH', date: '2024-03-05', log_return_local: Math.log(11 / 10), is_stale: false },
+      { security_id: 'EQ-SALTMARSH', date: '2024-03-06', log_return_local: Math.log(12 / 11), is_stale: false },
+    ], 14);
   });
 
   it('leaves the price null once it is older than max_stale_days valuation dates', async () => {
