@@ -45,7 +45,8 @@ export function explain(field: FieldSpec, source: SourceConfig, raw: string | nu
     currency: 'an ISO 4217 currency code (three capital letters)',
     text: 'text',
   }[field.type];
-  const message = raw === null || raw === '' ? `is empty; expected ${expected}` : `"${raw}" is not ${expected}`;
+  // JSON quoting keeps the message on one line whatever the cell held
+  const message = raw === null || raw === '' ? `is empty; expected ${expected}` : `${JSON.stringify(raw)} is not ${expected}`;
   return { expected, message };
 }
 

@@ -71,7 +71,7 @@ function fieldOf(layout: KindLayout, name: string): FieldSpec {
 
 function duplicateRejection(layout: KindLayout, file: string, repeat: RepeatedKey): Rejection {
   const key = layout.key.join('+');
-  const value = repeat.values.map((v) => `"${v ?? ''}"`).join(', ');
+  const value = repeat.values.map((v) => JSON.stringify(v ?? '')).join(', ');
   return {
     code: 'duplicate_key',
     file,

@@ -128,6 +128,12 @@ describe('ingestFile: rejected files', () => {
     expect(formatRejection(r)).toBe('positions_d.csv row 1, column security_id: " EQ-NORDWIND" is not an id without surrounding spaces');
   });
 
+  it('keeps the message on one line when the bad cell holds a quoted line break', async () => {
+    const r = await rejectRows('prices_nl.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '"1\n2"', '']]);
+    expect(r).toMatchObject({ row: 1, column: 'price', value: '1\n2' });
+    expect(formatRejection(r)).toBe('prices_nl.csv row 1, column price: "1\\n2" is not a positive number');
+  });
+
   it('reports the earliest failing row across columns', async () => {
     const r = await rejectRows('prices_f.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1', ''], ['2026-04-10', 'EQ-B', '1', 'usd'], ['bad', 'EQ-C', '-1', '']]);
     expect(r).toMatchObject({ row: 2, column: 'currency' });
