@@ -56,7 +56,7 @@ export const limitSchema = z
       .default('vol_ex_ante')
       .describe('Figure of risk_daily to watch; var_99_1d is taken as a fraction of portfolio value.'),
     window: z.number().int().min(0).describe('Window in trading days (0 with estimator "ewma").'),
-    estimator: z.enum(ESTIMATORS).default('sample'),
+    estimator: z.enum(ESTIMATORS).default('sample').describe('Which estimate of risk_daily the limit reads.'),
     limit: z.number().positive().describe('Mandate limit, a fraction (0.15 = 15%).'),
     warning: z.number().positive().optional().describe('Warning level; default 0.9 x limit.'),
     clear: z.number().positive().optional().describe('An episode closes on the first date below this; default 0.85 x limit.'),
@@ -79,14 +79,14 @@ const riskSchema = z
       .describe('Weights for vol_ex_ante: at the close of the date, or the mean over the window.'),
     ewma: z
       .object({
-        enabled: z.boolean().default(true),
+        enabled: z.boolean().default(true).describe('Compute the ewma estimator (risk_daily rows with window_days 0).'),
         lambda: z.number().gt(0).lt(1).default(0.94).describe('Decay factor (RiskMetrics daily: 0.94).'),
         seedDays: z
           .number()
           .int()
           .min(2)
           .default(21)
-          .describe('The EWMA matrix is seeded with the sample covariance of the first seedDays returns.'),
+          .describe('A security enters the EWMA matrix after this many consecutive returns, seeded from them with the EWMA weights.'),
       })
       .strict()
       .default({ enabled: true, lambda: 0.94, seedDays: 21 }),
@@ -110,7 +110,7 @@ const webhookSchema = z
   .object({
     url: z.url().describe('HTTP(S) endpoint that receives each alert as a JSON POST.'),
     tokenEnv: z.string().optional().describe('Name of the environment variable holding the bearer token.'),
-    timeoutMs: z.number().int().positive().default(5000),
+    timeoutMs: z.number().int().positive().default(5000).describe('Time the endpoint has to answer.'),
     maxAttempts: z
       .number()
       .int()
@@ -151,7 +151,7 @@ const scheduleSchema = z
     missingData: z
       .object({
         cron: z.string().default('0 22 * * 1-5').describe('When to check that the previous business day\'s files arrived.'),
-        expect: z.array(z.enum(FILE_KINDS)).default(['prices', 'positions']),
+        expect: z.array(z.enum(FILE_KINDS)).default(['prices', 'positions']).describe('File kinds that must arrive every business day.'),
       })
       .strict()
       .default({ cron: '0 22 * * 1-5', expect: ['prices', 'positions'] }),
@@ -171,18 +171,18 @@ export const configSchema = z
       .string()
       .optional()
       .describe('Read-only copy published after each committed run; default: <database>.read.duckdb.'),
-    baseCurrency: currencyCode.default('USD'),
+    baseCurrency: currencyCode.default('USD').describe('ISO 4217 code values are reported in; other currencies need fx rates.'),
     // prefault, not default: the defaults go through sourceSchema and get its own defaults (delimiter, columns, ...)
-    sources: z.array(sourceSchema).prefault(DEFAULT_SOURCES),
+    sources: z.array(sourceSchema).prefault(DEFAULT_SOURCES).describe('How file names map to kinds and how each sender\'s columns map to the canonical layout.'),
     watch: z
       .object({
         stableMs: z.number().int().min(0).default(1000).describe('A file counts as written once its size holds this long.'),
-        pollMs: z.number().int().positive().default(100),
+        pollMs: z.number().int().positive().default(100).describe('How often a growing file\'s size is checked.'),
       })
       .strict()
       .default({ stableMs: 1000, pollMs: 100 }),
     risk: riskSchema.default(riskSchema.parse({})),
-    limits: z.array(limitSchema).default([]),
+    limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),
     alerts: alertsSchema.default({ maxAgeDays: 5 }),
     schedule: scheduleSchema.default(scheduleSchema.parse({})),
   })
