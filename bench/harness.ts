@@ -85,7 +85,7 @@ export async function runBench(options: BenchOptions): Promise<BenchResult> {
 
     stage('naive backfill for comparison');
     try {
-      keep([await naiveComparison(options, root, size.name === NAIVE_SIZE ? { ws: ingested, backfill } : null)]);
+      keep([await naiveComparison(options, root, size.name === 'large' ? null : { ws: ingested, backfill })]);
     } catch (err) {
       failed(['naive_vs_incremental'], err);
     }
@@ -118,19 +118,20 @@ export async function runBench(options: BenchOptions): Promise<BenchResult> {
 }
 
 /**
- * The naive way is only affordable at the small size: there it reuses the measured
- * backfill; at another size a small scenario is generated and backfilled first.
+ * The naive way is affordable up to the small size: there it runs on the measured
+ * backfill's workspace; for the large size a small scenario is generated and
+ * backfilled first.
  */
 async function naiveComparison(
   options: BenchOptions,
   root: string,
   reuse: { ws: BenchWorkspace | null; backfill: BackfillMeasurement | null } | null,
 ): Promise<Figure> {
-  const small = SIZES[NAIVE_SIZE];
   if (reuse) {
     if (!reuse.ws || !reuse.backfill) throw new Error('needs the ingested history and its backfill');
-    return measureNaive(reuse.ws, small.name, reuse.backfill.seconds, small.runs, options.log);
+    return measureNaive(reuse.ws, options.size, reuse.backfill.seconds, reuse.backfill.seconds.length, options.log);
   }
+  const small = SIZES[NAIVE_SIZE];
   const scenario = await generateScenario(small, path.join(root, 'naive-scenario'));
   const ws = createBenchWorkspace(root, 'naive', small);
   await ingestHistory(scenario, ws, options.log);

@@ -44,5 +44,5 @@ export const SIZES: Record<SizeName, ScenarioSize> = {
   },
 };
 
-/** The naive-versus-incremental comparison always runs at this size: the naive way is too slow for more. */
+/** The large size's naive-versus-incremental comparison runs at this size: the naive way is too slow for more. */
 export const NAIVE_SIZE: SizeName = 'small';

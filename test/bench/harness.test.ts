@@ -87,7 +87,15 @@ describe('runBench at the tiny size', () => {
     const written = JSON.parse(readFileSync(path.join(resultsDir, 'tiny-latest.json'), 'utf8'));
     expect(written).toEqual(JSON.parse(JSON.stringify(result)));
 
+    // the backfill's vol_ex_ante agrees with covariances rebuilt from scratch per window
+    const naive = result.figures.find((f) => f.key === 'naive_vs_incremental')!;
+    if (naive.verdict !== 'unavailable') {
+      expect(naive.details.figures_compared).toBeGreaterThan(0);
+      expect(naive.details.max_abs_difference).toBeLessThan(1e-9);
+    }
+
     const text = formatResult(result);
     for (const f of result.figures) expect(text).toContain(f.label);
-  });
+    // a real worker and a few recomputes run; on a busy 2-core machine that takes a while
+  }, 600_000);
 });
