@@ -36,27 +36,54 @@ export async function readColumns<S extends Record<string, ColumnKind>>(
   let capacity = 1 << 14;
   let buffers = kinds.map((k) => allocate(k, capacity));
   let rows = 0;
-  const result = await db.conn.stream(sql, params);
-  if (result.columnCount !== names.length) {
-    throw new Error(`readColumns: query returns ${result.columnCount} columns, expected ${names.length} (${names.join(', ')})`);
-  }
-  for (;;) {
-    const chunk = await result.fetchChunk();
-    if (!chunk || chunk.rowCount === 0) break;
-    const n = chunk.rowCount;
+  await streamColumns(db, sql, params, spec, (chunk, n) => {
     if (rows + n > capacity) {
       while (rows + n > capacity) capacity *= 2;
       buffers = buffers.map((b, c) => grow(kinds[c], b, capacity, rows));
     }
-    for (let c = 0; c < names.length; c++) fill(kinds[c], names[c], buffers[c], chunk.getColumnVector(c), rows, n);
+    names.forEach((name, c) => copyInto(buffers[c], chunk[name] as Buffer, rows, n));
     rows += n;
-  }
-  const columns = {} as Record<string, unknown>;
-  names.forEach((name, c) => {
-    const b = buffers[c];
-    columns[name] = Array.isArray(b) ? b.slice(0, rows) : b.slice(0, rows);
   });
+  const columns = {} as Record<string, unknown>;
+  names.forEach((name, c) => (columns[name] = buffers[c].slice(0, rows)));
   return { rows, columns: columns as Columns<S> };
+}
+
+/**
+ * As `readColumns`, but hands over one chunk (at most 2,048 rows) at a time, so a
+ * caller can aggregate tens of millions of rows without holding all of them. The
+ * arrays passed to `onChunk` are reused for the next chunk.
+ */
+export async function streamColumns<S extends Record<string, ColumnKind>>(
+  db: Database,
+  sql: string,
+  params: Params | undefined,
+  spec: S,
+  onChunk: (columns: Columns<S>, rows: number) => void,
+): Promise<void> {
+  const names = Object.keys(spec);
+  const kinds = names.map((n) => spec[n]);
+  const result = await db.conn.stream(sql, params);
+  if (result.columnCount !== names.length) {
+    throw new Error(`readColumns: query returns ${result.columnCount} columns, expected ${names.length} (${names.join(', ')})`);
+  }
+  let capacity = 0;
+  let buffers: Buffer[] = [];
+  let seen = 0;
+  for (;;) {
+    const chunk = await result.fetchChunk();
+    if (!chunk || chunk.rowCount === 0) break;
+    const n = chunk.rowCount;
+    if (n > capacity) {
+      capacity = n;
+      buffers = kinds.map((k) => allocate(k, capacity));
+    }
+    for (let c = 0; c < names.length; c++) fill(kinds[c], names[c], buffers[c], chunk.getColumnVector(c), seen, n);
+    const columns = {} as Record<string, unknown>;
+    names.forEach((name, c) => (columns[name] = buffers[c]));
+    onChunk(columns as Columns<S>, n);
+    seen += n;
+  }
 }
 
 type Buffer = Int32Array | Float64Array | Uint8Array | (string | null)[];
@@ -75,25 +102,34 @@ function grow(kind: ColumnKind, old: Buffer, n: number, used: number): Buffer {
   return next;
 }
 
-function fill(kind: ColumnKind, name: string, out: Buffer, vector: DuckDBVector, at: number, n: number): void {
+function copyInto(out: Buffer, chunk: Buffer, at: number, n: number): void {
+  if (Array.isArray(out)) {
+    for (let i = 0; i < n; i++) out[at + i] = (chunk as (string | null)[])[i];
+  } else {
+    (out as Int32Array).set((chunk as Int32Array).subarray(0, n), at);
+  }
+}
+
+/** Fills out[0 .. n-1] from the vector; `before` rows came in earlier chunks (for messages). */
+function fill(kind: ColumnKind, name: string, out: Buffer, vector: DuckDBVector, before: number, n: number): void {
   if (kind === 'text') {
     const texts = out as (string | null)[];
-    for (let i = 0; i < n; i++) texts[at + i] = vector.getItem(i) as string | null;
+    for (let i = 0; i < n; i++) texts[i] = vector.getItem(i) as string | null;
     return;
   }
   if (kind === 'bool') {
     const flags = out as Uint8Array;
-    for (let i = 0; i < n; i++) flags[at + i] = vector.getItem(i) === true ? 1 : 0;
+    for (let i = 0; i < n; i++) flags[i] = vector.getItem(i) === true ? 1 : 0;
     return;
   }
   const nums = out as Int32Array | Float64Array;
   for (let i = 0; i < n; i++) {
     const v = vector.getItem(i) as number | null;
     if (v === null) {
-      if (kind === 'int') throw new Error(`readColumns: column ${name} has a null at row ${at + i + 1}`);
-      nums[at + i] = Number.NaN;
+      if (kind === 'int') throw new Error(`readColumns: column ${name} has a null at row ${before + i + 1}`);
+      nums[i] = Number.NaN;
     } else {
-      nums[at + i] = v;
+      nums[i] = v;
     }
   }
 }

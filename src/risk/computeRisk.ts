@@ -91,7 +91,8 @@ function walk(
         ? averageExposure(portfolios, returns, p, d, estimate.windowDays, scratch)
         : currentExposure(portfolios, returns, slot);
       const flags = { value: portfolios.value[slot], unpriced: portfolios.unpriced[slot] === 1, stale: portfolios.stale[slot] === 1 };
-      const row = assessRow(exposure, flags, estimate, settings);
+      const withContributions = config.risk.contributions === 'all' || d === lastRow[p];
+      const row = assessRow(exposure, flags, estimate, settings, withContributions);
       const realized = estimate.estimator === 'sample' ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
       stage.addDaily({
         portfolio: p,
@@ -114,7 +115,7 @@ function walk(
         nHoldings: row.nHoldings,
         nCovered: row.nCovered,
       });
-      if (row.contributions && (config.risk.contributions === 'all' || d === lastRow[p])) {
+      if (row.contributions) {
         const { mcr, ccr, pct } = row.contributions;
         for (let a = 0; a < exposure.j.length; a++) {
           stage.addContribution(p, d, estimate.windowDays, estimate.estimator, exposure.j[a], [exposure.w[a], mcr[a], ccr[a], pct[a]]);

@@ -1,5 +1,5 @@
 import type { Database } from '../storage/database.ts';
-import { readColumns } from './columnar.ts';
+import { readColumns, streamColumns } from './columnar.ts';
 
 /**
  * The risk stage's inputs, read from the views in bulk into typed arrays. Dates are
@@ -111,26 +111,11 @@ export async function readPortfolioPanel(
   const ids = idRows.columns.portfolio_id as string[];
   const slots = ids.length * dateCount;
   const present = new Uint8Array(slots);
-  const value = new Float64Array(slots).fill(Number.NaN);
+  const value = new Float64Array(slots);
   const unpriced = new Uint8Array(slots);
   const stale = new Uint8Array(slots);
   const logReturn = new Float64Array(slots).fill(Number.NaN);
 
-  const totals = await readColumns(
-    db,
-    `select p.k, v.date_index, v.value_base::double, v.n_unpriced, v.n_stale > 0
-     from value_portfolios v join risk_in_portfolios p using (portfolio_id)
-     where v.date_index > $1`,
-    [firstRow],
-    { k: 'int', date_index: 'int', value_base: 'double', n_unpriced: 'int', any_stale: 'bool' },
-  );
-  for (let i = 0; i < totals.rows; i++) {
-    const s = totals.columns.k[i] * dateCount + totals.columns.date_index[i] - 1;
-    present[s] = 1;
-    value[s] = totals.columns.value_base[i];
-    unpriced[s] = totals.columns.n_unpriced[i] > 0 || Number.isNaN(totals.columns.value_base[i]) ? 1 : 0;
-    stale[s] = totals.columns.any_stale[i];
-  }
   const returns = await readColumns(
     db,
     `select p.k, r.date_index, r.log_return::double
@@ -143,22 +128,48 @@ export async function readPortfolioPanel(
     logReturn[returns.columns.k[i] * dateCount + returns.columns.date_index[i] - 1] = returns.columns.log_return[i];
   }
 
-  // sorted by slot then security, so the sums over a portfolio's holdings run in the
-  // same order in every run (full or incremental)
-  const holdings = await readColumns(
+  // One pass over value_weights gives the holdings and, per slot, the portfolio value
+  // (sum of the position values, in security order so every run adds them alike),
+  // whether a position has no value, and whether a price is stale. Sorted by slot
+  // then security, so every sum over a portfolio's holdings runs in the same order in
+  // every run (full or incremental).
+  let security = new Int32Array(1 << 16);
+  let weight = new Float64Array(1 << 16);
+  const offsets = new Int32Array(slots + 1);
+  let rows = 0;
+  await streamColumns(
     db,
-    `select p.k, w.date_index, s.k as j, w.weight::double
+    `select p.k, w.date_index, s.k as j, w.weight::double, w.value_base::double, w.price_status = 'stale'
      from value_weights w
      join risk_in_portfolios p using (portfolio_id)
      join risk_in_securities s using (security_id)
      where w.date_index > $1
      order by p.k, w.date_index, j`,
     [firstRow],
-    { k: 'int', date_index: 'int', j: 'int', weight: 'double' },
+    { k: 'int', date_index: 'int', j: 'int', weight: 'double', value_base: 'double', is_stale: 'bool' },
+    (c, n) => {
+      if (rows + n > security.length) {
+        security = grown(security, rows, rows + n);
+        weight = grown(weight, rows, rows + n);
+      }
+      security.set(c.j.subarray(0, n), rows);
+      weight.set(c.weight.subarray(0, n), rows);
+      for (let i = 0; i < n; i++) {
+        const slot = c.k[i] * dateCount + c.date_index[i] - 1;
+        offsets[slot + 1]++;
+        present[slot] = 1;
+        // NaN (no value) propagates into the sum: the portfolio value is unknown
+        value[slot] += c.value_base[i];
+        if (Number.isNaN(c.value_base[i])) unpriced[slot] = 1;
+        if (c.is_stale[i] === 1) stale[slot] = 1;
+      }
+      rows += n;
+    },
   );
-  const offsets = new Int32Array(slots + 1);
-  for (let i = 0; i < holdings.rows; i++) offsets[holdings.columns.k[i] * dateCount + holdings.columns.date_index[i]]++;
-  for (let s = 0; s < slots; s++) offsets[s + 1] += offsets[s];
+  for (let slot = 0; slot < slots; slot++) {
+    offsets[slot + 1] += offsets[slot];
+    if (present[slot] === 0) value[slot] = Number.NaN;
+  }
   return {
     ids,
     firstRow,
@@ -168,7 +179,16 @@ export async function readPortfolioPanel(
     stale,
     logReturn,
     offsets,
-    security: holdings.columns.j,
-    weight: holdings.columns.weight,
+    security: security.subarray(0, rows),
+    weight: weight.subarray(0, rows),
   };
+}
+
+/** A copy of a[0 .. used - 1] in an array of at least `need` (doubling, so appends stay amortized O(1)). */
+function grown<A extends Int32Array | Float64Array>(a: A, used: number, need: number): A {
+  let size = a.length;
+  while (size < need) size *= 2;
+  const next = new (a.constructor as new (n: number) => A)(size);
+  next.set(a.subarray(0, used));
+  return next;
 }

@@ -1,5 +1,5 @@
 import { annualizedVolatility } from './math/annualize.ts';
-import { diversificationRatio, eulerContributions } from './math/contributions.ts';
+import { diversificationRatio, eulerContributions, type EulerContributions } from './math/contributions.ts';
 import { parametricES, parametricVaR } from './math/loss.ts';
 
 /**
@@ -44,7 +44,7 @@ export interface RowFigures {
   status: string;
   nHoldings: number;
   nCovered: number;
-  /** Per holding of the exposure (same order): NaN for an uncovered one; cash 0. */
+  /** When asked for: per holding of the exposure (same order), NaN for an uncovered one, cash 0. */
   contributions: { mcr: Float64Array; ccr: Float64Array; pct: Float64Array } | null;
 }
 
@@ -62,7 +62,13 @@ const NOTHING = Number.NaN;
  * the share of the gross value (absolute values, so a short counts as exposure, not as
  * an offset) that has a full history.
  */
-export function assessRow(exposure: Exposure, flags: SlotFlags, cov: CovarianceView, settings: RiskSettings): RowFigures {
+export function assessRow(
+  exposure: Exposure,
+  flags: SlotFlags,
+  cov: CovarianceView,
+  settings: RiskSettings,
+  withContributions: boolean,
+): RowFigures {
   const n = exposure.j.length;
   let gross = 0;
   let coveredGross = 0;
@@ -118,12 +124,26 @@ export function assessRow(exposure: Exposure, flags: SlotFlags, cov: CovarianceV
   const loss = (horizonDays: number, level: number, estimate: typeof parametricVaR) =>
     estimate({ volAnnual: euler.vol, periodsPerYear: settings.periodsPerYear, horizonDays, level, value: flags.value });
 
+  return {
+    ...empty,
+    volExAnte: euler.vol,
+    var99_1d: loss(1, 0.99, parametricVaR),
+    es975_1d: loss(1, 0.975, parametricES),
+    var99_10d: loss(10, 0.99, parametricVaR),
+    es975_10d: loss(10, 0.975, parametricES),
+    diversification: diversificationRatio(w, vols, euler.vol),
+    contributions: withContributions ? byHolding(exposure, coveredAt, euler) : null,
+  };
+}
+
+/** Euler figures laid out per holding of the exposure: cash 0 (no covariance), uncovered NaN. */
+function byHolding(exposure: Exposure, coveredAt: number[], euler: EulerContributions) {
+  const n = exposure.j.length;
   const mcr = new Float64Array(n).fill(NOTHING);
   const ccr = new Float64Array(n).fill(NOTHING);
   const pct = new Float64Array(n).fill(NOTHING);
   for (let a = 0; a < n; a++) {
     if (exposure.isCash[exposure.j[a]] === 1) {
-      // zero covariance with everything: adds no risk at the margin
       mcr[a] = 0;
       ccr[a] = 0;
       pct[a] = euler.vol > 0 ? 0 : NOTHING;
@@ -134,14 +154,5 @@ export function assessRow(exposure: Exposure, flags: SlotFlags, cov: CovarianceV
     ccr[a] = euler.ccr[b];
     pct[a] = euler.pct[b];
   });
-  return {
-    ...empty,
-    volExAnte: euler.vol,
-    var99_1d: loss(1, 0.99, parametricVaR),
-    es975_1d: loss(1, 0.975, parametricES),
-    var99_10d: loss(10, 0.99, parametricVaR),
-    es975_10d: loss(10, 0.975, parametricES),
-    diversification: diversificationRatio(w, vols, euler.vol),
-    contributions: { mcr, ccr, pct },
-  };
+  return { mcr, ccr, pct };
 }

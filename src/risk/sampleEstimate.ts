@@ -12,8 +12,10 @@ import type { CovarianceView } from './portfolioRow.ts';
  *   O(W n_p), never forming S (cheap for short windows);
  * - 'sliding': one SlidingCovariance over all securities, O(N^2) per date shared by all
  *   portfolios, then S[idx, idx] w per portfolio in O(n_p^2) (cheap for long windows).
- * Per-security means and variances always come from the exact two-pass formulas on
- * the security's contiguous series, so security_stats do not depend on the path.
+ * Per-security means and variances come from the sliding state on the sliding path
+ * (exact two-pass refresh every SLIDING_REFRESH dates, updates in between) and from
+ * the two-pass formulas on the security's contiguous series on the window path; the
+ * two agree to rounding (~1e-15 relative).
  */
 
 export type SamplePath = 'window' | 'sliding';
@@ -84,14 +86,19 @@ export class SampleEstimate implements CovarianceView {
     const { n, t, panel, windowDays } = this;
     this.sliding?.push(panel.returns.subarray(d * n, (d + 1) * n));
     if (!output) return;
+    const sliding = this.sliding;
     for (let j = 0; j < n; j++) {
-      if (panel.runLength[d * n + j] >= windowDays) {
+      if (panel.runLength[d * n + j] < windowDays) {
+        this.means[j] = Number.NaN;
+        this.variances[j] = Number.NaN;
+      } else if (sliding) {
+        // O(1) from the sliding state; a rounding-level negative variance reads as 0
+        this.means[j] = sliding.mean(j);
+        this.variances[j] = Math.max(0, sliding.variance(j));
+      } else {
         const series = panel.returnsBySecurity.subarray(j * t + d - windowDays + 1, j * t + d + 1);
         this.means[j] = mean(series);
         this.variances[j] = sampleVariance(series);
-      } else {
-        this.means[j] = Number.NaN;
-        this.variances[j] = Number.NaN;
       }
     }
   }
