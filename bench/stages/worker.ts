@@ -24,7 +24,11 @@ interface Progress {
   ingested: number;
   problems: string | null;
   firstReceivedMs: number | null;
+  /** The covering run: started after the last file was received, done. */
+  runStartedMs: number | null;
   finishedMs: number | null;
+  /** Runs started since the first file was received (1 when the worker batched the day's files). */
+  runsSinceFirst: number;
   running: number;
   riskRows: number;
 }
@@ -55,14 +59,21 @@ export async function measureWorker(scenario: GeneratedScenario, root: string): 
 
     const visible: number[] = [];
     const committed: number[] = [];
-    const waited: number[] = [];
+    // where a day's time goes: the stable-file wait, ingest, recompute, publishing the read copy
+    const phases = { wait: [] as number[], ingest: [] as number[], recompute: [] as number[], publish: [] as number[] };
+    const runsPerDay: number[] = [];
     for (const day of scenario.newDays) {
       const dropped = Date.now();
       for (const file of day.files) dropIntoInbox(file.path, ws.config.inbox);
       const done = await settle(ws.config, day.files.map((f) => path.basename(f.path)), day.date, exit, DAY_TIMEOUT_MS);
-      visible.push((Date.now() - dropped) / 1000);
+      const seen = Date.now();
+      visible.push((seen - dropped) / 1000);
       committed.push((done.finishedMs! - dropped) / 1000);
-      waited.push((done.firstReceivedMs! - dropped) / 1000);
+      phases.wait.push((done.firstReceivedMs! - dropped) / 1000);
+      phases.ingest.push((done.runStartedMs! - done.firstReceivedMs!) / 1000);
+      phases.recompute.push((done.finishedMs! - done.runStartedMs!) / 1000);
+      phases.publish.push((seen - done.finishedMs!) / 1000);
+      runsPerDay.push(done.runsSinceFirst);
     }
     const peak = child.pid === undefined ? null : peakResidentBytes(child.pid);
     const days = scenario.newDays.length;
@@ -70,7 +81,12 @@ export async function measureWorker(scenario: GeneratedScenario, root: string): 
       note: `median of ${days} days (prices, fx, positions files each), until visible in the read copy`,
       details: {
         committed_seconds: median(committed),
-        until_ingest_started_seconds: median(waited),
+        wait_seconds: median(phases.wait),
+        // with more than one run per day, this phase also holds the earlier runs
+        ingest_seconds: median(phases.ingest),
+        recompute_seconds: median(phases.recompute),
+        publish_seconds: median(phases.publish),
+        runs_per_day: Math.max(...runsPerDay),
         stable_ms_setting: ws.config.watch.stableMs,
       },
     });
@@ -158,8 +174,11 @@ async function progress(config: Config, names: string[], date: string): Promise<
       )
       select seen, ingested, problems,
              epoch_ms(first_received)::double as "firstReceivedMs",
+             (select epoch_ms(min(r.started_at))::double from risk_runs r
+               where r.status = 'done' and r.started_at >= summary.last_received) as "runStartedMs",
              (select epoch_ms(max(r.finished_at))::double from risk_runs r
                where r.status = 'done' and r.started_at >= summary.last_received) as "finishedMs",
+             (select count(*) from risk_runs r where r.started_at >= summary.first_received)::integer as "runsSinceFirst",
              (select count(*) from risk_runs where status = 'running')::integer as running,
              (select count(*) from risk_daily where date = ${sqlString(date)}::date)::integer as "riskRows"
       from summary`);
