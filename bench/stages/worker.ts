@@ -97,6 +97,8 @@ export async function measureWorker(scenario: GeneratedScenario, root: string): 
             note: 'one worker from start: history catch-up (ingest + backfill) and the new days',
             details: { catch_up_seconds: catchUpSeconds },
           });
+    const stopped = await stop(child, exit);
+    memory.details.stop = stopped;
     return [latency, memory];
   } finally {
     await stop(child, exit);
@@ -188,11 +190,16 @@ async function progress(config: Config, names: string[], date: string): Promise<
   }
 }
 
-/** SIGTERM (the worker stops cleanly), SIGKILL to that same pid only if it hangs. */
-async function stop(child: ChildProcess, exit: { done: boolean; promise: Promise<number | null> }): Promise<void> {
-  if (exit.done) return;
+/** SIGTERM (the worker stops cleanly), SIGKILL to that same pid only if it hangs; says which it took. */
+async function stop(child: ChildProcess, exit: { done: boolean; promise: Promise<number | null> }): Promise<string> {
+  if (exit.done) return `already exited with ${await exit.promise}`;
   child.kill('SIGTERM');
-  const timer = setTimeout(() => child.kill('SIGKILL'), STOP_TIMEOUT_MS);
-  await exit.promise;
+  let killed = false;
+  const timer = setTimeout(() => {
+    killed = true;
+    child.kill('SIGKILL');
+  }, STOP_TIMEOUT_MS);
+  const code = await exit.promise;
   clearTimeout(timer);
+  return killed ? `no exit ${STOP_TIMEOUT_MS / 1000} s after SIGTERM: killed` : `exit code ${code} after SIGTERM`;
 }
