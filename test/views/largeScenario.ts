@@ -14,7 +14,7 @@ export const FULL_SIZE: ScenarioSize = { businessDays: 2520, securities: 1000, p
  * Fills the raw tables with an invented scenario generated inside DuckDB (range()), so
  * nothing big is written to disk outside the database. Securities EQ-0000.. trade in
  * USD, EUR or GBP; the EUR ones skip every 40th day (a market holiday carried forward);
- * each portfolio holds a slowly rotating set plus CASH:USD, with one snapshot file a day.
+ * each portfolio holds a slowly changing set plus CASH:USD, with one snapshot file a day.
  */
 export async function generateLargeScenario(db: Database, size: ScenarioSize): Promise<void> {
   const { businessDays, securities, portfolios, holdingsPerPortfolio } = size;
@@ -46,15 +46,21 @@ export async function generateLargeScenario(db: Database, size: ScenarioSize): P
     insert into fx_rates (file_id, line, date, currency, rate)
     select 2, row_number() over (), date, currency, case currency when 'EUR' then 1.1 else 1.3 end + (day_no % 50) / 1000
     from scenario_days cross join (values ('EUR'), ('GBP')) c(currency)`);
-  // holdings rotate by one security every 21 days; the snapshot file of a day is 5000 + day_no
+  // each holding slot moves to another security once a year, on staggered days, so
+  // holdings are sticky as in real portfolios; the snapshot file of a day is 5000 + day_no
   await db.run(`
     insert into positions (file_id, line, date, portfolio_id, security_id, quantity)
     select 5000 + day_no, row_number() over (partition by day_no), date, printf('acct-%02d', p), security_id, quantity
     from (
-      select d.day_no, d.date, p, printf('EQ-%04d', (p * 37 + k * 5 + d.day_no // 21) % ${securities}) as security_id, 100 + k as quantity
-      from scenario_days d, range(${portfolios}) a(p), range(${holdingsPerPortfolio}) h(k)
-      union all
-      select d.day_no, d.date, p, 'CASH:USD', 10000
-      from scenario_days d, range(${portfolios}) a(p)
+      -- two slots may land on one security: one row per security, as ingest requires
+      select day_no, date, p, security_id, sum(quantity) as quantity
+      from (
+        select d.day_no, d.date, p, printf('EQ-%04d', (p * 37 + k * 5 + 7 * ((d.day_no + 13 * k) // 252)) % ${securities}) as security_id, 100 + k as quantity
+        from scenario_days d, range(${portfolios}) a(p), range(${holdingsPerPortfolio}) h(k)
+        union all
+        select d.day_no, d.date, p, 'CASH:USD', 10000
+        from scenario_days d, range(${portfolios}) a(p)
+      )
+      group by day_no, date, p, security_id
     )`);
 }
