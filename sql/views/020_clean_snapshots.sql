@@ -1,27 +1,11 @@
 -- One row per position snapshot (portfolio + date): the file that delivered it last, and
--- the date it is replaced by the portfolio's next snapshot. A snapshot is the whole
--- portfolio, so a later file for the same date+portfolio replaces it entirely.
+-- the date it is replaced by the portfolio's next snapshot (held_until, null while it is
+-- the latest). Stored by src/storage/derived.ts (defined in sql/derived/010): every view
+-- below reads it, and a 25M-row aggregate per reference was the cost.
 create or replace view clean_snapshots as
-with delivered as (
-  select portfolio_id, date as snapshot_date, file_id
-  from positions
-),
-
-latest_file as (
-  select portfolio_id, snapshot_date, max(file_id) as file_id
-  from delivered
-  group by portfolio_id, snapshot_date
-),
-
--- a snapshot holds at the close of its date until (excluding) the next one;
--- held_until is null while it is the portfolio's latest
-with_successor as (
-  select
-    portfolio_id,
-    snapshot_date,
-    file_id,
-    lead(snapshot_date) over (partition by portfolio_id order by snapshot_date) as held_until
-  from latest_file
+with stored as (
+  select portfolio_id, snapshot_date, file_id, held_until
+  from derived_snapshots
 )
 
-select * from with_successor;
+select * from stored;

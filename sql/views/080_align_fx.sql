@@ -1,6 +1,7 @@
 -- Each currency on each valuation date from its first rate on: the last rate on or
 -- before the date, carried for at most max_stale_days valuation dates like prices, then
--- null. The base currency has rate 1 on every valuation date.
+-- null. The base currency has rate 1 on every valuation date. The carried rates are
+-- stored (sql/derived/040); the settings apply here.
 create or replace view align_fx as
 with settings as (
   select base_currency, max_stale_days
@@ -12,42 +13,9 @@ valuation_dates as (
   from align_valuation_dates
 ),
 
-foreign_rates as (
-  select f.date, f.currency, f.rate
-  from clean_fx f
-  cross join settings
-  where f.currency <> settings.base_currency
-),
-
--- valuation dates passed when the rate was observed (staleness in valuation dates)
-observed as (
-  select r.*, coalesce(v.date_index, 0) as observed_index
-  from foreign_rates r
-  asof left join valuation_dates v on r.date >= v.date
-),
-
-first_rate as (
-  select currency, min(date) as first_rate_date
-  from foreign_rates
-  group by currency
-),
-
-currency_dates as (
-  select f.currency, v.date, v.date_index
-  from first_rate f
-  join valuation_dates v on v.date >= f.first_rate_date
-),
-
 carried as (
-  select
-    d.currency,
-    d.date,
-    d.date_index,
-    o.rate,
-    o.date as observed_on,
-    d.date_index - o.observed_index as stale_days
-  from currency_dates d
-  asof join observed o on o.currency = d.currency and d.date >= o.date
+  select currency, date, date_index, rate, observed_on, stale_days
+  from derived_aligned_fx
 ),
 
 foreign_limited as (
@@ -61,6 +29,7 @@ foreign_limited as (
     c.date_index
   from carried c
   cross join settings
+  where c.currency <> settings.base_currency
 ),
 
 base_rate as (

@@ -1,4 +1,5 @@
 import type { Database } from '../storage/database.ts';
+import { refreshDerived } from '../storage/derived.ts';
 import { readColumns, streamColumns } from './columnar.ts';
 
 /**
@@ -45,6 +46,8 @@ export interface PortfolioPanel {
  * scope from `firstRow` on.
  */
 export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
+  // the views read the derived tables: bring them up to the raw tables first (a no-op when current)
+  await refreshDerived(db);
   await db.run('create or replace temp table risk_in_dates as select date, date_index from align_valuation_dates');
   await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities');
   await db.run(`create or replace temp table risk_in_securities as

@@ -6,6 +6,7 @@ import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { openDatabase, type Database } from './database.ts';
+import { refreshDerived } from './derived.ts';
 import { applyMigrations, applyViews } from './sqlFiles.ts';
 
 const execFileAsync = promisify(execFile);
@@ -31,6 +32,8 @@ export async function openWorkspace(config: Config, log: Logger): Promise<Databa
       ]);
     });
     await applyViews(db, log);
+    // raw tables changed while no worker ran (an outside client, a crash) are caught here
+    await refreshDerived(db, log);
   } catch (err) {
     db.close();
     throw err;

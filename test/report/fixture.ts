@@ -1,4 +1,5 @@
 import type { Database } from '../../src/storage/database.ts';
+import { refreshDerived } from '../../src/storage/derived.ts';
 import { businessDays, simulateMarket } from '../../src/demo/market.ts';
 import type { ConfigInput } from '../../src/config/schema.ts';
 
@@ -51,6 +52,7 @@ export async function fillReportFixture(db: Database): Promise<Fixture> {
      (1, 4, 'BD-KESTREL-28', 'Kestrel County 3.1% 2028', 'bond', 'USD'),
      (1, 5, 'CM-EMBERSTONE', 'Emberstone Broad Commodity Fund', 'commodity', 'USD')`,
   );
+  await refreshDerived(db); // the views read the derived tables, as after an ingest
   await db.run("insert into risk_runs (run_id, trigger, status, finished_at) values (7, 'ingest:prices_fixture.csv', 'done', now())");
 
   const risk: string[] = [];

@@ -3,6 +3,7 @@ import { randomDeliveries, type Deliveries } from './randomScenario.ts';
 import { referenceViews } from './referenceModel.ts';
 import { openTestWorkspace, type TestWorkspace } from './workspace.ts';
 import type { Database } from '../../src/storage/database.ts';
+import { refreshDerived } from '../../src/storage/derived.ts';
 
 let ws: TestWorkspace;
 afterEach(() => ws.close());
@@ -15,6 +16,7 @@ async function load(db: Database, raw: Deliveries): Promise<void> {
   await insert('positions', 'file_id, line, date, portfolio_id, security_id, quantity', raw.positions.map((r) => [r.fileId, r.line, r.date, r.portfolioId, r.securityId, r.quantity]));
   await insert('fx_rates', 'file_id, line, date, currency, rate', raw.fx.map((r) => [r.fileId, r.line, r.date, r.currency, r.rate]));
   await insert('securities', 'file_id, line, security_id, currency', raw.securities.map((r) => [r.fileId, r.line, r.securityId, r.currency]));
+  await refreshDerived(db);
 }
 
 /** Same keys, and each value equal (null to null) or within 1e-12 relative. */

@@ -6,6 +6,7 @@ import { resolveConfig } from '../../src/config/load.ts';
 import type { ConfigInput } from '../../src/config/schema.ts';
 import { memoryLogger } from '../../src/log/logger.ts';
 import type { Database } from '../../src/storage/database.ts';
+import { refreshDerived } from '../../src/storage/derived.ts';
 import { openWorkspace } from '../../src/storage/workspace.ts';
 
 /** A real workspace (migrations, settings, views) in a fresh temp folder. */
@@ -40,6 +41,8 @@ async function insertFile(db: Database, table: string, columns: string[], fileId
     .join(', ');
   const params = rows.flatMap((row, r) => [fileId, r + 1, ...columns.map((_, c) => row[c] ?? null)]);
   await db.run(`insert into ${table} (file_id, line, ${columns.join(', ')}) values ${placeholders}`, params);
+  // as the worker does after each ingest: the views read the derived tables
+  await refreshDerived(db);
 }
 
 /** rows: [date, security_id, price, currency?] */

@@ -1,0 +1,57 @@
+import path from 'node:path';
+import type { Logger } from 'pino';
+import type { Database } from './database.ts';
+import { listSqlFiles, SQL_DIR } from './sqlFiles.ts';
+
+/**
+ * The derived tables (migration 0030) store the layers every view shares: snapshots in
+ * force, the valuation calendar, carried prices and fx rates. They are rebuilt from the
+ * raw tables whenever the raw tables' fingerprint differs from the one recorded with
+ * them, so whoever changed the raw tables (ingest, a test, an outside client, a crash
+ * half way) the views never read a layer older than its inputs once this has run.
+ */
+
+export const DERIVED_DIR = path.join(SQL_DIR, 'derived');
+
+/** Rows and highest file_id of each raw table the derived layers read; count(*) comes from metadata. */
+const FINGERPRINT_SQL = `
+  select concat_ws('|',
+    (select count(*) || ':' || coalesce(max(file_id), 0) from prices),
+    (select count(*) || ':' || coalesce(max(file_id), 0) from positions),
+    (select count(*) || ':' || coalesce(max(file_id), 0) from fx_rates)) as fingerprint`;
+
+export interface DerivedRefresh {
+  rebuilt: boolean;
+  seconds: number;
+}
+
+/**
+ * Brings the derived tables up to date with the raw tables: nothing to do when the
+ * fingerprint matches, else one transaction empties and refills them in file order
+ * (each file reads the ones before it), so a reader sees the old set or the new one.
+ * Call between transactions (it opens its own).
+ */
+export async function refreshDerived(db: Database, log?: Logger): Promise<DerivedRefresh> {
+  const started = performance.now();
+  const [{ fingerprint }] = await db.all<{ fingerprint: string }>(FINGERPRINT_SQL);
+  const recorded = await db.all<{ raw_fingerprint: string }>('select raw_fingerprint from derived_state');
+  if (recorded.length === 1 && recorded[0].raw_fingerprint === fingerprint) {
+    return { rebuilt: false, seconds: (performance.now() - started) / 1000 };
+  }
+  const files = listSqlFiles(DERIVED_DIR, 'view');
+  await db.transaction(async () => {
+    for (const f of files) await db.run(`delete from ${f.name}`);
+    for (const f of files) {
+      try {
+        await db.run(f.text);
+      } catch (cause) {
+        throw new Error(`derived ${f.file} failed`, { cause });
+      }
+    }
+    await db.run('delete from derived_state');
+    await db.run('insert into derived_state (raw_fingerprint) values ($1)', [fingerprint]);
+  });
+  const seconds = (performance.now() - started) / 1000;
+  log?.info({ stage: 'storage', seconds: Number(seconds.toFixed(3)), fingerprint }, 'derived tables rebuilt');
+  return { rebuilt: true, seconds };
+}
