@@ -3,19 +3,13 @@ import path from 'node:path';
 import type { Config } from '../config/load.ts';
 import { CAUTIONS } from '../report/cautions.ts';
 import { formatMoney, formatPercent } from '../report/format.ts';
+import type { Breach } from '../report/reportData.ts';
 import type { Database } from '../storage/database.ts';
 import { DEMO_LIMIT_WINDOW } from './demoConfig.ts';
 import { ACCOUNTS, FIRM_NAME, SECURITIES } from './universe.ts';
 
-export interface EpisodeSummary {
-  level: 'warning' | 'breach';
-  opened_on: string;
-  escalated_on: string | null;
-  closed_on: string | null;
-  peak_value: number;
-  peak_on: string;
-  retracted: boolean;
-}
+/** A limit episode as the summary shows it: the report's breach row without its limit details. */
+export type EpisodeSummary = Pick<Breach, 'level' | 'opened_on' | 'escalated_on' | 'closed_on' | 'peak_value' | 'peak_on' | 'retracted'>;
 
 export interface AccountSummary {
   portfolioId: string;
