@@ -1,6 +1,6 @@
 import { annualizedVolatility } from './math/annualize.ts';
-import { subMatrixVector } from './math/covariance.ts';
-import { ewmaCovarianceUpdateInPlace } from './math/ewma.ts';
+import { upperSubMatrixVector } from './math/covariance.ts';
+import { ewmaUpperUpdateInPlace } from './math/ewma.ts';
 import type { ReturnPanel } from './inputs.ts';
 import type { CovarianceView } from './portfolioRow.ts';
 
@@ -21,6 +21,8 @@ import type { CovarianceView } from './portfolioRow.ts';
  * recursion applies.
  * Exit: a missing return takes the security out; it re-enters, freshly seeded, once it
  * has seedDays consecutive returns again.
+ * Only the upper triangle of S is kept (S_jk with j <= k): the update then runs along
+ * rows, and the products read it with upperSubMatrixVector.
  */
 
 export interface EwmaState {
@@ -39,6 +41,8 @@ export class EwmaEstimate implements CovarianceView {
   private readonly t: number;
   private readonly s: Float64Array;
   private readonly active: Uint8Array;
+  /** The active securities, ascending, rebuilt each date. */
+  private readonly live: Int32Array;
   private readonly seedWeights: Float64Array;
   private readonly newcomerScale: number;
   private row: number;
@@ -53,6 +57,7 @@ export class EwmaEstimate implements CovarianceView {
     this.t = panel.dates.length;
     this.s = new Float64Array(this.n * this.n);
     this.active = new Uint8Array(this.n);
+    this.live = new Int32Array(this.n);
     // c_u for u = t - seedDays + 1 .. t, oldest first
     this.seedWeights = Float64Array.from({ length: seedDays }, (_, k) => (1 - lambda) * lambda ** (seedDays - 1 - k));
     this.newcomerScale = 1 / Math.sqrt(1 - lambda ** seedDays);
@@ -64,10 +69,14 @@ export class EwmaEstimate implements CovarianceView {
   advance(d: number): void {
     if (d !== this.row + 1) throw new Error(`EwmaEstimate: advanced to row ${d} after ${this.row}`);
     this.row = d;
-    const { n, active, panel } = this;
+    const { n, active, live, panel } = this;
     const r = panel.returns.subarray(d * n, (d + 1) * n);
-    for (let j = 0; j < n; j++) if (active[j] === 1 && !Number.isFinite(r[j])) active[j] = 0;
-    ewmaCovarianceUpdateInPlace(this.s, n, r, this.lambda, active);
+    let liveCount = 0;
+    for (let j = 0; j < n; j++) {
+      if (active[j] === 1 && !Number.isFinite(r[j])) active[j] = 0;
+      if (active[j] === 1) live[liveCount++] = j;
+    }
+    ewmaUpperUpdateInPlace(this.s, n, r, this.lambda, live.subarray(0, liveCount));
     const newcomers: number[] = [];
     for (let j = 0; j < n; j++) {
       if (active[j] === 0 && panel.runLength[d * n + j] >= this.seedDays) newcomers.push(j);
@@ -83,8 +92,8 @@ export class EwmaEstimate implements CovarianceView {
     return this.s[j * this.n + j];
   }
 
-  product(idx: Int32Array, w: Float64Array): Float64Array {
-    return subMatrixVector(this.s, this.n, idx, w);
+  product(idx: Int32Array, w: Float64Array, out = new Float64Array(idx.length)): Float64Array {
+    return upperSubMatrixVector(this.s, this.n, idx, w, out);
   }
 
   /** security_stats of the current date: every security in the matrix (no return for ewma). */
@@ -100,7 +109,8 @@ export class EwmaEstimate implements CovarianceView {
     for (let j = 0; j < this.n; j++) if (this.active[j] === 1) members.push(j);
     const k = members.length;
     const matrix = new Float64Array(k * k);
-    members.forEach((i, a) => members.forEach((j, b) => (matrix[a * k + b] = this.s[i * this.n + j])));
+    // members ascending: entry (a, b) with a <= b is on the upper triangle, the rest its mirror
+    members.forEach((i, a) => members.forEach((j, b) => (matrix[a * k + b] = a <= b ? this.s[i * this.n + j] : this.s[j * this.n + i])));
     return { row: this.row, securityIds: members.map((j) => this.panel.securityIds[j]), matrix };
   }
 
@@ -114,7 +124,9 @@ export class EwmaEstimate implements CovarianceView {
     const k = members.length;
     members.forEach((i, a) => {
       this.active[i] = 1;
-      members.forEach((j, b) => (this.s[i * this.n + j] = state.matrix[a * k + b]));
+      members.forEach((j, b) => {
+        if (i <= j) this.s[i * this.n + j] = state.matrix[a * k + b];
+      });
     });
   }
 
@@ -132,9 +144,7 @@ export class EwmaEstimate implements CovarianceView {
         if (active[k] === 0 || (isNew[k] === 1 && k < j)) continue;
         let sum = 0;
         for (let u = 0; u < seedDays; u++) sum += weighted[u] * series[k * t + first + u];
-        const v = sum * newcomerScale * (isNew[k] === 1 ? newcomerScale : 1);
-        s[j * n + k] = v;
-        s[k * n + j] = v;
+        s[j <= k ? j * n + k : k * n + j] = sum * newcomerScale * (isNew[k] === 1 ? newcomerScale : 1);
       }
     }
   }

@@ -26,6 +26,8 @@ export interface RunSummary {
   riskRows: number;
   alertsRaised: number;
   seconds: number;
+  /** Wall-clock seconds per phase (inputs, compute, write, limits, ...), in the order they ran. */
+  phases: Record<string, number>;
 }
 
 /**
@@ -47,35 +49,37 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
     [request.trigger, from, scope === null ? null : JSON.stringify(scope)],
   );
   rlog.info({ runId, trigger: request.trigger, from, portfolios: scope }, 'recompute started');
+  const phases = phaseClock();
   try {
-    const returns = await readReturnPanel(db);
+    const returns = await phases.time('read_returns', () => readReturnPanel(db));
     const dates = returns.dates;
     const fromRow = from === null ? 0 : firstRowOnOrAfter(dates, from);
     const longest = Math.max(...config.risk.windows);
-    const portfolios = await readPortfolioPanel(db, dates.length, Math.max(0, fromRow - longest + 1), scope);
+    const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, Math.max(0, fromRow - longest + 1), scope));
     for (const id of scope ?? []) {
       if (!portfolios.ids.includes(id)) rlog.warn({ runId, portfolio: id }, 'no positions for this portfolio: nothing to compute');
     }
     const { ewma } = config.risk;
-    const ewmaState = ewma.enabled ? await loadEwmaState(db, ewma, dates, fromRow) : null;
+    const ewmaState = ewma.enabled ? await phases.time('load_ewma_state', () => loadEwmaState(db, ewma, dates, fromRow)) : null;
     rlog.debug({ runId, fromRow, dates: dates.length, securities: returns.securityIds.length, ewmaFromState: ewmaState !== null }, 'inputs read');
 
     const stage = await ResultStage.open(db);
     const progress = startProgress(rlog, progressUnits(config, dates.length, fromRow), 'recompute');
     let finalState;
+    const computeStarted = performance.now();
     try {
       finalState = computeRisk({ returns, portfolios, fromRow, ewmaState }, config, stage, progress, rlog);
     } finally {
       progress.finish();
       stage.close();
+      phases.add('compute', computeStarted);
     }
     const riskRows = stage.dailyRows;
 
     const limits = await db.transaction(async () => {
-      await replaceResults(db, { runId, from, portfolios: scope, contributions: config.risk.contributions });
-      if (finalState) await saveEwmaState(db, ewma, dates, finalState, runId);
-      else await clearEwmaState(db);
-      const outcome = await checkLimits(db, config, log, { runId, from, portfolios: scope });
+      await phases.time('write', () => replaceResults(db, { runId, from, portfolios: scope, contributions: config.risk.contributions }));
+      await phases.time('save_ewma_state', () => (finalState ? saveEwmaState(db, ewma, dates, finalState, runId) : clearEwmaState(db)));
+      const outcome = await phases.time('limits', () => checkLimits(db, config, log, { runId, from, portfolios: scope }));
       await db.run(`update risk_runs set status = 'done', finished_at = now(), risk_rows = $2 where run_id = $1`, [runId, riskRows]);
       return outcome;
     });
@@ -87,6 +91,7 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
       riskRows,
       alertsRaised: limits.alertsRaised,
       seconds: (Date.now() - started) / 1000,
+      phases: phases.seconds,
     };
     rlog.info({ ...summary }, 'recompute done');
     return summary;
@@ -100,6 +105,24 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
   } finally {
     await dropStaging(db).catch(() => undefined);
   }
+}
+
+/** Wall-clock seconds per named phase, so a slow run's log line says where the time went. */
+function phaseClock() {
+  const seconds: Record<string, number> = {};
+  const add = (name: string, startedAt: number) => (seconds[name] = (seconds[name] ?? 0) + (performance.now() - startedAt) / 1000);
+  return {
+    seconds,
+    add,
+    async time<T>(name: string, fn: () => Promise<T>): Promise<T> {
+      const startedAt = performance.now();
+      try {
+        return await fn();
+      } finally {
+        add(name, startedAt);
+      }
+    },
+  };
 }
 
 /** 'YYYY-MM-DD' naming a real calendar date; anything else is a usage error. */

@@ -1,5 +1,5 @@
 import { annualizedReturn, annualizedVolatility } from './math/annualize.ts';
-import { covarianceTimesWeightsAt } from './math/covariance.ts';
+import { centredTimesWeights, centreSeriesInto } from './math/covariance.ts';
 import { mean, sampleVariance } from './math/moments.ts';
 import { SlidingCovariance } from './math/slidingCovariance.ts';
 import type { ReturnPanel } from './inputs.ts';
@@ -9,7 +9,8 @@ import type { CovarianceView } from './portfolioRow.ts';
  * The rolling `sample` estimate over a window of W returns, advanced one date at a
  * time. Two ways to get S w, picked by cost (`chooseSamplePath`):
  * - 'window': S w = X'(X w) / (W - 1) on the window's return rows, per portfolio, in
- *   O(W n_p), never forming S (cheap for short windows);
+ *   O(W n_p), never forming S (cheap for short windows); the window is centred once per
+ *   date for all securities and shared by the portfolios;
  * - 'sliding': one SlidingCovariance over all securities, O(N^2) per date shared by all
  *   portfolios, then S[idx, idx] w per portfolio in O(n_p^2) (cheap for long windows).
  * Per-security means and variances come from the sliding state on the sliding path
@@ -63,6 +64,10 @@ export class SampleEstimate implements CovarianceView {
   private readonly sliding: SlidingCovariance | null;
   private readonly means: Float64Array;
   private readonly variances: Float64Array;
+  /** The window path's centred window of the current date, security by security (N x W), its means and a scratch row. */
+  private readonly centred: Float64Array | null;
+  private readonly centredMeans: Float64Array;
+  private readonly portfolioScratch: Float64Array;
   private row = -1;
 
   constructor(
@@ -77,6 +82,9 @@ export class SampleEstimate implements CovarianceView {
     this.startRow = this.sliding ? slidingStartRow(fromRow, windowDays) : fromRow;
     this.means = new Float64Array(this.n);
     this.variances = new Float64Array(this.n);
+    this.centred = this.sliding ? null : new Float64Array(windowDays * this.n);
+    this.centredMeans = new Float64Array(this.n);
+    this.portfolioScratch = new Float64Array(windowDays);
   }
 
   /** Feeds date row d (rows in increasing order from `startRow`); `output` also computes the per-security moments. */
@@ -87,6 +95,7 @@ export class SampleEstimate implements CovarianceView {
     this.sliding?.push(panel.returns.subarray(d * n, (d + 1) * n));
     if (!output) return;
     const sliding = this.sliding;
+    if (this.centred && d >= windowDays - 1) centreSeriesInto(panel.returnsBySecurity, t, d - windowDays + 1, windowDays, this.centredMeans, this.centred);
     for (let j = 0; j < n; j++) {
       if (panel.runLength[d * n + j] < windowDays) {
         this.means[j] = Number.NaN;
@@ -111,9 +120,9 @@ export class SampleEstimate implements CovarianceView {
     return this.variances[j];
   }
 
-  product(idx: Int32Array, w: Float64Array): Float64Array {
-    if (this.sliding) return this.sliding.subMatrixVector(idx, w);
-    return covarianceTimesWeightsAt(this.panel.returns, this.row - this.windowDays + 1, this.windowDays, this.n, idx, w).sw;
+  product(idx: Int32Array, w: Float64Array, out = new Float64Array(idx.length)): Float64Array {
+    if (this.sliding) return this.sliding.subMatrixVector(idx, w, out);
+    return centredTimesWeights(this.centred!, this.windowDays, idx, w, out, this.portfolioScratch);
   }
 
   /** security_stats of the current date: every security with a full window. */

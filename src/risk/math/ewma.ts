@@ -1,4 +1,4 @@
-import { requireInteger, requireLength, requireNonNegative, requireOpenUnit } from './checks.ts';
+import { requireIndices, requireInteger, requireLength, requireNonNegative, requireOpenUnit } from './checks.ts';
 
 /**
  * Exponentially weighted (EWMA) variance and covariance with zero mean:
@@ -52,16 +52,42 @@ export function ewmaCovarianceUpdateInPlace(
       throw new Error(`${fn}: r[${j}] = ${r[j]} is not finite (mark it inactive instead)`);
     }
   }
+  const live = new Int32Array(n);
+  let liveCount = 0;
+  for (let j = 0; j < n; j++) if (active === undefined || active[j] === 1) live[liveCount++] = j;
+  ewmaUpperUpdateInPlace(s, n, r, lambda, live.subarray(0, liveCount));
+  // mirrored, so S stays exactly symmetric
+  for (let a = 0; a < liveCount; a++) {
+    for (let b = a + 1; b < liveCount; b++) s[live[b] * n + live[a]] = s[live[a] * n + live[b]];
+  }
+}
+
+/**
+ * The same update on the upper triangle only (entries S_ij with i <= j), for the
+ * securities listed in `live` (strictly ascending, each with a finite return): one
+ * contiguous pass over each row, where mirroring into the lower triangle would write a
+ * column at a time. Callers that keep S this way read it with `upperSubMatrixVector`.
+ */
+export function ewmaUpperUpdateInPlace(u: Float64Array, n: number, r: Float64Array, lambda: number, live: Int32Array): void {
+  const fn = 'ewmaUpperUpdateInPlace';
+  requireOpenUnit(fn, 'lambda', lambda);
+  requireInteger(fn, 'n', n, 1);
+  requireLength(fn, 'u', u.length, n * n);
+  requireLength(fn, 'r', r.length, n);
+  requireIndices(fn, 'live', live, n);
+  for (let a = 0; a < live.length; a++) {
+    if (a > 0 && live[a] <= live[a - 1]) throw new Error(`${fn}: live must be strictly ascending, live[${a}] = ${live[a]} after ${live[a - 1]}`);
+    if (!Number.isFinite(r[live[a]])) throw new Error(`${fn}: r[${live[a]}] = ${r[live[a]]} is not finite (leave it out of live instead)`);
+  }
   const gain = 1 - lambda;
-  // upper triangle, mirrored: half the work, and S stays exactly symmetric
-  for (let i = 0; i < n; i++) {
-    if (active !== undefined && active[i] !== 1) continue;
+  const k = live.length;
+  for (let a = 0; a < k; a++) {
+    const i = live[a];
     const ri = gain * r[i];
-    for (let j = i; j < n; j++) {
-      if (active !== undefined && active[j] !== 1) continue;
-      const v = lambda * s[i * n + j] + ri * r[j];
-      s[i * n + j] = v;
-      s[j * n + i] = v;
+    const base = i * n;
+    for (let b = a; b < k; b++) {
+      const j = live[b];
+      u[base + j] = lambda * u[base + j] + ri * r[j];
     }
   }
 }

@@ -1,4 +1,5 @@
 import { requireIndices, requireInteger, requireLength } from './checks.ts';
+import { upperSubMatrixVector } from './covariance.ts';
 
 /**
  * Sample covariance of n series over the last `window` rows, updated one row at a time
@@ -38,6 +39,8 @@ export class SlidingCovariance {
   private readonly after: Float64Array;
   private readonly leavingBefore: Float64Array;
   private readonly leavingAfter: Float64Array;
+  /** One column's centred values over the rows held. */
+  private readonly column: Float64Array;
 
   constructor(n: number, window: number, refreshEvery = 256) {
     requireInteger('SlidingCovariance', 'n', n, 1);
@@ -57,6 +60,7 @@ export class SlidingCovariance {
     this.after = new Float64Array(n);
     this.leavingBefore = new Float64Array(n);
     this.leavingAfter = new Float64Array(n);
+    this.column = new Float64Array(window);
   }
 
   /** Rows held: grows to `window`, then stays there. */
@@ -95,10 +99,11 @@ export class SlidingCovariance {
   }
 
   /**
-   * S[idx, idx] v from the current co-moments. Every listed column must be free of
-   * missing values (callers check `complete` first) and at least 2 rows held.
+   * S[idx, idx] v from the current co-moments, written into `out` when given. Every
+   * listed column must be free of missing values (callers check `complete` first) and
+   * at least 2 rows held; ascending indices take the fast path.
    */
-  subMatrixVector(idx: Int32Array, v: Float64Array): Float64Array {
+  subMatrixVector(idx: Int32Array, v: Float64Array, out = new Float64Array(idx.length)): Float64Array {
     const fn = 'SlidingCovariance.subMatrixVector';
     requireIndices(fn, 'idx', idx, this.n);
     requireLength(fn, 'v', v.length, idx.length);
@@ -106,26 +111,22 @@ export class SlidingCovariance {
     for (let a = 0; a < idx.length; a++) {
       if (this.clean[idx[a]] !== 1) throw new Error(`${fn}: column ${idx[a]} has a missing value in the window`);
     }
-    const n = this.n;
-    const c = this.comoments;
-    const out = new Float64Array(idx.length);
+    upperSubMatrixVector(this.comoments, this.n, idx, v, out);
     const divisor = this.held - 1;
-    for (let a = 0; a < idx.length; a++) {
-      const i = idx[a];
-      let sum = 0;
-      for (let b = 0; b < idx.length; b++) {
-        const j = idx[b];
-        sum += (i <= j ? c[i * n + j] : c[j * n + i]) * v[b];
-      }
-      out[a] = sum / divisor;
-    }
+    for (let a = 0; a < idx.length; a++) out[a] /= divisor;
     return out;
   }
 
-  /** Recomputes means and co-moments of the clean columns exactly (two-pass) from the rows held. */
+  /**
+   * Recomputes means and co-moments of the clean columns exactly (two-pass) from the rows
+   * held. The centred rows are added four at a time (a rank-4 update), so the co-moment
+   * matrix is read and written a quarter as often; the result depends only on the rows
+   * held, in order, as the incremental runs rely on.
+   */
   refresh(): void {
     const liveCount = this.collectClean();
-    const { n, means, comoments, live, before } = this;
+    const { n, means, comoments, live } = this;
+    const d = [this.before, this.after, this.leavingBefore, this.leavingAfter];
     for (let a = 0; a < liveCount; a++) means[live[a]] = 0;
     for (let r = 0; r < this.held; r++) {
       const base = this.slot(r) * n;
@@ -136,13 +137,25 @@ export class SlidingCovariance {
       const rowI = live[a] * n;
       for (let b = a; b < liveCount; b++) comoments[rowI + live[b]] = 0;
     }
-    for (let r = 0; r < this.held; r++) {
-      const base = this.slot(r) * n;
-      for (let a = 0; a < liveCount; a++) before[a] = this.rows[base + live[a]] - means[live[a]];
+    for (let r = 0; r < this.held; r += 4) {
+      // rows past the end of a short last group are centred to zeros: they add nothing
+      for (let g = 0; g < 4; g++) {
+        const target = d[g];
+        if (r + g < this.held) {
+          const base = this.slot(r + g) * n;
+          for (let a = 0; a < liveCount; a++) target[a] = this.rows[base + live[a]] - means[live[a]];
+        } else {
+          target.fill(0, 0, liveCount);
+        }
+      }
+      const [d0, d1, d2, d3] = d;
       for (let a = 0; a < liveCount; a++) {
         const rowI = live[a] * n;
-        const da = before[a];
-        for (let b = a; b < liveCount; b++) comoments[rowI + live[b]] += da * before[b];
+        const a0 = d0[a];
+        const a1 = d1[a];
+        const a2 = d2[a];
+        const a3 = d3[a];
+        for (let b = a; b < liveCount; b++) comoments[rowI + live[b]] += a0 * d0[b] + a1 * d1[b] + (a2 * d2[b] + a3 * d3[b]);
       }
     }
   }
@@ -205,7 +218,11 @@ export class SlidingCovariance {
     this.rebuildNewlyClean();
   }
 
-  /** Columns whose last missing value just left the window: exact two-pass rebuild against every clean column. */
+  /**
+   * Columns whose last missing value just left the window: exact two-pass rebuild against
+   * every clean column. For each such column its centred values are formed once, then
+   * added into all clean columns' sums row by row (contiguous reads of the rows held).
+   */
   private rebuildNewlyClean(): void {
     const { n, means, comoments, fresh } = this;
     let any = false;
@@ -222,18 +239,21 @@ export class SlidingCovariance {
     }
     if (!any) return;
     const liveCount = this.collectClean();
-    const live = this.live;
-    for (let a = 0; a < liveCount; a++) {
-      const i = live[a];
-      for (let b = a; b < liveCount; b++) {
+    const { live, column } = this;
+    const sums = this.after;
+    for (let f = 0; f < liveCount; f++) {
+      const i = live[f];
+      if (fresh[i] === 0) continue;
+      for (let r = 0; r < this.held; r++) column[r] = this.rows[this.slot(r) * n + i] - means[i];
+      sums.fill(0, 0, liveCount);
+      for (let r = 0; r < this.held; r++) {
+        const base = this.slot(r) * n;
+        const di = column[r];
+        for (let b = 0; b < liveCount; b++) sums[b] += di * (this.rows[base + live[b]] - means[live[b]]);
+      }
+      for (let b = 0; b < liveCount; b++) {
         const j = live[b];
-        if (fresh[i] === 0 && fresh[j] === 0) continue;
-        let sum = 0;
-        for (let r = 0; r < this.held; r++) {
-          const base = this.slot(r) * n;
-          sum += (this.rows[base + i] - means[i]) * (this.rows[base + j] - means[j]);
-        }
-        comoments[i * n + j] = sum;
+        comoments[i <= j ? i * n + j : j * n + i] = sums[b];
       }
     }
   }

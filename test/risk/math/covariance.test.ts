@@ -6,11 +6,14 @@ import * as ss from 'simple-statistics';
 import { afterEach, describe, expect, it } from 'vitest';
 import {
   covarianceTimesWeights,
+  centredTimesWeights,
+  centreSeriesInto,
   covarianceTimesWeightsAt,
   matrixVector,
   quadraticForm,
   sampleCovariance,
   subMatrixVector,
+  upperSubMatrixVector,
 } from '../../../src/risk/math/covariance.ts';
 import { openDatabase } from '../../../src/storage/database.ts';
 import { column, createRandom, maxRelativeError, pickColumns, randomReturns, randomWeights } from './fixtures.ts';
@@ -228,5 +231,91 @@ describe('quadraticForm, matrixVector, subMatrixVector', () => {
     subMatrixVector(s, n, Int32Array.from([0, 2]), v.subarray(0, 2));
     expect(s).toEqual(sCopy);
     expect(v).toEqual(vCopy);
+  });
+});
+
+describe('upperSubMatrixVector', () => {
+  const random = createRandom(25);
+  const n = 40;
+  const s = sampleCovariance(randomReturns(random, 120, n, { scale: 0.01 }), 120, n);
+  // the lower triangle poisoned: a read of it would turn the result into NaN
+  const upper = Float64Array.from(s, (x, e) => (Math.floor(e / n) > e % n ? Number.NaN : x));
+
+  it('equals the ml-matrix product with the sub-matrix copied out, for every size 1..17 (the 4-wide loop and its tails)', () => {
+    for (let k = 1; k <= 17; k++) {
+      const idx = Int32Array.from(Array.from({ length: n }, (_, j) => j).filter((j) => (j * 7 + k) % 3 !== 0).slice(0, k));
+      const v = randomWeights(random, k);
+      const sub = new Matrix(k, k);
+      for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) sub.set(a, b, s[idx[a] * n + idx[b]]);
+      const reference = sub.mmul(Matrix.columnVector(Array.from(v))).getColumn(0);
+      const out = upperSubMatrixVector(upper, n, idx, v, new Float64Array(k).fill(99));
+      expect(maxRelativeError(out, reference, 1e-8)).toBeLessThan(1e-13);
+      expect(maxRelativeError(out, subMatrixVector(s, n, idx, v), 1e-8)).toBeLessThan(1e-13);
+    }
+  });
+
+  it('takes indices in any order (and repeated), giving each product in the order asked', () => {
+    const idx = Int32Array.from([9, 2, 30, 2, 17]);
+    const v = randomWeights(random, 5);
+    const out = upperSubMatrixVector(upper, n, idx, v, new Float64Array(5));
+    expect(maxRelativeError(out, subMatrixVector(s, n, idx, v), 1e-8)).toBeLessThan(1e-13);
+  });
+
+  it('throws for indices out of range and mismatched sizes', () => {
+    const one = Float64Array.from([1, 2]);
+    expect(() => upperSubMatrixVector(upper, n, Int32Array.from([3, 40]), one, new Float64Array(2))).toThrow(/idx\[1\] = 40 is outside 0..39/);
+    expect(() => upperSubMatrixVector(upper, n, Int32Array.from([3, 4]), one, new Float64Array(3))).toThrow(/out has length 3, expected 2/);
+    expect(() => upperSubMatrixVector(upper, n, Int32Array.from([3]), one, new Float64Array(1))).toThrow(/v has length 2, expected 1/);
+  });
+
+  it('does not mutate its inputs', () => {
+    const before = Float64Array.from(upper);
+    const v = Float64Array.from([0.4, -0.2, 0.7]);
+    upperSubMatrixVector(upper, n, Int32Array.from([1, 5, 9]), v, new Float64Array(3));
+    expect(upper).toEqual(before);
+    expect(Array.from(v)).toEqual([0.4, -0.2, 0.7]);
+  });
+});
+
+describe('centreSeriesInto and centredTimesWeights', () => {
+  const random = createRandom(26);
+  const count = 11;
+  const length = 90;
+  // series end to end (security-major), as the risk stage keeps returns by security
+  const bySeries = randomReturns(random, count, length, { scale: 0.01, offset: 0.5 });
+  const start = 17;
+  const window = 63;
+  const series = (j: number) => Array.from(bySeries.subarray(j * length + start, j * length + start + window));
+
+  it('centres each series on its window mean (simple-statistics mean)', () => {
+    const means = new Float64Array(count);
+    const xc = new Float64Array(count * window);
+    centreSeriesInto(bySeries, length, start, window, means, xc);
+    for (let j = 0; j < count; j++) {
+      expect(means[j]).toBeCloseTo(ss.mean(series(j)), 15);
+      // 63 values near 0.5: the rounding of the mean is left over
+      expect(Math.abs(ss.sum(Array.from(xc.subarray(j * window, (j + 1) * window))))).toBeLessThan(1e-13);
+    }
+  });
+
+  it('gives S w for any series equal to simple-statistics sample covariances times the weights, offset 0.5 included', () => {
+    const means = new Float64Array(count);
+    const xc = new Float64Array(count * window);
+    centreSeriesInto(bySeries, length, start, window, means, xc);
+    for (const cols of [[3], [0, 4, 5], [1, 2, 3, 6, 7, 9, 10]]) {
+      const idx = Int32Array.from(cols);
+      const w = randomWeights(random, cols.length);
+      const sw = centredTimesWeights(xc, window, idx, w, new Float64Array(cols.length), new Float64Array(window));
+      const expected = cols.map((i) => cols.reduce((sum, j, b) => sum + ss.sampleCovariance(series(i), series(j)) * w[b], 0));
+      expect(maxRelativeError(sw, expected, 1e-6)).toBeLessThan(1e-10);
+    }
+  });
+
+  it('throw for a window past the end of the series and mismatched sizes', () => {
+    expect(() => centreSeriesInto(bySeries, length, 80, 20, new Float64Array(count), new Float64Array(count * 20))).toThrow(/window 80..99 exceeds the series length 90/);
+    expect(() => centreSeriesInto(bySeries, length, 0, 2, new Float64Array(count), new Float64Array(3))).toThrow(/out has length 3, expected 22/);
+    expect(() => centredTimesWeights(new Float64Array(2 * count), 2, Int32Array.from([1]), new Float64Array(2), new Float64Array(1), new Float64Array(2))).toThrow(
+      /w has length 2, expected 1/,
+    );
   });
 });

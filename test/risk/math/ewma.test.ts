@@ -4,6 +4,7 @@ import {
   RISKMETRICS_DAILY_LAMBDA,
   ewmaCovarianceUpdate,
   ewmaCovarianceUpdateInPlace,
+  ewmaUpperUpdateInPlace,
   ewmaVarianceUpdate,
 } from '../../../src/risk/math/ewma.ts';
 import { createRandom, randomReturns } from './fixtures.ts';
@@ -119,5 +120,42 @@ describe('ewmaCovarianceUpdate', () => {
     expect(() => ewmaCovarianceUpdateInPlace(s, n, row(2), 0.94, new Uint8Array(3))).toThrow(/active has length 3, expected 5/);
     expect(() => ewmaCovarianceUpdate(s, n, row(2), 1.2)).toThrow(/lambda must be in \(0, 1\)/);
     expect(s).toEqual(new Float64Array(n * n));
+  });
+});
+
+describe('ewmaUpperUpdateInPlace', () => {
+  const n = 6;
+  const random = createRandom(12);
+  const returns = randomReturns(random, 30, n, { scale: 0.01 });
+  const row = (t: number) => returns.subarray(t * n, (t + 1) * n);
+
+  it('writes on the upper triangle exactly the numbers of the full update, and never touches the lower one', () => {
+    const full = new Float64Array(n * n);
+    const upper = new Float64Array(n * n).fill(Number.NaN);
+    for (let i = 0; i < n; i++) for (let j = i; j < n; j++) upper[i * n + j] = 0;
+    const live = Int32Array.from([0, 2, 3, 5]);
+    const active = Uint8Array.from([1, 0, 1, 1, 0, 1]);
+    for (let t = 0; t < 30; t++) {
+      const r = Float64Array.from(row(t));
+      r[1] = Number.NaN;
+      ewmaCovarianceUpdateInPlace(full, n, r, 0.94, active);
+      ewmaUpperUpdateInPlace(upper, n, r, 0.94, live);
+    }
+    for (let i = 0; i < n; i++) {
+      for (let j = 0; j < n; j++) {
+        if (i > j) expect(upper[i * n + j]).toBeNaN();
+        else expect(upper[i * n + j]).toBe(full[i * n + j]);
+      }
+    }
+  });
+
+  it('throws for a live list out of order, an index out of range and a missing live return', () => {
+    const u = new Float64Array(n * n);
+    const r = Float64Array.from(row(0));
+    expect(() => ewmaUpperUpdateInPlace(u, n, r, 0.94, Int32Array.from([2, 1]))).toThrow(/live must be strictly ascending/);
+    expect(() => ewmaUpperUpdateInPlace(u, n, r, 0.94, Int32Array.from([6]))).toThrow(/live\[0\] = 6 is outside 0..5/);
+    r[3] = Number.NaN;
+    expect(() => ewmaUpperUpdateInPlace(u, n, r, 0.94, Int32Array.from([3]))).toThrow(/r\[3\] = NaN is not finite/);
+    expect(u).toEqual(new Float64Array(n * n));
   });
 });
