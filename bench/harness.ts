@@ -22,8 +22,9 @@ export interface BenchOptions {
   runs?: number;
   /** Keep the temporary scenario and workspaces (their folder is in the result). */
   keep?: boolean;
-  /** Called as each stage starts, for progress output. */
+  /** Called as each stage starts and as each figure is known, for progress output on long runs. */
   onStage?: (name: string) => void;
+  onFigure?: (figure: Figure) => void;
 }
 
 export interface BenchResult {
@@ -57,7 +58,11 @@ export async function runBench(options: BenchOptions): Promise<BenchResult> {
   const root = mkdtempSync(path.join(os.tmpdir(), `riskfold-bench-${size.name}-`));
   const stage = options.onStage ?? (() => undefined);
   const found = new Map<FigureKey, Figure>();
-  const keep = (figures: Figure[]) => figures.forEach((f) => found.set(f.key, f));
+  const keep = (figures: Figure[]) =>
+    figures.forEach((f) => {
+      found.set(f.key, f);
+      options.onFigure?.(f);
+    });
   const failed = (keys: FigureKey[], err: unknown) => keep(keys.map((k) => unavailable(k, reasonOf(err))));
   try {
     stage('generating the scenario');

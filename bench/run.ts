@@ -1,6 +1,7 @@
 import path from 'node:path';
 import { parseArgs } from 'node:util';
 import { createLogger } from '../src/log/logger.ts';
+import { formatNumber } from './figures.ts';
 import { runBench } from './harness.ts';
 import { formatResult } from './report.ts';
 import { SIZE_NAMES, type SizeName } from './scenario.ts';
@@ -37,6 +38,7 @@ const result = await runBench({
   runs,
   keep: values.keep,
   onStage: (name) => process.stderr.write(`bench: ${name}\n`),
+  onFigure: (f) => process.stderr.write(`bench:   ${f.label}: ${f.value === null ? f.note : `${formatNumber(f.value)} ${f.unit}`}\n`),
 });
 process.stdout.write(formatResult(result));
 if (result.workDir) process.stdout.write(`kept the scenario and workspaces in ${result.workDir}\n`);
