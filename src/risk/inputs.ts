@@ -72,7 +72,7 @@ export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
   const isCash = ids.columns.is_cash;
   const t = dates.length;
   const n = securityIds.length;
-  const returns = new Float64Array(t * n).fill(Number.NaN);
+  const returns = shared(Float64Array, t * n).fill(Number.NaN);
   const raw = await readColumns(
     db,
     `select s.k, r.date_index, r.log_return::double
@@ -82,8 +82,8 @@ export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
     { k: 'int', date_index: 'int', log_return: 'double' },
   );
   for (let i = 0; i < raw.rows; i++) returns[(raw.columns.date_index[i] - 1) * n + raw.columns.k[i]] = raw.columns.log_return[i];
-  const returnsBySecurity = new Float64Array(n * t);
-  const runLength = new Int32Array(t * n);
+  const returnsBySecurity = shared(Float64Array, n * t);
+  const runLength = shared(Int32Array, t * n);
   for (let d = 0; d < t; d++) {
     for (let j = 0; j < n; j++) {
       const r = returns[d * n + j];
@@ -113,11 +113,11 @@ export async function readPortfolioPanel(
   const idRows = await readColumns(db, 'select portfolio_id from risk_in_portfolios order by k', undefined, { portfolio_id: 'text' });
   const ids = idRows.columns.portfolio_id as string[];
   const slots = ids.length * dateCount;
-  const present = new Uint8Array(slots);
-  const value = new Float64Array(slots);
-  const unpriced = new Uint8Array(slots);
-  const stale = new Uint8Array(slots);
-  const logReturn = new Float64Array(slots).fill(Number.NaN);
+  const present = shared(Uint8Array, slots);
+  const value = shared(Float64Array, slots);
+  const unpriced = shared(Uint8Array, slots);
+  const stale = shared(Uint8Array, slots);
+  const logReturn = shared(Float64Array, slots).fill(Number.NaN);
 
   const returns = await readColumns(
     db,
@@ -136,9 +136,9 @@ export async function readPortfolioPanel(
   // whether a position has no value, and whether a price is stale. Sorted by slot
   // then security, so every sum over a portfolio's holdings runs in the same order in
   // every run (full or incremental).
-  let security = new Int32Array(1 << 16);
-  let weight = new Float64Array(1 << 16);
-  const offsets = new Int32Array(slots + 1);
+  let security = shared(Int32Array, 1 << 16);
+  let weight = shared(Float64Array, 1 << 16);
+  const offsets = shared(Int32Array, slots + 1);
   let rows = 0;
   await streamColumns(
     db,
@@ -187,11 +187,21 @@ export async function readPortfolioPanel(
   };
 }
 
-/** A copy of a[0 .. used - 1] in an array of at least `need` (doubling, so appends stay amortized O(1)). */
+type SharedTyped = Uint8Array | Int32Array | Float64Array;
+
+/**
+ * A zero-filled typed array on a SharedArrayBuffer: the big panels are read by the
+ * estimate worker threads in place, never copied to them.
+ */
+function shared<A extends SharedTyped>(kind: { new (buffer: SharedArrayBuffer): A; BYTES_PER_ELEMENT: number }, length: number): A {
+  return new kind(new SharedArrayBuffer(length * kind.BYTES_PER_ELEMENT));
+}
+
+/** A copy of a[0 .. used - 1] in a shared array of at least `need` (doubling, so appends stay amortized O(1)). */
 function grown<A extends Int32Array | Float64Array>(a: A, used: number, need: number): A {
   let size = a.length;
   while (size < need) size *= 2;
-  const next = new (a.constructor as new (n: number) => A)(size);
-  next.set(a.subarray(0, used));
+  const next = shared(a.constructor as { new (buffer: SharedArrayBuffer): A; BYTES_PER_ELEMENT: number }, size);
+  next.set(a.subarray(0, used) as never);
   return next;
 }

@@ -1,5 +1,5 @@
 import { annualizedVolatility } from './math/annualize.ts';
-import { diversificationRatio, eulerContributions, type EulerContributions } from './math/contributions.ts';
+import { diversificationRatio, eulerContributions, portfolioVolatility, type EulerContributions } from './math/contributions.ts';
 import { parametricES, parametricVaR } from './math/loss.ts';
 
 /**
@@ -24,8 +24,8 @@ export interface CovarianceView {
   covered(j: number): boolean;
   /** Daily variance S_jj of a covered security. */
   variance(j: number): number;
-  /** S[idx, idx] w (daily), for covered securities only. */
-  product(idx: Int32Array, w: Float64Array): Float64Array;
+  /** S[idx, idx] w (daily), for covered securities only; written into `out` when given. */
+  product(idx: Int32Array, w: Float64Array, out?: Float64Array): Float64Array;
 }
 
 export interface RiskSettings {
@@ -58,6 +58,29 @@ export interface SlotFlags {
 const NOTHING = Number.NaN;
 
 /**
+ * Buffers that `assessRow` reuses from one row to the next (one per walk over the dates),
+ * so that a backfill allocates nothing per row beyond the figures it keeps.
+ */
+export class RowScratch {
+  coveredAt = new Int32Array(256);
+  idx = new Int32Array(256);
+  w = new Float64Array(256);
+  vols = new Float64Array(256);
+  sw = new Float64Array(256);
+
+  /** Room for n holdings. */
+  reserve(n: number): void {
+    if (n <= this.coveredAt.length) return;
+    const size = Math.max(n, 2 * this.coveredAt.length);
+    this.coveredAt = new Int32Array(size);
+    this.idx = new Int32Array(size);
+    this.w = new Float64Array(size);
+    this.vols = new Float64Array(size);
+    this.sw = new Float64Array(size);
+  }
+}
+
+/**
  * coverage = (|cash| + sum |w_i| over covered securities) / sum |w_i| over all holdings:
  * the share of the gross value (absolute values, so a short counts as exposure, not as
  * an offset) that has a full history.
@@ -68,12 +91,15 @@ export function assessRow(
   cov: CovarianceView,
   settings: RiskSettings,
   withContributions: boolean,
+  scratch: RowScratch = new RowScratch(),
 ): RowFigures {
   const n = exposure.j.length;
+  scratch.reserve(n);
+  const coveredAt = scratch.coveredAt;
+  let covered = 0;
   let gross = 0;
   let coveredGross = 0;
   let nHoldings = 0;
-  const coveredAt: number[] = [];
   for (let a = 0; a < n; a++) {
     const abs = Math.abs(exposure.w[a]);
     gross += abs;
@@ -84,7 +110,7 @@ export function assessRow(
     nHoldings++;
     if (cov.covered(exposure.j[a])) {
       coveredGross += abs;
-      coveredAt.push(a);
+      coveredAt[covered++] = a;
     }
   }
   const priced = !flags.unpriced && Number.isFinite(flags.value) && flags.value !== 0 && Number.isFinite(gross);
@@ -105,39 +131,40 @@ export function assessRow(
     coverage,
     status,
     nHoldings,
-    nCovered: coveredAt.length,
+    nCovered: covered,
     contributions: null,
   };
   if (!priced || !(coverage >= settings.minCoverage)) return empty;
 
-  const idx = new Int32Array(coveredAt.length);
-  const w = new Float64Array(coveredAt.length);
-  const vols = new Float64Array(coveredAt.length);
-  coveredAt.forEach((a, b) => {
+  const idx = scratch.idx.subarray(0, covered);
+  const w = scratch.w.subarray(0, covered);
+  const vols = scratch.vols.subarray(0, covered);
+  for (let b = 0; b < covered; b++) {
+    const a = coveredAt[b];
     idx[b] = exposure.j[a];
     w[b] = exposure.w[a];
     vols[b] = annualizedVolatility(cov.variance(idx[b]), settings.periodsPerYear);
-  });
+  }
   // an all-cash portfolio (or one whose covered part is empty) has no risk: vol 0
-  const sw = idx.length > 0 ? cov.product(idx, w) : new Float64Array(0);
-  const euler = eulerContributions(sw, w, settings.periodsPerYear);
-  const loss = (horizonDays: number, level: number, estimate: typeof parametricVaR) =>
-    estimate({ volAnnual: euler.vol, periodsPerYear: settings.periodsPerYear, horizonDays, level, value: flags.value });
+  const sw = covered > 0 ? cov.product(idx, w, scratch.sw.subarray(0, covered)) : scratch.sw.subarray(0, 0);
+  const euler = withContributions ? eulerContributions(sw, w, settings.periodsPerYear) : null;
+  const vol = euler ? euler.vol : portfolioVolatility(sw, w, settings.periodsPerYear);
+  const loss = { volAnnual: vol, periodsPerYear: settings.periodsPerYear, value: flags.value };
 
   return {
     ...empty,
-    volExAnte: euler.vol,
-    var99_1d: loss(1, 0.99, parametricVaR),
-    es975_1d: loss(1, 0.975, parametricES),
-    var99_10d: loss(10, 0.99, parametricVaR),
-    es975_10d: loss(10, 0.975, parametricES),
-    diversification: diversificationRatio(w, vols, euler.vol),
-    contributions: withContributions ? byHolding(exposure, coveredAt, euler) : null,
+    volExAnte: vol,
+    var99_1d: parametricVaR({ ...loss, horizonDays: 1, level: 0.99 }),
+    es975_1d: parametricES({ ...loss, horizonDays: 1, level: 0.975 }),
+    var99_10d: parametricVaR({ ...loss, horizonDays: 10, level: 0.99 }),
+    es975_10d: parametricES({ ...loss, horizonDays: 10, level: 0.975 }),
+    diversification: diversificationRatio(w, vols, vol),
+    contributions: euler ? byHolding(exposure, coveredAt.subarray(0, covered), euler) : null,
   };
 }
 
 /** Euler figures laid out per holding of the exposure: cash 0 (no covariance), uncovered NaN. */
-function byHolding(exposure: Exposure, coveredAt: number[], euler: EulerContributions) {
+function byHolding(exposure: Exposure, coveredAt: Int32Array, euler: EulerContributions) {
   const n = exposure.j.length;
   const mcr = new Float64Array(n).fill(NOTHING);
   const ccr = new Float64Array(n).fill(NOTHING);

@@ -68,7 +68,7 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
     let finalState;
     const computeStarted = performance.now();
     try {
-      finalState = computeRisk({ returns, portfolios, fromRow, ewmaState }, config, stage, progress, rlog);
+      finalState = await computeRisk({ returns, portfolios, fromRow, ewmaState }, config, (batch) => stage.append(batch), progress, rlog);
     } finally {
       progress.finish();
       stage.close();

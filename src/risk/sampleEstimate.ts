@@ -36,11 +36,23 @@ export interface PathCostInputs {
   warmupDates: number;
 }
 
-/** Multiply-adds of each path over the run; the sliding one pays for its warm-up too. */
+/**
+ * Multiply-adds of each path over the run; the sliding one pays for its warm-up too. The
+ * sliding update touches the upper triangle with two products per entry (N^2), each
+ * portfolio's product reads its upper sub-triangle with two per entry (n_p^2); the
+ * window path makes two passes over the portfolio's W x n_p returns.
+ */
+export function samplePathCosts(c: PathCostInputs): Record<SamplePath, number> {
+  return {
+    sliding: (c.outputDates + c.warmupDates) * c.securities * c.securities + c.outputDates * c.holdingsSquaredPerDate,
+    window: c.outputDates * 2 * c.window * c.holdingsPerDate,
+  };
+}
+
+/** The cheaper path by `samplePathCosts`. */
 export function chooseSamplePath(c: PathCostInputs): SamplePath {
-  const sliding = (c.outputDates + c.warmupDates) * c.securities * c.securities + c.outputDates * c.holdingsSquaredPerDate;
-  const window = c.outputDates * 3 * c.window * c.holdingsPerDate;
-  return sliding < window ? 'sliding' : 'window';
+  const costs = samplePathCosts(c);
+  return costs.sliding < costs.window ? 'sliding' : 'window';
 }
 
 /**

@@ -1,6 +1,7 @@
 import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
 import type { Database } from '../storage/database.ts';
 import { ChunkAppender } from './columnar.ts';
+import { CONTRIBUTION_VALUE_COUNT, DAILY_FIGURE_COUNT, type ResultBatch } from './resultColumns.ts';
 
 /**
  * Results go first to temporary staging tables, through appenders and outside any
@@ -23,18 +24,6 @@ const DAILY_FIGURES = [
   'diversification_ratio',
   'coverage',
 ] as const;
-
-export interface DailyRow {
-  portfolio: number;
-  row: number;
-  windowDays: number;
-  estimator: string;
-  /** In DAILY_FIGURES order; NaN is written as NULL. */
-  figures: readonly number[];
-  status: string;
-  nHoldings: number;
-  nCovered: number;
-}
 
 export class ResultStage {
   private constructor(
@@ -61,38 +50,40 @@ export class ResultStage {
     );
   }
 
-  addDaily(r: DailyRow): void {
+  /** Appends a batch of an estimate's rows (from the main thread's walk or a worker's). */
+  append(batch: ResultBatch): void {
+    const { windowDays, estimator, statuses, daily, contributions, securities } = batch;
     const a = this.daily;
-    a.set(0, r.portfolio);
-    a.set(1, r.row + 1);
-    a.set(2, r.windowDays);
-    a.set(3, r.estimator);
-    r.figures.forEach((v, c) => a.set(4 + c, v));
-    a.set(14, r.status);
-    a.set(15, r.nHoldings);
-    a.set(16, r.nCovered);
-    a.endRow();
-  }
-
-  addContribution(portfolio: number, row: number, windowDays: number, estimator: string, j: number, values: readonly number[]): void {
-    const a = this.contributions;
-    a.set(0, portfolio);
-    a.set(1, row + 1);
-    a.set(2, windowDays);
-    a.set(3, estimator);
-    a.set(4, j);
-    values.forEach((v, c) => a.set(5 + c, v));
-    a.endRow();
-  }
-
-  addSecurity(row: number, windowDays: number, j: number, annReturn: number, annVol: number): void {
-    const a = this.securities;
-    a.set(0, row + 1);
-    a.set(1, windowDays);
-    a.set(2, j);
-    a.set(3, annReturn);
-    a.set(4, annVol);
-    a.endRow();
+    for (let i = 0; i < daily.rows; i++) {
+      a.set(0, daily.portfolio[i]);
+      a.set(1, daily.row[i] + 1);
+      a.set(2, windowDays);
+      a.set(3, estimator);
+      for (let c = 0; c < DAILY_FIGURE_COUNT; c++) a.set(4 + c, daily.figures[i * DAILY_FIGURE_COUNT + c]);
+      a.set(14, statuses[daily.status[i]]);
+      a.set(15, daily.nHoldings[i]);
+      a.set(16, daily.nCovered[i]);
+      a.endRow();
+    }
+    const b = this.contributions;
+    for (let i = 0; i < contributions.rows; i++) {
+      b.set(0, contributions.portfolio[i]);
+      b.set(1, contributions.row[i] + 1);
+      b.set(2, windowDays);
+      b.set(3, estimator);
+      b.set(4, contributions.security[i]);
+      for (let c = 0; c < CONTRIBUTION_VALUE_COUNT; c++) b.set(5 + c, contributions.values[i * CONTRIBUTION_VALUE_COUNT + c]);
+      b.endRow();
+    }
+    const s = this.securities;
+    for (let i = 0; i < securities.rows; i++) {
+      s.set(0, securities.row[i] + 1);
+      s.set(1, windowDays);
+      s.set(2, securities.security[i]);
+      s.set(3, securities.annReturn[i]);
+      s.set(4, securities.annVol[i]);
+      s.endRow();
+    }
   }
 
   get dailyRows(): number {

@@ -23,18 +23,7 @@ export interface EulerContributions {
  * (nothing adds risk) and pct is NaN, since a share of zero risk is undefined.
  */
 export function eulerContributions(sw: Float64Array, w: Float64Array, periodsPerYear: number): EulerContributions {
-  const fn = 'eulerContributions';
-  requireLength(fn, 'sw', sw.length, w.length);
-  requirePositive(fn, 'periodsPerYear', periodsPerYear);
-  let variance = 0;
-  let scale = 0;
-  for (let i = 0; i < w.length; i++) {
-    variance += w[i] * sw[i];
-    scale += Math.abs(w[i] * sw[i]);
-  }
-  // a PSD matrix gives w'Sw >= 0; allow only the rounding of the sum itself below zero
-  if (variance < -1e-12 * scale) throw new Error(`${fn}: w'Sw = ${variance} < 0, the covariance is not positive semi-definite`);
-  const vol = Math.sqrt(periodsPerYear * Math.max(0, variance));
+  const vol = portfolioVolatility(sw, w, periodsPerYear);
   const n = w.length;
   const mcr = new Float64Array(n);
   const ccr = new Float64Array(n);
@@ -49,6 +38,26 @@ export function eulerContributions(sw: Float64Array, w: Float64Array, periodsPer
     pct[i] = ccr[i] / vol;
   }
   return { vol, mcr, ccr, pct };
+}
+
+/**
+ * sqrt(A w'Sw) from Sw (daily) and w: the `vol` of `eulerContributions`, for the rows
+ * that need no contributions. Throws when w'Sw is negative beyond the rounding of its
+ * own sum (the covariance is then not positive semi-definite).
+ */
+export function portfolioVolatility(sw: Float64Array, w: Float64Array, periodsPerYear: number): number {
+  const fn = 'portfolioVolatility';
+  requireLength(fn, 'sw', sw.length, w.length);
+  requirePositive(fn, 'periodsPerYear', periodsPerYear);
+  let variance = 0;
+  let scale = 0;
+  for (let i = 0; i < w.length; i++) {
+    variance += w[i] * sw[i];
+    scale += Math.abs(w[i] * sw[i]);
+  }
+  // a PSD matrix gives w'Sw >= 0; allow only the rounding of the sum itself below zero
+  if (variance < -1e-12 * scale) throw new Error(`${fn}: w'Sw = ${variance} < 0, the covariance is not positive semi-definite`);
+  return Math.sqrt(periodsPerYear * Math.max(0, variance));
 }
 
 /**

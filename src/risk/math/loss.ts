@@ -24,7 +24,7 @@ export interface ParametricLossInput {
  */
 export function parametricVaR(input: ParametricLossInput): number {
   const scale = lossScale('parametricVaR', input);
-  return normalQuantile(input.level) * scale;
+  return quantileOf(input.level) * scale;
 }
 
 /**
@@ -34,8 +34,20 @@ export function parametricVaR(input: ParametricLossInput): number {
  */
 export function parametricES(input: ParametricLossInput): number {
   const scale = lossScale('parametricES', input);
-  const z = normalQuantile(input.level);
+  const z = quantileOf(input.level);
   return (normalPdf(z) / (1 - input.level)) * scale;
+}
+
+// the stage asks for the same two levels on every row: solve each quantile once
+const quantiles = new Map<number, number>();
+
+function quantileOf(level: number): number {
+  let z = quantiles.get(level);
+  if (z === undefined) {
+    z = normalQuantile(level);
+    quantiles.set(level, z);
+  }
+  return z;
 }
 
 /** sigma_d sqrt(h) |V| after the checks both estimates share. */

@@ -1,0 +1,168 @@
+import type { Config } from '../config/load.ts';
+import { annualizedReturn, annualizedVolatility } from './math/annualize.ts';
+import { mean, sampleVariance } from './math/moments.ts';
+import { EwmaEstimate, type EwmaState } from './ewmaEstimate.ts';
+import type { PortfolioPanel, ReturnPanel } from './inputs.ts';
+import { assessRow, RowScratch, type CovarianceView, type Exposure, type RiskSettings } from './portfolioRow.ts';
+import { DAILY_FIGURE_COUNT, ResultCollector, type ResultBatch } from './resultColumns.ts';
+import { SampleEstimate, type SamplePath } from './sampleEstimate.ts';
+
+/**
+ * One estimate's walk over the dates: advance the estimate date by date and, at each
+ * output date (row >= fromRow), collect the per-security stats and one row per
+ * portfolio present that day. Nothing here touches the database or the clock, so the
+ * same walk runs on the main thread or in a worker and gives the same numbers.
+ */
+
+export interface ComputeInputs {
+  returns: ReturnPanel;
+  portfolios: PortfolioPanel;
+  fromRow: number;
+  /** Stored EWMA state at fromRow - 1, or null to replay from the first date. */
+  ewmaState: EwmaState | null;
+}
+
+export type EstimateTask =
+  | { kind: 'sample'; windowDays: number; path: SamplePath }
+  | { kind: 'ewma'; lambda: number; seedDays: number };
+
+export interface WalkSettings extends RiskSettings {
+  weights: Config['risk']['weights'];
+  contributions: Config['risk']['contributions'];
+}
+
+interface DateEstimate extends CovarianceView {
+  readonly estimator: 'sample' | 'ewma';
+  readonly windowDays: number;
+  readonly startRow: number;
+  forEachSecurity(emit: (j: number, annReturn: number, annVol: number) => void, periodsPerYear: number): void;
+}
+
+/** Rows (all tables) collected before a batch is handed over; bounds memory in a long backfill. */
+const BATCH_ROWS = 1 << 16;
+
+/** Walks one estimate, handing its rows to `emit` in batches; returns the EWMA state at the last date (null for a sample estimate). */
+export function walkEstimate(task: EstimateTask, input: ComputeInputs, settings: WalkSettings, emit: (batch: ResultBatch) => void): EwmaState | null {
+  const { returns, fromRow } = input;
+  if (task.kind === 'sample') {
+    const estimate = new SampleEstimate(returns, task.windowDays, task.path, fromRow);
+    walk(estimate, (d, output) => estimate.advance(d, output), input, settings, emit);
+    return null;
+  }
+  const ewma = new EwmaEstimate(returns, task.lambda, task.seedDays, input.ewmaState);
+  walk(ewma, (d) => ewma.advance(d), input, settings, emit);
+  return ewma.snapshot();
+}
+
+function walk(
+  estimate: DateEstimate,
+  advance: (d: number, output: boolean) => void,
+  input: ComputeInputs,
+  settings: WalkSettings,
+  emit: (batch: ResultBatch) => void,
+): void {
+  const { returns, portfolios, fromRow } = input;
+  const dateCount = returns.dates.length;
+  const lastRow = lastPresentRows(portfolios, dateCount);
+  const average = estimate.estimator === 'sample' && settings.weights === 'window_average';
+  const accumulator = new Float64Array(returns.securityIds.length);
+  const scratch = new RowScratch();
+  const figures = new Float64Array(DAILY_FIGURE_COUNT);
+  const out = new ResultCollector(estimate.windowDays, estimate.estimator);
+  const addSecurity = (j: number, r: number, v: number) => out.addSecurity(currentRow, j, r, v);
+  let currentRow = -1;
+  for (let d = estimate.startRow; d < dateCount; d++) {
+    const output = d >= fromRow;
+    advance(d, output);
+    if (!output) continue;
+    currentRow = d;
+    estimate.forEachSecurity(addSecurity, settings.periodsPerYear);
+    for (let p = 0; p < portfolios.ids.length; p++) {
+      const slot = p * dateCount + d;
+      if (portfolios.present[slot] !== 1) continue;
+      const exposure = average
+        ? averageExposure(portfolios, returns, p, d, estimate.windowDays, accumulator)
+        : currentExposure(portfolios, returns, slot);
+      const flags = { value: portfolios.value[slot], unpriced: portfolios.unpriced[slot] === 1, stale: portfolios.stale[slot] === 1 };
+      const withContributions = settings.contributions === 'all' || d === lastRow[p];
+      const row = assessRow(exposure, flags, estimate, settings, withContributions, scratch);
+      const realized = estimate.estimator === 'sample' ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
+      figures[0] = flags.value;
+      figures[1] = row.volExAnte;
+      figures[2] = realized?.vol ?? Number.NaN;
+      figures[3] = realized?.annReturn ?? Number.NaN;
+      figures[4] = row.var99_1d;
+      figures[5] = row.es975_1d;
+      figures[6] = row.var99_10d;
+      figures[7] = row.es975_10d;
+      figures[8] = row.diversification;
+      figures[9] = row.coverage;
+      out.addDaily(p, d, figures, row.status, row.nHoldings, row.nCovered);
+      if (row.contributions) {
+        const { mcr, ccr, pct } = row.contributions;
+        for (let a = 0; a < exposure.j.length; a++) out.addContribution(p, d, exposure.j[a], exposure.w[a], mcr[a], ccr[a], pct[a]);
+      }
+    }
+    out.endDate();
+    if (out.pendingRows >= BATCH_ROWS || d === dateCount - 1) emit(out.take());
+  }
+}
+
+function currentExposure(portfolios: PortfolioPanel, returns: ReturnPanel, slot: number): Exposure {
+  const start = portfolios.offsets[slot];
+  const end = portfolios.offsets[slot + 1];
+  return { j: portfolios.security.subarray(start, end), w: portfolios.weight.subarray(start, end), isCash: returns.isCash };
+}
+
+/**
+ * Mean of the daily weights over the window's W dates, counting the dates on which the
+ * portfolio had a priced value (a security not held on a date weighs 0 there). Summed
+ * in date order, so every run gets the same digits.
+ */
+function averageExposure(portfolios: PortfolioPanel, returns: ReturnPanel, p: number, d: number, windowDays: number, acc: Float64Array): Exposure {
+  const dateCount = returns.dates.length;
+  const touched = new Set<number>();
+  let days = 0;
+  for (let u = Math.max(portfolios.firstRow, d - windowDays + 1); u <= d; u++) {
+    const slot = p * dateCount + u;
+    if (portfolios.present[slot] !== 1 || portfolios.unpriced[slot] === 1) continue;
+    const start = portfolios.offsets[slot];
+    const end = portfolios.offsets[slot + 1];
+    let priced = true;
+    for (let h = start; h < end; h++) priced &&= Number.isFinite(portfolios.weight[h]);
+    if (!priced) continue;
+    days++;
+    for (let h = start; h < end; h++) {
+      const j = portfolios.security[h];
+      if (!touched.has(j)) {
+        touched.add(j);
+        acc[j] = 0;
+      }
+      acc[j] += portfolios.weight[h];
+    }
+  }
+  const j = Int32Array.from(touched).sort();
+  const w = new Float64Array(j.length);
+  j.forEach((k, a) => (w[a] = acc[k] / days));
+  return { j, w, isCash: returns.isCash };
+}
+
+/** vol_realized and ann_return from the W portfolio log returns ending at d; null unless all W exist. */
+function realizedFigures(portfolios: PortfolioPanel, p: number, d: number, windowDays: number, dateCount: number, settings: RiskSettings) {
+  const first = d - windowDays + 1;
+  if (first < 0) return null;
+  const series = portfolios.logReturn.subarray(p * dateCount + first, p * dateCount + d + 1);
+  for (let u = 0; u < series.length; u++) if (!Number.isFinite(series[u])) return null;
+  return {
+    vol: annualizedVolatility(sampleVariance(series), settings.periodsPerYear),
+    annReturn: annualizedReturn(mean(series), settings.periodsPerYear),
+  };
+}
+
+function lastPresentRows(portfolios: PortfolioPanel, dateCount: number): Int32Array {
+  const last = new Int32Array(portfolios.ids.length).fill(-1);
+  for (let p = 0; p < portfolios.ids.length; p++) {
+    for (let d = dateCount - 1; d >= 0 && last[p] === -1; d--) if (portfolios.present[p * dateCount + d] === 1) last[p] = d;
+  }
+  return last;
+}

@@ -1,0 +1,6 @@
+// A worker thread does not inherit the tsx loader of the thread that started it:
+// register it here, then load the TypeScript worker (as bin/riskfold.js does for the CLI).
+import { register } from 'tsx/esm/api';
+
+register();
+await import('./estimateWorker.ts');

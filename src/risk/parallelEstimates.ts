@@ -1,0 +1,113 @@
+import { Worker } from 'node:worker_threads';
+import type { EwmaState } from './ewmaEstimate.ts';
+import type { ComputeInputs, EstimateTask, WalkSettings } from './estimateWalk.ts';
+import { WORKER_ROLE, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
+import type { PortfolioPanel, ReturnPanel } from './inputs.ts';
+import type { ResultBatch } from './resultColumns.ts';
+
+/**
+ * Walks the estimates in `threads` worker threads. The inputs are shared, not copied
+ * (SharedArrayBuffer); the tasks are handed out one at a time, largest first, to
+ * whichever worker is free; every batch a worker posts goes to `onBatch` on this thread
+ * as it arrives. Each walk is the same code as on the main thread, so the numbers are
+ * the same bit for bit; only the order in which batches arrive differs.
+ * Resolves with the EWMA state of the EWMA task (null without one).
+ */
+export async function walkInWorkers(
+  tasks: readonly { task: EstimateTask; cost: number }[],
+  input: ComputeInputs,
+  settings: WalkSettings,
+  threads: number,
+  onBatch: (batch: ResultBatch) => void,
+): Promise<EwmaState | null> {
+  const shared = shareInputs(input);
+  const queue = tasks.map((t, taskId) => ({ taskId, task: t.task, cost: t.cost })).sort((a, b) => b.cost - a.cost);
+  const workers = Array.from(
+    { length: Math.min(threads, queue.length) },
+    // execArgv empty: the boot file registers tsx itself, whatever flags this process ran with
+    () => new Worker(new URL('./estimateWorkerBoot.mjs', import.meta.url), { workerData: { role: WORKER_ROLE }, execArgv: [] }),
+  );
+  let ewmaState: EwmaState | null = null;
+  try {
+    await new Promise<void>((resolve, reject) => {
+      let running = 0;
+      let failed = false;
+      const fail = (err: Error) => {
+        failed = true;
+        reject(err);
+      };
+      const next = (worker: Worker) => {
+        const item = queue.shift();
+        if (!item) {
+          if (running === 0) resolve();
+          return;
+        }
+        running++;
+        worker.postMessage({ type: 'run', taskId: item.taskId, task: item.task } satisfies WorkerRequest);
+      };
+      for (const worker of workers) {
+        worker.on('message', (reply: WorkerReply) => {
+          if (failed) return;
+          if (reply.type === 'batch') {
+            try {
+              onBatch(reply.batch);
+            } catch (err) {
+              fail(err as Error);
+            }
+            return;
+          }
+          if (reply.type === 'failed') {
+            fail(Object.assign(new Error(`risk estimate failed in a worker thread: ${reply.message}`), { stack: reply.stack }));
+            return;
+          }
+          if (reply.ewmaState) ewmaState = reply.ewmaState;
+          running--;
+          next(worker);
+        });
+        worker.on('error', (err) => fail(new Error('risk estimate worker thread stopped', { cause: err })));
+        worker.on('exit', (code) => {
+          if (!failed && (running > 0 || queue.length > 0)) fail(new Error(`risk estimate worker thread exited with code ${code}`));
+        });
+        worker.postMessage({ type: 'init', input: shared, settings } satisfies WorkerRequest);
+        next(worker);
+      }
+    });
+  } finally {
+    await Promise.all(workers.map((w) => w.terminate()));
+  }
+  return ewmaState;
+}
+
+/** The inputs with every typed array on a SharedArrayBuffer (inputs.ts allocates them so; anything else is copied once). */
+function shareInputs(input: ComputeInputs): ComputeInputs {
+  const r = input.returns;
+  const p = input.portfolios;
+  const returns: ReturnPanel = {
+    ...r,
+    isCash: shared(r.isCash),
+    returns: shared(r.returns),
+    returnsBySecurity: shared(r.returnsBySecurity),
+    runLength: shared(r.runLength),
+  };
+  const portfolios: PortfolioPanel = {
+    ...p,
+    present: shared(p.present),
+    value: shared(p.value),
+    unpriced: shared(p.unpriced),
+    stale: shared(p.stale),
+    logReturn: shared(p.logReturn),
+    offsets: shared(p.offsets),
+    security: shared(p.security),
+    weight: shared(p.weight),
+  };
+  return { ...input, returns, portfolios };
+}
+
+type Typed = Uint8Array | Int32Array | Float64Array;
+
+function shared<A extends Typed>(a: A): A {
+  if (a.buffer instanceof SharedArrayBuffer) return a;
+  const copy = new (a.constructor as new (buffer: SharedArrayBuffer) => A)(new SharedArrayBuffer(a.byteLength));
+  copy.set(a as never);
+  return copy;
+}

@@ -1,0 +1,174 @@
+/**
+ * The risk stage's results as typed-array columns: an estimate's walk over the dates
+ * collects its rows here and hands them over in batches, whether it runs on the main
+ * thread or in a worker (a batch's buffers are transferred, not copied). Portfolios,
+ * dates and securities are integers (p, d, j) as in inputs.ts; statuses are codes
+ * into the batch's own list of texts.
+ */
+
+import type { Estimator } from '../config/schema.ts';
+
+/** Figures of a risk_daily row, in staging's DAILY_FIGURES order. */
+export const DAILY_FIGURE_COUNT = 10;
+/** weight, mcr, ccr, pct of a risk_contributions row. */
+export const CONTRIBUTION_VALUE_COUNT = 4;
+
+export interface ResultBatch {
+  /** Output dates the walk finished since the previous batch (for progress). */
+  dates: number;
+  windowDays: number;
+  estimator: Estimator;
+  statuses: string[];
+  daily: {
+    rows: number;
+    portfolio: Int32Array;
+    row: Int32Array;
+    /** rows x DAILY_FIGURE_COUNT, NaN = NULL. */
+    figures: Float64Array;
+    status: Int32Array;
+    nHoldings: Int32Array;
+    nCovered: Int32Array;
+  };
+  contributions: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array };
+  securities: { rows: number; row: Int32Array; security: Int32Array; annReturn: Float64Array; annVol: Float64Array };
+}
+
+/** The buffers a batch owns, for postMessage's transfer list. */
+export function batchBuffers(batch: ResultBatch): ArrayBuffer[] {
+  const { daily, contributions, securities } = batch;
+  const arrays = [
+    daily.portfolio,
+    daily.row,
+    daily.figures,
+    daily.status,
+    daily.nHoldings,
+    daily.nCovered,
+    contributions.portfolio,
+    contributions.row,
+    contributions.security,
+    contributions.values,
+    securities.row,
+    securities.security,
+    securities.annReturn,
+    securities.annVol,
+  ];
+  return [...new Set(arrays.map((a) => a.buffer as ArrayBuffer))];
+}
+
+type Typed = Int32Array | Float64Array;
+
+/** An append-only column that doubles its buffer as it fills. */
+class Column<A extends Typed> {
+  values: A;
+  length = 0;
+
+  constructor(private readonly make: (n: number) => A) {
+    this.values = make(1024);
+  }
+
+  push(v: number): void {
+    if (this.length === this.values.length) this.grow(this.length + 1);
+    this.values[this.length++] = v;
+  }
+
+  /** The values so far (in a buffer of their own); the column starts again empty. */
+  take(): A {
+    const out = this.values.subarray(0, this.length) as A;
+    this.values = this.make(Math.max(1024, this.length));
+    this.length = 0;
+    return out;
+  }
+
+  private grow(need: number): void {
+    let size = this.values.length;
+    while (size < need) size *= 2;
+    const next = this.make(size);
+    next.set(this.values.subarray(0, this.length));
+    this.values = next;
+  }
+}
+
+const ints = () => new Column((n) => new Int32Array(n));
+const doubles = () => new Column((n) => new Float64Array(n));
+
+/** Collects one estimate's rows; `take()` returns them as a batch. */
+export class ResultCollector {
+  private readonly statusCodes = new Map<string, number>();
+  private readonly daily = { portfolio: ints(), row: ints(), figures: doubles(), status: ints(), nHoldings: ints(), nCovered: ints() };
+  private readonly contributions = { portfolio: ints(), row: ints(), security: ints(), values: doubles() };
+  private readonly securities = { row: ints(), security: ints(), annReturn: doubles(), annVol: doubles() };
+  private dates = 0;
+
+  constructor(
+    readonly windowDays: number,
+    readonly estimator: Estimator,
+  ) {}
+
+  addDaily(portfolio: number, row: number, figures: ArrayLike<number>, status: string, nHoldings: number, nCovered: number): void {
+    const d = this.daily;
+    d.portfolio.push(portfolio);
+    d.row.push(row);
+    for (let c = 0; c < DAILY_FIGURE_COUNT; c++) d.figures.push(figures[c]);
+    let code = this.statusCodes.get(status);
+    if (code === undefined) {
+      code = this.statusCodes.size;
+      this.statusCodes.set(status, code);
+    }
+    d.status.push(code);
+    d.nHoldings.push(nHoldings);
+    d.nCovered.push(nCovered);
+  }
+
+  addContribution(portfolio: number, row: number, security: number, weight: number, mcr: number, ccr: number, pct: number): void {
+    const c = this.contributions;
+    c.portfolio.push(portfolio);
+    c.row.push(row);
+    c.security.push(security);
+    c.values.push(weight);
+    c.values.push(mcr);
+    c.values.push(ccr);
+    c.values.push(pct);
+  }
+
+  addSecurity(row: number, security: number, annReturn: number, annVol: number): void {
+    const s = this.securities;
+    s.row.push(row);
+    s.security.push(security);
+    s.annReturn.push(annReturn);
+    s.annVol.push(annVol);
+  }
+
+  /** One output date done. */
+  endDate(): void {
+    this.dates++;
+  }
+
+  /** Rows held, all tables together: the walk hands a batch over past a size. */
+  get pendingRows(): number {
+    return this.daily.row.length + this.contributions.row.length + this.securities.row.length;
+  }
+
+  take(): ResultBatch {
+    const { daily: d, contributions: c, securities: s } = this;
+    const batch: ResultBatch = {
+      dates: this.dates,
+      windowDays: this.windowDays,
+      estimator: this.estimator,
+      // every code seen so far, so a batch is readable on its own
+      statuses: [...this.statusCodes.keys()],
+      daily: {
+        rows: d.row.length,
+        portfolio: d.portfolio.take(),
+        row: d.row.take(),
+        figures: d.figures.take(),
+        status: d.status.take(),
+        nHoldings: d.nHoldings.take(),
+        nCovered: d.nCovered.take(),
+      },
+      contributions: { rows: c.row.length, portfolio: c.portfolio.take(), row: c.row.take(), security: c.security.take(), values: c.values.take() },
+      securities: { rows: s.row.length, row: s.row.take(), security: s.security.take(), annReturn: s.annReturn.take(), annVol: s.annVol.take() },
+    };
+    this.dates = 0;
+    return batch;
+  }
+}

@@ -1,0 +1,152 @@
+import { afterEach, describe, expect, it } from 'vitest';
+import type { ConfigInput } from '../../../src/config/schema.ts';
+import { computeRisk, PARALLEL_MIN_COST, threadsFor, type ComputeInputs } from '../../../src/risk/computeRisk.ts';
+import { EwmaEstimate } from '../../../src/risk/ewmaEstimate.ts';
+import { readPortfolioPanel, readReturnPanel } from '../../../src/risk/inputs.ts';
+import { DAILY_FIGURE_COUNT, type ResultBatch } from '../../../src/risk/resultColumns.ts';
+import { createRandom } from '../../../src/demo/random.ts';
+import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
+import { buildScenario, loadDays, RISK } from './scenario.ts';
+
+const quiet = { advance: () => undefined, finish: () => undefined };
+
+/** Every row of every batch as text (String(x) round-trips a double exactly), sorted: arrival order aside, equal means bit for bit. */
+function rowsOf(batches: ResultBatch[]): string[] {
+  const rows: string[] = [];
+  for (const b of batches) {
+    const tag = `${b.estimator}|${b.windowDays}`;
+    const { daily: d, contributions: c, securities: s } = b;
+    for (let i = 0; i < d.rows; i++) {
+      const figures = Array.from(d.figures.subarray(i * DAILY_FIGURE_COUNT, (i + 1) * DAILY_FIGURE_COUNT), String);
+      rows.push(`daily|${tag}|${d.portfolio[i]}|${d.row[i]}|${figures.join(',')}|${b.statuses[d.status[i]]}|${d.nHoldings[i]}|${d.nCovered[i]}`);
+    }
+    for (let i = 0; i < c.rows; i++) rows.push(`contribution|${tag}|${c.portfolio[i]}|${c.row[i]}|${c.security[i]}|${Array.from(c.values.subarray(i * 4, i * 4 + 4), String)}`);
+    for (let i = 0; i < s.rows; i++) rows.push(`security|${tag}|${s.row[i]}|${s.security[i]}|${s.annReturn[i]}|${s.annVol[i]}`);
+  }
+  return rows.sort();
+}
+
+/**
+ * 40 securities (one of them cash, one with a hole, one listed late) and 3 portfolios of
+ * 5 to 7 holdings that change every 50 days: wide enough that the short window takes the
+ * window path and the long one the sliding path.
+ */
+function wideInputs(t = 420, n = 40): ComputeInputs {
+  const random = createRandom(99);
+  const returns = new Float64Array(t * n);
+  for (let d = 0; d < t; d++) {
+    const market = 0.01 * random.normal();
+    for (let j = 0; j < n; j++) {
+      const missing = d === 0 || j === 0 || (j === 3 && d >= 200 && d < 204) || (j === 7 && d < 260);
+      returns[d * n + j] = missing ? Number.NaN : market * (0.4 + j / n) + 0.012 * random.normal();
+    }
+  }
+  const returnsBySecurity = new Float64Array(n * t);
+  const runLength = new Int32Array(t * n);
+  for (let d = 0; d < t; d++) {
+    for (let j = 0; j < n; j++) {
+      const r = returns[d * n + j];
+      returnsBySecurity[j * t + d] = r;
+      runLength[d * n + j] = Number.isFinite(r) ? (d > 0 ? runLength[(d - 1) * n + j] : 0) + 1 : 0;
+    }
+  }
+  const isCash = new Uint8Array(n);
+  isCash[0] = 1;
+  const ids = ['acct-alder', 'acct-birch', 'acct-cedar'];
+  const slots = ids.length * t;
+  const offsets = new Int32Array(slots + 1);
+  const security: number[] = [];
+  const weight: number[] = [];
+  for (let p = 0; p < ids.length; p++) {
+    let held: number[] = [];
+    for (let d = 0; d < t; d++) {
+      if (d % 50 === 0) held = [0, ...new Set(Array.from({ length: 6 + p }, () => 1 + Math.floor(random.uniform() * (n - 1))))].sort((a, b) => a - b);
+      const raw = held.map(() => 0.2 + random.uniform());
+      const total = raw.reduce((a, b) => a + b, 0);
+      for (let a = 0; a < held.length; a++) {
+        security.push(held[a]);
+        weight.push(raw[a] / total);
+      }
+      offsets[p * t + d + 1] = security.length;
+    }
+  }
+  return {
+    returns: { dates: Array.from({ length: t }, (_, d) => `d${d}`), securityIds: Array.from({ length: n }, (_, j) => (j === 0 ? 'CASH:USD' : `EQ-WIDE-${j}`)), isCash, returns, returnsBySecurity, runLength },
+    portfolios: {
+      ids,
+      firstRow: 0,
+      present: new Uint8Array(slots).fill(1),
+      value: Float64Array.from({ length: slots }, () => 1e6 * (1 + random.uniform())),
+      unpriced: new Uint8Array(slots),
+      stale: Uint8Array.from({ length: slots }, (_, s) => (s % 97 === 0 ? 1 : 0)),
+      logReturn: Float64Array.from({ length: slots }, (_, s) => (s % t === 0 ? Number.NaN : 0.008 * random.normal())),
+      offsets,
+      security: Int32Array.from(security),
+      weight: Float64Array.from(weight),
+    },
+    fromRow: 0,
+    ewmaState: null,
+  };
+}
+
+describe('computeRisk in worker threads', () => {
+  let ws: TempWorkspace | undefined;
+  afterEach(() => ws?.cleanup());
+
+  async function inputsFor(risk: ConfigInput['risk'], fromDay = 0): Promise<ComputeInputs> {
+    ws = await tempWorkspace({ risk });
+    const s = buildScenario();
+    await loadDays(ws.db, s, 0, s.dates.length - 1);
+    const returns = await readReturnPanel(ws.db);
+    const portfolios = await readPortfolioPanel(ws.db, returns.dates.length, 0, null);
+    return { returns, portfolios, fromRow: fromDay, ewmaState: null };
+  }
+
+  async function run(input: ComputeInputs, threads: number) {
+    const batches: ResultBatch[] = [];
+    const ewma = await computeRisk(input, ws!.config, (b) => batches.push(b), quiet, ws!.log, { threads });
+    return { rows: rowsOf(batches), ewma };
+  }
+
+  it('gives the same rows bit for bit as the main thread: both sample paths, the EWMA and every contribution', async () => {
+    ws = await tempWorkspace({ risk: { ...RISK, windows: [21, 63, 150], contributions: 'all' } });
+    const input = wideInputs();
+    const one = await run(input, 1);
+    const two = await run(input, 2);
+    const paths = ws.logLines().filter((l) => l.msg === 'sample covariance path').map((l) => `${l.windowDays}:${l.path}`);
+    expect(paths).toContain('21:window');
+    expect(paths).toContain('150:sliding');
+    expect(one.rows.length).toBeGreaterThan(20_000);
+    expect(two.rows).toEqual(one.rows);
+    expect(two.ewma!.securityIds).toEqual(one.ewma!.securityIds);
+    expect(Array.from(two.ewma!.matrix, String)).toEqual(Array.from(one.ewma!.matrix, String));
+  });
+
+  it('agrees with weights "window_average" and a run from a later date continuing the EWMA state', async () => {
+    const input = await inputsFor({ ...RISK, weights: 'window_average' });
+    const first = await run(input, 1);
+    // the EWMA state of the day before, as the stored state would give it
+    const last = input.returns.dates.length - 1;
+    const before = new EwmaEstimate(input.returns, 0.94, 10, null);
+    for (let d = 0; d < last; d++) before.advance(d);
+    const later = { ...input, fromRow: last, ewmaState: before.snapshot() };
+    expect(first.rows.length).toBeGreaterThan(1_000);
+    expect((await run(input, 3)).rows).toEqual(first.rows);
+    expect((await run(later, 2)).rows).toEqual((await run(later, 1)).rows);
+  });
+
+  it('reports a failure inside a worker as the run failing, with the reason', async () => {
+    const input = await inputsFor(RISK);
+    const broken = { ...input, fromRow: 100, ewmaState: { row: 99, securityIds: ['EQ-NOWHERE'], matrix: Float64Array.from([1e-4]) } };
+    await expect(run(broken, 2)).rejects.toThrow(/worker thread: EWMA state names EQ-NOWHERE, which has no returns now/);
+  });
+});
+
+describe('threadsFor (cost model)', () => {
+  it('stays on this thread below PARALLEL_MIN_COST and takes one thread per task up to the cores above it', () => {
+    expect(threadsFor(PARALLEL_MIN_COST / 2, 4, 2)).toBe(1);
+    expect(threadsFor(PARALLEL_MIN_COST, 4, 2)).toBe(2);
+    expect(threadsFor(PARALLEL_MIN_COST * 10, 3, 8)).toBe(3);
+    expect(threadsFor(PARALLEL_MIN_COST * 10, 4, 1)).toBe(1);
+  });
+});
