@@ -1,8 +1,20 @@
+import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
 import type { ResolvedLimit } from '../config/load.ts';
+import { ChunkAppender, readColumns } from '../risk/columnar.ts';
 import type { Database } from '../storage/database.ts';
+import { limitKey } from './applicableLimits.ts';
 import type { Episode, LimitLevel, MetricPoint } from './episodes.ts';
 import type { EpisodeFacts } from './limitAlerts.ts';
 import type { StoredEpisode } from './matchEpisodes.ts';
+
+/**
+ * What the limit check reads and writes, in bulk: one query per watched series for all
+ * portfolios of the run, one for their recorded episodes, one for the alerts already
+ * raised; episodes are written through a staging table in two statements. A full
+ * backfill of 50 portfolios then costs a handful of statements, not a few per episode.
+ */
+
+type Limit = Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>;
 
 /** The figure a limit watches, per row of risk_daily; VaR is compared as a fraction of value. */
 const METRIC_SQL: Record<ResolvedLimit['metric'], string> = {
@@ -11,25 +23,51 @@ const METRIC_SQL: Record<ResolvedLimit['metric'], string> = {
   var_99_1d: 'var_99_1d / nullif(portfolio_value, 0)',
 };
 
-/** The limit's series for one portfolio, from `fromDate` (null: all of it), ascending. */
+/** `portfolio|metric|window|estimator`: one limit's series of one portfolio. */
+export function seriesKey(portfolioId: string, limit: Limit): string {
+  return `${portfolioId}|${limitKey(limit)}`;
+}
+
+/** "portfolio in the run's scope" for a statement whose parameter $1 is the scope (null: every portfolio). */
+const IN_SCOPE = `($1::varchar is null or list_contains(from_json($1, '["VARCHAR"]'), portfolio_id))`;
+const scopeParam = (portfolios: readonly string[] | null) => (portfolios === null ? null : JSON.stringify(portfolios));
+
+/**
+ * The series of one watched figure for every portfolio in scope, from `fromDate` (null:
+ * all of it), ascending by date; a null figure reads as NaN (no value, holds the state).
+ */
 export async function loadMetricSeries(
   db: Database,
-  portfolioId: string,
-  limit: ResolvedLimit,
+  limit: Limit,
+  portfolios: readonly string[] | null,
   fromDate: string | null,
-): Promise<MetricPoint[]> {
-  return db.all<MetricPoint>(
-    `select date, ${METRIC_SQL[limit.metric]} as value from risk_daily
-     where portfolio_id = $1 and window_days = $2 and estimator = $3 and ($4::date is null or date >= $4::date)
-     order by date`,
-    [portfolioId, limit.window, limit.estimator, fromDate],
+): Promise<Map<string, MetricPoint[]>> {
+  const { rows, columns } = await readColumns(
+    db,
+    `select portfolio_id, date::varchar, ${METRIC_SQL[limit.metric]} as value from risk_daily
+     where ${IN_SCOPE} and window_days = $2 and estimator = $3 and ($4::date is null or date >= $4::date)
+     order by portfolio_id, date`,
+    [scopeParam(portfolios), limit.window, limit.estimator, fromDate],
+    { portfolio_id: 'text', date: 'text', value: 'double' },
   );
+  const series = new Map<string, MetricPoint[]>();
+  for (let i = 0; i < rows; i++) {
+    const id = columns.portfolio_id[i] as string;
+    let points = series.get(id);
+    if (!points) series.set(id, (points = []));
+    points.push({ date: columns.date[i] as string, value: columns.value[i] });
+  }
+  return series;
 }
 
 export type RecordedEpisode = StoredEpisode & EpisodeFacts;
 
 interface BreachRow {
   breach_id: number;
+  portfolio_id: string;
+  metric: ResolvedLimit['metric'];
+  window_days: number;
+  estimator: ResolvedLimit['estimator'];
   opened_on: string;
   closed_on: string | null;
   escalated_on: string | null;
@@ -39,84 +77,118 @@ interface BreachRow {
 }
 
 /**
- * Recorded, not retracted episodes of this limit that a replay from `from` may change:
- * those still open at `from` or opened since. Episodes closed before `from` are settled.
+ * Recorded, not retracted episodes in scope that a replay from `from` may change, by
+ * series key: those still open at `from` or opened since. Episodes closed before `from`
+ * are settled.
  */
-export async function loadEpisodesInScope(
-  db: Database,
-  portfolioId: string,
-  limit: ResolvedLimit,
-  from: string | null,
-): Promise<RecordedEpisode[]> {
+export async function loadEpisodesInScope(db: Database, portfolios: readonly string[] | null, from: string | null): Promise<Map<string, RecordedEpisode[]>> {
   const rows = await db.all<BreachRow>(
-    `select breach_id, opened_on, closed_on, escalated_on, level, peak_value, peak_on from limit_breaches
-     where portfolio_id = $1 and metric = $2 and window_days = $3 and estimator = $4 and not retracted
-       and ($5::date is null or closed_on is null or closed_on >= $5::date)
+    `select breach_id, portfolio_id, metric, window_days, estimator, opened_on, closed_on, escalated_on, level, peak_value, peak_on
+     from limit_breaches
+     where ${IN_SCOPE} and not retracted and ($2::date is null or closed_on is null or closed_on >= $2::date)
      order by opened_on`,
-    [portfolioId, limit.metric, limit.window, limit.estimator, from],
+    [scopeParam(portfolios), from],
   );
-  return rows.map((r) => ({
-    breachId: r.breach_id,
-    openedOn: r.opened_on,
-    closedOn: r.closed_on,
-    escalatedOn: r.escalated_on,
-    level: r.level,
-    openLevel: r.escalated_on === null ? r.level : 'warning',
-    peakValue: r.peak_value,
-    peakOn: r.peak_on,
-  }));
+  const byKey = new Map<string, RecordedEpisode[]>();
+  for (const r of rows) {
+    const key = seriesKey(r.portfolio_id, { metric: r.metric, window: r.window_days, estimator: r.estimator });
+    let list = byKey.get(key);
+    if (!list) byKey.set(key, (list = []));
+    list.push({
+      breachId: r.breach_id,
+      openedOn: r.opened_on,
+      closedOn: r.closed_on,
+      escalatedOn: r.escalated_on,
+      level: r.level,
+      openLevel: r.escalated_on === null ? r.level : 'warning',
+      peakValue: r.peak_value,
+      peakOn: r.peak_on,
+    });
+  }
+  return byKey;
 }
 
 /**
- * The last date before `from` on which an episode of this limit closed: on it no episode
- * was open, so a replay can start there. Null: none closed before, replay everything.
+ * Per series key, the last date before `from` on which an episode closed: on it no
+ * episode was open, so a replay can start there. A key without one replays everything.
  */
-export async function lastClosingBefore(db: Database, portfolioId: string, limit: ResolvedLimit, from: string): Promise<string | null> {
-  const [row] = await db.all<{ closed_on: string | null }>(
-    `select max(closed_on) as closed_on from limit_breaches
-     where portfolio_id = $1 and metric = $2 and window_days = $3 and estimator = $4 and not retracted and closed_on < $5::date`,
-    [portfolioId, limit.metric, limit.window, limit.estimator, from],
+export async function lastClosingsBefore(db: Database, portfolios: readonly string[] | null, from: string): Promise<Map<string, string>> {
+  const rows = await db.all<{ portfolio_id: string; metric: ResolvedLimit['metric']; window_days: number; estimator: ResolvedLimit['estimator']; closed_on: string }>(
+    `select portfolio_id, metric, window_days, estimator, max(closed_on) as closed_on from limit_breaches
+     where ${IN_SCOPE} and not retracted and closed_on < $2::date
+     group by all`,
+    [scopeParam(portfolios), from],
   );
-  return row.closed_on;
+  return new Map(rows.map((r) => [seriesKey(r.portfolio_id, { metric: r.metric, window: r.window_days, estimator: r.estimator }), r.closed_on]));
 }
 
-export async function insertEpisode(
-  db: Database,
-  portfolioId: string,
-  limit: ResolvedLimit,
-  episode: Episode,
-  runId: number,
-): Promise<number> {
-  const rows = await db.all<{ breach_id: number }>(
-    `insert into limit_breaches (portfolio_id, metric, window_days, estimator, limit_value, warning_value, clear_value,
-       level, opened_on, escalated_on, closed_on, peak_value, peak_on, run_id)
-     values ($1, $2, $3, $4, $5, $6, $7, $8, $9::date, $10::date, $11::date, $12, $13::date, $14)
-     returning breach_id`,
-    [portfolioId, limit.metric, limit.window, limit.estimator, ...episodeValues(limit, episode), runId],
+/** Per breach_id in scope, the kinds of alert already raised: each transition is alerted at most once. */
+export async function alertedKinds(db: Database, portfolios: readonly string[] | null): Promise<Map<number, Set<string>>> {
+  const rows = await db.all<{ breach_id: number; kind: string }>(
+    `select distinct breach_id, kind from alerts where breach_id is not null and ${IN_SCOPE}`,
+    [scopeParam(portfolios)],
   );
-  return rows[0].breach_id;
+  const kinds = new Map<number, Set<string>>();
+  for (const r of rows) (kinds.get(r.breach_id) ?? kinds.set(r.breach_id, new Set()).get(r.breach_id)!).add(r.kind);
+  return kinds;
 }
 
-/** Rewrites a recorded episode in place (same breach_id): a recompute may move its peak or closing. */
-export async function updateEpisode(db: Database, breachId: number, limit: ResolvedLimit, episode: Episode, runId: number): Promise<void> {
+export interface EpisodeWrite {
+  /** The recorded episode this one continues, or null: a new episode. */
+  breachId: number | null;
+  portfolioId: string;
+  limit: ResolvedLimit;
+  episode: Episode;
+}
+
+/**
+ * Writes the episodes of a run: new ones get breach_ids in the order given, recorded
+ * ones are rewritten in place (a recompute may move a peak or a closing). Returns the
+ * breach_id of each write, in order.
+ */
+export async function saveEpisodes(db: Database, writes: readonly EpisodeWrite[], runId: number): Promise<number[]> {
+  const fresh = writes.filter((w) => w.breachId === null).length;
+  const ids = fresh === 0 ? [] : await db.all<{ id: number }>(`select nextval('breach_id_seq')::integer as id from range($1::bigint) order by id`, [fresh]);
+  let next = 0;
+  const breachIds = writes.map((w) => w.breachId ?? ids[next++].id);
+  await db.run(`create or replace temp table limit_stage_episodes (
+    breach_id integer, portfolio_id varchar, metric varchar, window_days integer, estimator varchar,
+    limit_value double, warning_value double, clear_value double, level varchar, opened_on varchar, escalated_on varchar,
+    closed_on varchar, peak_value double, peak_on varchar)`);
+  const stage = await ChunkAppender.open(db, 'limit_stage_episodes', [
+    INTEGER, VARCHAR, VARCHAR, INTEGER, VARCHAR, DOUBLE, DOUBLE, DOUBLE, VARCHAR, VARCHAR, VARCHAR, VARCHAR, DOUBLE, VARCHAR,
+  ]);
+  writes.forEach((w, i) => {
+    const { limit, episode: e } = w;
+    const values = [breachIds[i], w.portfolioId, limit.metric, limit.window, limit.estimator, limit.limit, limit.warning, limit.clear, e.level, e.openedOn, e.escalatedOn, e.closedOn, e.peakValue, e.peakOn];
+    values.forEach((v, c) => stage.set(c, v));
+    stage.endRow();
+  });
+  stage.close();
+  const facts = ['limit_value', 'warning_value', 'clear_value', 'level', 'opened_on', 'escalated_on', 'closed_on', 'peak_value', 'peak_on'];
+  const value = (c: string) => (c.endsWith('_on') ? `s.${c}::date` : `s.${c}`);
+  // the staged rows whose breach_id is recorded are rewrites; the others are new
   await db.run(
-    `update limit_breaches set limit_value = $1, warning_value = $2, clear_value = $3, level = $4, opened_on = $5::date,
-       escalated_on = $6::date, closed_on = $7::date, peak_value = $8, peak_on = $9::date, run_id = $10
-     where breach_id = $11`,
-    [...episodeValues(limit, episode), runId, breachId],
+    `update limit_breaches set ${facts.map((c) => `${c} = ${value(c)}`).join(', ')}, run_id = $1
+     from limit_stage_episodes s where limit_breaches.breach_id = s.breach_id`,
+    [runId],
   );
+  await db.run(
+    `insert into limit_breaches (breach_id, portfolio_id, metric, window_days, estimator, ${facts.join(', ')}, run_id)
+     select s.breach_id, s.portfolio_id, s.metric, s.window_days, s.estimator, ${facts.map(value).join(', ')}, $1
+     from limit_stage_episodes s anti join limit_breaches b on b.breach_id = s.breach_id
+     order by s.breach_id`,
+    [runId],
+  );
+  await db.run('drop table limit_stage_episodes');
+  return breachIds;
 }
 
-export async function retractEpisode(db: Database, breachId: number, runId: number): Promise<void> {
-  await db.run('update limit_breaches set retracted = true, run_id = $1 where breach_id = $2', [runId, breachId]);
-}
-
-/** The kinds of alert already raised for an episode: each transition is alerted at most once. */
-export async function alertedKinds(db: Database, breachId: number): Promise<Set<string>> {
-  const rows = await db.all<{ kind: string }>('select distinct kind from alerts where breach_id = $1', [breachId]);
-  return new Set(rows.map((r) => r.kind));
-}
-
-function episodeValues(limit: ResolvedLimit, e: Episode) {
-  return [limit.limit, limit.warning, limit.clear, e.level, e.openedOn, e.escalatedOn, e.closedOn, e.peakValue, e.peakOn];
+/** Marks recorded episodes retracted (corrected data no longer show them). */
+export async function retractEpisodes(db: Database, breachIds: readonly number[], runId: number): Promise<void> {
+  if (breachIds.length === 0) return;
+  await db.run(`update limit_breaches set retracted = true, run_id = $1 where list_contains(from_json($2, '["INTEGER"]'), breach_id)`, [
+    runId,
+    JSON.stringify(breachIds),
+  ]);
 }

@@ -1,17 +1,17 @@
 import type { Logger } from 'pino';
-import { listValue } from '@duckdb/node-api';
 import type { Config, ResolvedLimit } from '../config/load.ts';
 import { insertAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
-import { applicableLimits } from './applicableLimits.ts';
+import { applicableLimits, limitKey } from './applicableLimits.ts';
 import {
   alertedKinds,
-  insertEpisode,
-  lastClosingBefore,
+  lastClosingsBefore,
   loadEpisodesInScope,
   loadMetricSeries,
-  retractEpisode,
-  updateEpisode,
+  retractEpisodes,
+  saveEpisodes,
+  seriesKey,
+  type EpisodeWrite,
   type RecordedEpisode,
 } from './breachStore.ts';
 import { replayEpisodes, transitionsOf, type Episode, type MetricPoint } from './episodes.ts';
@@ -30,14 +30,14 @@ export interface LimitOutcome {
   openEpisodes: number;
 }
 
-interface LimitRun {
-  db: Database;
-  log: Logger;
-  scope: LimitScope;
+/** One (portfolio, limit) series, replayed: what to write and what to alert. */
+interface Replayed {
   portfolioId: string;
   limit: ResolvedLimit;
-  /** Transitions dated before this are recorded but not alerted (a history load, a correction). */
-  alertFrom: string;
+  points: MetricPoint[];
+  derived: Episode[];
+  matches: { derived: Episode; stored: RecordedEpisode | null }[];
+  retracted: RecordedEpisode[];
 }
 
 /**
@@ -45,94 +45,103 @@ interface LimitRun {
  * with limit_breaches; new transitions go to the alerts outbox. Runs inside the risk
  * stage's transaction (it begins and commits nothing itself), after the run's
  * risk_daily rows are written, so episodes and alerts commit together with the risk.
+ * Reads in bulk (one query per watched series for all portfolios), replays in memory,
+ * writes the episodes set-based; only the alerts, a few per run, go one by one.
  */
 export async function checkLimits(db: Database, config: Config, log: Logger, scope: LimitScope): Promise<LimitOutcome> {
   const stageLog = log.child({ stage: 'limits', runId: scope.runId });
   const outcome: LimitOutcome = { alertsRaised: 0, openEpisodes: 0 };
   if (config.limits.length === 0) return outcome;
-  const filter = scope.portfolios === null ? null : listValue(scope.portfolios);
-  const [range] = await db.all<{ alert_from: string | null }>(
-    `select max(date) - $2::integer as alert_from from risk_daily
-     where $1::varchar[] is null or list_contains($1::varchar[], portfolio_id)`,
+  const filter = scope.portfolios === null ? null : JSON.stringify(scope.portfolios);
+  const portfolios = await db.all<{ portfolio_id: string; alert_from: string }>(
+    `select portfolio_id, max(max(date)) over () - $2::integer as alert_from from risk_daily
+     where $1::varchar is null or list_contains(from_json($1, '["VARCHAR"]'), portfolio_id)
+     group by portfolio_id order by portfolio_id`,
     [filter, config.alerts.maxAgeDays],
   );
-  if (range.alert_from === null) return outcome;
-  const portfolios = await db.all<{ portfolio_id: string }>(
-    `select distinct portfolio_id from risk_daily
-     where $1::varchar[] is null or list_contains($1::varchar[], portfolio_id) order by portfolio_id`,
-    [filter],
+  if (portfolios.length === 0) return outcome;
+  const alertFrom = portfolios[0].alert_from;
+
+  const recorded = await loadEpisodesInScope(db, scope.portfolios, scope.from);
+  // The state at `from` is known only by replaying from a date with no episode open: the
+  // last closing before `from`. The dates before `from` are unchanged, so an episode open
+  // at `from` is re-derived exactly up to it and continued; one a previous run could not
+  // see (a limit added since) is found too.
+  const closings = scope.from === null ? new Map<string, string>() : await lastClosingsBefore(db, scope.portfolios, scope.from);
+  const watched = portfolios.flatMap(({ portfolio_id: portfolioId }) =>
+    applicableLimits(config.limits, portfolioId).map((limit) => {
+      const replayFrom = scope.from === null ? null : (closings.get(seriesKey(portfolioId, limit)) ?? null);
+      return { portfolioId, limit, replayFrom };
+    }),
   );
-  for (const { portfolio_id: portfolioId } of portfolios) {
-    for (const limit of applicableLimits(config.limits, portfolioId)) {
-      const one = await checkOneLimit({ db, log: stageLog, scope, portfolioId, limit, alertFrom: range.alert_from });
-      outcome.alertsRaised += one.alertsRaised;
-      outcome.openEpisodes += one.openEpisodes;
+  // each watched figure is read once for all portfolios, from the earliest replay start
+  const series = new Map<string, Map<string, MetricPoint[]>>();
+  for (const { limit } of watched) {
+    const key = limitKey(limit);
+    if (series.has(key)) continue;
+    const starts = watched.filter((w) => limitKey(w.limit) === key).map((w) => w.replayFrom);
+    const earliest = starts.includes(null) ? null : (starts as string[]).reduce((a, b) => (a < b ? a : b));
+    series.set(key, await loadMetricSeries(db, limit, scope.portfolios, earliest));
+  }
+  const replayed: Replayed[] = [];
+  for (const { portfolioId, limit, replayFrom } of watched) {
+    const points = (series.get(limitKey(limit))!.get(portfolioId) ?? []).filter((p) => replayFrom === null || p.date >= replayFrom);
+    if (points.length === 0) {
+      // no rows for this window/estimator: nothing to judge, so nothing recorded is retracted
+      stageLog.debug({ portfolioId, metric: limit.metric, window: limit.window }, 'no risk rows for this limit');
+      continue;
+    }
+    const derived = replayEpisodes(points, limit);
+    replayed.push({ portfolioId, limit, points, derived, ...matchEpisodes(derived, recorded.get(seriesKey(portfolioId, limit)) ?? []) });
+    outcome.openEpisodes += derived.filter((e) => e.closedOn === null).length;
+  }
+
+  const alerted = await alertedKinds(db, scope.portfolios);
+  const writes: EpisodeWrite[] = replayed.flatMap((r) => r.matches.map((m) => ({ breachId: m.stored?.breachId ?? null, portfolioId: r.portfolioId, limit: r.limit, episode: m.derived })));
+  const breachIds = await saveEpisodes(db, writes, scope.runId);
+  await retractEpisodes(db, replayed.flatMap((r) => r.retracted.map((e) => e.breachId)), scope.runId);
+
+  let written = 0;
+  for (const r of replayed) {
+    for (const { derived: episode } of r.matches) {
+      const breachId = breachIds[written++];
+      outcome.alertsRaised += await alertEpisode(db, r, episode, breachId, alerted.get(breachId) ?? new Set(), alertFrom, scope.runId);
+    }
+    for (const episode of r.retracted) {
+      stageLog.info({ portfolioId: r.portfolioId, breachId: episode.breachId, openedOn: episode.openedOn }, 'limit episode retracted');
+      // tell operations only if they had been told of it
+      if ((alerted.get(episode.breachId)?.size ?? 0) === 0) continue;
+      const input = { portfolioId: r.portfolioId, limit: r.limit, breachId: episode.breachId, runId: scope.runId, episode, contributors: [] };
+      if (await insertAlert(db, retractionAlert(input))) outcome.alertsRaised++;
     }
   }
   stageLog.info(outcome, 'limits checked');
   return outcome;
 }
 
-async function checkOneLimit(run: LimitRun): Promise<LimitOutcome> {
-  const { db, scope, portfolioId, limit } = run;
-  const recorded = await loadEpisodesInScope(db, portfolioId, limit, scope.from);
-  // The state at `from` is known only by replaying from a date with no episode open: the
-  // last closing before `from`. The dates before `from` are unchanged, so an episode open
-  // at `from` is re-derived exactly up to it and continued; one a previous run could not
-  // see (a limit added since) is found too.
-  const replayFrom = scope.from === null ? null : await lastClosingBefore(db, portfolioId, limit, scope.from);
-  const points = await loadMetricSeries(db, portfolioId, limit, replayFrom);
-  if (points.length === 0) {
-    // no rows for this window/estimator: nothing to judge, so nothing recorded is retracted
-    run.log.debug({ portfolioId, metric: limit.metric, window: limit.window }, 'no risk rows for this limit');
-    return { alertsRaised: 0, openEpisodes: 0 };
-  }
-  const derived = replayEpisodes(points, limit);
-  const { matches, retracted } = matchEpisodes(derived, recorded);
-  let alertsRaised = 0;
-  for (const { derived: episode, stored } of matches) {
-    let breachId: number;
-    if (stored) {
-      breachId = stored.breachId;
-      await updateEpisode(db, breachId, limit, episode, scope.runId);
-    } else {
-      breachId = await insertEpisode(db, portfolioId, limit, episode, scope.runId);
-    }
-    alertsRaised += await alertEpisode(run, episode, breachId, points);
-  }
-  for (const episode of retracted) alertsRaised += await retract(run, episode);
-  return { alertsRaised, openEpisodes: derived.filter((e) => e.closedOn === null).length };
-}
-
 /** Alerts the episode's transitions not alerted before and recent enough; or, once, a late opening. */
-async function alertEpisode(run: LimitRun, episode: Episode, breachId: number, points: MetricPoint[]): Promise<number> {
-  const { db, portfolioId, limit, scope } = run;
-  const already = await alertedKinds(db, breachId);
-  const due = transitionsOf(episode).filter((t) => !already.has(t.kind) && t.date >= run.alertFrom);
+async function alertEpisode(
+  db: Database,
+  r: Replayed,
+  episode: Episode,
+  breachId: number,
+  already: Set<string>,
+  alertFrom: string,
+  runId: number,
+): Promise<number> {
+  const { portfolioId, limit, points } = r;
+  const due = transitionsOf(episode).filter((t) => !already.has(t.kind) && t.date >= alertFrom);
   let raised = 0;
   for (const t of due) {
     const contributors = await topContributors(db, portfolioId, limit, t.date);
-    const input = { portfolioId, limit, breachId, runId: scope.runId, episode, contributors };
-    if (await insertAlert(db, transitionAlert(input, t))) raised++;
+    if (await insertAlert(db, transitionAlert({ portfolioId, limit, breachId, runId, episode, contributors }, t))) raised++;
   }
   if (episode.closedOn === null && already.size === 0 && due.length === 0) {
     const asOf = points[points.length - 1].date;
-    const last = lastValue(points);
     const contributors = await topContributors(db, portfolioId, limit, asOf);
-    const input = { portfolioId, limit, breachId, runId: scope.runId, episode, contributors };
-    if (await insertAlert(db, lateOpenAlert(input, asOf, last))) raised++;
+    if (await insertAlert(db, lateOpenAlert({ portfolioId, limit, breachId, runId, episode, contributors }, asOf, lastValue(points)))) raised++;
   }
   return raised;
-}
-
-/** Marks a recorded episode retracted; tells operations only if they had been told of it. */
-async function retract(run: LimitRun, episode: RecordedEpisode): Promise<number> {
-  const { db, portfolioId, limit, scope } = run;
-  await retractEpisode(db, episode.breachId, scope.runId);
-  run.log.info({ portfolioId, breachId: episode.breachId, openedOn: episode.openedOn }, 'limit episode retracted');
-  if ((await alertedKinds(db, episode.breachId)).size === 0) return 0;
-  const input = { portfolioId, limit, breachId: episode.breachId, runId: scope.runId, episode, contributors: [] };
-  return (await insertAlert(db, retractionAlert(input))) ? 1 : 0;
 }
 
 /** The latest date with a value: an open episode has at least its opening value. */
