@@ -134,6 +134,24 @@ function fill(kind: ColumnKind, name: string, out: Buffer, vector: DuckDBVector,
   }
 }
 
+/** Where `ChunkAppender.appendColumns` takes a column's values from. */
+export type ColumnSource = Int32Array | Float64Array | { constant: number | string } | { codes: Int32Array; texts: readonly string[] };
+
+function fillVector(vector: DuckDBVector, source: ColumnSource, start: number, n: number): void {
+  if (source instanceof Float64Array) {
+    for (let i = 0; i < n; i++) {
+      const v = source[start + i];
+      vector.setItem(i, Number.isNaN(v) ? null : (v as never));
+    }
+  } else if (source instanceof Int32Array) {
+    for (let i = 0; i < n; i++) vector.setItem(i, source[start + i] as never);
+  } else if ('constant' in source) {
+    for (let i = 0; i < n; i++) vector.setItem(i, source.constant as never);
+  } else {
+    for (let i = 0; i < n; i++) vector.setItem(i, source.texts[source.codes[start + i]] as never);
+  }
+}
+
 /**
  * Appends rows to a table through data chunks: values are set column-wise into a
  * 2,048-row chunk that is handed to the appender when full. `null` (or NaN for a
@@ -172,6 +190,23 @@ export class ChunkAppender {
   endRow(): void {
     this.row++;
     if (this.row === this.capacity) this.flushChunk();
+  }
+
+  /**
+   * Appends `rows` rows given column by column, one source per column: a typed array
+   * (its first `rows` values; a NaN double is NULL), a constant for every row, or codes
+   * into a list of texts. Each column is filled in its own loop, so every call inside it
+   * meets one kind of vector: several times faster than `set` row by row.
+   */
+  appendColumns(rows: number, sources: readonly ColumnSource[]): void {
+    if (sources.length !== this.vectors.length) throw new Error(`ChunkAppender: ${sources.length} sources for ${this.vectors.length} columns`);
+    if (this.row > 0) this.flushChunk();
+    for (let start = 0; start < rows; start += this.capacity) {
+      const n = Math.min(this.capacity, rows - start);
+      sources.forEach((source, c) => fillVector(this.vectors[c], source, start, n));
+      this.row = n;
+      this.flushChunk();
+    }
   }
 
   /** Rows handed over so far, the current chunk included. */

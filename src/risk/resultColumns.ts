@@ -23,13 +23,14 @@ export interface ResultBatch {
     rows: number;
     portfolio: Int32Array;
     row: Int32Array;
-    /** rows x DAILY_FIGURE_COUNT, NaN = NULL. */
-    figures: Float64Array;
+    /** DAILY_FIGURE_COUNT columns, NaN = NULL. */
+    figures: Float64Array[];
     status: Int32Array;
     nHoldings: Int32Array;
     nCovered: Int32Array;
   };
-  contributions: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array };
+  /** values: weight, mcr, ccr, pct columns. */
+  contributions: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
   securities: { rows: number; row: Int32Array; security: Int32Array; annReturn: Float64Array; annVol: Float64Array };
 }
 
@@ -39,14 +40,14 @@ export function batchBuffers(batch: ResultBatch): ArrayBuffer[] {
   const arrays = [
     daily.portfolio,
     daily.row,
-    daily.figures,
+    ...daily.figures,
     daily.status,
     daily.nHoldings,
     daily.nCovered,
     contributions.portfolio,
     contributions.row,
     contributions.security,
-    contributions.values,
+    ...contributions.values,
     securities.row,
     securities.security,
     securities.annReturn,
@@ -94,8 +95,15 @@ const doubles = () => new Column((n) => new Float64Array(n));
 /** Collects one estimate's rows; `take()` returns them as a batch. */
 export class ResultCollector {
   private readonly statusCodes = new Map<string, number>();
-  private readonly daily = { portfolio: ints(), row: ints(), figures: doubles(), status: ints(), nHoldings: ints(), nCovered: ints() };
-  private readonly contributions = { portfolio: ints(), row: ints(), security: ints(), values: doubles() };
+  private readonly daily = {
+    portfolio: ints(),
+    row: ints(),
+    figures: Array.from({ length: DAILY_FIGURE_COUNT }, doubles),
+    status: ints(),
+    nHoldings: ints(),
+    nCovered: ints(),
+  };
+  private readonly contributions = { portfolio: ints(), row: ints(), security: ints(), values: Array.from({ length: CONTRIBUTION_VALUE_COUNT }, doubles) };
   private readonly securities = { row: ints(), security: ints(), annReturn: doubles(), annVol: doubles() };
   private dates = 0;
 
@@ -108,7 +116,7 @@ export class ResultCollector {
     const d = this.daily;
     d.portfolio.push(portfolio);
     d.row.push(row);
-    for (let c = 0; c < DAILY_FIGURE_COUNT; c++) d.figures.push(figures[c]);
+    for (let c = 0; c < DAILY_FIGURE_COUNT; c++) d.figures[c].push(figures[c]);
     let code = this.statusCodes.get(status);
     if (code === undefined) {
       code = this.statusCodes.size;
@@ -124,10 +132,10 @@ export class ResultCollector {
     c.portfolio.push(portfolio);
     c.row.push(row);
     c.security.push(security);
-    c.values.push(weight);
-    c.values.push(mcr);
-    c.values.push(ccr);
-    c.values.push(pct);
+    c.values[0].push(weight);
+    c.values[1].push(mcr);
+    c.values[2].push(ccr);
+    c.values[3].push(pct);
   }
 
   addSecurity(row: number, security: number, annReturn: number, annVol: number): void {
@@ -160,12 +168,12 @@ export class ResultCollector {
         rows: d.row.length,
         portfolio: d.portfolio.take(),
         row: d.row.take(),
-        figures: d.figures.take(),
+        figures: d.figures.map((f) => f.take()),
         status: d.status.take(),
         nHoldings: d.nHoldings.take(),
         nCovered: d.nCovered.take(),
       },
-      contributions: { rows: c.row.length, portfolio: c.portfolio.take(), row: c.row.take(), security: c.security.take(), values: c.values.take() },
+      contributions: { rows: c.row.length, portfolio: c.portfolio.take(), row: c.row.take(), security: c.security.take(), values: c.values.map((v) => v.take()) },
       securities: { rows: s.row.length, row: s.row.take(), security: s.security.take(), annReturn: s.annReturn.take(), annVol: s.annVol.take() },
     };
     this.dates = 0;

@@ -1,7 +1,7 @@
 import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
 import type { Database } from '../storage/database.ts';
 import { ChunkAppender } from './columnar.ts';
-import { CONTRIBUTION_VALUE_COUNT, DAILY_FIGURE_COUNT, type ResultBatch } from './resultColumns.ts';
+import type { ResultBatch } from './resultColumns.ts';
 
 /**
  * Results go first to temporary staging tables, through appenders and outside any
@@ -52,38 +52,21 @@ export class ResultStage {
 
   /** Appends a batch of an estimate's rows (from the main thread's walk or a worker's). */
   append(batch: ResultBatch): void {
-    const { windowDays, estimator, statuses, daily, contributions, securities } = batch;
-    const a = this.daily;
-    for (let i = 0; i < daily.rows; i++) {
-      a.set(0, daily.portfolio[i]);
-      a.set(1, daily.row[i] + 1);
-      a.set(2, windowDays);
-      a.set(3, estimator);
-      for (let c = 0; c < DAILY_FIGURE_COUNT; c++) a.set(4 + c, daily.figures[i * DAILY_FIGURE_COUNT + c]);
-      a.set(14, statuses[daily.status[i]]);
-      a.set(15, daily.nHoldings[i]);
-      a.set(16, daily.nCovered[i]);
-      a.endRow();
-    }
-    const b = this.contributions;
-    for (let i = 0; i < contributions.rows; i++) {
-      b.set(0, contributions.portfolio[i]);
-      b.set(1, contributions.row[i] + 1);
-      b.set(2, windowDays);
-      b.set(3, estimator);
-      b.set(4, contributions.security[i]);
-      for (let c = 0; c < CONTRIBUTION_VALUE_COUNT; c++) b.set(5 + c, contributions.values[i * CONTRIBUTION_VALUE_COUNT + c]);
-      b.endRow();
-    }
-    const s = this.securities;
-    for (let i = 0; i < securities.rows; i++) {
-      s.set(0, securities.row[i] + 1);
-      s.set(1, windowDays);
-      s.set(2, securities.security[i]);
-      s.set(3, securities.annReturn[i]);
-      s.set(4, securities.annVol[i]);
-      s.endRow();
-    }
+    const { windowDays, estimator, statuses, daily, contributions: c, securities: s } = batch;
+    const window = { constant: windowDays };
+    const kind = { constant: estimator };
+    this.daily.appendColumns(daily.rows, [
+      daily.portfolio,
+      dateIndexOf(daily.row, daily.rows),
+      window,
+      kind,
+      ...daily.figures,
+      { codes: daily.status, texts: statuses },
+      daily.nHoldings,
+      daily.nCovered,
+    ]);
+    this.contributions.appendColumns(c.rows, [c.portfolio, dateIndexOf(c.row, c.rows), window, kind, c.security, ...c.values]);
+    this.securities.appendColumns(s.rows, [dateIndexOf(s.row, s.rows), window, s.security, s.annReturn, s.annVol]);
   }
 
   get dailyRows(): number {
@@ -96,6 +79,13 @@ export class ResultStage {
     this.securities.close();
     return this.daily.close();
   }
+}
+
+/** date_index (= row + 1, as align_valuation_dates numbers the dates) of each row. */
+function dateIndexOf(rows: Int32Array, count: number): Int32Array {
+  const out = new Int32Array(count);
+  for (let i = 0; i < count; i++) out[i] = rows[i] + 1;
+  return out;
 }
 
 export interface ReplaceScope {

@@ -17,10 +17,11 @@ function rowsOf(batches: ResultBatch[]): string[] {
     const tag = `${b.estimator}|${b.windowDays}`;
     const { daily: d, contributions: c, securities: s } = b;
     for (let i = 0; i < d.rows; i++) {
-      const figures = Array.from(d.figures.subarray(i * DAILY_FIGURE_COUNT, (i + 1) * DAILY_FIGURE_COUNT), String);
+      const figures = d.figures.map((f) => String(f[i]));
+      expect(figures.length).toBe(DAILY_FIGURE_COUNT);
       rows.push(`daily|${tag}|${d.portfolio[i]}|${d.row[i]}|${figures.join(',')}|${b.statuses[d.status[i]]}|${d.nHoldings[i]}|${d.nCovered[i]}`);
     }
-    for (let i = 0; i < c.rows; i++) rows.push(`contribution|${tag}|${c.portfolio[i]}|${c.row[i]}|${c.security[i]}|${Array.from(c.values.subarray(i * 4, i * 4 + 4), String)}`);
+    for (let i = 0; i < c.rows; i++) rows.push(`contribution|${tag}|${c.portfolio[i]}|${c.row[i]}|${c.security[i]}|${c.values.map((v) => String(v[i]))}`);
     for (let i = 0; i < s.rows; i++) rows.push(`security|${tag}|${s.row[i]}|${s.security[i]}|${s.annReturn[i]}|${s.annVol[i]}`);
   }
   return rows.sort();
