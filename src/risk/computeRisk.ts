@@ -37,7 +37,7 @@ export function progressUnits(config: Config, dateCount: number, fromRow: number
   return (uniqueWindows(config).length + (config.risk.ewma.enabled ? 1 : 0)) * Math.max(0, dateCount - fromRow);
 }
 
-/** Computes every estimate into `sink`; returns the EWMA state at the last date (null without EWMA or dates). */
+/** Computes every estimate into `sink`; returns the EWMA states at the last two dates, oldest first (none without EWMA or dates). */
 export async function computeRisk(
   input: ComputeInputs,
   config: Config,
@@ -45,7 +45,7 @@ export async function computeRisk(
   progress: Progress,
   log: Logger,
   options: ComputeOptions = {},
-): Promise<EwmaState | null> {
+): Promise<EwmaState[]> {
   const tasks = planTasks(input, config, log);
   const settings: WalkSettings = {
     periodsPerYear: config.risk.tradingDaysPerYear,
@@ -61,9 +61,9 @@ export async function computeRisk(
     progress.advance(batch.dates);
   };
   if (threads > 1 && tasks.length > 1) return walkInWorkers(tasks, input, settings, threads, accept);
-  let ewmaState: EwmaState | null = null;
-  for (const { task } of tasks) ewmaState = walkEstimate(task, input, settings, accept) ?? ewmaState;
-  return ewmaState;
+  const ewmaStates: EwmaState[] = [];
+  for (const { task } of tasks) ewmaStates.push(...walkEstimate(task, input, settings, accept));
+  return ewmaStates;
 }
 
 /** Worker threads for a run: one per task up to the cores, or none (1 = this thread) below PARALLEL_MIN_COST. */

@@ -41,17 +41,32 @@ interface DateEstimate extends CovarianceView {
 /** Rows (all tables) collected before a batch is handed over; bounds memory in a long backfill. */
 const BATCH_ROWS = 1 << 16;
 
-/** Walks one estimate, handing its rows to `emit` in batches; returns the EWMA state at the last date (null for a sample estimate). */
-export function walkEstimate(task: EstimateTask, input: ComputeInputs, settings: WalkSettings, emit: (batch: ResultBatch) => void): EwmaState | null {
+/**
+ * Walks one estimate, handing its rows to `emit` in batches. Returns, for the EWMA, its
+ * states at the last two dates, oldest first (a run that redoes the last date, such as
+ * a same-day correction, continues from the one before); nothing for a sample estimate.
+ */
+export function walkEstimate(task: EstimateTask, input: ComputeInputs, settings: WalkSettings, emit: (batch: ResultBatch) => void): EwmaState[] {
   const { returns, fromRow } = input;
   if (task.kind === 'sample') {
     const estimate = new SampleEstimate(returns, task.windowDays, task.path, fromRow);
     walk(estimate, (d, output) => estimate.advance(d, output), input, settings, emit);
-    return null;
+    return [];
   }
   const ewma = new EwmaEstimate(returns, task.lambda, task.seedDays, input.ewmaState);
-  walk(ewma, (d) => ewma.advance(d), input, settings, emit);
-  return ewma.snapshot();
+  const beforeLast = returns.dates.length - 2;
+  let previous = input.ewmaState?.row === beforeLast ? input.ewmaState : null;
+  walk(
+    ewma,
+    (d) => {
+      ewma.advance(d);
+      if (d === beforeLast) previous = ewma.snapshot();
+    },
+    input,
+    settings,
+    emit,
+  );
+  return previous ? [previous, ewma.snapshot()] : [ewma.snapshot()];
 }
 
 function walk(

@@ -7,7 +7,7 @@ import { batchBuffers, type ResultBatch } from './resultColumns.ts';
  * A worker thread of the risk stage: it receives the inputs once (their typed arrays on
  * SharedArrayBuffers, so nothing is copied), then walks the estimates it is given one
  * after the other, posting each batch of rows as it fills (buffers transferred) and the
- * EWMA state when an EWMA walk ends.
+ * EWMA states when an EWMA walk ends.
  */
 
 export const WORKER_ROLE = 'riskfold-estimates';
@@ -16,7 +16,7 @@ export type WorkerRequest = { type: 'init'; input: ComputeInputs; settings: Walk
 
 export type WorkerReply =
   | { type: 'batch'; taskId: number; batch: ResultBatch }
-  | { type: 'done'; taskId: number; ewmaState: EwmaState | null }
+  | { type: 'done'; taskId: number; ewmaStates: EwmaState[] }
   | { type: 'failed'; taskId: number; message: string; stack?: string };
 
 // only as the risk stage's worker: a test runner's own worker thread may import this file too
@@ -31,10 +31,10 @@ if (parentPort && (workerData as { role?: string } | null)?.role === WORKER_ROLE
     const { taskId, task } = request;
     try {
       if (!context) throw new Error('estimate worker: run before init');
-      const ewmaState = walkEstimate(task, context.input, context.settings, (batch) => {
+      const ewmaStates = walkEstimate(task, context.input, context.settings, (batch) => {
         port.postMessage({ type: 'batch', taskId, batch } satisfies WorkerReply, batchBuffers(batch));
       });
-      port.postMessage({ type: 'done', taskId, ewmaState } satisfies WorkerReply);
+      port.postMessage({ type: 'done', taskId, ewmaStates } satisfies WorkerReply);
     } catch (err) {
       const e = err instanceof Error ? err : new Error(String(err));
       port.postMessage({ type: 'failed', taskId, message: e.message, stack: e.stack } satisfies WorkerReply);

@@ -3,9 +3,11 @@ import type { Database } from '../storage/database.ts';
 import type { EwmaState } from './ewmaEstimate.ts';
 
 /**
- * The stored EWMA matrix (table risk_ewma_state). A run may continue from it only when
- * it sits exactly on the date before the run's first date and was computed with the
- * same lambda and seedDays; otherwise the EWMA replays from the first date in memory.
+ * The stored EWMA matrices (table risk_ewma_state): those of the last two valuation
+ * dates, so that a new day continues from the day before and so does a run that redoes
+ * the last date (a same-day correction). A run may continue from a state only when it
+ * sits exactly on the date before the run's first date and was computed with the same
+ * lambda and seedDays; otherwise the EWMA replays from the first date in memory.
  */
 
 export interface EwmaSettings {
@@ -38,30 +40,27 @@ export async function loadEwmaState(
   return { row: fromRow - 1, securityIds: ids, matrix };
 }
 
-/** Replaces the stored state; runs inside the run's write transaction. */
+/** Replaces the stored states (none: EWMA switched off, or no dates left); runs inside the run's write transaction. */
 export async function saveEwmaState(
   db: Database,
   settings: EwmaSettings,
   dates: readonly string[],
-  state: EwmaState,
+  states: readonly EwmaState[],
   runId: number,
 ): Promise<void> {
-  const bytes = new Uint8Array(state.matrix.length * 8);
-  const view = new DataView(bytes.buffer);
-  for (let i = 0; i < state.matrix.length; i++) view.setFloat64(i * 8, state.matrix[i], true);
   await db.run('delete from risk_ewma_state');
-  // ids as JSON: an empty JS list cannot be bound (DuckDB cannot type a list of nothing)
-  await db.run(`insert into risk_ewma_state values ($1::date, $2, $3, from_json($4, '["VARCHAR"]'), $5, $6)`, [
-    dates[state.row],
-    settings.lambda,
-    settings.seedDays,
-    JSON.stringify(state.securityIds),
-    blobValue(bytes),
-    runId,
-  ]);
-}
-
-/** Drops the stored state (EWMA switched off, or no dates left). */
-export async function clearEwmaState(db: Database): Promise<void> {
-  await db.run('delete from risk_ewma_state');
+  for (const state of states) {
+    const bytes = new Uint8Array(state.matrix.length * 8);
+    const view = new DataView(bytes.buffer);
+    for (let i = 0; i < state.matrix.length; i++) view.setFloat64(i * 8, state.matrix[i], true);
+    // ids as JSON: an empty JS list cannot be bound (DuckDB cannot type a list of nothing)
+    await db.run(`insert into risk_ewma_state values ($1::date, $2, $3, from_json($4, '["VARCHAR"]'), $5, $6)`, [
+      dates[state.row],
+      settings.lambda,
+      settings.seedDays,
+      JSON.stringify(state.securityIds),
+      blobValue(bytes),
+      runId,
+    ]);
+  }
 }

@@ -11,7 +11,7 @@ import type { ResultBatch } from './resultColumns.ts';
  * whichever worker is free; every batch a worker posts goes to `onBatch` on this thread
  * as it arrives. Each walk is the same code as on the main thread, so the numbers are
  * the same bit for bit; only the order in which batches arrive differs.
- * Resolves with the EWMA state of the EWMA task (null without one).
+ * Resolves with the EWMA states of the EWMA task (none without one).
  */
 export async function walkInWorkers(
   tasks: readonly { task: EstimateTask; cost: number }[],
@@ -19,7 +19,7 @@ export async function walkInWorkers(
   settings: WalkSettings,
   threads: number,
   onBatch: (batch: ResultBatch) => void,
-): Promise<EwmaState | null> {
+): Promise<EwmaState[]> {
   const shared = shareInputs(input);
   const queue = tasks.map((t, taskId) => ({ taskId, task: t.task, cost: t.cost })).sort((a, b) => b.cost - a.cost);
   const workers = Array.from(
@@ -27,7 +27,7 @@ export async function walkInWorkers(
     // execArgv empty: the boot file registers tsx itself, whatever flags this process ran with
     () => new Worker(new URL('./estimateWorkerBoot.mjs', import.meta.url), { workerData: { role: WORKER_ROLE }, execArgv: [] }),
   );
-  let ewmaState: EwmaState | null = null;
+  let ewmaStates: EwmaState[] = [];
   try {
     await new Promise<void>((resolve, reject) => {
       let running = 0;
@@ -60,7 +60,7 @@ export async function walkInWorkers(
             fail(Object.assign(new Error(`risk estimate failed in a worker thread: ${reply.message}`), { stack: reply.stack }));
             return;
           }
-          if (reply.ewmaState) ewmaState = reply.ewmaState;
+          if (reply.ewmaStates.length > 0) ewmaStates = reply.ewmaStates;
           running--;
           next(worker);
         });
@@ -75,7 +75,7 @@ export async function walkInWorkers(
   } finally {
     await Promise.all(workers.map((w) => w.terminate()));
   }
-  return ewmaState;
+  return ewmaStates;
 }
 
 /** The inputs with every typed array on a SharedArrayBuffer (inputs.ts allocates them so; anything else is copied once). */

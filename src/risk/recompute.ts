@@ -4,7 +4,8 @@ import { RiskfoldError } from '../errors.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
 import type { Database } from '../storage/database.ts';
 import { computeRisk, progressUnits } from './computeRisk.ts';
-import { clearEwmaState, loadEwmaState, saveEwmaState } from './ewmaState.ts';
+import type { EwmaState } from './ewmaEstimate.ts';
+import { loadEwmaState, saveEwmaState } from './ewmaState.ts';
 import { readPortfolioPanel, readReturnPanel } from './inputs.ts';
 import { startProgress } from './progress.ts';
 import { dropStaging, replaceResults, ResultStage } from './staging.ts';
@@ -65,20 +66,22 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
 
     const stage = await ResultStage.open(db);
     const progress = startProgress(rlog, progressUnits(config, dates.length, fromRow), 'recompute');
-    let finalState;
+    let ewmaStates: EwmaState[] = [];
     const computeStarted = performance.now();
     try {
-      finalState = await computeRisk({ returns, portfolios, fromRow, ewmaState }, config, (batch) => stage.append(batch), progress, rlog);
+      ewmaStates = await computeRisk({ returns, portfolios, fromRow, ewmaState }, config, (batch) => stage.append(batch), progress, rlog);
     } finally {
       progress.finish();
-      stage.close();
       phases.add('compute', computeStarted);
+      const flushStarted = performance.now();
+      stage.close();
+      phases.add('stage_flush', flushStarted);
     }
     const riskRows = stage.dailyRows;
 
     const limits = await db.transaction(async () => {
       await phases.time('write', () => replaceResults(db, { runId, from, portfolios: scope, contributions: config.risk.contributions }));
-      await phases.time('save_ewma_state', () => (finalState ? saveEwmaState(db, ewma, dates, finalState, runId) : clearEwmaState(db)));
+      await phases.time('save_ewma_state', () => saveEwmaState(db, ewma, dates, ewmaStates, runId));
       const outcome = await phases.time('limits', () => checkLimits(db, config, log, { runId, from, portfolios: scope }));
       await db.run(`update risk_runs set status = 'done', finished_at = now(), risk_rows = $2 where run_id = $1`, [runId, riskRows]);
       return outcome;

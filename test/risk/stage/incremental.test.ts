@@ -58,6 +58,19 @@ describe('recompute: incremental runs', () => {
     expect(runs.map((r) => r.n)).toEqual([last - 5 + 1, 1, 1, 1, 1, 1]);
   });
 
+  it('redoing the last date (a same-day correction) continues the EWMA from the state of the day before, with the same rows', async () => {
+    const s = buildScenario();
+    const ws = await workspace();
+    await loadDays(ws.db, s, 0, s.dates.length - 1);
+    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    const before = await readDaily(ws.db);
+    const states = await ws.db.all<{ as_of: string }>('select as_of from risk_ewma_state order by as_of');
+    expect(states.map((r) => r.as_of)).toEqual(s.dates.slice(-2));
+    await recompute(ws.db, ws.config, ws.log, { trigger: 'test', from: s.dates[s.dates.length - 1] });
+    expect(ws.logLines().filter((l) => l.msg === 'inputs read').map((l) => l.ewmaFromState)).toEqual([false, true]);
+    expectSameRows(await readDaily(ws.db), before, AGREE);
+  });
+
   it('a correction well back rewrites exactly the dates from it onward, and equals a full recompute', async () => {
     const s = buildScenario();
     const ws = await workspace();
