@@ -31,7 +31,7 @@ export interface Figure {
   runs: number[];
   goal: Goal | null;
   verdict: Verdict;
-  /** For a missed goal: how far off, e.g. "23% over (13.8 s over 60 s)". */
+  /** For a missed goal: how far off, e.g. "23% over: 13.8 s above the goal of 60 s". */
   shortfall: string | null;
   /** Why the figure is missing, or what it includes. */
   note: string | null;
@@ -100,9 +100,8 @@ export function unavailable(key: FigureKey, reason: string): Figure {
 
 function shortfallText(goal: Goal, value: number, unit: string): string {
   const pct = goal.kind === 'max' ? (value / goal.value - 1) * 100 : (1 - value / goal.value) * 100;
-  const gap = Math.abs(value - goal.value);
-  const side = goal.kind === 'max' ? 'over' : 'under';
-  return `${pct.toFixed(0)}% ${side} (${formatNumber(gap)} ${unit} ${side} ${formatNumber(goal.value)} ${unit})`;
+  const side = goal.kind === 'max' ? ['over', 'above'] : ['under', 'below'];
+  return `${pct.toFixed(0)}% ${side[0]}: ${formatNumber(Math.abs(value - goal.value))} ${unit} ${side[1]} the goal of ${formatNumber(goal.value)} ${unit}`;
 }
 
 /** Three significant digits, thousands grouped: 1 234 567 rows/s reads at a glance. */

@@ -38,6 +38,15 @@ export function median(values: number[]): number {
   return sorted.length % 2 === 1 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
 }
 
+/**
+ * Per named phase, the median seconds over runs (a phase missing from a run counts
+ * as 0 there), as `<prefix>_<phase>_seconds`: where the time goes, for the owner of a stage.
+ */
+export function phaseMedians(runs: Record<string, number>[], prefix: string): Record<string, number> {
+  const names = [...new Set(runs.flatMap((r) => Object.keys(r)))];
+  return Object.fromEntries(names.map((n) => [`${prefix}_${n}_seconds`, median(runs.map((r) => r[n] ?? 0))]));
+}
+
 /** Runs fn and returns its result with the wall-clock seconds it took. */
 export async function timed<T>(fn: () => Promise<T>): Promise<{ value: T; seconds: number }> {
   const start = performance.now();

@@ -3,13 +3,12 @@ import { recompute, type RunSummary } from '../../src/risk/recompute.ts';
 import { openWorkspace } from '../../src/storage/workspace.ts';
 import { figure, type Figure } from '../figures.ts';
 import type { SizeName } from '../scenario.ts';
-import { timed } from '../measure.ts';
+import { phaseMedians, timed } from '../measure.ts';
 import type { BenchWorkspace } from '../workspace.ts';
 
 export interface BackfillMeasurement {
   figure: Figure;
   seconds: number[];
-  lastRun: RunSummary;
 }
 
 /**
@@ -22,20 +21,19 @@ export async function measureBackfill(ws: BenchWorkspace, size: SizeName, runs: 
   // not part of recompute, but real work after a history load, so it is reported too
   const { value: db, seconds: openSeconds } = await timed(() => openWorkspace(ws.config, log));
   const seconds: number[] = [];
-  let lastRun: RunSummary | null = null;
+  const summaries: RunSummary[] = [];
   try {
     for (let run = 0; run < runs; run++) {
       const out = await timed(() => recompute(db, ws.config, log, { trigger: 'bench:backfill', from: null, portfolios: null }));
       seconds.push(out.seconds);
-      lastRun = out.value;
+      summaries.push(out.value);
     }
   } finally {
     db.close();
   }
-  const summary = lastRun!;
+  const summary = summaries.at(-1)!;
   return {
     seconds,
-    lastRun: summary,
     figure: figure('backfill_seconds', size, seconds, {
       note: `${summary.riskRows.toLocaleString('en-US')} risk rows over ${summary.portfolios} portfolios`,
       details: {
@@ -44,6 +42,7 @@ export async function measureBackfill(ws: BenchWorkspace, size: SizeName, runs: 
         from: summary.from,
         to: summary.to,
         open_workspace_seconds: openSeconds,
+        ...phaseMedians(summaries.map((r) => r.phases), 'phase'),
       },
     }),
   };

@@ -1,5 +1,5 @@
 import { spawn, type ChildProcess } from 'node:child_process';
-import { createWriteStream, existsSync } from 'node:fs';
+import { createWriteStream, existsSync, readFileSync } from 'node:fs';
 import { once } from 'node:events';
 import path from 'node:path';
 import type { Config } from '../../src/config/load.ts';
@@ -7,7 +7,7 @@ import { openDatabase, sqlString } from '../../src/storage/database.ts';
 import { waitFor } from '../../test/helpers/wait.ts';
 import { figure, unavailable, type Figure } from '../figures.ts';
 import type { GeneratedScenario } from '../generate.ts';
-import { median, peakResidentBytes } from '../measure.ts';
+import { median, peakResidentBytes, phaseMedians } from '../measure.ts';
 import { createBenchWorkspace, dropIntoInbox } from '../workspace.ts';
 
 const PROJECT_ROOT = path.resolve(import.meta.dirname, '../..');
@@ -55,7 +55,8 @@ export async function measureWorker(scenario: GeneratedScenario, root: string): 
   try {
     const lastHistoryDate = scenario.historyDates.at(-1)!;
     await settle(ws.config, scenario.history.map((f) => path.basename(f.path)), lastHistoryDate, exit, CATCH_UP_TIMEOUT_MS);
-    const catchUpSeconds = (Date.now() - started) / 1000;
+    const catchUpEnd = Date.now();
+    const catchUpSeconds = (catchUpEnd - started) / 1000;
 
     const visible: number[] = [];
     const committed: number[] = [];
@@ -97,8 +98,8 @@ export async function measureWorker(scenario: GeneratedScenario, root: string): 
             note: 'one worker from start: history catch-up (ingest + backfill) and the new days',
             details: { catch_up_seconds: catchUpSeconds },
           });
-    const stopped = await stop(child, exit);
-    memory.details.stop = stopped;
+    memory.details.stop = await stop(child, exit);
+    Object.assign(latency.details, phaseMedians(recomputePhasesAfter(logFile, catchUpEnd), 'run'));
     return [latency, memory];
   } finally {
     await stop(child, exit);
@@ -116,12 +117,24 @@ function watchExit(child: ChildProcess, logFile: string): { done: boolean; tail:
   };
   child.stdout?.on('data', keep);
   child.stderr?.on('data', keep);
-  state.promise = once(child, 'exit').then(([code]) => {
+  state.promise = once(child, 'exit').then(async ([code]) => {
     state.done = true;
     log.end();
+    await once(log, 'finish');
     return code as number | null;
   });
   return state;
+}
+
+/** The `phases` of the worker's "recompute done" log records after `sinceMs`: where a day's runs spend their time. */
+function recomputePhasesAfter(logFile: string, sinceMs: number): Record<string, number>[] {
+  const out: Record<string, number>[] = [];
+  for (const line of readFileSync(logFile, 'utf8').split('\n')) {
+    if (!line.includes('"recompute done"')) continue;
+    const record = JSON.parse(line) as { time: number; phases?: Record<string, number> };
+    if (record.time >= sinceMs && record.phases) out.push(record.phases);
+  }
+  return out;
 }
 
 /** Plain lines (the CLI's one-line failure) and pino records of level warn (40) and up. */

@@ -22,14 +22,14 @@ describe('figure', () => {
   it('judges a "max" goal and says by how much it was missed', () => {
     const slow = figure('backfill_seconds', 'large', [72]);
     expect(slow.verdict).toBe('missed');
-    expect(slow.shortfall).toBe('20% over (12 s over 60 s)');
+    expect(slow.shortfall).toBe('20% over: 12 s above the goal of 60 s');
     expect(figure('backfill_seconds', 'large', [59]).verdict).toBe('met');
   });
 
   it('judges a "min" goal and leaves a goal set for another size unjudged', () => {
     const ingest = figure('ingest_rows_per_second', 'large', [750_000]);
     expect(ingest.verdict).toBe('missed');
-    expect(ingest.shortfall).toBe('25% under (250,000 rows/s under 1,000,000 rows/s)');
+    expect(ingest.shortfall).toBe('25% under: 250,000 rows/s below the goal of 1,000,000 rows/s');
     const small = figure('backfill_seconds', 'small', [500]);
     expect(small).toMatchObject({ verdict: 'no_goal', goal: null, shortfall: null });
   });
