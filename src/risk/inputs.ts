@@ -82,6 +82,11 @@ export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
     { k: 'int', date_index: 'int', log_return: 'double' },
   );
   for (let i = 0; i < raw.rows; i++) returns[(raw.columns.date_index[i] - 1) * n + raw.columns.k[i]] = raw.columns.log_return[i];
+  return { dates, securityIds, isCash, returns, ...seriesLayouts(returns, t, n) };
+}
+
+/** From T x N returns: the same N x T (each security contiguous) and the run lengths of non-missing returns. */
+export function seriesLayouts(returns: Float64Array, t: number, n: number): Pick<ReturnPanel, 'returnsBySecurity' | 'runLength'> {
   const returnsBySecurity = shared(Float64Array, n * t);
   const runLength = shared(Int32Array, t * n);
   for (let d = 0; d < t; d++) {
@@ -91,7 +96,7 @@ export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
       runLength[d * n + j] = Number.isFinite(r) ? (d > 0 ? runLength[(d - 1) * n + j] : 0) + 1 : 0;
     }
   }
-  return { dates, securityIds, isCash, returns, returnsBySecurity, runLength };
+  return { returnsBySecurity, runLength };
 }
 
 /** The portfolios in scope (null: every portfolio with a position), sorted by id. */

@@ -3,17 +3,9 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { loadConfig, resolveConfig } from '../../src/config/load.ts';
+// the minimal file of SPEC §6, verbatim: it must load with everything else defaulted
+import { MINIMAL_CONFIG as MINIMAL } from '../helpers/workspace.ts';
 
-// The minimal file of SPEC §6, verbatim: it must load with everything else defaulted.
-const MINIMAL = {
-  inbox: 'inbox',
-  archive: 'archive',
-  quarantine: 'quarantine',
-  database: 'riskfold.duckdb',
-  risk: { windows: [63], tradingDaysPerYear: 252 },
-  limits: [{ portfolio: '*', window: 63, limit: 0.15 }],
-  alerts: { file: 'alerts.jsonl' },
-};
 
 describe('loadConfig', () => {
   it('accepts the minimal config of the specification and fills the defaults', () => {

@@ -3,7 +3,7 @@ import * as ss from 'simple-statistics';
 import { describe, expect, it } from 'vitest';
 import { createRandom } from '../../../src/demo/random.ts';
 import { EwmaEstimate } from '../../../src/risk/ewmaEstimate.ts';
-import type { ReturnPanel } from '../../../src/risk/inputs.ts';
+import { seriesLayouts, type ReturnPanel } from '../../../src/risk/inputs.ts';
 import { chooseSamplePath, SampleEstimate, SLIDING_REFRESH, slidingStartRow } from '../../../src/risk/sampleEstimate.ts';
 
 /** T x N returns with a few holes (NaN) and one late starter, laid out as inputs.ts does. */
@@ -17,15 +17,7 @@ function panel(t: number, n: number, seed = 7): ReturnPanel {
       returns[d * n + j] = missing ? Number.NaN : 0.0004 + market * (0.5 + j / n) + 0.012 * random.normal();
     }
   }
-  const returnsBySecurity = new Float64Array(n * t);
-  const runLength = new Int32Array(t * n);
-  for (let d = 0; d < t; d++) {
-    for (let j = 0; j < n; j++) {
-      const r = returns[d * n + j];
-      returnsBySecurity[j * t + d] = r;
-      runLength[d * n + j] = Number.isFinite(r) ? (d > 0 ? runLength[(d - 1) * n + j] : 0) + 1 : 0;
-    }
-  }
+  const { returnsBySecurity, runLength } = seriesLayouts(returns, t, n);
   return {
     dates: Array.from({ length: t }, (_, d) => `d${d}`),
     securityIds: Array.from({ length: n }, (_, j) => `EQ-TEST-${j}`),

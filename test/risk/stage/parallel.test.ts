@@ -2,7 +2,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import type { ConfigInput } from '../../../src/config/schema.ts';
 import { computeRisk, PARALLEL_MIN_COST, threadsFor, type ComputeInputs } from '../../../src/risk/computeRisk.ts';
 import { EwmaEstimate } from '../../../src/risk/ewmaEstimate.ts';
-import { readPortfolioPanel, readReturnPanel } from '../../../src/risk/inputs.ts';
+import { readPortfolioPanel, readReturnPanel, seriesLayouts } from '../../../src/risk/inputs.ts';
 import { DAILY_FIGURE_COUNT, type ResultBatch } from '../../../src/risk/resultColumns.ts';
 import { createRandom } from '../../../src/demo/random.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
@@ -42,15 +42,7 @@ function wideInputs(t = 420, n = 40): ComputeInputs {
       returns[d * n + j] = missing ? Number.NaN : market * (0.4 + j / n) + 0.012 * random.normal();
     }
   }
-  const returnsBySecurity = new Float64Array(n * t);
-  const runLength = new Int32Array(t * n);
-  for (let d = 0; d < t; d++) {
-    for (let j = 0; j < n; j++) {
-      const r = returns[d * n + j];
-      returnsBySecurity[j * t + d] = r;
-      runLength[d * n + j] = Number.isFinite(r) ? (d > 0 ? runLength[(d - 1) * n + j] : 0) + 1 : 0;
-    }
-  }
+  const { returnsBySecurity, runLength } = seriesLayouts(returns, t, n);
   const isCash = new Uint8Array(n);
   isCash[0] = 1;
   const ids = ['acct-alder', 'acct-birch', 'acct-cedar'];
