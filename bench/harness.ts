@@ -134,14 +134,14 @@ async function naiveComparison(
 ): Promise<Figure> {
   if (reuse) {
     if (!reuse.ws || !reuse.backfill) throw new Error('needs the ingested history and its backfill');
-    return measureNaive(reuse.ws, options.size, reuse.backfill.seconds, reuse.backfill.seconds.length, options.log);
+    return measureNaive(reuse.ws, options.size, reuse.backfill, reuse.backfill.seconds.length, options.log);
   }
   const small = SIZES[NAIVE_SIZE];
   const scenario = await generateScenario(small, path.join(root, 'naive-scenario'));
   const ws = createBenchWorkspace(root, 'naive', small);
   await ingestHistory(scenario, ws, options.log);
   const backfill = await measureBackfill(ws, small.name, small.runs, options.log);
-  return measureNaive(ws, small.name, backfill.seconds, small.runs, options.log);
+  return measureNaive(ws, small.name, backfill, small.runs, options.log);
 }
 
 function describeScenario(s: GeneratedScenario): BenchResult['scenario'] {

@@ -3,12 +3,14 @@ import { recompute, type RunSummary } from '../../src/risk/recompute.ts';
 import { openWorkspace } from '../../src/storage/workspace.ts';
 import { figure, type Figure } from '../figures.ts';
 import type { SizeName } from '../scenario.ts';
-import { phaseMedians, timed } from '../measure.ts';
+import { median, phaseMedians, timed } from '../measure.ts';
 import type { BenchWorkspace } from '../workspace.ts';
 
 export interface BackfillMeasurement {
   figure: Figure;
   seconds: number[];
+  /** Median seconds of the runs' compute phase (the estimates alone, no reading or writing). */
+  computeSeconds: number | null;
 }
 
 /**
@@ -32,8 +34,10 @@ export async function measureBackfill(ws: BenchWorkspace, size: SizeName, runs: 
     db.close();
   }
   const summary = summaries.at(-1)!;
+  const compute = summaries.map((r) => r.phases.compute).filter((s) => s !== undefined);
   return {
     seconds,
+    computeSeconds: compute.length ? median(compute) : null,
     figure: figure('backfill_seconds', size, seconds, {
       note: `${summary.riskRows.toLocaleString('en-US')} risk rows over ${summary.portfolios} portfolios`,
       details: {
