@@ -9,7 +9,7 @@ import type { SizeName } from '../scenario.ts';
 import type { BenchWorkspace } from '../workspace.ts';
 
 /**
- * The way a spreadsheet or a first script would do it: for every portfolio, date and
+ * The straightforward way: for every portfolio, date and
  * window, cut the window's returns of the securities held, build their covariance from
  * scratch with `sampleCovariance`, then sqrt(A w'Sw). Same views in, only the sample
  * `vol_ex_ante` out (no contributions, VaR, EWMA or writes), so the ratio to the real
