@@ -29,8 +29,9 @@ export interface ScenarioPnl {
 
 /**
  * pnl_s = sum_i V_i (exp(r_i,s) - 1) for `scenarios` rows of returns (row-major,
- * r[s * n + i], n = values.length). A non-finite return marks the holding as missing:
- * it is left out of every scenario and named in `missing`, never counted as unchanged.
+ * r[s * n + i], n = values.length). A NaN (or +Infinity) return marks the holding as
+ * missing: it is left out of every scenario and named in `missing`, never counted as
+ * unchanged. -Infinity is a price gone to zero, a total loss: exp(-Infinity) - 1 = -1.
  * A holding whose value is zero is never missing (it cannot gain or lose).
  */
 export function scenarioPnl(values: Float64Array, returns: Float64Array, scenarios: number): ScenarioPnl {
@@ -45,7 +46,7 @@ export function scenarioPnl(values: Float64Array, returns: Float64Array, scenari
   for (let i = 0; i < n; i++) {
     if (!Number.isFinite(values[i])) throw new Error(`${fn}: values[${i}] must be finite, got ${values[i]}`);
     let full = true;
-    for (let s = 0; s < scenarios && full; s++) full = Number.isFinite(returns[s * n + i]);
+    for (let s = 0; s < scenarios && full; s++) full = isReturn(returns[s * n + i]);
     gross += Math.abs(values[i]);
     if (full || values[i] === 0) {
       complete[i] = 1;
@@ -140,6 +141,10 @@ export function filteredReturns(
     }
   }
   return out;
+}
+
+function isReturn(r: number): boolean {
+  return !Number.isNaN(r) && r !== Infinity;
 }
 
 function requireSigma(fn: string, name: string, sigma: number): void {

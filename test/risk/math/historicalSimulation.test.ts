@@ -104,6 +104,12 @@ describe('scenarioPnl', () => {
     expect(Array.from(missing)).toEqual([1]);
   });
 
+  it('takes a log return of -Infinity (a price gone to zero) as a total loss, +Infinity as missing', () => {
+    const { pnl, missing } = scenarioPnl(Float64Array.of(300, 700), Float64Array.of(Number.NEGATIVE_INFINITY, Number.POSITIVE_INFINITY), 1);
+    expect(pnl[0]).toBe(-300);
+    expect(Array.from(missing)).toEqual([1]);
+  });
+
   it('gives coverage NaN for a portfolio of zero gross value', () => {
     expect(scenarioPnl(Float64Array.of(0), Float64Array.of(0.01), 1).coverage).toBeNaN();
   });
