@@ -115,7 +115,9 @@ function demeaned(fn: string, x: Float64Array, rows: number, cols: number): Floa
 /**
  * pi-hat, sum_i pi_ii, and sum_{i != j} sqrt(s_jj/s_ii) theta_ii,ij. The two halves of
  * rho-hat's off-diagonal sum are the same sum with i and j swapped, so rbar/2 x 2 = rbar
- * times one of them.
+ * times one of them. One pass over the pairs i < j gives pi_ij (= pi_ji), theta_ii,ij and
+ * theta_jj,ij from the same products, with the dates innermost (each security's series
+ * contiguous), so the sums stay in registers.
  */
 function asymptoticTerms(
   y: Float64Array,
@@ -124,31 +126,39 @@ function asymptoticTerms(
   s: Float64Array,
   sd: Float64Array,
 ): { piHat: number; piDiagonal: number; thetaTerm: number } {
-  const pi = new Float64Array(n * n);
-  const theta = new Float64Array(n * n);
-  const products = new Float64Array(n);
+  // series[i * rows + t] = y_ti, and squares[i * rows + t] = y_ti^2 - s_ii
+  const series = new Float64Array(n * rows);
+  const squares = new Float64Array(n * rows);
   for (let t = 0; t < rows; t++) {
-    const base = t * n;
     for (let i = 0; i < n; i++) {
-      const yi = y[base + i];
-      const squareDeviation = yi * yi - s[i * n + i];
-      for (let j = 0; j < n; j++) products[j] = yi * y[base + j] - s[i * n + j];
-      const row = i * n;
-      for (let j = 0; j < n; j++) {
-        pi[row + j] += products[j] * products[j];
-        theta[row + j] += squareDeviation * products[j];
-      }
+      const v = y[t * n + i];
+      series[i * rows + t] = v;
+      squares[i * rows + t] = v * v - s[i * n + i];
     }
   }
-  let piHat = 0;
   let piDiagonal = 0;
+  let piOff = 0;
   let thetaTerm = 0;
   for (let i = 0; i < n; i++) {
-    for (let j = 0; j < n; j++) {
-      piHat += pi[i * n + j] / rows;
-      if (i === j) piDiagonal += pi[i * n + i] / rows;
-      else thetaTerm += ((sd[j] / sd[i]) * theta[i * n + j]) / rows;
+    const bi = i * rows;
+    let diagonal = 0;
+    for (let t = 0; t < rows; t++) diagonal += squares[bi + t] * squares[bi + t];
+    piDiagonal += diagonal;
+    for (let j = i + 1; j < n; j++) {
+      const bj = j * rows;
+      const sij = s[i * n + j];
+      let pi = 0;
+      let thetaI = 0;
+      let thetaJ = 0;
+      for (let t = 0; t < rows; t++) {
+        const product = series[bi + t] * series[bj + t] - sij;
+        pi += product * product;
+        thetaI += squares[bi + t] * product;
+        thetaJ += squares[bj + t] * product;
+      }
+      piOff += 2 * pi;
+      thetaTerm += (sd[j] / sd[i]) * thetaI + (sd[i] / sd[j]) * thetaJ;
     }
   }
-  return { piHat, piDiagonal, thetaTerm };
+  return { piHat: (piDiagonal + piOff) / rows, piDiagonal: piDiagonal / rows, thetaTerm: thetaTerm / rows };
 }
