@@ -73,6 +73,15 @@ describe('realizedTrackingError', () => {
     expect(realizedTrackingError(Float64Array.of(0.02, -0.005), Float64Array.of(0.01, 0.005), 252)).toBeCloseTo(Math.sqrt(252 * 0.0002), 15);
   });
 
+  it('does not mutate its inputs', () => {
+    const portfolio = Float64Array.of(0.02, -0.005);
+    const benchmark = Float64Array.of(0.01, 0.005);
+    realizedTrackingError(portfolio, benchmark, 252);
+    betaToBenchmark(s, cols, w, b);
+    expect([Array.from(portfolio), Array.from(benchmark)]).toEqual([[0.02, -0.005], [0.01, 0.005]]);
+    expect(Array.from(w)).toEqual([0.4, 0.3, 0.2, 0.1]);
+  });
+
   it('throws for one date, a missing return and mismatched lengths', () => {
     expect(() => realizedTrackingError(Float64Array.of(0.01), Float64Array.of(0.02), 252)).toThrow(/portfolio.length must be an integer >= 2/);
     expect(() => realizedTrackingError(Float64Array.of(0.01, Number.NaN), Float64Array.of(0.02, 0), 252)).toThrow(/returns of date 1 must be finite/);

@@ -28,6 +28,13 @@ describe('compoundedReturns', () => {
     expect(out[1]).toBeNaN();
   });
 
+  it('does not mutate its input', () => {
+    const returns = Float64Array.of(0.01, -0.02);
+    compoundedReturns(returns, 2, 1);
+    worstWindow(returns, 1);
+    expect(Array.from(returns)).toEqual([0.01, -0.02]);
+  });
+
   it('throws for an empty range and a shape mismatch', () => {
     expect(() => compoundedReturns(new Float64Array(0), 0, 1)).toThrow(/compoundedReturns: rows must be an integer >= 1, got 0/);
     expect(() => compoundedReturns(new Float64Array(3), 2, 2)).toThrow(/logReturns has length 3, expected 4/);
@@ -129,6 +136,12 @@ describe('hypotheticalReturns', () => {
     expect(r[3]).toBeCloseTo(-0.1, 15); // unclassified: all
     expect(r[4]).toBeCloseTo(-0.2, 15); // EUR cash: the currency only
     expect(r[5]).toBe(0); // base cash: nothing moves it
+  });
+
+  it('does not mutate its inputs (frozen holdings and shocks)', () => {
+    const frozen = Object.freeze(holdings.map((h) => Object.freeze({ ...h })));
+    const shocks = Object.freeze([Object.freeze({ all: true as const, return: -0.1 })]);
+    expect(hypotheticalReturns(frozen, shocks, 'CHF')[0]).toBeCloseTo(-0.1, 15);
   });
 
   it('leaves a holding no shock matches unchanged', () => {
