@@ -156,3 +156,32 @@ function withPValue(lr: number, degreesOfFreedom: 1 | 2): LikelihoodRatioTest {
   const clamped = Math.max(0, lr);
   return { lr: clamped, p: chiSquaredSurvival(clamped, degreesOfFreedom) };
 }
+
+export interface BacktestSummary {
+  /** Tested days in the window (at most 250). */
+  days: number;
+  exceptions: number;
+  kupiec: LikelihoodRatioTest;
+  /** null with fewer than 2 tested days. */
+  independence: LikelihoodRatioTest | null;
+  /** null until 250 days have been tested: the Basel table holds for 250 only. */
+  zone: BaselZone | null;
+}
+
+/**
+ * The figures of one `var_backtest` row from the exception flags of the tested days up to
+ * and including that day (oldest first): the last 250 of them are the window.
+ */
+export function backtestSummary(flags: Uint8Array, level: number): BacktestSummary {
+  requireInteger('backtestSummary', 'flags.length', flags.length, 1);
+  const window = flags.subarray(Math.max(0, flags.length - BASEL_OBSERVATIONS));
+  let count = 0;
+  for (let t = 0; t < window.length; t++) count += window[t];
+  return {
+    days: window.length,
+    exceptions: count,
+    kupiec: kupiecTest(count, window.length, level),
+    independence: window.length >= 2 ? christoffersenIndependence(window) : null,
+    zone: window.length === BASEL_OBSERVATIONS ? baselZone(count, BASEL_OBSERVATIONS) : null,
+  };
+}

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import {
+  backtestSummary,
   baselZone,
   chiSquaredSurvival,
   christoffersenConditionalCoverage,
@@ -186,5 +187,33 @@ describe('baselZone', () => {
     expect(() => baselZone(3, 200)).toThrow(/baselZone: the zones are defined for 250 observations, got 200/);
     expect(() => baselZone(-1, 250)).toThrow(/exceptionCount must be an integer >= 0/);
     expect(() => baselZone(251, 250)).toThrow(/exceeds observations 250/);
+  });
+});
+
+describe('backtestSummary', () => {
+  it('counts the last 250 tested days only and gives their Kupiec statistic and zone', () => {
+    const flags = new Uint8Array(300);
+    flags.fill(1, 10, 20); // ten exceptions that have left the window
+    for (const day of [100, 150, 200, 250, 290, 299]) flags[day] = 1;
+    const summary = backtestSummary(flags, 0.99);
+    expect(summary.days).toBe(250);
+    expect(summary.exceptions).toBe(6);
+    expect(summary.zone).toBe('yellow');
+    expect(summary.kupiec).toEqual(kupiecTest(6, 250, 0.99));
+    expect(summary.independence).toEqual(christoffersenIndependence(flags.subarray(50)));
+  });
+
+  it('gives no zone before 250 tested days and no independence test for one day', () => {
+    const early = backtestSummary(Uint8Array.of(0, 1, 0), 0.99);
+    expect(early.zone).toBeNull();
+    expect(early.kupiec).toEqual(kupiecTest(1, 3, 0.99));
+    expect(backtestSummary(Uint8Array.of(1), 0.99).independence).toBeNull();
+  });
+
+  it('throws for no tested day and does not mutate its input', () => {
+    expect(() => backtestSummary(new Uint8Array(0), 0.99)).toThrow(/backtestSummary: flags.length must be an integer >= 1/);
+    const flags = Uint8Array.of(0, 1, 1);
+    backtestSummary(flags, 0.99);
+    expect(Array.from(flags)).toEqual([0, 1, 1]);
   });
 });
