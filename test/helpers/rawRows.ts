@@ -1,49 +1,31 @@
-import { mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import path from 'node:path';
 import { expect } from 'vitest';
-import { resolveConfig } from '../../src/config/load.ts';
-import type { ConfigInput } from '../../src/config/schema.ts';
-import { memoryLogger } from '../../src/log/logger.ts';
 import type { Database } from '../../src/storage/database.ts';
 import { refreshDerived } from '../../src/storage/derived.ts';
-import { openWorkspace } from '../../src/storage/workspace.ts';
 
-/** A real workspace (migrations, settings, views) in a fresh temp folder. */
-export interface TestWorkspace {
-  db: Database;
-  dir: string;
-  close(): void;
-}
+export type Cell = string | number | null;
 
-export async function openTestWorkspace(config: Partial<ConfigInput> = {}): Promise<TestWorkspace> {
-  const dir = mkdtempSync(path.join(tmpdir(), 'riskfold-views-'));
-  const resolved = resolveConfig(config, path.join(dir, 'pipeline.config.json'));
-  const db = await openWorkspace(resolved, memoryLogger().log);
-  return {
-    db,
-    dir,
-    close() {
-      db.close();
-      rmSync(dir, { recursive: true, force: true });
-    },
-  };
-}
+/** Rows per insert statement: keeps the parameter list of one statement small. */
+const CHUNK = 500;
 
-type Cell = string | number | null;
-
-/** Inserts raw rows as one delivered file: `line` numbers them 1, 2, ... in the order given. */
-async function insertFile(db: Database, table: string, columns: string[], fileId: number, rows: Cell[][]): Promise<void> {
-  if (rows.length === 0) return;
+/**
+ * Inserts raw rows that carry their own delivery, `[file_id, line, ...columns]`, then
+ * brings the derived tables up to date, as the worker does after each ingest (the views
+ * read them).
+ */
+export async function insertRaw(db: Database, table: string, columns: string[], rows: Cell[][]): Promise<void> {
   const width = columns.length + 2;
-  const placeholders = rows
-    .map((_, r) => `(${Array.from({ length: width }, (_, c) => `$${r * width + c + 1}`).join(', ')})`)
-    .join(', ');
-  const params = rows.flatMap((row, r) => [fileId, r + 1, ...columns.map((_, c) => row[c] ?? null)]);
-  await db.run(`insert into ${table} (file_id, line, ${columns.join(', ')}) values ${placeholders}`, params);
-  // as the worker does after each ingest: the views read the derived tables
+  for (let start = 0; start < rows.length; start += CHUNK) {
+    const chunk = rows.slice(start, start + CHUNK);
+    const placeholders = chunk.map((_, r) => `(${Array.from({ length: width }, (_, c) => `$${r * width + c + 1}`).join(', ')})`).join(', ');
+    const params = chunk.flatMap((row) => Array.from({ length: width }, (_, c) => row[c] ?? null));
+    await db.run(`insert into ${table} (file_id, line, ${columns.join(', ')}) values ${placeholders}`, params);
+  }
   await refreshDerived(db);
 }
+
+/** Inserts raw rows as one delivered file: `line` numbers them 1, 2, ... in the order given. */
+const insertFile = (db: Database, table: string, columns: string[], fileId: number, rows: Cell[][]) =>
+  insertRaw(db, table, columns, rows.map((row, r) => [fileId, r + 1, ...row]));
 
 /** rows: [date, security_id, price, currency?] */
 export const insertPrices = (db: Database, fileId: number, rows: Cell[][]) =>
