@@ -1,22 +1,11 @@
 import { businessDays } from '../../src/demo/market.ts';
 import { createRandom } from '../../src/demo/random.ts';
+import type { Deliveries, PriceRow } from '../helpers/rawRows.ts';
 
 /**
  * A random but reproducible scenario of raw deliveries (invented ids), with holidays,
  * corrections, superseded snapshots, foreign currencies, fx gaps and cash.
  */
-
-export interface PriceRow { fileId: number; line: number; date: string; securityId: string; price: number; currency: string | null }
-export interface PositionRow { fileId: number; line: number; date: string; portfolioId: string; securityId: string; quantity: number }
-export interface FxRow { fileId: number; line: number; date: string; currency: string; rate: number }
-export interface SecurityRow { fileId: number; line: number; securityId: string; currency: string | null }
-
-export interface Deliveries {
-  prices: PriceRow[];
-  positions: PositionRow[];
-  fx: FxRow[];
-  securities: SecurityRow[];
-}
 
 // securities: [id, currency in the securities table, currency on the price rows, chance of a price on a weekday]
 const UNIVERSE: [string, string | null, string | null, number][] = [
