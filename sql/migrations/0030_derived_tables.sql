@@ -1,7 +1,7 @@
 -- Shared layers of the views, stored instead of recomputed by every view that reads them
 -- (DuckDB shares no work between view references). Written only by src/storage/derived.ts
--- from the raw tables (sql/derived/); they hold no setting, so a changed config needs no
--- rebuild: the views apply max_stale_days and base_currency when read.
+-- from the raw tables (the stored steps of sql/ladder/); they hold no setting, so a
+-- changed config needs no rebuild: the views apply max_stale_days and base_currency when read.
 create table derived_snapshots (
   portfolio_id  varchar not null,
   snapshot_date date not null,

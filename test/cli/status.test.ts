@@ -4,7 +4,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import { processBatch } from '../../src/pipeline/processBatch.ts';
 import { writeCsv } from '../helpers/files.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
-import { pricesCsv } from '../watch/fixtures.ts';
+import { pricesCsv } from '../helpers/files.ts';
 import { runCli } from './cliProcess.ts';
 
 describe('riskfold status and sql with no worker running', () => {

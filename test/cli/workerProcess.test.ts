@@ -4,7 +4,8 @@ import { afterEach, describe, expect, it } from 'vitest';
 import { openDatabase, type Database } from '../../src/storage/database.ts';
 import { pidFilePath } from '../../src/watch/workerPidFile.ts';
 import { waitFor } from '../helpers/wait.ts';
-import { pricesCsv, workerDir, type WorkerDir } from '../watch/fixtures.ts';
+import { pricesCsv } from '../helpers/files.ts';
+import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
 import { runCli, startCli, type RunningCli } from './cliProcess.ts';
 
 const BIG_DAYS = 5000;

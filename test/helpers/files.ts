@@ -25,3 +25,23 @@ export function writeCsv(dir: string, name: string, rows: (string | number)[][],
   writeFileSync(file, options.gzip ? gzipSync(bytes) : bytes);
   return file;
 }
+
+const SECURITIES = ['EQ-NORDWIND', 'EQ-SALTMARSH', 'BD-KESTREL-28', 'EQ-OAKHOLLOW'];
+
+/**
+ * Invented daily prices: `days` business-like dates from 2020-01-01 for `securities`
+ * securities (names cycle with a suffix past the four above). Written straight to
+ * `file` as one string: big enough files make an ingest take a while.
+ */
+export function pricesCsv(days: number, securities = 4, start = '2020-01-01'): string {
+  const lines = ['date,security_id,price'];
+  const t0 = Date.parse(`${start}T00:00:00Z`);
+  for (let d = 0; d < days; d++) {
+    const date = new Date(t0 + d * 86_400_000).toISOString().slice(0, 10);
+    for (let s = 0; s < securities; s++) {
+      const id = s < SECURITIES.length ? SECURITIES[s] : `${SECURITIES[s % SECURITIES.length]}-${Math.floor(s / SECURITIES.length)}`;
+      lines.push(`${date},${id},${(100 + s + Math.sin(d / 7 + s)).toFixed(4)}`);
+    }
+  }
+  return `${lines.join('\n')}\n`;
+}

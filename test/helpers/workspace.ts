@@ -1,4 +1,4 @@
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import type { Logger } from 'pino';
@@ -34,16 +34,27 @@ export const MINIMAL_CONFIG: ConfigInput = {
   alerts: { file: 'alerts.jsonl' },
 };
 
-/**
- * A fresh folder with a resolved config (written to pipeline.config.json there, so CLI
- * runs can use it) and an opened workspace database. Call `cleanup()` in afterEach.
- */
-export async function tempWorkspace(overrides: Partial<ConfigInput> = {}): Promise<TempWorkspace> {
-  const dir = mkdtempSync(path.join(tmpdir(), 'riskfold-test-'));
-  const raw = { ...MINIMAL_CONFIG, ...overrides };
+export interface ConfigFolder {
+  dir: string;
+  configPath: string;
+  config: Config;
+}
+
+/** A fresh mkdtemp folder with `raw` written to pipeline.config.json there (so CLI runs can use it) and resolved. */
+function configFolder(prefix: string, raw: ConfigInput): ConfigFolder {
+  const dir = mkdtempSync(path.join(tmpdir(), prefix));
   const configPath = path.join(dir, 'pipeline.config.json');
   writeFileSync(configPath, `${JSON.stringify(raw, null, 2)}\n`);
-  const config = resolveConfig(raw, configPath);
+  return { dir, configPath, config: resolveConfig(raw, configPath) };
+}
+
+/**
+ * A fresh folder with a resolved config and an opened workspace database (migrations,
+ * settings and views applied). The config is `base` (the minimal config unless given)
+ * with `overrides` replacing top-level keys. Call `cleanup()` in afterEach.
+ */
+export async function tempWorkspace(overrides: Partial<ConfigInput> = {}, base: ConfigInput = MINIMAL_CONFIG): Promise<TempWorkspace> {
+  const { dir, config } = configFolder('riskfold-test-', { ...base, ...overrides });
   const { log, lines } = memoryLogger();
   let db: Database;
   try {
@@ -69,4 +80,21 @@ export async function tempWorkspace(overrides: Partial<ConfigInput> = {}): Promi
       rmSync(dir, { recursive: true, force: true });
     },
   };
+}
+
+/** A workspace on the product's defaults (no limits, all default windows) plus `config`: what the view tests read. */
+export const defaultsWorkspace = (config: Partial<ConfigInput> = {}) => tempWorkspace(config, {});
+
+export interface WorkerDir extends ConfigFolder {
+  cleanup: () => void;
+}
+
+/**
+ * A folder with a config for a worker, NOT opened: the worker (in this process or a
+ * child) must be the one that opens the database. Short write-finish times keep tests quick.
+ */
+export function workerDir(overrides: Partial<ConfigInput> = {}): WorkerDir {
+  const folder = configFolder('riskfold-worker-', { ...MINIMAL_CONFIG, watch: { stableMs: 200, pollMs: 50 }, ...overrides });
+  mkdirSync(folder.config.inbox, { recursive: true });
+  return { ...folder, cleanup: () => rmSync(folder.dir, { recursive: true, force: true }) };
 }

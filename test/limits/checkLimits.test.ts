@@ -1,7 +1,8 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import { checkLimits } from '../../src/limits/checkLimits.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
-import { alertRows, breachRows, weekdays, writeRiskSeries } from './riskRows.ts';
+import { businessDays } from '../../src/demo/market.ts';
+import { alertRows, breachRows, writeRiskSeries } from './riskRows.ts';
 
 describe('checkLimits', () => {
   let ws: TempWorkspace | undefined;
@@ -18,7 +19,7 @@ describe('checkLimits', () => {
 
   it('alerts a breach exactly three times: opened at warning, escalated, quiet for days, closed', async () => {
     ws = await tempWorkspace();
-    const days = weekdays('2026-03-02', 12);
+    const days = businessDays('2026-03-02', 12);
     // limit 15%: warning 13.5%, clear 12.75% (SPEC section 6 defaults)
     const vols = [0.1, 0.138, 0.14, 0.162, 0.171, 0.165, 0.15, 0.14, 0.13, 0.128, 0.121, 0.11];
     let raised = 0;
@@ -47,7 +48,7 @@ describe('checkLimits', () => {
 
   it('writes a payload a person can act on, naming the largest contributors of that date', async () => {
     ws = await tempWorkspace();
-    const [d1, d2] = weekdays('2026-03-02', 2);
+    const [d1, d2] = businessDays('2026-03-02', 2);
     await runDay('acct-growth', d1, 0.1, 1);
     await ws.db.run(
       `insert into risk_contributions (portfolio_id, date, window_days, estimator, security_id, weight, mcr, ccr, pct, run_id) values
@@ -92,7 +93,7 @@ describe('checkLimits', () => {
 
   it('does not alert again when a recompute re-derives the same episode', async () => {
     ws = await tempWorkspace();
-    const days = weekdays('2026-03-02', 4);
+    const days = businessDays('2026-03-02', 4);
     for (const [i, d] of days.entries()) await runDay('acct-growth', d, [0.1, 0.16, 0.17, 0.16][i], i + 1);
     const before = await breachRows(ws.db);
     const { db, config, log } = ws;

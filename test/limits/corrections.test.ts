@@ -1,11 +1,12 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import { checkLimits } from '../../src/limits/checkLimits.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
-import { alertRows, breachRows, weekdays, writeRiskSeries } from './riskRows.ts';
+import { businessDays } from '../../src/demo/market.ts';
+import { alertRows, breachRows, writeRiskSeries } from './riskRows.ts';
 
 /** A day-by-day volatility path around a 15% limit (warning 13.5%, clear 12.75%). */
 function path(values: number[], start = '2026-03-02'): [string, number][] {
-  return weekdays(start, values.length).map((d, i) => [d, values[i]]);
+  return businessDays(start, values.length).map((d, i) => [d, values[i]]);
 }
 
 describe('checkLimits over corrections and history loads', () => {
@@ -118,7 +119,7 @@ describe('checkLimits over corrections and history loads', () => {
 
     // the same load again raises nothing; the next day-by-day closing is alerted
     expect((await run(history, null, 2)).alertsRaised).toBe(0);
-    const next: [string, number] = [weekdays(last, 2)[1], 0.12];
+    const next: [string, number] = [businessDays(last, 2)[1], 0.12];
     expect((await run([next], next[0], 3)).alertsRaised).toBe(1);
     expect((await alertRows(ws.db)).map((a) => a.kind)).toEqual(['limit_opened', 'limit_closed']);
   });

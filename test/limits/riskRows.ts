@@ -1,17 +1,5 @@
 import type { Database } from '../../src/storage/database.ts';
 
-/** `n` consecutive weekdays from `start` (inclusive if it is one), as 'YYYY-MM-DD'. */
-export function weekdays(start: string, n: number): string[] {
-  const out: string[] = [];
-  const d = new Date(`${start}T00:00:00Z`);
-  while (out.length < n) {
-    const day = d.getUTCDay();
-    if (day !== 0 && day !== 6) out.push(d.toISOString().slice(0, 10));
-    d.setUTCDate(d.getUTCDate() + 1);
-  }
-  return out;
-}
-
 export interface RiskSeries {
   portfolioId: string;
   window?: number;

@@ -5,7 +5,7 @@ import { processBatch } from '../../src/pipeline/processBatch.ts';
 import { applyViews } from '../../src/storage/sqlFiles.ts';
 import { writeCsv } from '../helpers/files.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
-import { pricesCsv } from '../watch/fixtures.ts';
+import { pricesCsv } from '../helpers/files.ts';
 
 interface RunRow {
   run_id: number;

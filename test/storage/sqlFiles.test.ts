@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { openDatabase, type Database } from '../../src/storage/database.ts';
-import { applyMigrations, applyViews, listSqlFiles } from '../../src/storage/sqlFiles.ts';
+import { applyMigrations, applyViews, LAYERS, listLadder, listMigrations } from '../../src/storage/sqlFiles.ts';
 import { memoryLogger } from '../../src/log/logger.ts';
 
 function folder(files: Record<string, string>): string {
@@ -17,11 +17,50 @@ describe('the ordered SQL runner', () => {
   let db: Database | undefined;
   afterEach(() => db?.close());
 
-  it('sorts view files by number and refuses a name of another shape', () => {
-    const ok = folder({ '020_b_second.sql': '', '010_a_first.sql': '' });
-    expect(listSqlFiles(ok, 'view').map((f) => f.name)).toEqual(['a_first', 'b_second']);
-    expect(() => listSqlFiles(folder({ 'weights.sql': '' }), 'view')).toThrow(/weights\.sql: not a view file name/);
-    expect(() => listSqlFiles(folder({ '010_a_x.sql': '', '010_a_y.sql': '' }), 'view')).toThrow(/share a number/);
+  it('sorts the ladder by number and names each step\'s kind and object', () => {
+    const ok = folder({
+      '020_clean_view_snapshots.sql': 'create or replace view clean_snapshots as select * from derived_snapshots',
+      '010_clean_stored_snapshots.sql': 'insert into derived_snapshots select 1',
+    });
+    expect(listLadder(ok).map((s) => [s.file, s.layer, s.kind, s.object])).toEqual([
+      ['010_clean_stored_snapshots.sql', 'clean', 'stored', 'derived_snapshots'],
+      ['020_clean_view_snapshots.sql', 'clean', 'view', 'clean_snapshots'],
+    ]);
+  });
+
+  it('refuses a ladder whose names do not hold what they promise', () => {
+    const view = (name: string) => `create or replace view ${name} as select 1`;
+    expect(() => listLadder(folder({ '010_clean_prices.sql': view('clean_prices') }))).toThrow(/010_clean_prices\.sql: not a ladder step file name/);
+    expect(() => listLadder(folder({ '010_clean_view_x.sql': view('clean_x'), '010_clean_view_y.sql': view('clean_y') }))).toThrow(/share a number/);
+    expect(() => listLadder(folder({ '010_tidy_view_x.sql': view('tidy_x') }))).toThrow(/unknown layer "tidy"/);
+    expect(() => listLadder(folder({ '010_value_view_x.sql': view('value_x'), '020_clean_view_y.sql': view('clean_y') }))).toThrow(
+      /020_clean_view_y\.sql: layer clean comes before value/,
+    );
+    expect(() => listLadder(folder({ '010_clean_view_x.sql': view('other') }))).toThrow(/must create or replace view clean_x/);
+    expect(() => listLadder(folder({ '010_clean_stored_x.sql': 'insert into derived_y select 1' }))).toThrow(/must insert into derived_x/);
+    expect(() =>
+      listLadder(
+        folder({
+          '010_clean_stored_x.sql': '-- backs clean_y\ninsert into derived_x select * from clean_y',
+          '020_clean_view_y.sql': view('clean_y'),
+        }),
+      ),
+    ).toThrow(/010_clean_stored_x\.sql: reads clean_y, which a later step defines \(020_clean_view_y\.sql\)/);
+  });
+
+  it('holds the project\'s ladder in layer order, both kinds present', () => {
+    const steps = listLadder();
+    expect(new Set(steps.map((s) => s.layer))).toEqual(new Set(LAYERS));
+    expect(steps.filter((s) => s.kind === 'stored').map((s) => s.object)).toEqual([
+      'derived_snapshots',
+      'derived_valuation_dates',
+      'derived_aligned_prices',
+      'derived_aligned_fx',
+    ]);
+  });
+
+  it('refuses a migration name of another shape', () => {
+    expect(() => listMigrations(folder({ '001_first.sql': '' }))).toThrow(/001_first\.sql: not a migration file name/);
   });
 
   it('applies each migration once and records its version', async () => {
@@ -45,14 +84,20 @@ describe('the ordered SQL runner', () => {
     expect(await db.all('select version from schema_version')).toEqual([{ version: 1 }]);
   });
 
-  it('names the view that failed and requires the view to be named after its file', async () => {
+  it('names the view that failed and applies only the view steps', async () => {
     db = await openDatabase(':memory:');
     const { log } = memoryLogger();
-    await expect(applyViews(db, log, folder({ '010_a_first.sql': 'create or replace view a_first as select * from nowhere' }))).rejects.toThrow(
-      'view 010_a_first.sql failed',
+    await expect(applyViews(db, log, folder({ '010_clean_view_first.sql': 'create or replace view clean_first as select * from nowhere' }))).rejects.toThrow(
+      'view 010_clean_view_first.sql failed',
     );
-    await expect(applyViews(db, log, folder({ '010_a_first.sql': 'create or replace view other as select 1' }))).rejects.toThrow(
-      /must create or replace view a_first/,
+    await applyViews(
+      db,
+      log,
+      folder({
+        '010_clean_stored_first.sql': 'insert into derived_first select * from nowhere',
+        '020_clean_view_first.sql': 'create or replace view clean_first as select 1 as x',
+      }),
     );
+    expect(await db.all('select x from clean_first')).toEqual([{ x: 1 }]);
   });
 });

@@ -1,13 +1,14 @@
 import { afterEach, describe, expect, it } from 'vitest';
-import { expectRowsClose, insertFx, insertPositions, insertPrices, insertSecurities, openTestWorkspace, type TestWorkspace } from './workspace.ts';
+import { expectRowsClose, insertFx, insertPositions, insertPrices, insertSecurities } from '../helpers/rawRows.ts';
+import { defaultsWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
-let ws: TestWorkspace;
-afterEach(() => ws.close());
+let ws: TempWorkspace;
+afterEach(() => ws.cleanup());
 
 // 2024-03-04 is a Monday; the week runs to Friday 2024-03-08.
 describe('align_valuation_dates', () => {
   it('counts only dates on which a held security has a price', async () => {
-    ws = await openTestWorkspace();
+    ws = await defaultsWorkspace();
     await insertPositions(ws.db, 1, [
       ['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100],
       ['2024-03-04', 'acct-growth', 'CASH:USD', 500],
@@ -34,7 +35,7 @@ describe('align_valuation_dates', () => {
   });
 
   it('sees a security held by one portfolio while another portfolio\'s later snapshot has dropped it', async () => {
-    ws = await openTestWorkspace();
+    ws = await defaultsWorkspace();
     // acct-income holds EQ-SALTMARSH from Monday on (one snapshot, still in effect);
     // acct-growth holds it on Tuesday only. On Thursday only acct-income's holding counts.
     await insertPositions(ws.db, 1, [['2024-03-04', 'acct-income', 'EQ-SALTMARSH', 5]]);
@@ -47,7 +48,7 @@ describe('align_valuation_dates', () => {
 
 describe('align_prices', () => {
   it('carries a price across one market\'s holiday, flagged stale, while the other market stays daily', async () => {
-    ws = await openTestWorkspace({ risk: { maxStaleDays: 2 } });
+    ws = await defaultsWorkspace({ risk: { maxStaleDays: 2 } });
     await insertSecurities(ws.db, 1, [['EQ-NORDWIND', 'Nordwind Turbines', 'equity', 'EUR']]);
     await insertPositions(ws.db, 2, [
       ['2024-03-04', 'acct-growth', 'EQ-NORDWIND', 10],
@@ -82,7 +83,7 @@ describe('align_prices', () => {
   });
 
   it('leaves the price null once it is older than max_stale_days valuation dates', async () => {
-    ws = await openTestWorkspace({ risk: { maxStaleDays: 2 } });
+    ws = await defaultsWorkspace({ risk: { maxStaleDays: 2 } });
     await insertPositions(ws.db, 1, [
       ['2024-03-04', 'acct-growth', 'EQ-NORDWIND', 10],
       ['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100],
@@ -104,7 +105,7 @@ describe('align_prices', () => {
   });
 
   it('takes the currency from the price row, else the securities table, else the base currency', async () => {
-    ws = await openTestWorkspace({ baseCurrency: 'CHF' });
+    ws = await defaultsWorkspace({ baseCurrency: 'CHF' });
     await insertSecurities(ws.db, 1, [
       ['EQ-NORDWIND', null, null, 'EUR'],
       ['EQ-FJORDLINE', null, null, 'EUR'],
@@ -129,7 +130,7 @@ describe('align_prices', () => {
 
 describe('align_fx', () => {
   it('carries a rate like a price, nulls it past the limit, and gives the base currency rate 1 on every date', async () => {
-    ws = await openTestWorkspace({ risk: { maxStaleDays: 1 } });
+    ws = await defaultsWorkspace({ risk: { maxStaleDays: 1 } });
     await insertPositions(ws.db, 1, [['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 1]]);
     await insertPrices(ws.db, 2, ['04', '05', '06'].map((day) => [`2024-03-${day}`, 'EQ-SALTMARSH', 10, null]));
     await insertFx(ws.db, 3, [

@@ -1,11 +1,12 @@
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { insertFx, insertPositions, insertPrices, insertSecurities, openTestWorkspace, type TestWorkspace } from './workspace.ts';
+import { insertFx, insertPositions, insertPrices, insertSecurities } from '../helpers/rawRows.ts';
+import { defaultsWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
-let ws: TestWorkspace;
+let ws: TempWorkspace;
 beforeEach(async () => {
-  ws = await openTestWorkspace();
+  ws = await defaultsWorkspace();
 });
-afterEach(() => ws.close());
+afterEach(() => ws.cleanup());
 
 describe('clean_prices', () => {
   it('takes the latest delivery of a corrected price and keeps the earlier row in the raw table', async () => {

@@ -1,8 +1,9 @@
 import { afterEach, describe, expect, it } from 'vitest';
-import { insertFx, insertPositions, insertPrices, openTestWorkspace, type TestWorkspace } from './workspace.ts';
+import { insertFx, insertPositions, insertPrices } from '../helpers/rawRows.ts';
+import { defaultsWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
-let ws: TestWorkspace;
-afterEach(() => ws.close());
+let ws: TempWorkspace;
+afterEach(() => ws.cleanup());
 
 interface Problem {
   portfolio_id: string;
@@ -19,7 +20,7 @@ const week = ['04', '05', '06', '07', '08'].map((day) => `2024-03-${day}`);
 
 describe('check_data_quality', () => {
   it('flags a price carried within the limit as stale_price and past it as stale_past_limit', async () => {
-    ws = await openTestWorkspace({ risk: { maxStaleDays: 2, windows: [2] } });
+    ws = await defaultsWorkspace({ risk: { maxStaleDays: 2, windows: [2] } });
     await insertPositions(ws.db, 1, [
       ['2024-03-04', 'acct-growth', 'EQ-NORDWIND', 10],
       ['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100],
@@ -47,7 +48,7 @@ describe('check_data_quality', () => {
   });
 
   it('flags a held security without any price and a held currency without a rate', async () => {
-    ws = await openTestWorkspace({ risk: { maxStaleDays: 1, windows: [2] } });
+    ws = await defaultsWorkspace({ risk: { maxStaleDays: 1, windows: [2] } });
     await insertPositions(ws.db, 1, [
       ['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100],
       ['2024-03-04', 'acct-growth', 'BD-KESTREL-28', 5],
@@ -66,7 +67,7 @@ describe('check_data_quality', () => {
   });
 
   it('flags a held security whose return history is shorter than the longest window', async () => {
-    ws = await openTestWorkspace({ risk: { windows: [2, 3] } });
+    ws = await defaultsWorkspace({ risk: { windows: [2, 3] } });
     await insertPositions(ws.db, 1, [['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100]]);
     // EQ-NORDWIND is priced from Monday but only bought on Thursday
     await insertPositions(ws.db, 2, [
@@ -84,7 +85,7 @@ describe('check_data_quality', () => {
   });
 
   it('flags a snapshot whose portfolio value is zero or negative', async () => {
-    ws = await openTestWorkspace({ risk: { windows: [2] } });
+    ws = await defaultsWorkspace({ risk: { windows: [2] } });
     await insertPositions(ws.db, 1, [
       ['2024-03-04', 'acct-hedge', 'EQ-SALTMARSH', 100],
       ['2024-03-04', 'acct-hedge', 'CASH:USD', -1500],
@@ -102,7 +103,7 @@ describe('check_data_quality', () => {
   });
 
   it('reports nothing once a fully priced portfolio has a full window of returns', async () => {
-    ws = await openTestWorkspace({ risk: { windows: [2] } });
+    ws = await defaultsWorkspace({ risk: { windows: [2] } });
     await insertPositions(ws.db, 1, [['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100]]);
     await insertPrices(ws.db, 2, week.map((d, i) => [d, 'EQ-SALTMARSH', 10 + i, null]));
     // Monday has no return and Tuesday one: short of 2; from Wednesday on nothing to report

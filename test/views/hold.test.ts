@@ -1,12 +1,13 @@
 import { afterEach, describe, expect, it } from 'vitest';
-import { insertPositions, insertPrices, openTestWorkspace, type TestWorkspace } from './workspace.ts';
+import { insertPositions, insertPrices } from '../helpers/rawRows.ts';
+import { defaultsWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
-let ws: TestWorkspace;
-afterEach(() => ws.close());
+let ws: TempWorkspace;
+afterEach(() => ws.cleanup());
 
 describe('hold_daily_positions', () => {
   it('carries each snapshot to the next one, drops zero quantities and a security the next snapshot leaves out', async () => {
-    ws = await openTestWorkspace();
+    ws = await defaultsWorkspace();
     await insertPositions(ws.db, 1, [
       ['2024-03-04', 'acct-growth', 'EQ-NORDWIND', 10],
       ['2024-03-04', 'acct-growth', 'BD-KESTREL-28', 5],

@@ -1,23 +1,12 @@
 import { afterEach, describe, expect, it } from 'vitest';
-import { randomDeliveries, type Deliveries } from './randomScenario.ts';
-import { referenceViews } from './referenceModel.ts';
-import { openTestWorkspace, type TestWorkspace } from './workspace.ts';
-import type { Database } from '../../src/storage/database.ts';
+import { randomDeliveries } from './randomScenario.ts';
+import { insertDeliveries } from '../helpers/rawRows.ts';
+import { referenceViews } from '../helpers/referenceViews.ts';
+import { defaultsWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 import { refreshDerived } from '../../src/storage/derived.ts';
 
-let ws: TestWorkspace;
-afterEach(() => ws.close());
-
-async function load(db: Database, raw: Deliveries): Promise<void> {
-  const insert = async (table: string, columns: string, rows: unknown[][]) => {
-    for (const row of rows) await db.run(`insert into ${table} (${columns}) values (${row.map((_, i) => `$${i + 1}`).join(', ')})`, row as never);
-  };
-  await insert('prices', 'file_id, line, date, security_id, price, currency', raw.prices.map((r) => [r.fileId, r.line, r.date, r.securityId, r.price, r.currency]));
-  await insert('positions', 'file_id, line, date, portfolio_id, security_id, quantity', raw.positions.map((r) => [r.fileId, r.line, r.date, r.portfolioId, r.securityId, r.quantity]));
-  await insert('fx_rates', 'file_id, line, date, currency, rate', raw.fx.map((r) => [r.fileId, r.line, r.date, r.currency, r.rate]));
-  await insert('securities', 'file_id, line, security_id, currency', raw.securities.map((r) => [r.fileId, r.line, r.securityId, r.currency]));
-  await refreshDerived(db);
-}
+let ws: TempWorkspace;
+afterEach(() => ws.cleanup());
 
 /** Same keys, and each value equal (null to null) or within 1e-12 relative. */
 function expectSameNumbers(actual: Map<string, number | null>, expected: Map<string, number | null>, what: string): void {
@@ -30,13 +19,14 @@ function expectSameNumbers(actual: Map<string, number | null>, expected: Map<str
 }
 
 // Source: an independent day-by-day re-implementation of SPEC §3-§4 in plain TypeScript
-// (test/views/referenceModel.ts), with simple-statistics' sum for portfolio values.
+// (test/helpers/referenceViews.ts), with simple-statistics' sum for portfolio values.
 describe('the views against an independent computation from the raw rows', () => {
   for (const seed of [7, 2024, 31337]) {
     it(`agree on valuation dates, values, weights and returns (random scenario, seed ${seed})`, async () => {
-      ws = await openTestWorkspace({ baseCurrency: 'USD', risk: { maxStaleDays: 2, windows: [5] } });
+      ws = await defaultsWorkspace({ baseCurrency: 'USD', risk: { maxStaleDays: 2, windows: [5] } });
       const raw = randomDeliveries(seed);
-      await load(ws.db, raw);
+      await insertDeliveries(ws.db, raw);
+      await refreshDerived(ws.db);
       const want = referenceViews(raw, 'USD', 2);
 
       const dates = await ws.db.all<{ date: string }>('select date from align_valuation_dates order by date_index');

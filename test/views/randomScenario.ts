@@ -1,31 +1,11 @@
+import { businessDays } from '../../src/demo/market.ts';
+import { createRandom } from '../../src/demo/random.ts';
+import type { Deliveries, PriceRow } from '../helpers/rawRows.ts';
+
 /**
  * A random but reproducible scenario of raw deliveries (invented ids), with holidays,
  * corrections, superseded snapshots, foreign currencies, fx gaps and cash.
  */
-
-export interface PriceRow { fileId: number; line: number; date: string; securityId: string; price: number; currency: string | null }
-export interface PositionRow { fileId: number; line: number; date: string; portfolioId: string; securityId: string; quantity: number }
-export interface FxRow { fileId: number; line: number; date: string; currency: string; rate: number }
-export interface SecurityRow { fileId: number; line: number; securityId: string; currency: string | null }
-
-export interface Deliveries {
-  prices: PriceRow[];
-  positions: PositionRow[];
-  fx: FxRow[];
-  securities: SecurityRow[];
-}
-
-/** mulberry32: a small seeded generator, so a failing seed can be replayed. */
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 // securities: [id, currency in the securities table, currency on the price rows, chance of a price on a weekday]
 const UNIVERSE: [string, string | null, string | null, number][] = [
@@ -39,14 +19,14 @@ const UNIVERSE: [string, string | null, string | null, number][] = [
 ];
 const PORTFOLIOS = ['acct-growth', 'acct-income', 'acct-balanced'];
 
-export function randomDeliveries(seed: number, calendarDays = 40): Deliveries {
-  const random = seeded(seed);
+/** Deliveries over `tradingDays` weekdays from Monday 2024-01-01; a failing seed can be replayed. */
+export function randomDeliveries(seed: number, tradingDays = 30): Deliveries {
+  const { uniform: random } = createRandom(seed);
   const out: Deliveries = { prices: [], positions: [], fx: [], securities: [] };
   let fileId = 1;
   out.securities = UNIVERSE.map(([securityId, currency], i) => ({ fileId, line: i + 1, securityId, currency }));
 
-  const days = Array.from({ length: calendarDays }, (_, i) => new Date(Date.UTC(2024, 0, 1 + i)));
-  const weekdays = days.filter((d) => d.getUTCDay() !== 0 && d.getUTCDay() !== 6).map((d) => d.toISOString().slice(0, 10));
+  const weekdays = businessDays('2024-01-01', tradingDays);
   const level = new Map(UNIVERSE.map(([id]) => [id, 20 + random() * 80]));
   const fxLevel = new Map([['EUR', 1.1], ['GBP', 1.27]]);
   const corrections: Omit<PriceRow, 'fileId' | 'line'>[] = [];

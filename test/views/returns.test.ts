@@ -1,12 +1,13 @@
 import { afterEach, describe, expect, it } from 'vitest';
-import { expectRowsClose, insertFx, insertPositions, insertPrices, openTestWorkspace, type TestWorkspace } from './workspace.ts';
+import { expectRowsClose, insertFx, insertPositions, insertPrices } from '../helpers/rawRows.ts';
+import { defaultsWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
-let ws: TestWorkspace;
-afterEach(() => ws.close());
+let ws: TempWorkspace;
+afterEach(() => ws.cleanup());
 
 describe('ret_securities', () => {
   it('gives the base-currency log return of a EUR security from its price and fx moves', async () => {
-    ws = await openTestWorkspace();
+    ws = await defaultsWorkspace();
     await insertPositions(ws.db, 1, [['2024-03-04', 'acct-growth', 'EQ-NORDWIND', 10]]);
     await insertPrices(ws.db, 2, [
       ['2024-03-04', 'EQ-NORDWIND', 20, 'EUR'],
@@ -32,7 +33,7 @@ describe('ret_securities', () => {
   });
 
   it('has no return where either price is missing, and no rows for cash', async () => {
-    ws = await openTestWorkspace({ risk: { maxStaleDays: 0 } });
+    ws = await defaultsWorkspace({ risk: { maxStaleDays: 0 } });
     await insertPositions(ws.db, 1, [
       ['2024-03-04', 'acct-growth', 'EQ-NORDWIND', 10],
       ['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 10],
@@ -55,7 +56,7 @@ describe('ret_securities', () => {
 
 describe('ret_portfolios', () => {
   it('comes from the holdings, so a cash deposit moves the value but not the return', async () => {
-    ws = await openTestWorkspace();
+    ws = await defaultsWorkspace();
     await insertPositions(ws.db, 1, [
       ['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100],
       ['2024-03-04', 'acct-growth', 'CASH:USD', 1000],
@@ -83,7 +84,7 @@ describe('ret_portfolios', () => {
   });
 
   it('is null when a position held at t-1 has no return, keeping covered_weight for diagnosis', async () => {
-    ws = await openTestWorkspace({ risk: { maxStaleDays: 0 } });
+    ws = await defaultsWorkspace({ risk: { maxStaleDays: 0 } });
     await insertPositions(ws.db, 1, [
       ['2024-03-04', 'acct-growth', 'EQ-NORDWIND', 10],
       ['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 30],
@@ -103,7 +104,7 @@ describe('ret_portfolios', () => {
   });
 
   it('has no row on a portfolio\'s first date, and converts foreign holdings at both dates\' rates', async () => {
-    ws = await openTestWorkspace();
+    ws = await defaultsWorkspace();
     await insertPositions(ws.db, 1, [['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 10]]);
     // acct-euro starts on Tuesday with a EUR share and EUR cash
     await insertPositions(ws.db, 2, [

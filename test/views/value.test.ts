@@ -1,8 +1,9 @@
 import { afterEach, describe, expect, it } from 'vitest';
-import { expectRowsClose, insertFx, insertPositions, insertPrices, openTestWorkspace, type TestWorkspace } from './workspace.ts';
+import { expectRowsClose, insertFx, insertPositions, insertPrices } from '../helpers/rawRows.ts';
+import { defaultsWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
-let ws: TestWorkspace;
-afterEach(() => ws.close());
+let ws: TempWorkspace;
+afterEach(() => ws.cleanup());
 
 // One date, base USD: a EUR share, EUR cash, a USD share and USD cash.
 async function mixedCurrencyPortfolio(extra: (string | number | null)[][] = []): Promise<void> {
@@ -22,7 +23,7 @@ async function mixedCurrencyPortfolio(extra: (string | number | null)[][] = []):
 
 describe('value_positions', () => {
   it('converts a EUR price with the fx rate and values cash at 1 in its currency', async () => {
-    ws = await openTestWorkspace();
+    ws = await defaultsWorkspace();
     await mixedCurrencyPortfolio();
     const rows = await ws.db.all(
       'select security_id, currency, is_cash, price_local, fx_rate, price_base, value_base, price_status from value_positions order by security_id',
@@ -37,7 +38,7 @@ describe('value_positions', () => {
   });
 
   it('leaves the value null with status missing_fx when a currency has no rate, and missing_price without a price', async () => {
-    ws = await openTestWorkspace();
+    ws = await defaultsWorkspace();
     await mixedCurrencyPortfolio([
       ['2024-03-04', 'acct-growth', 'CASH:GBP', 50],
       ['2024-03-04', 'acct-growth', 'BD-KESTREL-28', 3],
@@ -60,7 +61,7 @@ describe('value_positions', () => {
 
 describe('value_portfolios and value_weights', () => {
   it('include cash in the value, so the weights sum to 1', async () => {
-    ws = await openTestWorkspace();
+    ws = await defaultsWorkspace();
     await mixedCurrencyPortfolio();
     // 220 + 110 + 1000 + 70 = 1400
     const [portfolio] = await ws.db.all<{ value_base: number; n_positions: number; n_unpriced: number }>(
@@ -80,7 +81,7 @@ describe('value_portfolios and value_weights', () => {
   });
 
   it('give no weights when the portfolio value is zero', async () => {
-    ws = await openTestWorkspace();
+    ws = await defaultsWorkspace();
     // a long and an equal short cancel out
     await insertPositions(ws.db, 1, [
       ['2024-03-04', 'acct-hedge', 'EQ-SALTMARSH', 100],

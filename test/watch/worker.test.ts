@@ -6,7 +6,8 @@ import { openDatabase } from '../../src/storage/database.ts';
 import { startWorker, type Worker } from '../../src/watch/runWorker.ts';
 import { pidFilePath } from '../../src/watch/workerPidFile.ts';
 import { waitFor } from '../helpers/wait.ts';
-import { pricesCsv, workerDir, type WorkerDir } from './fixtures.ts';
+import { pricesCsv } from '../helpers/files.ts';
+import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
 
 type Line = Record<string, unknown>;
 

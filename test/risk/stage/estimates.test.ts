@@ -3,29 +3,18 @@ import * as ss from 'simple-statistics';
 import { describe, expect, it } from 'vitest';
 import { createRandom } from '../../../src/demo/random.ts';
 import { EwmaEstimate } from '../../../src/risk/ewmaEstimate.ts';
-import { seriesLayouts, type ReturnPanel } from '../../../src/risk/inputs.ts';
+import type { ReturnPanel } from '../../../src/risk/inputs.ts';
 import { chooseSamplePath, SampleEstimate, SLIDING_REFRESH, slidingStartRow } from '../../../src/risk/sampleEstimate.ts';
+import { randomReturnPanel } from '../../helpers/returnPanel.ts';
 
 /** T x N returns with a few holes (NaN) and one late starter, laid out as inputs.ts does. */
 function panel(t: number, n: number, seed = 7): ReturnPanel {
-  const random = createRandom(seed);
-  const returns = new Float64Array(t * n);
-  for (let d = 0; d < t; d++) {
-    const market = 0.01 * random.normal();
-    for (let j = 0; j < n; j++) {
-      const missing = d === 0 || (j === 1 && d >= 300 && d < 303) || (j === n - 1 && d < 350);
-      returns[d * n + j] = missing ? Number.NaN : 0.0004 + market * (0.5 + j / n) + 0.012 * random.normal();
-    }
-  }
-  const { returnsBySecurity, runLength } = seriesLayouts(returns, t, n);
-  return {
-    dates: Array.from({ length: t }, (_, d) => `d${d}`),
-    securityIds: Array.from({ length: n }, (_, j) => `EQ-TEST-${j}`),
-    isCash: new Uint8Array(n),
-    returns,
-    returnsBySecurity,
-    runLength,
-  };
+  return randomReturnPanel(createRandom(seed), t, n, {
+    drift: 0.0004,
+    loading: (j) => 0.5 + j / n,
+    missing: (d, j) => d === 0 || (j === 1 && d >= 300 && d < 303) || (j === n - 1 && d < 350),
+    securityId: (j) => `EQ-TEST-${j}`,
+  });
 }
 
 const column = (p: ReturnPanel, j: number, from: number, to: number) => Array.from(p.returnsBySecurity.subarray(j * p.dates.length + from, j * p.dates.length + to + 1));

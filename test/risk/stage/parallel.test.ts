@@ -2,9 +2,10 @@ import { afterEach, describe, expect, it } from 'vitest';
 import type { ConfigInput } from '../../../src/config/schema.ts';
 import { computeRisk, PARALLEL_MIN_COST, threadsFor, type ComputeInputs } from '../../../src/risk/computeRisk.ts';
 import { EwmaEstimate } from '../../../src/risk/ewmaEstimate.ts';
-import { readPortfolioPanel, readReturnPanel, seriesLayouts } from '../../../src/risk/inputs.ts';
+import { readPortfolioPanel, readReturnPanel } from '../../../src/risk/inputs.ts';
 import { DAILY_FIGURE_COUNT, type ResultBatch } from '../../../src/risk/resultColumns.ts';
 import { createRandom } from '../../../src/demo/random.ts';
+import { randomReturnPanel } from '../../helpers/returnPanel.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
 import { buildScenario, loadDays, RISK } from './scenario.ts';
 
@@ -34,17 +35,13 @@ function rowsOf(batches: ResultBatch[]): string[] {
  */
 function wideInputs(t = 420, n = 40): ComputeInputs {
   const random = createRandom(99);
-  const returns = new Float64Array(t * n);
-  for (let d = 0; d < t; d++) {
-    const market = 0.01 * random.normal();
-    for (let j = 0; j < n; j++) {
-      const missing = d === 0 || j === 0 || (j === 3 && d >= 200 && d < 204) || (j === 7 && d < 260);
-      returns[d * n + j] = missing ? Number.NaN : market * (0.4 + j / n) + 0.012 * random.normal();
-    }
-  }
-  const { returnsBySecurity, runLength } = seriesLayouts(returns, t, n);
-  const isCash = new Uint8Array(n);
-  isCash[0] = 1;
+  const returns = randomReturnPanel(random, t, n, {
+    drift: 0,
+    loading: (j) => 0.4 + j / n,
+    missing: (d, j) => d === 0 || j === 0 || (j === 3 && d >= 200 && d < 204) || (j === 7 && d < 260),
+    securityId: (j) => (j === 0 ? 'CASH:USD' : `EQ-WIDE-${j}`),
+  });
+  returns.isCash[0] = 1;
   const ids = ['acct-alder', 'acct-birch', 'acct-cedar'];
   const slots = ids.length * t;
   const offsets = new Int32Array(slots + 1);
@@ -64,7 +61,7 @@ function wideInputs(t = 420, n = 40): ComputeInputs {
     }
   }
   return {
-    returns: { dates: Array.from({ length: t }, (_, d) => `d${d}`), securityIds: Array.from({ length: n }, (_, j) => (j === 0 ? 'CASH:USD' : `EQ-WIDE-${j}`)), isCash, returns, returnsBySecurity, runLength },
+    returns,
     portfolios: {
       ids,
       firstRow: 0,

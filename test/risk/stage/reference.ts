@@ -1,12 +1,13 @@
 import * as ss from 'simple-statistics';
-import type { Scenario } from './scenario.ts';
+import { referenceViews } from '../../helpers/referenceViews.ts';
+import { scenarioDeliveries, type Scenario } from './scenario.ts';
 
 /**
- * An independent computation of the risk tables straight from the scenario's raw
- * arrays, written plainly from SPEC section 4 (carry prices forward, value, weigh, take
- * log returns, then two-pass statistics from simple-statistics, the general-purpose
- * reference library). It shares no code with src/: agreement checks the views and the
- * risk stage together.
+ * An independent computation of the risk tables straight from the scenario's raw rows:
+ * the views' reference model (test/helpers/referenceViews.ts: carry prices forward,
+ * value, weigh, take returns) and then, written plainly from SPEC section 4, log returns
+ * and two-pass statistics from simple-statistics, the general-purpose reference library.
+ * It shares no code with src/: agreement checks the views and the risk stage together.
  */
 
 export interface ReferenceOptions {
@@ -46,59 +47,26 @@ const isCash = (id: string) => id.startsWith('CASH:');
 
 export function referenceRisk(s: Scenario, o: ReferenceOptions): ReferenceRow[] {
   const T = s.dates.length;
-  const currencyOf = (id: string) => (isCash(id) ? id.slice(5) : s.securities.find((x) => x.id === id)!.currency);
-  const fx = (ccy: string, d: number) => (ccy === 'USD' ? 1 : s.eurUsd[d]);
-
-  // last delivered price on or before d, carried at most maxStaleDays valuation dates
-  const carried = (id: string, d: number): { price: number | null; staleDays: number } => {
-    for (let u = d; u >= 0; u--) {
-      const p = s.prices[id][u];
-      if (p !== null) return { price: d - u <= o.maxStaleDays ? p : null, staleDays: d - u };
-    }
-    return { price: null, staleDays: 0 };
-  };
-  const priceBase = (id: string, d: number): number | null => {
-    if (isCash(id)) return fx(currencyOf(id), d);
-    const { price } = carried(id, d);
-    return price === null ? null : price * fx(currencyOf(id), d);
-  };
-  const logReturn = (id: string, d: number): number | null => {
-    if (d < 1) return null;
-    const a = priceBase(id, d - 1);
-    const b = priceBase(id, d);
-    return a === null || b === null ? null : Math.log(b / a);
-  };
-  const holdings = (p: string, d: number): Record<string, number> | null => {
-    const snaps = s.snapshots.filter((x) => x.portfolio === p && x.day <= d).sort((a, b) => b.day - a.day);
-    return snaps.length ? snaps[0].quantities : null;
-  };
+  const views = referenceViews(scenarioDeliveries(s, 0, T - 1), 'USD', o.maxStaleDays);
+  if (views.valuationDates.join() !== s.dates.join()) throw new Error('every scenario date must be a valuation date');
+  // the reference's positions by portfolio and date: security -> weight and whether its price is carried
+  const positions = new Map<string, Map<string, { weight: number | null; priceStale: boolean }>>();
+  for (const [key, position] of views.weights) {
+    const cut = key.lastIndexOf('|');
+    const bySecurity = positions.get(key.slice(0, cut)) ?? new Map();
+    positions.set(key.slice(0, cut), bySecurity.set(key.slice(cut + 1), position));
+  }
+  const at = (p: string, d: number) => `${p}|${s.dates[d]}`;
+  const logReturn = (id: string, d: number): number | null => views.securityLogReturns.get(`${id}|${s.dates[d]}`) ?? null;
   // weights at the close of d, or null when some position has no value
   const weightsAt = (p: string, d: number): { value: number; w: Map<string, number> } | null => {
-    const h = holdings(p, d);
-    if (h === null) return null;
-    let value = 0;
-    const values = new Map<string, number>();
-    for (const [id, q] of Object.entries(h)) {
-      const pb = isCash(id) ? fx(currencyOf(id), d) : priceBase(id, d);
-      if (pb === null) return null;
-      values.set(id, q * pb);
-      value += q * pb;
-    }
-    return { value, w: new Map([...values].map(([id, v]) => [id, v / value])) };
+    const value = views.portfolioValues.get(at(p, d));
+    if (value === undefined || value === null) return null;
+    return { value, w: new Map([...positions.get(at(p, d))!].map(([id, x]) => [id, x.weight!])) };
   };
   const portfolioLogReturn = (p: string, d: number): number | null => {
-    if (d < 1 || holdings(p, d - 1) === null) return null;
-    const before = weightsAt(p, d - 1);
-    if (before === null) return null;
-    let R = 0;
-    for (const [id, w] of before.w) {
-      if (isCash(id)) continue; // cash earns nothing (SPEC section 3)
-      const a = priceBase(id, d - 1);
-      const b = priceBase(id, d);
-      if (a === null || b === null) return null;
-      R += w * (b / a - 1);
-    }
-    return Math.log(1 + R);
+    const simple = views.portfolioReturns.get(at(p, d))?.simpleReturn;
+    return simple === undefined || simple === null ? null : Math.log(1 + simple);
   };
   const series = (id: string, d: number, W: number): number[] | null => {
     const out: number[] = [];
@@ -115,11 +83,11 @@ export function referenceRisk(s: Scenario, o: ReferenceOptions): ReferenceRow[] 
   const ewma = o.ewma ? ewmaReference(s, logReturn, o.ewma.lambda, o.ewma.seedDays) : null;
   for (const p of portfolios) {
     for (let d = 0; d < T; d++) {
-      const h = holdings(p, d);
-      if (h === null) continue;
+      const held = positions.get(at(p, d));
+      if (held === undefined) continue;
       const now = weightsAt(p, d);
       // stale: a carried price; past maxStaleDays the price is missing, not stale
-      const stale = Object.keys(h).some((id) => !isCash(id) && carried(id, d).price !== null && carried(id, d).staleDays > 0);
+      const stale = [...held.values()].some((x) => x.priceStale);
       for (const W of [...o.windows, ...(ewma ? [0] : [])]) {
         const estimator = W === 0 ? 'ewma' : 'sample';
         let w = now?.w ?? null;

@@ -2,6 +2,7 @@ import { businessDays } from '../../../src/demo/market.ts';
 import { createRandom } from '../../../src/demo/random.ts';
 import type { ConfigInput } from '../../../src/config/schema.ts';
 import type { Database } from '../../../src/storage/database.ts';
+import { insertDeliveries, type Deliveries } from '../../helpers/rawRows.ts';
 
 /**
  * A seeded scenario of invented securities and accounts for the risk-stage tests: base
@@ -89,33 +90,31 @@ export function buildScenario(days = 230, seed = 20240102): Scenario {
 }
 
 /**
- * Inserts the raw rows of days [fromDay, toDay] as if one file per table per day had
- * arrived (file_id grows with the day), plus the securities reference once.
+ * The raw rows of days [fromDay, toDay] as if one file per table per day had arrived
+ * (file_id grows with the day), plus the securities reference with day 0.
  */
-export async function loadDays(db: Database, s: Scenario, fromDay: number, toDay: number): Promise<void> {
-  if (fromDay === 0) {
-    const rows = s.securities.map((sec, i) => `(1, ${i + 1}, '${sec.id}', null, null, '${sec.currency}')`);
-    await db.run(`insert into securities values ${rows.join(', ')}`);
-  }
-  const prices: string[] = [];
-  const fx: string[] = [];
-  const positions: string[] = [];
+export function scenarioDeliveries(s: Scenario, fromDay: number, toDay: number): Deliveries {
+  const out: Deliveries = { prices: [], positions: [], fx: [], securities: [] };
+  if (fromDay === 0) out.securities = s.securities.map((sec, i) => ({ fileId: 1, line: i + 1, securityId: sec.id, currency: sec.currency }));
   for (let d = fromDay; d <= toDay; d++) {
     const date = s.dates[d];
     const fileId = 10 * (d + 1);
     s.securities.forEach((sec, i) => {
-      const p = s.prices[sec.id][d];
-      if (p !== null) prices.push(`(${fileId}, ${i + 1}, '${date}', '${sec.id}', ${p}, '${sec.currency}')`);
+      const price = s.prices[sec.id][d];
+      if (price !== null) out.prices.push({ fileId, line: i + 1, date, securityId: sec.id, price, currency: sec.currency });
     });
-    fx.push(`(${fileId + 1}, 1, '${date}', 'EUR', ${s.eurUsd[d]})`);
+    out.fx.push({ fileId: fileId + 1, line: 1, date, currency: 'EUR', rate: s.eurUsd[d] });
     for (const snap of s.snapshots.filter((x) => x.day === d)) {
-      Object.entries(snap.quantities).forEach(([id, q], i) => positions.push(`(${fileId + 2}, ${i + 1}, '${date}', '${snap.portfolio}', '${id}', ${q})`));
+      Object.entries(snap.quantities).forEach(([securityId, quantity], i) =>
+        out.positions.push({ fileId: fileId + 2, line: i + 1, date, portfolioId: snap.portfolio, securityId, quantity }),
+      );
     }
   }
-  if (prices.length) await db.run(`insert into prices values ${prices.join(', ')}`);
-  if (fx.length) await db.run(`insert into fx_rates values ${fx.join(', ')}`);
-  if (positions.length) await db.run(`insert into positions values ${positions.join(', ')}`);
+  return out;
 }
+
+/** Inserts the raw rows of days [fromDay, toDay] (see scenarioDeliveries). */
+export const loadDays = (db: Database, s: Scenario, fromDay: number, toDay: number) => insertDeliveries(db, scenarioDeliveries(s, fromDay, toDay));
 
 /** A later delivery for one price (a correction): a higher file_id supersedes the earlier row. */
 export async function correctPrice(db: Database, s: Scenario, securityId: string, day: number, price: number): Promise<void> {

@@ -1,7 +1,7 @@
 -- Each currency on each valuation date from its first rate on: the last rate on or
 -- before the date, carried for at most max_stale_days valuation dates like prices, then
 -- null. The base currency has rate 1 on every valuation date. The carried rates are
--- stored (sql/derived/040); the settings apply here.
+-- stored (step 110); the settings apply here.
 create or replace view align_fx as
 with settings as (
   select base_currency, max_stale_days

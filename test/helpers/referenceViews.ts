@@ -1,15 +1,16 @@
 import { sum } from 'simple-statistics';
-import type { Deliveries } from './randomScenario.ts';
+import type { Deliveries } from './rawRows.ts';
 
 /**
  * An independent, deliberately plain re-computation of the view definitions (SPEC §3-§4)
- * from the raw rows: loops over dates and maps, no SQL. The views are checked against it.
+ * from the raw rows: loops over dates and maps, no SQL. The views are checked against it,
+ * and the risk stage's reference (test/risk/stage/reference.ts) builds on it.
  */
 
 export interface ReferenceResult {
   valuationDates: string[];
-  /** key `portfolio|date|security` */
-  weights: Map<string, { valueBase: number | null; weight: number | null }>;
+  /** key `portfolio|date|security`; priceStale: a carried (not same-day) price within max_stale_days */
+  weights: Map<string, { valueBase: number | null; weight: number | null; priceStale: boolean }>;
   /** key `portfolio|date` */
   portfolioValues: Map<string, number | null>;
   /** key `security|date` */
@@ -61,12 +62,16 @@ export function referenceViews(raw: Deliveries, baseCurrency: string, maxStaleDa
   const valuationDates = [...new Set(prices.filter((p) => !isCash(p.securityId) && heldOn(p.securityId, p.date)).map((p) => p.date))].sort();
 
   // the last observation on or before valuation date k, if not more than maxStaleDays valuation dates old
-  const carried = <T extends { date: string }>(series: T[], k: number): { row: T; usable: boolean } | undefined => {
+  const carried = <T extends { date: string }>(series: T[], k: number): { row: T; usable: boolean; staleDays: number } | undefined => {
     const date = valuationDates[k];
     const row = series.filter((r) => r.date <= date).sort((a, b) => (a.date < b.date ? 1 : -1))[0];
     if (!row) return undefined;
     const staleDays = valuationDates.filter((d) => d > row.date && d <= date).length;
-    return { row, usable: staleDays <= maxStaleDays };
+    return { row, usable: staleDays <= maxStaleDays, staleDays };
+  };
+  const priceStale = (security: string, k: number) => {
+    const c = isCash(security) ? undefined : carried(prices.filter((p) => p.securityId === security), k);
+    return c !== undefined && c.usable && c.staleDays > 0;
   };
   const priceLocal = (security: string, k: number) => {
     const c = carried(prices.filter((p) => p.securityId === security), k);
@@ -126,7 +131,7 @@ export function referenceViews(raw: Deliveries, baseCurrency: string, maxStaleDa
       for (const [s, v] of values) {
         const weight = total === null || total === 0 || v === null ? null : v / total;
         weights.set(s, weight);
-        result.weights.set(`${portfolio}|${date}|${s}`, { valueBase: v, weight });
+        result.weights.set(`${portfolio}|${date}|${s}`, { valueBase: v, weight, priceStale: priceStale(s, k) });
       }
       if (previous && previous.k === k - 1) {
         let simple = 0;

@@ -1,6 +1,6 @@
 -- One row per position snapshot (portfolio + date): the file that delivered it last, and
 -- the date it is replaced by the portfolio's next snapshot (held_until, null while it is
--- the latest). Stored by src/storage/derived.ts (defined in sql/derived/010): every view
+-- the latest). Stored by step 020 (src/storage/derived.ts fills it): every view
 -- below reads it, and a 25M-row aggregate per reference was the cost.
 create or replace view clean_snapshots as
 with stored as (

@@ -1,7 +1,7 @@
 -- Each ever-held security on each valuation date from its first price on: the last price
 -- on or before the date. Carrying a price across one market's holiday keeps the other
 -- markets' returns daily; past max_stale_days valuation dates the price is left null
--- (history missing), never guessed. The carried prices are stored (sql/derived/030);
+-- (history missing), never guessed. The carried prices are stored (step 090);
 -- the settings and reference data apply here, so a changed config needs no rebuild.
 create or replace view align_prices as
 with settings as (

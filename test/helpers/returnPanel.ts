@@ -1,0 +1,34 @@
+import type { Random } from '../../src/demo/random.ts';
+import { seriesLayouts, type ReturnPanel } from '../../src/risk/inputs.ts';
+
+export interface PanelShape {
+  /** Daily drift added to every return. */
+  drift: number;
+  /** Security j's loading on the common market move (daily sd 1%). */
+  loading: (j: number) => number;
+  /** Where a return is missing (NaN): holes, late listings, row 0. */
+  missing: (d: number, j: number) => boolean;
+  securityId: (j: number) => string;
+}
+
+/**
+ * T x N invented daily log returns with a common market move, so the columns are
+ * correlated as daily returns are (1.2% idiosyncratic sd), laid out as the risk stage
+ * reads them (dates d0, d1, ...; no cash: the caller marks it).
+ */
+export function randomReturnPanel(random: Random, t: number, n: number, shape: PanelShape): ReturnPanel {
+  const returns = new Float64Array(t * n);
+  for (let d = 0; d < t; d++) {
+    const market = 0.01 * random.normal();
+    for (let j = 0; j < n; j++) {
+      returns[d * n + j] = shape.missing(d, j) ? Number.NaN : shape.drift + market * shape.loading(j) + 0.012 * random.normal();
+    }
+  }
+  return {
+    dates: Array.from({ length: t }, (_, d) => `d${d}`),
+    securityIds: Array.from({ length: n }, (_, j) => shape.securityId(j)),
+    isCash: new Uint8Array(n),
+    returns,
+    ...seriesLayouts(returns, t, n),
+  };
+}
