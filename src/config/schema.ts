@@ -160,6 +160,27 @@ const scheduleSchema = z
   })
   .strict();
 
+/** DuckDB's own size syntax (a number and a unit), checked here so a typo is a config error, not a failed start. */
+const byteSize = z
+  .string()
+  .regex(/^\d+(\.\d+)?\s*([KMGTkmgt][iI]?)?[Bb]$/, 'a size such as "1GB" or "512MiB"');
+
+export const ENGINE_DEFAULTS = { memoryLimit: '1GB' } as const;
+
+const engineSchema = z
+  .object({
+    memoryLimit: byteSize
+      .default(ENGINE_DEFAULTS.memoryLimit)
+      .describe('DuckDB memory_limit: past it DuckDB spills to <database>.tmp/ instead of growing (its own default is 80% of RAM).'),
+    threads: z
+      .number()
+      .int()
+      .positive()
+      .optional()
+      .describe('DuckDB threads; default: one per core. Lower it when the worker shares the machine.'),
+  })
+  .strict();
+
 export const configSchema = z
   .object({
     $schema: z.string().optional(),
@@ -185,6 +206,7 @@ export const configSchema = z
     limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),
     alerts: alertsSchema.default({ maxAgeDays: 5 }),
     schedule: scheduleSchema.default(scheduleSchema.parse({})),
+    engine: engineSchema.default(ENGINE_DEFAULTS),
   })
   .strict()
   .superRefine((cfg, ctx) => {
