@@ -2,11 +2,20 @@
 -- log_return = ln(P_base_t / P_base_t-1) with P_base = price_local * fx_rate (base
 -- currency), log_return_local the same in the security's own currency. Null when either
 -- side is missing. Cash has no rows: its return is zero by definition.
-create or replace view ret_securities as
-with prices as (
+-- ret_securities_since(first_date_index): the returns from that valuation date on, read
+-- from the prices of the date before it on.
+create or replace macro ret_securities_since(first_date_index) as table
+with rates as (
+  select currency, date, rate, is_stale
+  from align_fx
+  where date_index >= first_date_index - 1
+),
+
+prices as (
   select a.security_id, a.date, a.date_index, a.price_local, a.is_stale as price_is_stale, f.rate as fx_rate, f.is_stale as fx_is_stale
   from align_prices a
-  left join align_fx f on f.currency = a.currency and f.date = a.date
+  left join rates f on f.currency = a.currency and f.date = a.date
+  where a.date_index >= first_date_index - 1
 ),
 
 -- align_prices has a row for every valuation date from a security's first price on,
@@ -39,7 +48,10 @@ returns as (
     price_base,
     prev_price_base
   from paired
-  where prev_date_index is not null
+  where prev_date_index is not null and date_index >= first_date_index
 )
 
 select * from returns;
+
+create or replace view ret_securities as
+select * from ret_securities_since(1);

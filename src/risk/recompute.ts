@@ -3,10 +3,10 @@ import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
 import type { Database } from '../storage/database.ts';
-import { computeRisk, progressUnits } from './computeRisk.ts';
+import { computeRisk, firstReturnRow, progressUnits } from './computeRisk.ts';
 import type { EwmaState } from './ewmaEstimate.ts';
 import { loadEwmaState, saveEwmaState } from './ewmaState.ts';
-import { readPortfolioPanel, readReturnPanel } from './inputs.ts';
+import { readPortfolioPanel, readReturnPanel, readValuationDates } from './inputs.ts';
 import { startProgress } from './progress.ts';
 import { dropStaging, replaceResults, ResultStage } from './staging.ts';
 
@@ -52,17 +52,21 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
   rlog.info({ runId, trigger: request.trigger, from, portfolios: scope }, 'recompute started');
   const phases = phaseClock();
   try {
-    const returns = await phases.time('read_returns', () => readReturnPanel(db));
-    const dates = returns.dates;
+    const dates = await phases.time('read_dates', () => readValuationDates(db));
     const fromRow = from === null ? 0 : firstRowOnOrAfter(dates, from);
+    const { ewma } = config.risk;
+    const ewmaState = ewma.enabled ? await phases.time('load_ewma_state', () => loadEwmaState(db, ewma, dates, fromRow)) : null;
+    const returnsFromRow = firstReturnRow(config, fromRow, ewmaState);
+    const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, returnsFromRow));
     const longest = Math.max(...config.risk.windows);
     const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, Math.max(0, fromRow - longest + 1), scope));
     for (const id of scope ?? []) {
       if (!portfolios.ids.includes(id)) rlog.warn({ runId, portfolio: id }, 'no positions for this portfolio: nothing to compute');
     }
-    const { ewma } = config.risk;
-    const ewmaState = ewma.enabled ? await phases.time('load_ewma_state', () => loadEwmaState(db, ewma, dates, fromRow)) : null;
-    rlog.debug({ runId, fromRow, dates: dates.length, securities: returns.securityIds.length, ewmaFromState: ewmaState !== null }, 'inputs read');
+    rlog.debug(
+      { runId, fromRow, returnsFromRow, dates: dates.length, securities: returns.securityIds.length, ewmaFromState: ewmaState !== null },
+      'inputs read',
+    );
 
     const stage = await ResultStage.open(db);
     const progress = startProgress(rlog, progressUnits(config, dates.length, fromRow), 'recompute');

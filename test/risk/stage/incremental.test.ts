@@ -58,6 +58,33 @@ describe('recompute: incremental runs', () => {
     expect(runs.map((r) => r.n)).toEqual([last - 5 + 1, 1, 1, 1, 1, 1]);
   });
 
+  it('a new day on a long history reads returns only from its windows reach, with the figures of a full recompute', async () => {
+    // 560 dates: past two sliding refreshes (every 256 rows), so the reach is well after row 0
+    const s = buildScenario(560);
+    const last = s.dates.length - 1;
+    const daily = await workspace();
+    await loadDays(daily.db, s, 0, last - 1);
+    await recompute(daily.db, daily.config, daily.log, { trigger: 'test' });
+    await loadDays(daily.db, s, last, last);
+    await recompute(daily.db, daily.config, daily.log, { trigger: 'test', from: s.dates[last] });
+    const full = await workspace();
+    await loadDays(full.db, s, 0, last);
+    await recompute(full.db, full.config, full.log, { trigger: 'test' });
+
+    // windows 21 and 63: the sliding state restarts from row 256 (its last exact refresh
+    // before row 559 needs rows 448..511); the EWMA continues from its state, seeding
+    // needs 10 rows; so rows 256 on, not the 559 before
+    const reads = daily.logLines().filter((l) => l.msg === 'inputs read');
+    expect(reads.map((l) => [l.fromRow, l.returnsFromRow, l.ewmaFromState])).toEqual([
+      [0, 0, false],
+      [last, 256, true],
+    ]);
+    expectSameRows(await readDaily(daily.db), await readDaily(full.db), AGREE);
+    expectSameRows(await readStats(daily.db), await readStats(full.db), AGREE);
+    expectSameRows(await readContributions(daily.db), await readContributions(full.db), AGREE);
+    expect(await readEwmaState(daily.db)).toEqual(await readEwmaState(full.db));
+  });
+
   it('redoing the last date (a same-day correction) continues the EWMA from the state of the day before, with the same rows', async () => {
     const s = buildScenario();
     const ws = await workspace();
@@ -121,7 +148,7 @@ describe('recompute: incremental runs', () => {
     await loadDays(ws.db, s, 0, s.dates.length - 1);
     await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     const before = await readDaily(ws.db);
-    await ws.db.run('drop view ret_portfolios');
+    await ws.db.run('drop macro table ret_portfolios_since');
     await expect(recompute(ws.db, ws.config, ws.log, { trigger: 'broken', from: s.dates[100] })).rejects.toThrow(/ret_portfolios/);
     const [run] = await ws.db.all<{ status: string; error: string }>('select status, error from risk_runs order by run_id desc limit 1');
     expect(run.status).toBe('failed');
