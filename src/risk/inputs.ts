@@ -107,11 +107,17 @@ export function seriesLayouts(returns: Float64Array, t: number, n: number): Pick
   return { returnsBySecurity, runLength };
 }
 
+/** First date rows a run reads: portfolio returns (realized figures over a window) and holdings (from the first output row, or a window earlier to average weights). */
+export interface PortfolioRows {
+  returns: number;
+  holdings: number;
+}
+
 /** The portfolios in scope (null: every portfolio with a position), sorted by id. */
 export async function readPortfolioPanel(
   db: Database,
   dateCount: number,
-  firstRow: number,
+  firstRows: PortfolioRows,
   portfolios: readonly string[] | null,
 ): Promise<PortfolioPanel> {
   // ids bound as JSON: DuckDB cannot type an empty JS list
@@ -136,7 +142,7 @@ export async function readPortfolioPanel(
     db,
     `select p.k, r.date_index, r.log_return::double
      from ret_portfolios_since($1) r join risk_in_portfolios p using (portfolio_id)`,
-    [firstRow + 1],
+    [firstRows.returns + 1],
     { k: 'int', date_index: 'int', log_return: 'double' },
   );
   for (let i = 0; i < returns.rows; i++) {
@@ -160,7 +166,7 @@ export async function readPortfolioPanel(
      -- left: a holding missing from the securities read is a fault (a null j fails the read), never dropped
      left join risk_in_securities s using (security_id)
      order by p.k, w.date_index, j`,
-    [firstRow + 1],
+    [firstRows.holdings + 1],
     { k: 'int', date_index: 'int', j: 'int', weight: 'double', value_base: 'double', is_stale: 'bool' },
     (c, n) => {
       if (rows + n > security.length) {
@@ -187,7 +193,7 @@ export async function readPortfolioPanel(
   }
   return {
     ids,
-    firstRow,
+    firstRow: firstRows.holdings,
     present,
     value,
     unpriced,

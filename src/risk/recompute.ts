@@ -59,7 +59,10 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
     const returnsFromRow = firstReturnRow(config, fromRow, ewmaState);
     const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, returnsFromRow));
     const longest = Math.max(...config.risk.windows);
-    const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, Math.max(0, fromRow - longest + 1), scope));
+    const windowStart = Math.max(0, fromRow - longest + 1);
+    // holdings before the first output row serve only to average weights over a window
+    const firstRows = { returns: windowStart, holdings: config.risk.weights === 'window_average' ? windowStart : fromRow };
+    const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, firstRows, scope));
     for (const id of scope ?? []) {
       if (!portfolios.ids.includes(id)) rlog.warn({ runId, portfolio: id }, 'no positions for this portfolio: nothing to compute');
     }

@@ -2,7 +2,9 @@ import { afterEach, describe, expect, it } from 'vitest';
 import { RiskfoldError } from '../../../src/errors.ts';
 import { recompute } from '../../../src/risk/recompute.ts';
 import type { Database } from '../../../src/storage/database.ts';
+import { refreshDerived } from '../../../src/storage/derived.ts';
 import { applyViews } from '../../../src/storage/sqlFiles.ts';
+import { insertRows } from '../../helpers/rawRows.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
 import { expectSameRows, readDaily, type DailyRow } from './compare.ts';
 import { buildScenario, correctPrice, loadDays, RISK } from './scenario.ts';
@@ -119,6 +121,40 @@ describe('recompute: incremental runs', () => {
 
     await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     expectSameRows(after, await readDaily(ws.db), AGREE);
+  });
+
+  it('an fx correction and a positions correction mid-history, each refreshed and recomputed from its date, equal a rebuild and full recompute', async () => {
+    const s = buildScenario();
+    const ws = await workspace();
+    await loadDays(ws.db, s, 0, s.dates.length - 1);
+    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    const before = await readDaily(ws.db);
+
+    await insertRows(ws.db, 'fx_rates', ['date', 'currency', 'rate'], [[100001, 1, s.dates[80], 'EUR', s.eurUsd[80] * 1.02]]);
+    await refreshDerived(ws.db, ws.log);
+    await recompute(ws.db, ws.config, ws.log, { trigger: 'fx correction', from: s.dates[80] });
+    // a later snapshot file for acct-growth on day 60: other quantities, one holding gone
+    const corrected = { 'EQ-NORDWIND': 1300, 'EQ-QUILLON': 1200, 'CASH:USD': 15000 };
+    const rows = Object.entries(corrected).map(([security, quantity], i) => [100002, i + 1, s.dates[60], 'acct-growth', security, quantity]);
+    await insertRows(ws.db, 'positions', ['date', 'portfolio_id', 'security_id', 'quantity'], rows);
+    await refreshDerived(ws.db, ws.log);
+    await recompute(ws.db, ws.config, ws.log, { trigger: 'positions correction', from: s.dates[60], portfolios: ['acct-growth'] });
+    const refreshes = ws.logLines().filter((l) => l.msg === 'derived tables refreshed').map((l) => [l.mode, l.from]);
+    expect(refreshes.slice(-2)).toEqual([
+      ['from', s.dates[80]],
+      ['from', s.dates[60]],
+    ]);
+    const after = { daily: await readDaily(ws.db), stats: await readStats(ws.db), contributions: await readContributions(ws.db) };
+    // both corrections moved figures: a test that cannot fail would compare equal tables
+    expect(after.daily.filter((r, i) => r.portfolio_value !== before[i].portfolio_value).length).toBeGreaterThan(100);
+
+    await ws.db.run('delete from derived_state');
+    await refreshDerived(ws.db, ws.log);
+    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    expect(ws.logLines().filter((l) => l.msg === 'derived tables refreshed').at(-1)?.mode).toBe('full');
+    expectSameRows(after.daily, await readDaily(ws.db), AGREE);
+    expectSameRows(after.stats, await readStats(ws.db), AGREE);
+    expectSameRows(after.contributions, await readContributions(ws.db), AGREE);
   });
 
   it('a run for one portfolio leaves the other portfolios rows untouched', async () => {

@@ -1,0 +1,105 @@
+import { afterEach, describe, expect, it } from 'vitest';
+import type { Database } from '../../src/storage/database.ts';
+import { refreshDerived } from '../../src/storage/derived.ts';
+import { insertRows } from '../helpers/rawRows.ts';
+import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
+import { buildScenario, correctPrice, loadDays } from '../risk/stage/scenario.ts';
+
+// A refresh from the earliest delivered date must leave the derived tables exactly as a
+// rebuild from the raw tables would: they hold copied prices, rates, dates and counts,
+// no arithmetic, so equal means equal (no tolerance).
+const TABLES: Record<string, string> = {
+  derived_snapshots: 'portfolio_id, snapshot_date',
+  derived_held_securities: 'security_id',
+  derived_valuation_dates: 'date',
+  derived_aligned_prices: 'security_id, date',
+  derived_aligned_fx: 'currency, date',
+};
+
+async function derivedRows(db: Database): Promise<Record<string, unknown[]>> {
+  const out: Record<string, unknown[]> = {};
+  for (const [table, keys] of Object.entries(TABLES)) out[table] = await db.all(`select * from ${table} order by ${keys}`);
+  return out;
+}
+
+/** Refreshes (as the worker would after a delivery), then checks the result against a full rebuild of the same raw rows. */
+async function expectRefreshEqualsRebuild(db: Database, mode: 'from' | 'full', from?: string): Promise<void> {
+  const refresh = await refreshDerived(db);
+  expect(refresh.mode).toBe(mode);
+  if (from !== undefined) expect(refresh.from).toBe(from);
+  const incremental = await derivedRows(db);
+  await db.run('delete from derived_state');
+  expect((await refreshDerived(db)).mode).toBe('full');
+  const rebuilt = await derivedRows(db);
+  for (const table of Object.keys(TABLES)) expect(incremental[table], table).toEqual(rebuilt[table]);
+  expect(rebuilt.derived_aligned_prices.length).toBeGreaterThan(500);
+}
+
+/** A later positions file replacing one portfolio's snapshot of that day. */
+async function correctSnapshot(db: Database, fileId: number, date: string, portfolio: string, quantities: Record<string, number>): Promise<void> {
+  const rows = Object.entries(quantities).map(([security, quantity], i) => [fileId, i + 1, date, portfolio, security, quantity]);
+  await insertRows(db, 'positions', ['date', 'portfolio_id', 'security_id', 'quantity'], rows);
+}
+
+describe('refreshDerived from the earliest delivered date', () => {
+  let ws: TempWorkspace | null = null;
+  afterEach(() => {
+    ws?.cleanup();
+    ws = null;
+  });
+
+  it('appends new days (prices, fx, a new snapshot) exactly as a rebuild would', async () => {
+    ws = await tempWorkspace();
+    const s = buildScenario();
+    await loadDays(ws.db, s, 0, 140);
+    await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[0]);
+    // one day, then another, a week at once, then days inside EQ-FERNHOLT's gap of
+    // prices (170..176: carried in from before the refresh date)
+    for (const [first, last] of [[141, 141], [142, 142], [143, 150], [151, 171], [172, 172]]) {
+      await loadDays(ws.db, s, first, last);
+      await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[first]);
+    }
+    // nothing delivered: nothing to do
+    expect((await refreshDerived(ws.db)).mode).toBe('current');
+  });
+
+  it('redoes from a price corrected in the middle of history, and from an fx rate corrected there', async () => {
+    ws = await tempWorkspace();
+    const s = buildScenario();
+    await loadDays(ws.db, s, 0, s.dates.length - 1);
+    await refreshDerived(ws.db);
+    await correctPrice(ws.db, s, 'EQ-QUILLON', 99, (s.prices['EQ-QUILLON'][99] as number) * 1.05);
+    await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[99]);
+    await insertRows(ws.db, 'fx_rates', ['date', 'currency', 'rate'], [[100001, 1, s.dates[80], 'EUR', s.eurUsd[80] * 1.01]]);
+    await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[80]);
+  });
+
+  it('redoes from a corrected snapshot: a security first held there gets its whole price history, and loses it when a later correction drops it', async () => {
+    ws = await tempWorkspace();
+    const s = buildScenario();
+    await loadDays(ws.db, s, 0, s.dates.length - 1);
+    // priced from day 0 but held by nobody: no carried prices yet
+    const newcomer = s.dates.map((date, d) => [300000, d + 1, date, 'EQ-HALYARD', 50 + d / 10, 'USD']);
+    await insertRows(ws.db, 'prices', ['date', 'security_id', 'price', 'currency'], newcomer);
+    await refreshDerived(ws.db);
+    expect(await ws.db.all(`select count(*)::integer as n from derived_aligned_prices where security_id = 'EQ-HALYARD'`)).toEqual([{ n: 0 }]);
+
+    const growth90 = { 'EQ-NORDWIND': 1100, 'EQ-SALTMARSH': 1000, 'EQ-QUILLON': 1700, 'CASH:USD': 9000 };
+    await correctSnapshot(ws.db, 200001, s.dates[90], 'acct-growth', { ...growth90, 'EQ-HALYARD': 300 });
+    await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[90]);
+    const halyard = () =>
+      ws!.db.all<{ n: number; first: string | null }>(
+        `select count(*)::integer as n, min(date)::varchar as first from derived_aligned_prices where security_id = 'EQ-HALYARD'`,
+      );
+    expect((await halyard())[0].first).toBe(s.dates[0]);
+
+    await correctSnapshot(ws.db, 200002, s.dates[90], 'acct-growth', growth90);
+    await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[90]);
+    expect((await halyard())[0].n).toBe(0);
+
+    // a delivery taken out again is no append: a full rebuild
+    await ws.db.run('delete from positions where file_id = 200002');
+    await expectRefreshEqualsRebuild(ws.db, 'full');
+    expect((await halyard())[0].first).toBe(s.dates[0]);
+  });
+});
