@@ -8,6 +8,7 @@ import type { Database } from '../storage/database.ts';
 import { publishReadCopy } from '../storage/workspace.ts';
 import { mergeScope, triggerFor, uncoveredFiles, type RecomputeScope } from './recomputeScope.ts';
 import { runRecompute, type RecomputeRequest, type RunSummary } from './runRecompute.ts';
+import { changedSettings, describeChange, resultSettings, type SettingChange } from './runSettings.ts';
 
 export interface BatchOptions {
   /**
@@ -31,6 +32,8 @@ export interface BatchSummary {
   /** Files not processed: gone from the inbox before their turn, or left for the next start after a stop. */
   skipped: string[];
   scope: RecomputeScope | null;
+  /** Settings that differ from those the stored results were made with: the run was widened to the full history. */
+  settingChanges: SettingChange[];
   run: RunSummary | null;
   /** The recompute failed; its files stay uncovered and the next batch or start retries them. */
   runError: string | null;
@@ -52,7 +55,7 @@ export async function runBatch(
   options: BatchOptions = {},
 ): Promise<BatchSummary> {
   const blog = log.child({ stage: 'batch' });
-  const summary: BatchSummary = { files: [], skipped: [], scope: null, run: null, runError: null, delivery: null };
+  const summary: BatchSummary = { files: [], skipped: [], scope: null, settingChanges: [], run: null, runError: null, delivery: null };
 
   for (const file of files) {
     if (options.shouldStop?.()) {
@@ -72,7 +75,11 @@ export async function runBatch(
   }
 
   summary.scope = mergeScope(summary.files, await uncoveredFiles(db));
-  const request = options.recompute ?? requestFor(summary);
+  let request = options.recompute ?? requestFor(summary);
+  // stored results made under other settings would mix with new rows: recompute them all
+  summary.settingChanges = await changedSettings(db, resultSettings(config));
+  for (const change of summary.settingChanges) blog.warn({ ...change }, describeChange(change));
+  if (summary.settingChanges.length > 0) request = { trigger: request?.trigger ?? 'settings', from: null, portfolios: null };
   if (request) {
     try {
       summary.run = await runRecompute(db, config, log, request);

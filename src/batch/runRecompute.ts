@@ -7,6 +7,7 @@ import { dropStaging } from '../risk/staging.ts';
 import type { Database } from '../storage/database.ts';
 import { refreshDerived } from '../storage/derived.ts';
 import { markRunDone, markRunFailed, startRun } from './runRecord.ts';
+import { resultSettings } from './runSettings.ts';
 import { RUN_WRITERS, type RunContext, type RunWriter } from './runWriters.ts';
 
 export interface RecomputeRequest {
@@ -32,7 +33,7 @@ export interface RunSummary {
 
 /**
  * One run, from `from` on (earlier rows stay as they are) for the given portfolios:
- * records a risk_runs row, refreshes the derived tables, computes risk into staging
+ * records a risk_runs row (with the settings that shape its results), refreshes the derived tables, computes risk into staging
  * tables, then in ONE transaction runs every writer (risk rows, estimator state, limits
  * and their alerts in the outbox) and marks the run done. A failure marks the run
  * failed and rethrows; nothing of it is visible. Delivering and publishing are the
@@ -49,15 +50,16 @@ export async function runRecompute(
   const from = request.from ?? null;
   if (from !== null) requireIsoDate(from);
   const portfolios = request.portfolios ?? null;
-  const runId = await startRun(db, { trigger: request.trigger, from, portfolios });
+  const settings = JSON.stringify(resultSettings(config));
+  const runId = await startRun(db, { trigger: request.trigger, from, portfolios, settings });
   const rlog = log.child({ stage: 'batch', runId });
   rlog.info({ trigger: request.trigger, from, portfolios }, 'recompute started');
   const phases = phaseClock();
   try {
     // an explicit step: the readers of the views never rebuild what they read
     await phases.time('refresh_derived', () => refreshDerived(db, log));
-    const risk = await computeRun(db, config, log, { runId, from, portfolios }, phases);
-    const run: RunContext = { runId, from, portfolios, trigger: request.trigger, config, log, risk, alertsRaised: 0 };
+    const risk = await computeRun(db, config, log, { runId, from, portfolios, settings }, phases);
+    const run: RunContext = { runId, from, portfolios, settings, trigger: request.trigger, config, log, risk, alertsRaised: 0 };
     await db.transaction(async () => {
       for (const writer of writers) await phases.time(writer.name, () => writer.write(db, run));
       await markRunDone(db, runId, risk.riskRows);

@@ -10,13 +10,16 @@ export interface RunStart {
   trigger: string;
   from: string | null;
   portfolios: readonly string[] | null;
+  /** JSON of the settings that shape the results (runSettings.ts). */
+  settings: string;
 }
 
 /** Records the start of a run; returns its run_id. */
 export async function startRun(db: Database, run: RunStart): Promise<number> {
   const [{ run_id: runId }] = await db.all<{ run_id: number }>(
-    `insert into risk_runs (trigger, from_date, portfolios, status) values ($1, $2::date, from_json($3, '["VARCHAR"]'), 'running') returning run_id`,
-    [run.trigger, run.from, run.portfolios === null ? null : JSON.stringify(run.portfolios)],
+    `insert into risk_runs (trigger, from_date, portfolios, status, settings)
+     values ($1, $2::date, from_json($3, '["VARCHAR"]'), 'running', $4::json) returning run_id`,
+    [run.trigger, run.from, run.portfolios === null ? null : JSON.stringify(run.portfolios), run.settings],
   );
   return runId;
 }

@@ -37,7 +37,7 @@ export const RUN_WRITERS: readonly RunWriter[] = [
   },
   {
     name: 'save_ewma_state',
-    write: (tx, run) => saveEwmaState(tx, run.config.risk.ewma, run.risk.dates, run.risk.ewmaStates, run.runId),
+    write: (tx, run) => saveEwmaState(tx, run.config.risk.ewma, run.risk.dates, run.risk.ewmaStates, run.runId, run.settings),
   },
   {
     name: 'limits',

@@ -16,6 +16,8 @@ export interface RiskScope {
   from: string | null;
   /** null: every portfolio. */
   portfolios: string[] | null;
+  /** JSON of the settings the run's results are made with: stored EWMA state is continued only if made with the same. */
+  settings: string;
 }
 
 /** What the compute left for the write step: rows in the staging tables, the EWMA states to keep. */
@@ -47,7 +49,7 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
     if (!portfolios.ids.includes(id)) rlog.warn({ portfolio: id }, 'no positions for this portfolio: nothing to compute');
   }
   const { ewma } = config.risk;
-  const ewmaState = ewma.enabled ? await phases.time('load_ewma_state', () => loadEwmaState(db, ewma, dates, fromRow)) : null;
+  const ewmaState = ewma.enabled ? await phases.time('load_ewma_state', () => loadEwmaState(db, ewma, dates, fromRow, scope.settings)) : null;
   rlog.debug({ fromRow, dates: dates.length, securities: returns.securityIds.length, ewmaFromState: ewmaState !== null }, 'inputs read');
 
   const stage = await ResultStage.open(db);

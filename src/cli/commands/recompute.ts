@@ -1,6 +1,7 @@
 import type { Command } from 'commander';
 import { runBatch } from '../../batch/runBatch.ts';
 import { requireIsoDate, type RunSummary } from '../../batch/runRecompute.ts';
+import { describeChange } from '../../batch/runSettings.ts';
 import { openWorkspace } from '../../storage/workspace.ts';
 import { contextFrom, withConfigOption } from '../context.ts';
 
@@ -25,6 +26,7 @@ export function registerRecompute(program: Command): void {
     try {
       const portfolios = opts.portfolio.length > 0 ? [...new Set(opts.portfolio)] : null;
       const batch = await runBatch(db, config, log, [], { recompute: { trigger: 'recompute', from: opts.from ?? null, portfolios } });
+      for (const change of batch.settingChanges) process.stdout.write(`${describeChange(change)}\n`);
       if (batch.run === null) throw new Error(`recompute failed: ${batch.runError}`);
       process.stdout.write(`${describeRun(batch.run)}\n`);
     } finally {
