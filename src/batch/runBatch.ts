@@ -6,6 +6,7 @@ import type { Config } from '../config/load.ts';
 import { ingestFile, type IngestOutcome } from '../ingest/ingestFile.ts';
 import type { Database } from '../storage/database.ts';
 import { publishReadCopy } from '../storage/workspace.ts';
+import { markInterruptedRuns } from './runRecord.ts';
 import { mergeScope, triggerFor, uncoveredFiles, type RecomputeScope } from './recomputeScope.ts';
 import { runRecompute, type RecomputeRequest, type RunSummary } from './runRecompute.ts';
 import { changedSettings, describeChange, resultSettings, type SettingChange } from './runSettings.ts';
@@ -56,6 +57,9 @@ export async function runBatch(
 ): Promise<BatchSummary> {
   const blog = log.child({ stage: 'batch' });
   const summary: BatchSummary = { files: [], skipped: [], scope: null, settingChanges: [], run: null, runError: null, delivery: null };
+
+  const interrupted = await markInterruptedRuns(db);
+  if (interrupted.length > 0) blog.warn({ runIds: interrupted }, `run ${interrupted.join(', ')} marked interrupted: the process ended during it`);
 
   for (const file of files) {
     if (options.shouldStop?.()) {

@@ -6,7 +6,7 @@ import { computeRun } from '../risk/computeRun.ts';
 import { dropStaging } from '../risk/staging.ts';
 import type { Database } from '../storage/database.ts';
 import { refreshDerived } from '../storage/derived.ts';
-import { markRunDone, markRunFailed, startRun } from './runRecord.ts';
+import { markRunDone, recordRunFailure, startRun } from './runRecord.ts';
 import { resultSettings } from './runSettings.ts';
 import { RUN_WRITERS, type RunContext, type RunWriter } from './runWriters.ts';
 
@@ -36,7 +36,7 @@ export interface RunSummary {
  * records a risk_runs row (with the settings that shape its results), refreshes the derived tables, computes risk into staging
  * tables, then in ONE transaction runs every writer (risk rows, estimator state, limits
  * and their alerts in the outbox) and marks the run done. A failure marks the run
- * failed and rethrows; nothing of it is visible. Delivering and publishing are the
+ * failed, raises a `run_failed` alert and rethrows; none of its results are visible. Delivering and publishing are the
  * batch's, after this returns.
  */
 export async function runRecompute(
@@ -77,9 +77,10 @@ export async function runRecompute(
     rlog.info({ ...summary }, 'recompute done');
     return summary;
   } catch (err) {
-    const message = err instanceof Error ? err.message : String(err);
-    await markRunFailed(db, runId, message).catch((markErr: unknown) => rlog.error({ err: markErr }, 'could not mark the run failed'));
     rlog.error({ err }, 'recompute failed');
+    await recordRunFailure(db, { runId, trigger: request.trigger, from, portfolios, settings }, err).catch((markErr: unknown) =>
+      rlog.error({ err: markErr }, 'could not record the failed run'),
+    );
     throw err;
   } finally {
     await dropStaging(db).catch(() => undefined);

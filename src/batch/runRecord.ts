@@ -1,9 +1,11 @@
+import { insertAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
 
 /**
  * The risk_runs row of a run: written `running` before any work, marked `done` inside
  * the run's write transaction (so a run is done exactly when its results are
- * committed), or `failed` with the error after a rollback.
+ * committed), or `failed` with the error after a rollback, or `interrupted` when the
+ * process ended during it.
  */
 
 export interface RunStart {
@@ -29,7 +31,51 @@ export async function markRunDone(tx: Database, runId: number, riskRows: number)
   await tx.run(`update risk_runs set status = 'done', finished_at = now(), risk_rows = $2 where run_id = $1`, [runId, riskRows]);
 }
 
-/** After the rollback, outside any transaction. */
-export async function markRunFailed(db: Database, runId: number, message: string): Promise<void> {
-  await db.run(`update risk_runs set status = 'failed', finished_at = now(), error = $2 where run_id = $1`, [runId, message]);
+/**
+ * After the rollback: the run marked failed and a `run_failed` alert in the outbox, in
+ * one transaction. A failed run leaves figures behind the data, so operations are told
+ * through the same channels as a breach, not only by a log line.
+ */
+export async function recordRunFailure(db: Database, run: RunStart & { runId: number }, err: unknown): Promise<void> {
+  const error = oneLine(err);
+  await db.transaction(async () => {
+    await db.run(`update risk_runs set status = 'failed', finished_at = now(), error = $2 where run_id = $1`, [run.runId, error]);
+    await insertAlert(db, {
+      alertId: `run-failed-${run.runId}`,
+      kind: 'run_failed',
+      portfolioId: null,
+      asOf: null,
+      runId: run.runId,
+      payload: {
+        level: 'breach',
+        episode_state: 'open',
+        run_id: run.runId,
+        trigger: run.trigger,
+        from_date: run.from,
+        portfolios: run.portfolios,
+        error,
+        text: `run ${run.runId} (${run.trigger}) failed, risk figures are not up to date: ${error}`,
+      },
+    });
+  });
+}
+
+/**
+ * Runs still `running` are marked `interrupted`; returns their ids. Only one process
+ * writes the database (DuckDB's lock) and its batches run one at a time, so a run
+ * `running` when a batch starts was left by a process that ended during it.
+ */
+export async function markInterruptedRuns(db: Database): Promise<number[]> {
+  const rows = await db.all<{ run_id: number }>(
+    `update risk_runs set status = 'interrupted', finished_at = now(), error = 'the process ended during the run'
+     where status = 'running' returning run_id`,
+  );
+  return rows.map((r) => r.run_id);
+}
+
+/** The error's message (and its cause's) on one line: it goes into a table cell, an alert and a status line. */
+function oneLine(err: unknown): string {
+  const message = err instanceof Error ? err.message : String(err);
+  const cause = err instanceof Error && err.cause instanceof Error ? `: ${err.cause.message}` : '';
+  return `${message}${cause}`.replace(/\s*[\r\n]+\s*/g, ' ').trim();
 }
