@@ -1,5 +1,5 @@
-import { insertAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
+import { openRunFailure } from './runIncident.ts';
 
 /**
  * The risk_runs row of a run: written `running` before any work, marked `done` inside
@@ -32,31 +32,15 @@ export async function markRunDone(tx: Database, runId: number, riskRows: number)
 }
 
 /**
- * After the rollback: the run marked failed and a `run_failed` alert in the outbox, in
- * one transaction. A failed run leaves figures behind the data, so operations are told
- * through the same channels as a breach, not only by a log line.
+ * After the rollback: the run marked failed and, in the same transaction, the failure
+ * episode opened (runIncident.ts), so operations are told through the same channels as
+ * a breach, not only by a log line.
  */
 export async function recordRunFailure(db: Database, run: RunStart & { runId: number }, err: unknown): Promise<void> {
   const error = oneLine(err);
   await db.transaction(async () => {
     await db.run(`update risk_runs set status = 'failed', finished_at = now(), error = $2 where run_id = $1`, [run.runId, error]);
-    await insertAlert(db, {
-      alertId: `run-failed-${run.runId}`,
-      kind: 'run_failed',
-      portfolioId: null,
-      asOf: null,
-      runId: run.runId,
-      payload: {
-        level: 'breach',
-        episode_state: 'open',
-        run_id: run.runId,
-        trigger: run.trigger,
-        from_date: run.from,
-        portfolios: run.portfolios,
-        error,
-        text: `run ${run.runId} (${run.trigger}) failed, risk figures are not up to date: ${error}`,
-      },
-    });
+    await openRunFailure(db, { ...run, error });
   });
 }
 

@@ -5,6 +5,7 @@ import type { ComputedRisk, RiskScope } from '../risk/computeRun.ts';
 import { saveEwmaState } from '../risk/ewmaState.ts';
 import { replaceResults } from '../risk/staging.ts';
 import type { Database } from '../storage/database.ts';
+import { closeRunFailure } from './runIncident.ts';
 
 /** What a writer knows about the run whose results it commits. */
 export interface RunContext extends RiskScope {
@@ -28,7 +29,10 @@ export interface RunWriter {
   write(tx: Database, run: RunContext): Promise<void>;
 }
 
-/** The write step of every run: risk rows, then the estimator state, then limits (which read the new rows) and their alerts. */
+/**
+ * The write step of every run: risk rows, then the estimator state, then limits (which
+ * read the new rows) and their alerts, then the close of a failure episode.
+ */
 export const RUN_WRITERS: readonly RunWriter[] = [
   {
     name: 'write',
@@ -46,4 +50,5 @@ export const RUN_WRITERS: readonly RunWriter[] = [
       run.alertsRaised += outcome.alertsRaised;
     },
   },
+  closeRunFailure,
 ];

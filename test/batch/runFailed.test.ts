@@ -2,6 +2,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { runBatch } from '../../src/batch/runBatch.ts';
+import { applyViews } from '../../src/storage/sqlFiles.ts';
 import { openDatabase } from '../../src/storage/database.ts';
 import { runCli } from '../cli/cliProcess.ts';
 import { pricesCsv } from '../helpers/files.ts';
@@ -22,7 +23,7 @@ describe('a run that does not finish is an incident', () => {
     ws.db.close(); // as when no worker runs: status reads the primary file
 
     const delivered = readFileSync(ws.config.alerts.file!, 'utf8').trim().split('\n').map((l) => JSON.parse(l) as Record<string, unknown>);
-    expect(delivered.map((a) => [a.alert_id, a.kind])).toEqual([['run-failed-1', 'run_failed']]);
+    expect(delivered.map((a) => [a.alert_id, a.kind])).toEqual([['run-failed-1-open', 'run_failed']]);
     const payload = delivered[0].payload as Record<string, unknown>;
     expect(payload).toMatchObject({ level: 'breach', episode_state: 'open', run_id: 1, trigger: 'ingest:prices_first.csv' });
     expect(payload.error).toMatch(/ret_portfolios/);
@@ -35,6 +36,33 @@ describe('a run that does not finish is an incident', () => {
     expect(lines.slice(1, 4).join('\n')).toMatch(/ingest:prices_first\.csv\s+failed/);
     const json = JSON.parse(runCli(['status', '--config', ws.config.configPath, '--format', 'json']).stdout) as Record<string, unknown>;
     expect(Object.keys(json).slice(0, 2)).toEqual(['source', 'lastRunFailed']);
+  });
+
+  it('failures that repeat are one episode: one alert when it opens, one when a run finishes again', async () => {
+    ws = await tempWorkspace();
+    const inbox = (name: string, start: string) => {
+      const file = path.join(ws!.config.inbox, name);
+      writeFileSync(file, pricesCsv(40, 2, start));
+      return file;
+    };
+    await ws.db.run('drop view ret_portfolios');
+    expect((await runBatch(ws.db, ws.config, ws.log, [inbox('prices_a.csv', '2020-01-01')])).runError).not.toBeNull();
+    expect((await runBatch(ws.db, ws.config, ws.log, [inbox('prices_b.csv', '2020-03-01')])).runError).not.toBeNull();
+    await applyViews(ws.db, ws.log);
+    const fixed = await runBatch(ws.db, ws.config, ws.log, [inbox('prices_c.csv', '2020-05-01')]);
+    expect(fixed.runError).toBeNull();
+    expect(fixed.run?.alertsRaised).toBe(1);
+    const alerts = await ws.db.all<{ alert_id: string; run_id: number; state: string; since: number | null }>(
+      `select alert_id, run_id, payload->>'episode_state' as state, (payload->>'failing_since_run')::integer as since
+       from alerts where kind = 'run_failed' order by created_at, alert_id`,
+    );
+    expect(alerts).toEqual([
+      { alert_id: 'run-failed-1-open', run_id: 1, state: 'open', since: null },
+      { alert_id: 'run-failed-1-closed', run_id: 3, state: 'closed', since: 1 },
+    ]);
+    // and a run after that closes nothing more
+    const calm = await runBatch(ws.db, ws.config, ws.log, [inbox('prices_d.csv', '2020-07-01')]);
+    expect(calm.run?.alertsRaised).toBe(0);
   });
 
   it('a run left running by a process that ended is marked interrupted by the next command, and status says so', async () => {
