@@ -1,6 +1,5 @@
 import type { Database } from '../storage/database.ts';
-import { refreshDerived } from '../storage/derived.ts';
-import { readColumns, streamColumns } from './columnar.ts';
+import { readColumns, streamColumns } from '../storage/columnar.ts';
 
 /**
  * The risk stage's inputs, read from the views in bulk into typed arrays. Dates are
@@ -40,10 +39,12 @@ export interface PortfolioPanel {
   weight: Float64Array;
 }
 
-/** Every valuation date ('YYYY-MM-DD'), row d = date_index - 1: a run addresses dates by row. */
+/**
+ * Every valuation date ('YYYY-MM-DD'), row d = date_index - 1: a run addresses dates by
+ * row. The views read the derived tables: the caller refreshes them first (src/batch
+ * does, as a step of its own); this only reads.
+ */
 export async function readValuationDates(db: Database): Promise<string[]> {
-  // the views read the derived tables: bring them up to the raw tables first (a no-op when current)
-  await refreshDerived(db);
   await db.run('create or replace temp table risk_in_dates as select date, date_index from align_valuation_dates');
   const dateRows = await readColumns(db, 'select date::varchar, date_index from risk_in_dates order by date_index', undefined, {
     date: 'text',

@@ -1,9 +1,9 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import type { Database } from '../../src/storage/database.ts';
 import { refreshDerived } from '../../src/storage/derived.ts';
-import { insertRows } from '../helpers/rawRows.ts';
+import { insertDeliveryRows, insertRows } from '../helpers/rawRows.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
-import { buildScenario, correctPrice, loadDays } from '../risk/stage/scenario.ts';
+import { buildScenario, correctPrice, scenarioDeliveries, type Scenario } from '../risk/stage/scenario.ts';
 
 // A refresh from the earliest delivered date must leave the derived tables exactly as a
 // rebuild from the raw tables would: they hold copied prices, rates, dates and counts,
@@ -15,6 +15,9 @@ const TABLES: Record<string, string> = {
   derived_aligned_prices: 'security_id, date',
   derived_aligned_fx: 'currency, date',
 };
+
+/** The raw rows of days [first, last], without the refresh the shared loader does: the test refreshes itself. */
+const loadDays = (db: Database, s: Scenario, first: number, last: number) => insertDeliveryRows(db, scenarioDeliveries(s, first, last));
 
 async function derivedRows(db: Database): Promise<Record<string, unknown[]>> {
   const out: Record<string, unknown[]> = {};

@@ -3,7 +3,8 @@ import path from 'node:path';
 import type { Command } from 'commander';
 import { formatRejection, RiskfoldError } from '../../errors.ts';
 import type { IngestOutcome } from '../../ingest/ingestFile.ts';
-import { processBatch } from '../../pipeline/processBatch.ts';
+import { runBatch } from '../../batch/runBatch.ts';
+import { describeChange } from '../../batch/runSettings.ts';
 import { openWorkspace } from '../../storage/workspace.ts';
 import { listInbox } from '../../watch/inboxFiles.ts';
 import { contextFrom, withConfigOption } from '../context.ts';
@@ -29,10 +30,11 @@ export function registerIngest(program: Command): void {
     try {
       const batch = given.length > 0 ? given : listInbox(config.inbox);
       if (batch.length === 0) process.stdout.write(`no files in ${path.relative(process.cwd(), config.inbox) || '.'}\n`);
-      const summary = await processBatch(db, config, log, batch, { deliver: true, onFile: (o) => process.stdout.write(`${describeOutcome(o)}\n`) });
+      const summary = await runBatch(db, config, log, batch, { deliver: true, onFile: (o) => process.stdout.write(`${describeOutcome(o)}\n`) });
       for (const skipped of summary.skipped) process.stdout.write(`skipped    ${path.basename(skipped)}: gone before its turn\n`);
       const rejected = summary.files.filter((f) => f.status === 'rejected').length;
       if (rejected > 0) process.stdout.write(`${rejected} file${rejected === 1 ? '' : 's'} rejected: see the reason files in ${shown(config.quarantine)}\n`);
+      for (const change of summary.settingChanges) process.stdout.write(`${describeChange(change)}\n`);
       if (summary.run) process.stdout.write(`${describeRun(summary.run)}\n`);
       if (summary.runError !== null) throw new Error(`the files are loaded but the recompute failed: ${summary.runError}`);
     } finally {

@@ -1,8 +1,7 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import { RiskfoldError } from '../../../src/errors.ts';
-import { recompute } from '../../../src/risk/recompute.ts';
+import { runRecompute } from '../../../src/batch/runRecompute.ts';
 import type { Database } from '../../../src/storage/database.ts';
-import { refreshDerived } from '../../../src/storage/derived.ts';
 import { applyViews } from '../../../src/storage/sqlFiles.ts';
 import { insertRows } from '../../helpers/rawRows.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
@@ -39,14 +38,14 @@ describe('recompute: incremental runs', () => {
     const last = s.dates.length - 1;
     const daily = await workspace();
     await loadDays(daily.db, s, 0, last - 5);
-    await recompute(daily.db, daily.config, daily.log, { trigger: 'test' });
+    await runRecompute(daily.db, daily.config, daily.log, { trigger: 'test' });
     for (let d = last - 4; d <= last; d++) {
       await loadDays(daily.db, s, d, d);
-      await recompute(daily.db, daily.config, daily.log, { trigger: 'test', from: s.dates[d] });
+      await runRecompute(daily.db, daily.config, daily.log, { trigger: 'test', from: s.dates[d] });
     }
     const full = await workspace();
     await loadDays(full.db, s, 0, last);
-    await recompute(full.db, full.config, full.log, { trigger: 'test' });
+    await runRecompute(full.db, full.config, full.log, { trigger: 'test' });
 
     expectSameRows(await readDaily(daily.db), await readDaily(full.db), AGREE);
     expectSameRows(await readStats(daily.db), await readStats(full.db), AGREE);
@@ -66,12 +65,12 @@ describe('recompute: incremental runs', () => {
     const last = s.dates.length - 1;
     const daily = await workspace();
     await loadDays(daily.db, s, 0, last - 1);
-    await recompute(daily.db, daily.config, daily.log, { trigger: 'test' });
+    await runRecompute(daily.db, daily.config, daily.log, { trigger: 'test' });
     await loadDays(daily.db, s, last, last);
-    await recompute(daily.db, daily.config, daily.log, { trigger: 'test', from: s.dates[last] });
+    await runRecompute(daily.db, daily.config, daily.log, { trigger: 'test', from: s.dates[last] });
     const full = await workspace();
     await loadDays(full.db, s, 0, last);
-    await recompute(full.db, full.config, full.log, { trigger: 'test' });
+    await runRecompute(full.db, full.config, full.log, { trigger: 'test' });
 
     // windows 21 and 63: the sliding state restarts from row 256 (its last exact refresh
     // before row 559 needs rows 448..511); the EWMA continues from its state, seeding
@@ -91,11 +90,11 @@ describe('recompute: incremental runs', () => {
     const s = buildScenario();
     const ws = await workspace();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     const before = await readDaily(ws.db);
     const states = await ws.db.all<{ as_of: string }>('select as_of from risk_ewma_state order by as_of');
     expect(states.map((r) => r.as_of)).toEqual(s.dates.slice(-2));
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test', from: s.dates[s.dates.length - 1] });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test', from: s.dates[s.dates.length - 1] });
     expect(ws.logLines().filter((l) => l.msg === 'inputs read').map((l) => l.ewmaFromState)).toEqual([false, true]);
     expectSameRows(await readDaily(ws.db), before, AGREE);
   });
@@ -104,11 +103,11 @@ describe('recompute: incremental runs', () => {
     const s = buildScenario();
     const ws = await workspace();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     const before = await readDaily(ws.db);
     const day = 60;
     await correctPrice(ws.db, s, 'EQ-SALTMARSH', day, (s.prices['EQ-SALTMARSH'][day] as number) * 1.03);
-    const run = await recompute(ws.db, ws.config, ws.log, { trigger: 'correction', from: s.dates[day] });
+    const run = await runRecompute(ws.db, ws.config, ws.log, { trigger: 'correction', from: s.dates[day] });
     const after = await readDaily(ws.db);
 
     const earlier = (rows: DailyRow[]) => rows.filter((r) => (r.date as string) < s.dates[day]);
@@ -119,7 +118,7 @@ describe('recompute: incremental runs', () => {
     expect(changed.length).toBeGreaterThan(100);
     expect(Math.min(...changed.map((r) => r.date as string).map((d) => s.dates.indexOf(d)))).toBe(day);
 
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     expectSameRows(after, await readDaily(ws.db), AGREE);
   });
 
@@ -127,18 +126,16 @@ describe('recompute: incremental runs', () => {
     const s = buildScenario();
     const ws = await workspace();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     const before = await readDaily(ws.db);
 
     await insertRows(ws.db, 'fx_rates', ['date', 'currency', 'rate'], [[100001, 1, s.dates[80], 'EUR', s.eurUsd[80] * 1.02]]);
-    await refreshDerived(ws.db, ws.log);
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'fx correction', from: s.dates[80] });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'fx correction', from: s.dates[80] });
     // a later snapshot file for acct-growth on day 60: other quantities, one holding gone
     const corrected = { 'EQ-NORDWIND': 1300, 'EQ-QUILLON': 1200, 'CASH:USD': 15000 };
     const rows = Object.entries(corrected).map(([security, quantity], i) => [100002, i + 1, s.dates[60], 'acct-growth', security, quantity]);
     await insertRows(ws.db, 'positions', ['date', 'portfolio_id', 'security_id', 'quantity'], rows);
-    await refreshDerived(ws.db, ws.log);
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'positions correction', from: s.dates[60], portfolios: ['acct-growth'] });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'positions correction', from: s.dates[60], portfolios: ['acct-growth'] });
     const refreshes = ws.logLines().filter((l) => l.msg === 'derived tables refreshed').map((l) => [l.mode, l.from]);
     expect(refreshes.slice(-2)).toEqual([
       ['from', s.dates[80]],
@@ -149,8 +146,7 @@ describe('recompute: incremental runs', () => {
     expect(after.daily.filter((r, i) => r.portfolio_value !== before[i].portfolio_value).length).toBeGreaterThan(100);
 
     await ws.db.run('delete from derived_state');
-    await refreshDerived(ws.db, ws.log);
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     expect(ws.logLines().filter((l) => l.msg === 'derived tables refreshed').at(-1)?.mode).toBe('full');
     expectSameRows(after.daily, await readDaily(ws.db), AGREE);
     expectSameRows(after.stats, await readStats(ws.db), AGREE);
@@ -161,8 +157,8 @@ describe('recompute: incremental runs', () => {
     const s = buildScenario();
     const ws = await workspace();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    const first = await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
-    const second = await recompute(ws.db, ws.config, ws.log, { trigger: 'test', from: s.dates[200], portfolios: ['acct-income'] });
+    const first = await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    const second = await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test', from: s.dates[200], portfolios: ['acct-income'] });
     expect(second.portfolios).toBe(1);
     const runs = await ws.db.all<{ portfolio_id: string; late: boolean; run_id: number }>(
       `select portfolio_id, date >= $1::date as late, run_id from risk_daily group by all order by all`,
@@ -182,10 +178,10 @@ describe('recompute: incremental runs', () => {
     const s = buildScenario();
     const ws = await workspace();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     const before = await readDaily(ws.db);
     await ws.db.run('drop macro table ret_portfolios_since');
-    await expect(recompute(ws.db, ws.config, ws.log, { trigger: 'broken', from: s.dates[100] })).rejects.toThrow(/ret_portfolios/);
+    await expect(runRecompute(ws.db, ws.config, ws.log, { trigger: 'broken', from: s.dates[100] })).rejects.toThrow(/ret_portfolios/);
     const [run] = await ws.db.all<{ status: string; error: string }>('select status, error from risk_runs order by run_id desc limit 1');
     expect(run.status).toBe('failed');
     expect(run.error).toMatch(/ret_portfolios/);
@@ -195,7 +191,7 @@ describe('recompute: incremental runs', () => {
 
   it('refuses a from date that is not an ISO calendar date, naming it', async () => {
     const ws = await workspace();
-    const attempt = recompute(ws.db, ws.config, ws.log, { trigger: 'test', from: '2024-02-30' });
+    const attempt = runRecompute(ws.db, ws.config, ws.log, { trigger: 'test', from: '2024-02-30' });
     await expect(attempt).rejects.toBeInstanceOf(RiskfoldError);
     await expect(attempt).rejects.toThrow(/"2024-02-30" is not an ISO date/);
   });
