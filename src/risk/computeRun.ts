@@ -46,11 +46,11 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   const { ewma } = config.risk;
   const ewmaState = ewma.enabled ? await phases.time('load_ewma_state', () => loadEwmaState(db, ewma, dates, fromRow, scope.settings)) : null;
   const returnsFromRow = firstReturnRow(config, fromRow, ewmaState);
-  const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, returnsFromRow));
   const longest = Math.max(...config.risk.windows);
   const windowStart = Math.max(0, fromRow - longest + 1);
   // holdings before the first output row serve only to average weights over a window
   const firstRows = { returns: windowStart, holdings: config.risk.weights === 'window_average' ? windowStart : fromRow };
+  const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, returnsFromRow, firstRows.holdings));
   const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, firstRows, scope.portfolios));
   for (const id of scope.portfolios ?? []) {
     if (!portfolios.ids.includes(id)) rlog.warn({ portfolio: id }, 'no positions for this portfolio: nothing to compute');

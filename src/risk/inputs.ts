@@ -60,16 +60,18 @@ export async function readValuationDates(db: Database): Promise<string[]> {
 /**
  * Reads the security returns of date rows `firstRow` on (earlier rows stay NaN: a run
  * reads only what its windows and the EWMA need, so its cost does not grow with the
- * history). The securities are those with a return or a position from `firstRow` on.
+ * history). The securities are those with a return from `firstRow` on or a position
+ * from `holdingsFromRow` on (the rows whose holdings the run reads).
  */
-export async function readReturnPanel(db: Database, dates: string[], firstRow: number): Promise<ReturnPanel> {
-  const firstIndex = firstRow + 1;
-  await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities_since($1)', [firstIndex]);
+export async function readReturnPanel(db: Database, dates: string[], firstRow: number, holdingsFromRow: number): Promise<ReturnPanel> {
+  await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities_since($1)', [
+    firstRow + 1,
+  ]);
   await db.run(
     `create or replace temp table risk_in_securities as
      select security_id, (row_number() over (order by security_id) - 1)::integer as k
      from (select security_id from risk_in_returns union select security_id from hold_daily_positions_since($1))`,
-    [firstIndex],
+    [holdingsFromRow + 1],
   );
   const ids = await readColumns(
     db,
