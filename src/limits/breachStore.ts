@@ -17,7 +17,7 @@ import type { StoredEpisode } from './matchEpisodes.ts';
 type Limit = Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>;
 
 /** The figure a limit watches, per row of risk_daily; VaR is compared as a fraction of value. */
-const METRIC_SQL: Record<ResolvedLimit['metric'], string> = {
+export const METRIC_SQL: Record<ResolvedLimit['metric'], string> = {
   vol_ex_ante: 'vol_ex_ante',
   vol_realized: 'vol_realized',
   var_99_1d: 'var_99_1d / nullif(portfolio_value, 0)',

@@ -1,11 +1,16 @@
-import { DuckDBTypeId, StatementType, type DuckDBType } from '@duckdb/node-api';
+import { DuckDBTypeId, StatementType, type DuckDBType, type DuckDBValue } from '@duckdb/node-api';
 import { RiskfoldError } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
+
+/** How `--format table` shows a numeric column: `percent` for fractions (0.15 as 15.00%), `amount` for money. */
+export type Unit = 'percent' | 'amount';
 
 /** A query's result as plain JSON values, columns in order; what src/cli/format.ts prints. */
 export interface QueryResult {
   columns: string[];
   rows: unknown[][];
+  /** Per column, how a table shows it; csv and json always print the full value. */
+  units?: (Unit | null)[];
 }
 
 // Statement types that only read. DuckDB reports describe/show/summarize/pragma table_info
@@ -36,8 +41,8 @@ export async function runReadOnlyQuery(db: Database, sql: string): Promise<Query
 }
 
 /** Runs a query of our own (status) and returns it in the same printable shape. */
-export async function readTable(db: Database, sql: string): Promise<QueryResult> {
-  const reader = await db.conn.runAndReadAll(sql);
+export async function readTable(db: Database, sql: string, params: DuckDBValue[] = []): Promise<QueryResult> {
+  const reader = await db.conn.runAndReadAll(sql, params);
   return toQueryResult(reader.columnNames(), reader.columnTypes(), reader.getRowsJson());
 }
 

@@ -9,15 +9,17 @@ export function registerStatus(program: Command): void {
   withConfigOption(
     program
       .command('status')
-      .description('last files, last run, open breaches, undelivered alerts and stale data')
-      .option('--format <format>', 'table, csv or json', 'table'),
-  ).action(async (opts: { config: string; format: string }) => {
+      .description('each portfolio against its limits, the day\'s files, the last run, undelivered alerts and data problems')
+      .option('--format <format>', 'table (percentages), csv or json (full precision)', 'table')
+      .option('--portfolio <id>', 'only this portfolio')
+      .option('--details', 'also list the files, open breaches, alerts and data problems row by row'),
+  ).action(async (opts: { config: string; format: string; portfolio?: string; details?: boolean }) => {
     const format = parseFormat(opts.format);
     const config = loadConfig(opts.config);
     const handle = await openForReading(config);
     try {
       noteReadCopy(handle, config);
-      const sections = await readStatus(handle.db);
+      const sections = await readStatus(handle.db, config, { portfolio: opts.portfolio ?? null, details: opts.details === true, now: new Date() });
       process.stdout.write(render(sections, format, handle.source));
     } finally {
       handle.db.close();
