@@ -48,6 +48,12 @@ export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d'] as con
 export const ESTIMATORS = ['sample', 'ewma'] as const;
 export type Estimator = (typeof ESTIMATORS)[number];
 
+/** A limit level: a fraction, so 15 meant as 15% is refused with the likely fix. */
+const levelSchema = z
+  .number()
+  .positive()
+  .max(1, { error: (issue) => `${String(issue.input)} is above 1, but levels are fractions (0.15 = 15%); did you mean ${Number(issue.input) / 100}?` });
+
 export const limitSchema = z
   .object({
     portfolio: z.string().min(1).describe('A portfolio id, or "*" for every portfolio; a specific id overrides "*".'),
@@ -57,9 +63,9 @@ export const limitSchema = z
       .describe('Figure of risk_daily to watch; var_99_1d is taken as a fraction of portfolio value.'),
     window: z.number().int().min(0).describe('Window in trading days (0 with estimator "ewma").'),
     estimator: z.enum(ESTIMATORS).default('sample').describe('Which estimate of risk_daily the limit reads.'),
-    limit: z.number().positive().describe('Mandate limit, a fraction (0.15 = 15%).'),
-    warning: z.number().positive().optional().describe('Warning level; default 0.9 x limit.'),
-    clear: z.number().positive().optional().describe('An episode closes on the first date below this; default 0.85 x limit.'),
+    limit: levelSchema.describe('Mandate limit, a fraction (0.15 = 15%).'),
+    warning: levelSchema.optional().describe('Warning level; default 0.9 x limit.'),
+    clear: levelSchema.optional().describe('An episode closes on the first date below this; default 0.85 x limit.'),
   })
   .strict();
 
@@ -172,8 +178,16 @@ export const configSchema = z
       .optional()
       .describe('Read-only copy published after each committed run; default: <database>.read.duckdb.'),
     baseCurrency: currencyCode.default('USD').describe('ISO 4217 code values are reported in; other currencies need fx rates.'),
-    // prefault, not default: the defaults go through sourceSchema and get its own defaults (delimiter, columns, ...)
-    sources: z.array(sourceSchema).prefault(DEFAULT_SOURCES).describe('How file names map to kinds and how each sender\'s columns map to the canonical layout.'),
+    sources: z
+      .array(sourceSchema)
+      .default([])
+      .describe(
+        'How file names map to kinds and how each sender\'s columns map to the canonical layout. These come before the default sources (prices*.csv*, positions*.csv*, fx*.csv*, securities*.csv*), so they win where patterns overlap.',
+      ),
+    replaceDefaultSources: z
+      .boolean()
+      .default(false)
+      .describe('true: only the sources listed here are used, the default ones are dropped.'),
     watch: z
       .object({
         stableMs: z.number().int().min(0).default(1000).describe('A file counts as written once its size holds this long.'),
@@ -188,6 +202,9 @@ export const configSchema = z
   })
   .strict()
   .superRefine((cfg, ctx) => {
+    if (cfg.replaceDefaultSources && cfg.sources.length === 0) {
+      ctx.addIssue({ code: 'custom', path: ['sources'], message: 'replaceDefaultSources is true but no sources are listed: no file could be read' });
+    }
     const limitKeys = new Set<string>();
     cfg.limits.forEach((limit, i) => {
       const key = [limit.portfolio, limit.metric, limit.window, limit.estimator].join('|');
