@@ -1,6 +1,6 @@
 import type { Config } from '../config/load.ts';
 import { FILE_KINDS } from '../config/schema.ts';
-import type { QueryResult } from '../pipeline/readQuery.ts';
+import type { QueryResult } from './readQuery.ts';
 import { expectedDeliveryDate, latestDeliveredDate } from '../schedule/jobs.ts';
 import type { Database } from '../storage/database.ts';
 

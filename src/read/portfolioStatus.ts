@@ -1,7 +1,7 @@
 import type { Config, ResolvedLimit } from '../config/load.ts';
 import { applicableLimits, limitKey } from '../limits/applicableLimits.ts';
 import { METRIC_SQL, seriesKey } from '../limits/breachStore.ts';
-import type { QueryResult, Unit } from '../pipeline/readQuery.ts';
+import type { QueryResult, Unit } from './readQuery.ts';
 import type { Database } from '../storage/database.ts';
 
 type Series = Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>;

@@ -1,7 +1,7 @@
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { processBatch } from '../../src/pipeline/processBatch.ts';
+import { runBatch } from '../../src/batch/runBatch.ts';
 import { localDate, previousBusinessDay } from '../../src/schedule/calendar.ts';
 import { pricesCsv, writeCsv } from '../helpers/files.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
@@ -46,7 +46,7 @@ describe('riskfold status and sql with no worker running', () => {
     ]);
     writeCsv(w.config.inbox, 'fx_latest.csv', [['date', 'currency', 'rate'], [expectedFor, 'EUR', 1.1]]);
     writeCsv(w.config.inbox, 'positions_bad.csv', [['date', 'portfolio_id', 'security_id'], ['2020-01-01', 'acct-wide', 'EQ-NORDWIND']]);
-    await processBatch(w.db, w.config, w.log, ['prices_2020.csv', 'positions_2020.csv', 'fx_latest.csv', 'positions_bad.csv'].map((f) => path.join(w.config.inbox, f)));
+    await runBatch(w.db, w.config, w.log, ['prices_2020.csv', 'positions_2020.csv', 'fx_latest.csv', 'positions_bad.csv'].map((f) => path.join(w.config.inbox, f)));
     w.closeDb(); // free the primary file, as when no worker runs
     // the same reading twice gives the same answer: spawn each command line once
     const seen = new Map<string, ReturnType<typeof runCli>>();

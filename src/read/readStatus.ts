@@ -1,8 +1,8 @@
 import type { DuckDBValue } from '@duckdb/node-api';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
-import { readDeliveryStatus } from '../read/deliveryStatus.ts';
-import { readPortfolioStatus } from '../read/portfolioStatus.ts';
+import { readDeliveryStatus } from './deliveryStatus.ts';
+import { readPortfolioStatus } from './portfolioStatus.ts';
 import type { Database } from '../storage/database.ts';
 import { readTable, type QueryResult } from './readQuery.ts';
 
