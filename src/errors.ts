@@ -39,7 +39,8 @@ export type ErrorKind =
   | 'database_locked'
   | 'usage'
   | 'query_refused'
-  | 'not_found';
+  | 'not_found'
+  | 'input_rejected';
 
 export class RiskfoldError extends Error {
   readonly kind: ErrorKind;

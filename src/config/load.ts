@@ -1,4 +1,4 @@
-import { readFileSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import { z } from 'zod';
 import { configSchema, DEFAULT_SOURCES, sourceSchema, type LimitConfig, type ParsedConfig, type SourceConfig } from './schema.ts';
@@ -53,12 +53,31 @@ export function resolveConfig(raw: unknown, configPath: string): Config {
   });
 }
 
+const HOW_TO_MAKE_ONE = 'create one with "riskfold init [DIR]"';
+
+/**
+ * Which config file a command uses: `--config` when given, else the file named by the
+ * environment variable RISKFOLD_CONFIG, else ./pipeline.config.json in `cwd`; when none
+ * applies, an error that says how to make one.
+ */
+export function findConfigFile(given: string | undefined, env: NodeJS.ProcessEnv = process.env, cwd = process.cwd()): string {
+  if (given !== undefined) return given;
+  if (env.RISKFOLD_CONFIG) return env.RISKFOLD_CONFIG;
+  const local = path.join(cwd, DEFAULT_CONFIG_FILE);
+  if (existsSync(local)) return local;
+  throw new RiskfoldError(
+    'config_missing',
+    `no ${DEFAULT_CONFIG_FILE} in ${cwd}, no --config and no RISKFOLD_CONFIG: ${HOW_TO_MAKE_ONE}, or name yours with --config PATH`,
+  );
+}
+
 export function loadConfig(configPath: string = DEFAULT_CONFIG_FILE): Config {
   let text: string;
   try {
     text = readFileSync(configPath, 'utf8');
   } catch (cause) {
-    throw new RiskfoldError('config_missing', `${configPath}: cannot read the config file (${(cause as Error).message})`, {
+    const reason = (cause as NodeJS.ErrnoException).code === 'ENOENT' ? `no such file; ${HOW_TO_MAKE_ONE}` : (cause as Error).message;
+    throw new RiskfoldError('config_missing', `${configPath}: cannot read the config file (${reason})`, {
       file: configPath,
     });
   }

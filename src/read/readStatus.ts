@@ -1,8 +1,8 @@
 import type { DuckDBValue } from '@duckdb/node-api';
 import type { Config } from '../config/load.ts';
-import { RiskfoldError } from '../errors.ts';
 import { readDeliveryStatus } from './deliveryStatus.ts';
 import { readPortfolioStatus } from './portfolioStatus.ts';
+import { requireKnownPortfolios } from './portfolios.ts';
 import type { Database } from '../storage/database.ts';
 import { readTable, type QueryResult } from './readQuery.ts';
 
@@ -35,7 +35,7 @@ const SHOWN = 20;
  */
 export async function readStatus(db: Database, config: Config, options: StatusOptions): Promise<StatusSection[]> {
   const { portfolio } = options;
-  if (portfolio !== null) await requirePortfolio(db, portfolio);
+  if (portfolio !== null) await requireKnownPortfolios(db, [portfolio]);
   const portfolios = await readPortfolioStatus(db, config, portfolio);
   const files = await readDeliveryStatus(db, config, options.now);
   const sections: StatusSection[] = [
@@ -66,14 +66,6 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
     await dataQualitySection(db, portfolio, 'rows'),
   );
   return sections;
-}
-
-/** An id that names no portfolio is a typo, not an empty status. */
-async function requirePortfolio(db: Database, portfolio: string): Promise<void> {
-  const known = await db.all<{ portfolio_id: string }>('select distinct portfolio_id from risk_daily order by 1');
-  if (known.some((r) => r.portfolio_id === portfolio)) return;
-  const list = known.length === 0 ? 'none has risk rows yet' : `known: ${known.map((r) => r.portfolio_id).join(', ')}`;
-  throw new RiskfoldError('not_found', `no portfolio "${portfolio}" in risk_daily (${list})`);
 }
 
 async function dataQualitySection(db: Database, portfolio: string | null, shape: 'summary' | 'rows'): Promise<StatusSection> {

@@ -129,7 +129,7 @@ describe('riskfold status and sql with no worker running', () => {
     expect(body.alerts.total).toBe(0); // the only alert is acct-tight's
     const bad = cli('status', '--portfolio', 'acct-nosuch');
     expect(bad.status).not.toBe(0);
-    expect(bad.stderr).toBe('riskfold: no portfolio "acct-nosuch" in risk_daily (known: acct-tight, acct-wide)\n');
+    expect(bad.stderr).toBe('riskfold: no portfolio "acct-nosuch" in the positions received (known: acct-tight, acct-wide)\n');
   });
 
   it('--details adds the rows behind the summaries', () => {

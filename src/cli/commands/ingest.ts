@@ -13,15 +13,17 @@ import { describeRun } from './recompute.ts';
  * `riskfold ingest [FILE...]`: the given files (in the order given) or the inbox (oldest
  * first), through the same batch as the worker: ingest each, one recompute, limits,
  * alerts, read copy. A rejected file is data, not a failure: it is printed and the exit
- * code stays 0; a missing file, a locked database or a failed recompute exit non-zero.
+ * code stays 0 (non-zero with --strict, after every file has had its turn); a missing
+ * file, a locked database or a failed recompute exit non-zero.
  */
 export function registerIngest(program: Command): void {
   withConfigOption(
     program
       .command('ingest')
       .description('loads the given files, or everything now in the inbox, exactly as the worker would, then exits')
-      .argument('[files...]', 'files to load (default: every delivery in the inbox, oldest first)'),
-  ).action(async (files: string[], opts: { config: string }) => {
+      .argument('[files...]', 'files to load (default: every delivery in the inbox, oldest first)')
+      .option('--strict', 'exit non-zero when any file was rejected (for scheduled scripts)'),
+  ).action(async (files: string[], opts: { config?: string; strict?: boolean }) => {
     const { config, log } = contextFrom(opts);
     const given = files.map((f) => path.resolve(f));
     given.forEach(requirePlainFile);
@@ -35,6 +37,7 @@ export function registerIngest(program: Command): void {
       if (rejected > 0) process.stdout.write(`${rejected} file${rejected === 1 ? '' : 's'} rejected: see the reason files in ${shown(config.quarantine)}\n`);
       if (summary.run) process.stdout.write(`${describeRun(summary.run)}\n`);
       if (summary.runError !== null) throw new Error(`the files are loaded but the recompute failed: ${summary.runError}`);
+      if (opts.strict && rejected > 0) throw new RiskfoldError('input_rejected', `--strict: ${rejected} of ${summary.files.length} files rejected`);
     } finally {
       db.close();
     }

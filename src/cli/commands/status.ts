@@ -1,8 +1,7 @@
 import type { Command } from 'commander';
-import { loadConfig } from '../../config/load.ts';
 import { readStatus, type StatusSection } from '../../read/readStatus.ts';
 import { openForReading } from '../../storage/workspace.ts';
-import { withConfigOption } from '../context.ts';
+import { configFrom, withConfigOption } from '../context.ts';
 import { formatResult, noteReadCopy, parseFormat, toObjects, type OutputFormat } from '../format.ts';
 
 export function registerStatus(program: Command): void {
@@ -13,9 +12,9 @@ export function registerStatus(program: Command): void {
       .option('--format <format>', 'table (percentages), csv or json (full precision)', 'table')
       .option('--portfolio <id>', 'only this portfolio')
       .option('--details', 'also list the files, open breaches, alerts and data problems row by row'),
-  ).action(async (opts: { config: string; format: string; portfolio?: string; details?: boolean }) => {
+  ).action(async (opts: { config?: string; format: string; portfolio?: string; details?: boolean }) => {
     const format = parseFormat(opts.format);
-    const config = loadConfig(opts.config);
+    const config = configFrom(opts);
     const handle = await openForReading(config);
     try {
       noteReadCopy(handle, config);
