@@ -3,10 +3,11 @@ import path from 'node:path';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import type { FileKind, SourceConfig } from '../config/schema.ts';
-import { formatRejection, type Rejection, type Result } from '../errors.ts';
+import { fileLine, formatRejection, type Rejection, type Result } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
 import { sha256OfFile } from './fingerprint.ts';
 import { readColumnMapping, type ColumnMapping } from './header.ts';
+import { withFix } from './hints.ts';
 import { findIngested, portfoliosOf, recordFile, updateArchivedPath, type EarlierDelivery } from './ledger.ts';
 import { layoutOf, type KindLayout } from './layout.ts';
 import { loadFile } from './load.ts';
@@ -81,11 +82,12 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
     rejection = prepared.rejection;
   }
 
+  rejection = withFix(rejection, matched ?? null);
   const movedTo = quarantine(filePath, config.quarantine, rejection, receivedAt);
   const fileId = await recordFile(db, {
     ...base, sha256, rows: 0, status: 'rejected', error: formatRejection(rejection), archivedPath: movedTo, minDate: null, maxDate: null, duplicateOf: null,
   });
-  flog.warn({ fileId, movedTo, ...rejection }, 'file rejected');
+  flog.warn({ fileId, movedTo, ...rejection, line: fileLine(rejection) }, 'file rejected');
   return { status: 'rejected', fileId, name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo, rejection };
 }
 

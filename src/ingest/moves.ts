@@ -1,6 +1,6 @@
 import { copyFileSync, constants, existsSync, linkSync, mkdirSync, unlinkSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
-import { formatRejection, type Rejection } from '../errors.ts';
+import { fileLine, formatRejection, type Rejection } from '../errors.ts';
 
 /** `archive/2026-04-12/`: the folder of the day the file was received (local date). */
 export function archiveDir(archiveRoot: string, receivedAt: Date): string {
@@ -54,6 +54,14 @@ export function moveWithoutOverwrite(from: string, dir: string, name: string): s
   }
 }
 
+/** The reason file's last line: what to do, depending on where the fix belongs. */
+const NEXT_STEP: Record<NonNullable<Rejection['fixIn']>, string> = {
+  file: 'Fix the file and drop it into the inbox again; nothing of it was loaded.',
+  config:
+    'The fix belongs in the config, not in the file (see the hint): change the config, restart the worker if one runs, then move this file back into the inbox; nothing of it was loaded.',
+  either: 'Fix the file, or the config if the hint fits the sender, then drop the file into the inbox again; nothing of it was loaded.',
+};
+
 /** Moves a rejected file into quarantine and writes `<name>.reason.txt` beside it. */
 export function quarantine(from: string, quarantineDir: string, rejection: Rejection, receivedAt: Date): string {
   const target = moveWithoutOverwrite(from, quarantineDir, path.basename(from));
@@ -62,12 +70,13 @@ export function quarantine(from: string, quarantineDir: string, rejection: Rejec
     `received: ${receivedAt.toISOString()}`,
     `reason:   ${formatRejection(rejection)}`,
     `code:     ${rejection.code}`,
-    rejection.row !== undefined ? `row:      ${rejection.row} (data rows count from 1 after the header)` : null,
+    rejection.row !== undefined ? `line:     ${fileLine(rejection)} (the header is line 1)` : null,
     rejection.column !== undefined ? `column:   ${rejection.column}` : null,
     rejection.value !== undefined ? `value:    "${rejection.value}"` : null,
     rejection.expected !== undefined ? `expected: ${rejection.expected}` : null,
+    rejection.hint !== undefined ? `hint:     ${rejection.hint}` : null,
     '',
-    'Fix the file and drop it into the inbox again; nothing of it was loaded.',
+    NEXT_STEP[rejection.fixIn ?? 'file'],
   ];
   writeFileSync(`${target}.reason.txt`, `${lines.filter((l) => l !== null).join('\n')}\n`);
   return target;

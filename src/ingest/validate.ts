@@ -1,5 +1,5 @@
 import type { SourceConfig } from '../config/schema.ts';
-import type { Rejection } from '../errors.ts';
+import { fileLine, type Rejection } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
 import { ident } from './csvSql.ts';
 import type { FieldSpec, KindLayout } from './layout.ts';
@@ -79,6 +79,6 @@ function duplicateRejection(layout: KindLayout, file: string, repeat: RepeatedKe
     column: key,
     value,
     expected: `one row per ${key}`,
-    message: `${value} repeats the ${key} of row ${repeat.firstRow}`,
+    message: `${value} repeats the ${key} of line ${fileLine({ row: repeat.firstRow })}`,
   };
 }

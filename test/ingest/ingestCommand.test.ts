@@ -40,7 +40,7 @@ describe('riskfold ingest', () => {
     const lines = run.stdout.trim().split('\n');
     expect(lines[0]).toMatch(/^ingested {3}prices_0410\.csv: 2 rows of prices -> archive\/\d{4}-\d\d-\d\d\/prices_0410\.csv$/);
     expect(lines[1]).toMatch(/^ingested {3}positions_0410\.csv: 2 rows of positions -> /);
-    expect(lines[2]).toBe('rejected   prices_bad.csv row 1, column price: "-3.0" is not a positive number -> quarantine/prices_bad.csv');
+    expect(lines[2]).toBe('rejected   prices_bad.csv line 2, column price: "-3.0" is not a positive number -> quarantine/prices_bad.csv');
     expect(lines[3]).toBe('1 file rejected: see the reason files in quarantine');
     expect(readdirSync(inbox).sort()).toEqual(['.prices_hidden.csv', 'prices_folder.csv', 'prices_late.csv.part']);
 

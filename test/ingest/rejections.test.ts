@@ -74,19 +74,19 @@ describe('ingestFile: rejected files', () => {
     rows.push(['2026-04-17', 'EQ-NORDWIND', '-3.0', 'EUR'], ['2026-04-18', 'EQ-NORDWIND', 'x', 'EUR']);
     const r = await rejectRows('prices_0412.csv', rows);
     expect(r).toMatchObject({ code: 'bad_value', file: 'prices_0412.csv', row: 17, column: 'price', value: '-3.0', expected: 'a positive number' });
-    expect(formatRejection(r)).toBe('prices_0412.csv row 17, column price: "-3.0" is not a positive number');
+    expect(formatRejection(r)).toBe('prices_0412.csv line 18, column price: "-3.0" is not a positive number');
   });
 
   it('rejects a zero price, a non-finite price and an empty one', async () => {
     expect(await rejectRows('prices_a.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '0', 'EUR']])).toMatchObject({ row: 1, column: 'price', value: '0' });
     expect(await rejectRows('prices_b.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', 'inf', 'EUR']])).toMatchObject({ row: 1, column: 'price', value: 'inf' });
     const empty = await rejectRows('prices_c.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '', 'EUR']]);
-    expect(formatRejection(empty)).toBe('prices_c.csv row 1, column price: is empty; expected a positive number');
+    expect(formatRejection(empty)).toBe('prices_c.csv line 2, column price: is empty; expected a positive number');
   });
 
   it('rejects a date that does not parse in the source format', async () => {
     const r = await rejectRows('prices_d.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '1', ''], ['2026-04-31', 'EQ-NORDWIND', '1', '']]);
-    expect(formatRejection(r)).toBe('prices_d.csv row 2, column date: "2026-04-31" is not a date in the format %Y-%m-%d');
+    expect(formatRejection(r)).toBe('prices_d.csv line 3, column date: "2026-04-31" is not a date in the format %Y-%m-%d');
   });
 
   // ISO 8601 calendar date, extended format YYYY-MM-DD: nothing shorter, longer or signed
@@ -112,7 +112,7 @@ describe('ingestFile: rejected files', () => {
     const ok = await ingestFile(ws.db, ws.config, ws.log, writeCsv(ws.config.inbox, 'positions_ok.csv', [header, ['2026-04-10', 'acct-growth', 'EQ-NORDWIND', '-40'], ['2026-04-10', 'acct-growth', 'BD-KESTREL-28', '0']]));
     expect(ok.status).toBe('ingested');
     const r = await rejectRows('positions_bad.csv', [header, ['2026-04-10', 'acct-growth', 'EQ-NORDWIND', '12 shares']]);
-    expect(formatRejection(r)).toBe('positions_bad.csv row 1, column quantity: "12 shares" is not a number');
+    expect(formatRejection(r)).toBe('positions_bad.csv line 2, column quantity: "12 shares" is not a number');
   });
 
   it('rejects an empty portfolio id and a cash id without a valid currency code', async () => {
@@ -125,13 +125,13 @@ describe('ingestFile: rejected files', () => {
   it('rejects an id with surrounding spaces rather than load it as another security', async () => {
     const header = ['date', 'portfolio_id', 'security_id', 'quantity'];
     const r = await rejectRows('positions_d.csv', [header, ['2026-04-10', 'acct-growth', ' EQ-NORDWIND', '1']]);
-    expect(formatRejection(r)).toBe('positions_d.csv row 1, column security_id: " EQ-NORDWIND" is not an id without surrounding spaces');
+    expect(formatRejection(r)).toBe('positions_d.csv line 2, column security_id: " EQ-NORDWIND" is not an id without surrounding spaces');
   });
 
   it('keeps the message on one line when the bad cell holds a quoted line break', async () => {
     const r = await rejectRows('prices_nl.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '"1\n2"', '']]);
     expect(r).toMatchObject({ row: 1, column: 'price', value: '1\n2' });
-    expect(formatRejection(r)).toBe('prices_nl.csv row 1, column price: "1\\n2" is not a positive number');
+    expect(formatRejection(r)).toBe('prices_nl.csv line 2, column price: "1\\n2" is not a positive number');
   });
 
   it('reports the earliest failing row across columns', async () => {
@@ -142,7 +142,7 @@ describe('ingestFile: rejected files', () => {
   it('names both rows of a repeated key', async () => {
     const r = await rejectRows('prices_g.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1', ''], ['2026-04-10', 'EQ-B', '2', ''], ['2026-04-10', 'EQ-A', '1.5', '']]);
     expect(r).toMatchObject({ code: 'duplicate_key', row: 3, column: 'date+security_id' });
-    expect(formatRejection(r)).toBe('prices_g.csv row 3, column date+security_id: "2026-04-10", "EQ-A" repeats the date+security_id of row 1');
+    expect(formatRejection(r)).toBe('prices_g.csv line 4, column date+security_id: "2026-04-10", "EQ-A" repeats the date+security_id of line 2');
   });
 
   it('compares keys by value: the same date written two ways is the same key', async () => {
@@ -154,7 +154,10 @@ describe('ingestFile: rejected files', () => {
   it('names a missing column and lists the header it found', async () => {
     const r = await rejectRows('positions_c.csv', [['date', 'portfolio', 'security_id', 'quantity'], ['2026-04-10', 'acct-growth', 'EQ-A', '1']]);
     expect(r).toMatchObject({ code: 'missing_column', column: 'portfolio_id' });
-    expect(formatRejection(r)).toBe('positions_c.csv, column portfolio_id: is missing; header found: "date", "portfolio", "security_id", "quantity"');
+    expect(formatRejection(r)).toBe(
+      'positions_c.csv, column portfolio_id: is missing; header found: "date", "portfolio", "security_id", "quantity"; ' +
+        'if the sender names this column differently, map it in source "positions": "columns": { "portfolio_id": "portfolio" }; if it is absent, the file must be fixed',
+    );
   });
 
   it('rejects an empty file and a file with a header only', async () => {
