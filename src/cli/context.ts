@@ -2,6 +2,7 @@ import type { Command } from 'commander';
 import { findConfigFile, loadConfig, type Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { createLogger, type Logger } from '../log/logger.ts';
+import { forTerminal } from './terminalText.ts';
 
 export interface CommandContext {
   config: Config;
@@ -26,7 +27,7 @@ export function contextFrom(opts: { config?: string }): CommandContext {
 export function reportFailure(err: unknown): never {
   const message = err instanceof Error ? err.message : String(err);
   const cause = err instanceof Error && err.cause instanceof Error ? `: ${err.cause.message}` : '';
-  process.stderr.write(`riskfold: ${message}${err instanceof RiskfoldError ? '' : cause}\n`);
+  process.stderr.write(forTerminal(`riskfold: ${message}${err instanceof RiskfoldError ? '' : cause}\n`));
   if (process.env.RISKFOLD_DEBUG && err instanceof Error) process.stderr.write(`${err.stack}\n`);
   process.exit(err instanceof RiskfoldError && err.kind === 'usage' ? 2 : 1);
 }

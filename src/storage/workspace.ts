@@ -6,6 +6,7 @@ import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { openDatabase, type Database } from './database.ts';
+import { lockDownReader } from './readerSandbox.ts';
 import { refreshDerived } from './derived.ts';
 import { applyMigrations, applyViews } from './sqlFiles.ts';
 
@@ -76,8 +77,22 @@ export interface ReadHandle {
   source: 'database' | 'read_copy';
 }
 
-/** Opens history for reading without ever blocking the worker: the primary file if free, else the read copy. */
-export async function openForReading(config: Config): Promise<ReadHandle> {
+/**
+ * Opens history for reading without ever blocking the worker: the primary file if free,
+ * else the read copy; either way locked down to the database itself (plus `readableDirs`).
+ */
+export async function openForReading(config: Config, readableDirs: readonly string[] = []): Promise<ReadHandle> {
+  const handle = await openEither(config);
+  try {
+    await lockDownReader(handle.db, readableDirs);
+  } catch (err) {
+    handle.db.close();
+    throw err;
+  }
+  return handle;
+}
+
+async function openEither(config: Config): Promise<ReadHandle> {
   if (!existsSync(config.database)) {
     throw new RiskfoldError('not_found', `${config.database} does not exist yet: run "riskfold ingest" or "riskfold watch" first`);
   }

@@ -7,6 +7,7 @@ import { runBatch } from '../../batch/runBatch.ts';
 import { openWorkspace } from '../../storage/workspace.ts';
 import { listInbox } from '../../watch/inboxFiles.ts';
 import { contextFrom, withConfigOption } from '../context.ts';
+import { forTerminal } from '../terminalText.ts';
 import { describeRun } from './recompute.ts';
 
 /**
@@ -62,7 +63,7 @@ export function describeOutcome(o: IngestOutcome): string {
       : o.status === 'duplicate'
         ? `${o.name}: same bytes as file ${o.duplicateOf}, nothing added`
         : formatRejection(o.rejection!); // starts with the file name
-  return `${o.status.padEnd(10)} ${what} -> ${shown(o.movedTo)}`;
+  return forTerminal(`${o.status.padEnd(10)} ${what} -> ${shown(o.movedTo)}`);
 }
 
 function shown(p: string): string {

@@ -2,7 +2,8 @@ import type { Command } from 'commander';
 import { readStatus, type StatusSection } from '../../read/readStatus.ts';
 import { openForReading } from '../../storage/workspace.ts';
 import { configFrom, withConfigOption } from '../context.ts';
-import { formatResult, noteReadCopy, parseFormat, toObjects, type OutputFormat } from '../format.ts';
+import { formatResult, noteReadCopy, parseFormat, toObjects, writeResult, type OutputFormat } from '../format.ts';
+import { jsonForTerminal } from '../terminalText.ts';
 
 export function registerStatus(program: Command): void {
   withConfigOption(
@@ -19,7 +20,7 @@ export function registerStatus(program: Command): void {
     try {
       noteReadCopy(handle, config);
       const sections = await readStatus(handle.db, config, { portfolio: opts.portfolio ?? null, details: opts.details === true, now: new Date() });
-      process.stdout.write(render(sections, format, handle.source));
+      writeResult(render(sections, format, handle.source), format);
     } finally {
       handle.db.close();
     }
@@ -31,7 +32,7 @@ function render(sections: StatusSection[], format: OutputFormat, source: string)
     const body = Object.fromEntries(
       sections.map((s) => [s.key, { total: s.total, rows: toObjects(s.result), ...(s.note ? { note: s.note } : {}) }]),
     );
-    return `${JSON.stringify({ source, ...body }, null, 2)}\n`;
+    return `${jsonForTerminal(JSON.stringify({ source, ...body }, null, 2))}\n`;
   }
   return sections
     .map((s) => {
