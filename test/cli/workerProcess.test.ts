@@ -108,7 +108,7 @@ describe('riskfold watch as a real process', () => {
     );
     expect(first.stderr).toMatch(/a worker holds .*; reading the copy it published at \d{4}-\d\d-\d\dT/);
 
-    const status = runCli(['status', '--config', wd.configPath, '--format', 'json']);
+    const status = runCli(['status', '--details', '--config', wd.configPath, '--format', 'json']);
     expect(status.status).toBe(0);
     const body = JSON.parse(status.stdout) as { source: string; lastFiles: { rows: { name: string; status: string }[] } };
     expect(body.source).toBe('read_copy');
