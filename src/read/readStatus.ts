@@ -29,16 +29,23 @@ export interface StatusOptions {
 const SHOWN = 20;
 
 /**
- * What operations look at first: each portfolio against its limits, whether the day's
- * files arrived, the last run, then the alerts the channels have not all taken and the
- * data problems on the latest valuation date, counted by kind. `details` adds the rows.
+ * What operations look at first: a failed or interrupted last run (first, since the
+ * figures below are then behind the data), each portfolio against its limits, whether
+ * the day's files arrived, the last run, then the alerts the channels have not all taken
+ * and the data problems on the latest valuation date, counted by kind. `details` adds
+ * the rows.
  */
 export async function readStatus(db: Database, config: Config, options: StatusOptions): Promise<StatusSection[]> {
   const { portfolio } = options;
   if (portfolio !== null) await requireKnownPortfolios(db, [portfolio]);
+  const failed = await section(db, 'lastRunFailed', 'THE LAST RUN DID NOT FINISH: risk figures are not up to date', `
+    select run_id, trigger, status, started_at, finished_at, error
+    from (select * from risk_runs order by run_id desc limit 1)
+    where status in ('failed', 'interrupted')`, [], 1);
   const portfolios = await readPortfolioStatus(db, config, portfolio);
   const files = await readDeliveryStatus(db, config, options.now);
   const sections: StatusSection[] = [
+    ...(failed.total > 0 ? [failed] : []),
     { key: 'portfolios', title: 'portfolios', result: portfolios, total: portfolios.rows.length },
     { key: 'files', title: 'files by kind', result: files, total: files.rows.length },
     await section(db, 'lastRun', 'last run', `
