@@ -94,8 +94,12 @@ async function dataQualitySection(db: Database, portfolio: string | null, shape:
   return section(db, key, title, sql, [portfolio]);
 }
 
+// limit levels and episode peaks are fractions (0.15 = 15%): a table shows them as percentages
+const FRACTION_COLUMNS = new Set(['limit_value', 'peak_value']);
+
 async function section(db: Database, key: string, title: string, sql: string, params: DuckDBValue[], limit = SHOWN): Promise<StatusSection> {
   const [{ n }] = await db.all<{ n: string }>(`select count(*)::varchar as n from (${sql})`, params);
   const result = await readTable(db, `${sql} limit ${limit}`, params);
+  result.units = result.columns.map((c) => (FRACTION_COLUMNS.has(c) ? 'percent' : null));
   return { key, title, result, total: Number(n) };
 }

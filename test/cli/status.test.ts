@@ -136,6 +136,9 @@ describe('riskfold status and sql with no worker running', () => {
     const { cli } = loaded();
     const plain = cli('status').stdout;
     expect(plain).not.toContain('== last files');
+    // the open episode's limit and peak as percentages, like the portfolio table
+    const breachLine = cli('status', '--details').stdout.split('== open breaches\n')[1].split('\n')[2];
+    expect(breachLine).toMatch(/acct-tight\s+vol_ex_ante\s+63\s+sample\s+breach\s+0\.50%\s+[\d-]+\s+([\d-]+\s+)?\d+\.\d\d%/);
     const body = JSON.parse(cli('status', '--details', '--format', 'json').stdout) as Record<string, { rows: Record<string, unknown>[] }>;
     expect(body.lastFiles.rows.find((f) => f.name === 'positions_bad.csv')).toMatchObject({ kind: 'positions', status: 'rejected' });
     expect(Object.keys(body)).toEqual([
