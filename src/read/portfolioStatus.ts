@@ -38,7 +38,8 @@ export async function readPortfolioStatus(db: Database, config: Config, portfoli
   const headline = series[0] ?? { metric: 'vol_ex_ante', window: config.risk.windows[0], estimator: 'sample' };
   const base = await latestRows(db, headline, portfolio);
   const asOf = await latestDates(db, portfolio);
-  const figures = await Promise.all(series.map(async (s) => new Map((await latestRows(db, s, portfolio)).map((r) => [r.portfolio_id, r]))));
+  const figures: Map<string, LatestRow>[] = [];
+  for (const s of series) figures.push(new Map((await latestRows(db, s, portfolio)).map((r) => [r.portfolio_id, r])));
   const episodes = await latestEpisodes(db, portfolio);
   const baseById = new Map(base.map((r) => [r.portfolio_id, r]));
 
