@@ -1,5 +1,5 @@
-import { createRequire } from 'node:module';
 import pino, { type Logger, type DestinationStream } from 'pino';
+import pretty from 'pino-pretty';
 
 export type { Logger };
 
@@ -19,24 +19,10 @@ export function createLogger(options: { level?: string; stream?: DestinationStre
   );
 }
 
-/** pino-pretty's factory: a stream that turns pino's JSON lines (already redacted) into readable ones. */
-type PrettyFactory = (options: Record<string, unknown>) => DestinationStream;
-
 function stderrStream(): DestinationStream {
-  const pretty = process.stderr.isTTY ? loadPretty() : null;
-  if (pretty === null) return pino.destination(2);
+  if (!process.stderr.isTTY) return pino.destination(2);
   // sync: a command that exits right after its last line must not lose it
   return pretty({ destination: 2, sync: true, colorize: true, translateTime: 'SYS:yyyy-mm-dd HH:MM:ss', ignore: 'pid,hostname,app' });
-}
-
-/** pino-pretty if installed; without it a terminal gets JSON lines too. */
-function loadPretty(): PrettyFactory | null {
-  try {
-    return createRequire(import.meta.url)('pino-pretty') as PrettyFactory;
-  } catch (err) {
-    if ((err as NodeJS.ErrnoException).code === 'MODULE_NOT_FOUND') return null;
-    throw err;
-  }
 }
 
 /** A logger that keeps its lines in memory, for tests that assert on log records. */

@@ -1,22 +1,10 @@
 import { spawnSync } from 'node:child_process';
-import { createRequire } from 'node:module';
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { pricesCsv, writeCsv } from '../helpers/files.ts';
 import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
 import { CLI, runCli } from './cliProcess.ts';
-
-// pino-pretty is an optional dependency of the terminal only: when it is not installed a
-// terminal gets JSON lines as well, and this suite checks that instead.
-const prettyInstalled = (() => {
-  try {
-    createRequire(import.meta.url).resolve('pino-pretty');
-    return true;
-  } catch {
-    return false;
-  }
-})();
 
 const ANSI = /\u001b\[[0-9;]*m/g;
 
@@ -38,16 +26,11 @@ describe('riskfold logs', () => {
   });
 
   // util-linux script(1) runs the command on a pseudo-terminal, as a person at a shell would
-  it(prettyInstalled ? 'writes readable lines on a terminal' : 'writes JSON lines on a terminal too while pino-pretty is not installed', () => {
+  it('writes readable lines on a terminal', () => {
     const r = spawnSync('script', ['-qec', `"${process.execPath}" "${CLI}" recompute --config "${desk.configPath}"`, '/dev/null'], { encoding: 'utf8', timeout: 60_000 });
     const text = r.stdout.replace(ANSI, '').replaceAll('\r', '');
     expect(r.status).toBe(0);
-    const started = text.split('\n').find((l) => l.includes('recompute started'));
-    if (prettyInstalled) {
-      expect(started).toMatch(/INFO.*: recompute started/);
-      expect(text).not.toMatch(/^\{"level"/m);
-    } else {
-      expect(JSON.parse(started!)).toMatchObject({ level: 30, msg: 'recompute started' });
-    }
+    expect(text).toMatch(/INFO.*: recompute started/);
+    expect(text).not.toMatch(/^\{"level"/m);
   });
 });
