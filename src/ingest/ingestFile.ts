@@ -11,6 +11,7 @@ import { findIngested, portfoliosOf, recordFile, updateArchivedPath, type Earlie
 import { layoutOf, type KindLayout } from './layout.ts';
 import { loadFile } from './load.ts';
 import { archiveDir, freePath, moveWithoutOverwrite, quarantine } from './moves.ts';
+import { plausibilityFor, type Plausibility } from './plausibility.ts';
 import { matchSource } from './sourceMatch.ts';
 import { dropStage, stageFile } from './stage.ts';
 import { findFirstProblem } from './validate.ts';
@@ -42,6 +43,7 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
   const name = path.basename(filePath);
   const flog = log.child({ stage: 'ingest', file: name });
   const receivedAt = new Date();
+  const bounds = plausibilityFor(config, receivedAt);
   const started = performance.now();
   // hashing runs in this thread while DuckDB reads the file in its own
   const hashing = sha256OfFile(filePath);
@@ -56,7 +58,7 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
     const { source, layout, mapping } = prepared.value;
     const dir = archiveDir(config.archive, receivedAt);
     const planned = freePath(dir, name);
-    const attempt = await loadFile(db, filePath, source, layout, mapping, hashing, { ...base, archivedPath: planned });
+    const attempt = await loadFile(db, filePath, source, layout, mapping, bounds, hashing, { ...base, archivedPath: planned });
     if (attempt.kind === 'known') return alreadyLoaded(db, config, flog, filePath, attempt.earlier, { ...base, sha256: attempt.sha256 });
     if (attempt.kind === 'loaded') {
       // committed: from here a crash leaves the file in the inbox, and alreadyLoaded() finishes the move
@@ -73,7 +75,7 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
     sha256 = attempt.sha256;
     const earlier = await findIngested(db, sha256);
     if (earlier) return alreadyLoaded(db, config, flog, filePath, earlier, { ...base, sha256 });
-    rejection = await diagnose(db, filePath, name, source, layout, mapping, attempt.cause);
+    rejection = await diagnose(db, filePath, name, { ...prepared.value, bounds }, attempt.cause);
   } else {
     sha256 = await hashing;
     const earlier = await findIngested(db, sha256);
@@ -95,6 +97,8 @@ interface Prepared {
   mapping: ColumnMapping;
 }
 
+type Rules = Prepared & { bounds: Plausibility };
+
 /** The source's layout and the header mapped onto it. */
 async function prepare(filePath: string, name: string, source: SourceConfig): Promise<Result<Prepared>> {
   const layout = layoutOf(source.kind);
@@ -103,18 +107,11 @@ async function prepare(filePath: string, name: string, source: SourceConfig): Pr
 }
 
 /** Why the load failed: the file staged again and examined for its first bad row. */
-async function diagnose(
-  db: Database,
-  filePath: string,
-  name: string,
-  source: SourceConfig,
-  layout: KindLayout,
-  mapping: ColumnMapping,
-  loadError: unknown,
-): Promise<Rejection> {
+async function diagnose(db: Database, filePath: string, name: string, rules: Rules, loadError: unknown): Promise<Rejection> {
+  const { source, layout, mapping, bounds } = rules;
   try {
     const staged = await stageFile(db, filePath, name, source, layout, mapping);
-    const problem = staged.ok ? await findFirstProblem(db, layout, source, name) : staged.rejection;
+    const problem = staged.ok ? await findFirstProblem(db, layout, source, bounds, name) : staged.rejection;
     // the load and the checks apply the same rules; a failure neither explains is the machine's
     if (problem === null) throw new Error(`${name}: the load failed and no row breaks a rule`, { cause: loadError });
     return problem;

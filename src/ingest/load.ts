@@ -4,6 +4,7 @@ import { ident, readCsvSql, typedSelect } from './csvSql.ts';
 import type { ColumnMapping } from './header.ts';
 import { findIngested, recordFile, type EarlierDelivery, type FileRecord } from './ledger.ts';
 import type { KindLayout } from './layout.ts';
+import type { Plausibility } from './plausibility.ts';
 import { badSql, summaryOf, summarySelect, type FileSummary } from './rules.ts';
 
 export type LoadAttempt =
@@ -36,6 +37,7 @@ export async function loadFile(
   source: SourceConfig,
   layout: KindLayout,
   mapping: ColumnMapping,
+  bounds: Plausibility,
   hashing: Promise<string>,
   record: LoadRecord,
 ): Promise<LoadAttempt> {
@@ -44,7 +46,7 @@ export async function loadFile(
       const [{ id }] = await db.all<{ id: number }>(`select nextval('file_id_seq')::integer as id`);
       const columns = layout.fields.map((f) => ident(f.name));
       const checked = layout.fields.map((f) => {
-        const bad = badSql(f);
+        const bad = badSql(f, bounds);
         return bad === null ? ident(f.name) : `case when ${bad} then error('row ' || ordinality || ' breaks the ${f.name} rule') else ${ident(f.name)} end`;
       });
       try {

@@ -4,10 +4,12 @@ import { formatRejection, type Rejection } from '../errors.ts';
 
 /** `archive/2026-04-12/`: the folder of the day the file was received (local date). */
 export function archiveDir(archiveRoot: string, receivedAt: Date): string {
-  const day = [receivedAt.getFullYear(), receivedAt.getMonth() + 1, receivedAt.getDate()]
-    .map((n) => String(n).padStart(2, '0'))
-    .join('-');
-  return path.join(archiveRoot, day);
+  return path.join(archiveRoot, localDay(receivedAt));
+}
+
+/** 'YYYY-MM-DD' of the local calendar day. */
+export function localDay(d: Date): string {
+  return [d.getFullYear(), d.getMonth() + 1, d.getDate()].map((n) => String(n).padStart(2, '0')).join('-');
 }
 
 /** `prices.csv.gz` -> `prices-2.csv.gz`: the number goes before the extensions, so the kind's pattern still matches. */
