@@ -1,12 +1,15 @@
-import { statSync, unlinkSync } from 'node:fs';
+import { rmSync, statSync, unlinkSync } from 'node:fs';
 import path from 'node:path';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import type { FileKind, SourceConfig } from '../config/schema.ts';
 import { formatRejection, type Rejection, type Result } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
+import { checkComplete, markerSuffix, type HoldReason } from './completeness.ts';
 import { sha256OfFile } from './fingerprint.ts';
 import { readColumnMapping, type ColumnMapping } from './header.ts';
+import { holdFile, snapshotGuard } from './holdFile.ts';
+import { releaseHolds } from './holds.ts';
 import { findIngested, portfoliosOf, recordFile, updateArchivedPath, type EarlierDelivery } from './ledger.ts';
 import { layoutOf, type KindLayout } from './layout.ts';
 import { loadFile } from './load.ts';
@@ -17,8 +20,9 @@ import { dropStage, stageFile } from './stage.ts';
 import { findFirstProblem } from './validate.ts';
 
 export interface IngestOutcome {
-  status: 'ingested' | 'duplicate' | 'rejected';
-  fileId: number;
+  status: 'ingested' | 'duplicate' | 'rejected' | 'held';
+  /** The ledger row; null while held (a held file has none yet). */
+  fileId: number | null;
   name: string;
   kind: FileKind | null;
   rows: number;
@@ -26,10 +30,13 @@ export interface IngestOutcome {
   minDate: string | null;
   /** Positions files: the portfolios in it; otherwise null (every portfolio may be affected). */
   portfolios: string[] | null;
+  /** Where the file is now (still the inbox while held). */
   movedTo: string;
   rejection?: Rejection;
   /** Status duplicate: the file_id that first delivered these bytes. */
   duplicateOf?: number;
+  /** Status held: why the file stays in the inbox. */
+  hold?: HoldReason;
 }
 
 /**
@@ -49,8 +56,15 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
   const hashing = sha256OfFile(filePath);
   hashing.catch(() => undefined); // awaited below; a read error surfaces there, or first from the header
   const matched = matchSource(config.sources, name);
-  const prepared = matched ? await prepare(filePath, name, matched) : unknownKind(config, name);
   const base = { name, kind: matched?.kind ?? null, source: matched?.name ?? null, receivedAt };
+  const complete = await checkComplete(config, filePath, name);
+  if (complete.state === 'held') return holdFile(db, flog, filePath, { ...base, sha256: await hashing }, complete.hold);
+  const prepared =
+    complete.state === 'rejected'
+      ? { ok: false as const, rejection: complete.rejection }
+      : matched
+        ? await prepare(filePath, name, matched)
+        : unknownKind(config, name);
 
   let sha256: string;
   let rejection: Rejection;
@@ -58,12 +72,15 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
     const { source, layout, mapping } = prepared.value;
     const dir = archiveDir(config.archive, receivedAt);
     const planned = freePath(dir, name);
-    const attempt = await loadFile(db, filePath, source, layout, mapping, bounds, hashing, { ...base, archivedPath: planned });
+    const guard = snapshotGuard(db, config, filePath, name, source.kind);
+    const attempt = await loadFile(db, filePath, source, layout, mapping, bounds, hashing, { ...base, archivedPath: planned }, guard);
+    if (attempt.kind === 'held') return holdFile(db, flog, filePath, { ...base, sha256: attempt.sha256 }, attempt.hold);
     if (attempt.kind === 'known') return alreadyLoaded(db, config, flog, filePath, attempt.earlier, { ...base, sha256: attempt.sha256 });
     if (attempt.kind === 'loaded') {
       // committed: from here a crash leaves the file in the inbox, and alreadyLoaded() finishes the move
       const movedTo = moveWithoutOverwrite(filePath, dir, name);
       if (movedTo !== planned) await updateArchivedPath(db, attempt.fileId, movedTo);
+      await leftInbox(db, config, filePath, name);
       const { rows, minDate, maxDate, portfolios } = attempt.summary;
       const seconds = (performance.now() - started) / 1000;
       flog.info(
@@ -87,6 +104,7 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
   const fileId = await recordFile(db, {
     ...base, sha256, rows: 0, status: 'rejected', error: formatRejection(rejection), archivedPath: movedTo, minDate: null, maxDate: null, duplicateOf: null,
   });
+  await leftInbox(db, config, filePath, name);
   flog.warn({ fileId, movedTo, ...rejection }, 'file rejected');
   return { status: 'rejected', fileId, name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo, rejection };
 }
@@ -167,6 +185,13 @@ async function alreadyLoaded(
   });
   flog.info({ fileId, duplicateOf: earlier.fileId, firstName: earlier.name, movedTo }, 'file is a duplicate; nothing added');
   return { status: 'duplicate', fileId, name: base.name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo, duplicateOf: earlier.fileId };
+}
+
+/** The delivery has left the inbox: its holds end and its done-marker goes. */
+async function leftInbox(db: Database, config: Config, filePath: string, name: string): Promise<void> {
+  await releaseHolds(db, name);
+  const marker = markerSuffix(config);
+  if (marker !== null) rmSync(`${filePath}${marker}`, { force: true });
 }
 
 function statOrNull(p: string) {

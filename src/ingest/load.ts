@@ -1,6 +1,7 @@
 import type { SourceConfig } from '../config/schema.ts';
 import type { Database } from '../storage/database.ts';
 import { ident, readCsvSql, typedSelect } from './csvSql.ts';
+import type { HoldReason } from './completeness.ts';
 import type { ColumnMapping } from './header.ts';
 import { findIngested, recordFile, type EarlierDelivery, type FileRecord } from './ledger.ts';
 import type { KindLayout } from './layout.ts';
@@ -11,6 +12,8 @@ export type LoadAttempt =
   | { kind: 'loaded'; sha256: string; fileId: number; summary: FileSummary }
   /** These bytes were loaded before: nothing of this attempt stays. */
   | { kind: 'known'; sha256: string; earlier: EarlierDelivery }
+  /** The rows are readable but suspect (`guard` said why): rolled back, the file stays in the inbox. */
+  | { kind: 'held'; sha256: string; hold: HoldReason }
   /** A row broke a rule, a key repeats, there are no rows or DuckDB could not read it: rolled back. */
   | { kind: 'failed'; sha256: string; cause: unknown };
 
@@ -40,6 +43,8 @@ export async function loadFile(
   bounds: Plausibility,
   hashing: Promise<string>,
   record: LoadRecord,
+  /** Looks at the inserted rows (by file_id) before the commit; a reason holds the file back. */
+  guard: (fileId: number, sha256: string) => Promise<HoldReason | null> = async () => null,
 ): Promise<LoadAttempt> {
   try {
     return await db.transaction(async () => {
@@ -67,6 +72,8 @@ export async function loadFile(
       if (summary.rows === 0 || (summary.keys < summary.rows && (await keyRepeats(db, layout, id)))) {
         throw new Abort({ kind: 'failed', sha256, cause: null });
       }
+      const hold = await guard(id, sha256);
+      if (hold) throw new Abort({ kind: 'held', sha256, hold });
       await recordFile(db, {
         ...record,
         fileId: id,

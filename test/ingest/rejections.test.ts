@@ -157,11 +157,12 @@ describe('ingestFile: rejected files', () => {
     expect(formatRejection(r)).toBe('positions_c.csv, column portfolio_id: is missing; header found: "date", "portfolio", "security_id", "quantity"');
   });
 
-  it('rejects an empty file and a file with a header only', async () => {
+  it('holds a zero-byte file (a write not begun) and rejects a file with a header only', async () => {
     const ws = await workspace();
     const empty = path.join(ws.config.inbox, 'prices_empty.csv');
     writeFileSync(empty, '');
-    expect(await expectRejected(empty)).toMatchObject({ code: 'empty_file' });
+    expect(await ingestFile(ws.db, ws.config, ws.log, empty)).toMatchObject({ status: 'held', fileId: null, hold: { code: 'empty_so_far' } });
+    expect(existsSync(empty)).toBe(true);
     expect(await rejectRows('prices_header.csv', [PRICE_HEADER])).toMatchObject({ code: 'empty_file', message: 'has a header but no data rows' });
   });
 

@@ -2,6 +2,8 @@ import { lstatSync } from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { formatRejection, RiskfoldError } from '../../errors.ts';
+import { auditArchive } from '../../ingest/archiveAudit.ts';
+import { markerSuffix } from '../../ingest/completeness.ts';
 import type { IngestOutcome } from '../../ingest/ingestFile.ts';
 import { processBatch } from '../../pipeline/processBatch.ts';
 import { openWorkspace } from '../../storage/workspace.ts';
@@ -27,7 +29,8 @@ export function registerIngest(program: Command): void {
     given.forEach(requirePlainFile);
     const db = await openWorkspace(config, log);
     try {
-      const batch = given.length > 0 ? given : listInbox(config.inbox);
+      await auditArchive(db, log);
+      const batch = given.length > 0 ? given : listInbox(config.inbox, markerSuffix(config));
       if (batch.length === 0) process.stdout.write(`no files in ${path.relative(process.cwd(), config.inbox) || '.'}\n`);
       const summary = await processBatch(db, config, log, batch, { deliver: true, onFile: (o) => process.stdout.write(`${describeOutcome(o)}\n`) });
       for (const skipped of summary.skipped) process.stdout.write(`skipped    ${path.basename(skipped)}: gone before its turn\n`);
@@ -58,8 +61,10 @@ export function describeOutcome(o: IngestOutcome): string {
       ? `${o.name}: ${o.rows.toLocaleString('en-US')} row${o.rows === 1 ? '' : 's'} of ${o.kind}`
       : o.status === 'duplicate'
         ? `${o.name}: same bytes as file ${o.duplicateOf}, nothing added`
-        : formatRejection(o.rejection!); // starts with the file name
-  return `${o.status.padEnd(10)} ${what} -> ${shown(o.movedTo)}`;
+        : o.status === 'held'
+          ? `${o.name}: ${o.hold!.reason}`
+          : formatRejection(o.rejection!); // starts with the file name
+  return `${o.status.padEnd(10)} ${what} ${o.status === 'held' ? 'stays in' : '->'} ${shown(o.movedTo)}`;
 }
 
 function shown(p: string): string {
