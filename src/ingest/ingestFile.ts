@@ -1,20 +1,20 @@
-import { rmSync, statSync, unlinkSync } from 'node:fs';
 import path from 'node:path';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import type { FileKind, SourceConfig } from '../config/schema.ts';
-import { formatRejection, type Rejection, type Result } from '../errors.ts';
+import type { Rejection, Result } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
-import { checkComplete, markerSuffix, type HoldReason } from './completeness.ts';
+import { checkComplete, type HoldReason } from './completeness.ts';
+import { faultPoint } from '../faults.ts';
 import { sha256OfFile } from './fingerprint.ts';
 import { readColumnMapping, type ColumnMapping } from './header.ts';
 import { holdFile, snapshotGuard } from './holdFile.ts';
-import { releaseHolds } from './holds.ts';
-import { findIngested, portfoliosOf, recordFile, updateArchivedPath, type EarlierDelivery } from './ledger.ts';
+import { findIngested } from './ledger.ts';
 import { layoutOf, type KindLayout } from './layout.ts';
 import { loadFile } from './load.ts';
-import { archiveDir, freePath, moveWithoutOverwrite, quarantine } from './moves.ts';
+import { archiveDir, freePath } from './moves.ts';
 import { plausibilityFor, type Plausibility } from './plausibility.ts';
+import { alreadyLoaded, recordRejected, settle } from './recordOutcome.ts';
 import { matchSource } from './sourceMatch.ts';
 import { dropStage, stageFile } from './stage.ts';
 import { findFirstProblem } from './validate.ts';
@@ -70,17 +70,15 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
   let rejection: Rejection;
   if (prepared.ok) {
     const { source, layout, mapping } = prepared.value;
-    const dir = archiveDir(config.archive, receivedAt);
-    const planned = freePath(dir, name);
+    const planned = freePath(archiveDir(config.archive, receivedAt), name);
     const guard = snapshotGuard(db, config, filePath, name, source.kind);
     const attempt = await loadFile(db, filePath, source, layout, mapping, bounds, hashing, { ...base, archivedPath: planned }, guard);
     if (attempt.kind === 'held') return holdFile(db, flog, filePath, { ...base, sha256: attempt.sha256 }, attempt.hold);
     if (attempt.kind === 'known') return alreadyLoaded(db, config, flog, filePath, attempt.earlier, { ...base, sha256: attempt.sha256 });
     if (attempt.kind === 'loaded') {
-      // committed: from here a crash leaves the file in the inbox, and alreadyLoaded() finishes the move
-      const movedTo = moveWithoutOverwrite(filePath, dir, name);
-      if (movedTo !== planned) await updateArchivedPath(db, attempt.fileId, movedTo);
-      await leftInbox(db, config, filePath, name);
+      // committed with its ledger row: from here a kill leaves the file in the inbox, and alreadyLoaded() finishes the move
+      faultPoint('committed');
+      const movedTo = await settle(db, config, filePath, planned, attempt.fileId);
       const { rows, minDate, maxDate, portfolios } = attempt.summary;
       const seconds = (performance.now() - started) / 1000;
       flog.info(
@@ -99,14 +97,7 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
     if (earlier) return alreadyLoaded(db, config, flog, filePath, earlier, { ...base, sha256 });
     rejection = prepared.rejection;
   }
-
-  const movedTo = quarantine(filePath, config.quarantine, rejection, receivedAt);
-  const fileId = await recordFile(db, {
-    ...base, sha256, rows: 0, status: 'rejected', error: formatRejection(rejection), archivedPath: movedTo, minDate: null, maxDate: null, duplicateOf: null,
-  });
-  await leftInbox(db, config, filePath, name);
-  flog.warn({ fileId, movedTo, ...rejection }, 'file rejected');
-  return { status: 'rejected', fileId, name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo, rejection };
+  return recordRejected(db, config, flog, filePath, { ...base, sha256 }, rejection);
 }
 
 interface Prepared {
@@ -150,58 +141,4 @@ function unknownKind(config: Config, name: string): Result<never> {
       message: `the name matches no source pattern (${patterns})`,
     },
   };
-}
-
-/**
- * These bytes were loaded before. Under the same name and not yet in the archive, the
- * process stopped between commit and move: finish the move and report the load again
- * (its recompute may not have run). Otherwise it is a re-delivery: record a duplicate.
- */
-async function alreadyLoaded(
-  db: Database,
-  config: Config,
-  flog: Logger,
-  filePath: string,
-  earlier: EarlierDelivery,
-  base: { name: string; sha256: string; kind: FileKind | null; source: string | null; receivedAt: Date },
-): Promise<IngestOutcome> {
-  const here = path.resolve(filePath);
-  const archived = statOrNull(earlier.archivedPath);
-  const sameFile = archived !== null && sameInode(archived, statSync(here));
-  if (earlier.name === base.name && here !== earlier.archivedPath && (archived === null || sameFile)) {
-    let movedTo = earlier.archivedPath;
-    if (sameFile) unlinkSync(here); // the link into the archive was made, only the unlink was lost
-    else movedTo = moveWithoutOverwrite(here, path.dirname(earlier.archivedPath), path.basename(earlier.archivedPath));
-    if (movedTo !== earlier.archivedPath) await updateArchivedPath(db, earlier.fileId, movedTo);
-    flog.info({ fileId: earlier.fileId, movedTo }, 'file was loaded before an interrupted move; move finished');
-    const portfolios = earlier.kind === 'positions' ? await portfoliosOf(db, earlier.fileId) : null;
-    return { status: 'ingested', fileId: earlier.fileId, name: base.name, kind: earlier.kind, rows: earlier.rows, minDate: earlier.minDate, portfolios, movedTo };
-  }
-
-  // re-ingesting the archived copy itself: record it, leave it where it is
-  const movedTo = here === earlier.archivedPath ? here : moveWithoutOverwrite(here, archiveDir(config.archive, base.receivedAt), base.name);
-  const fileId = await recordFile(db, {
-    ...base, rows: 0, status: 'duplicate', error: null, archivedPath: movedTo, minDate: null, maxDate: null, duplicateOf: earlier.fileId,
-  });
-  flog.info({ fileId, duplicateOf: earlier.fileId, firstName: earlier.name, movedTo }, 'file is a duplicate; nothing added');
-  return { status: 'duplicate', fileId, name: base.name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo, duplicateOf: earlier.fileId };
-}
-
-/** The delivery has left the inbox: its holds end and its done-marker goes. */
-async function leftInbox(db: Database, config: Config, filePath: string, name: string): Promise<void> {
-  await releaseHolds(db, name);
-  const marker = markerSuffix(config);
-  if (marker !== null) rmSync(`${filePath}${marker}`, { force: true });
-}
-
-function statOrNull(p: string) {
-  try {
-    return statSync(p);
-  } catch {
-    return null;
-  }
-}
-
-function sameInode(a: { dev: number; ino: number }, b: { dev: number; ino: number }): boolean {
-  return a.dev === b.dev && a.ino === b.ino;
 }

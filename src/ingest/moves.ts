@@ -1,6 +1,7 @@
 import { copyFileSync, constants, existsSync, linkSync, mkdirSync, unlinkSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { formatRejection, type Rejection } from '../errors.ts';
+import { faultPoint } from '../faults.ts';
 
 /** `archive/2026-04-12/`: the folder of the day the file was received (local date). */
 export function archiveDir(archiveRoot: string, receivedAt: Date): string {
@@ -51,14 +52,17 @@ export function moveWithoutOverwrite(from: string, dir: string, name: string): s
         throw copyErr;
       }
     }
+    faultPoint('linked');
     unlinkSync(from);
     return target;
   }
 }
 
-/** Moves a rejected file into quarantine and writes `<name>.reason.txt` beside it. */
-export function quarantine(from: string, quarantineDir: string, rejection: Rejection, receivedAt: Date): string {
-  const target = moveWithoutOverwrite(from, quarantineDir, path.basename(from));
+/**
+ * Writes `<target>.reason.txt` for a rejected file about to be moved to `target`: the
+ * note is there before the file, so a kill never leaves a quarantined file without one.
+ */
+export function writeReasonFile(target: string, rejection: Rejection, receivedAt: Date): void {
   const lines = [
     `file:     ${rejection.file}`,
     `received: ${receivedAt.toISOString()}`,
@@ -71,6 +75,6 @@ export function quarantine(from: string, quarantineDir: string, rejection: Rejec
     '',
     'Fix the file and drop it into the inbox again; nothing of it was loaded.',
   ];
+  mkdirSync(path.dirname(target), { recursive: true });
   writeFileSync(`${target}.reason.txt`, `${lines.filter((l) => l !== null).join('\n')}\n`);
-  return target;
 }

@@ -4,7 +4,7 @@ import type { Logger } from 'pino';
 import { deliverAlerts } from '../alerts/deliverAlerts.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
-import { auditArchive } from '../ingest/archiveAudit.ts';
+import { recoverAtStart } from '../ingest/recovery.ts';
 import { markerSuffix } from '../ingest/completeness.ts';
 import { processBatch } from '../pipeline/processBatch.ts';
 import type { Database } from '../storage/database.ts';
@@ -108,7 +108,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
   try {
     // new arrivals queue up (lane still closed) while the catch-up list is made
     watcher = await watchInbox(config, log, (file) => queue.addFile(file));
-    await auditArchive(db, log);
+    await recoverAtStart(db, config, log);
     const present = listInbox(config.inbox, markerSuffix(config));
     const stable = await Promise.all(present.map((f) => waitUntilStable(f, config.watch.stableMs, config.watch.pollMs)));
     const catchUp = present.filter((_, i) => stable[i]);

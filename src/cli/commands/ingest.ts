@@ -2,7 +2,7 @@ import { lstatSync } from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { formatRejection, RiskfoldError } from '../../errors.ts';
-import { auditArchive } from '../../ingest/archiveAudit.ts';
+import { recoverAtStart } from '../../ingest/recovery.ts';
 import { markerSuffix } from '../../ingest/completeness.ts';
 import type { IngestOutcome } from '../../ingest/ingestFile.ts';
 import { processBatch } from '../../pipeline/processBatch.ts';
@@ -29,7 +29,7 @@ export function registerIngest(program: Command): void {
     given.forEach(requirePlainFile);
     const db = await openWorkspace(config, log);
     try {
-      await auditArchive(db, log);
+      await recoverAtStart(db, config, log);
       const batch = given.length > 0 ? given : listInbox(config.inbox, markerSuffix(config));
       if (batch.length === 0) process.stdout.write(`no files in ${path.relative(process.cwd(), config.inbox) || '.'}\n`);
       const summary = await processBatch(db, config, log, batch, { deliver: true, onFile: (o) => process.stdout.write(`${describeOutcome(o)}\n`) });
