@@ -222,9 +222,22 @@ export const configSchema = z
       .object({
         stableMs: z.number().int().min(0).default(1000).describe('A file counts as written once its size holds this long.'),
         pollMs: z.number().int().positive().default(100).describe('How often a growing file\'s size is checked.'),
+        settleMs: z
+          .number()
+          .int()
+          .min(0)
+          .default(2000)
+          .describe('Files landing within this long of each other form one batch (one run): it starts this long after the last arrival.'),
+        maxBatchWaitMs: z
+          .number()
+          .int()
+          .positive()
+          .default(30_000)
+          .describe('A batch starts at the latest this long after its first arrival, however files keep trickling in.'),
       })
       .strict()
-      .default({ stableMs: 1000, pollMs: 100 }),
+      .refine((w) => w.settleMs <= w.maxBatchWaitMs, { message: 'settleMs must not exceed maxBatchWaitMs', path: ['settleMs'] })
+      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, maxBatchWaitMs: 30_000 }),
     ingest: ingestSchema.default(ingestSchema.parse({})),
     risk: riskSchema.default(riskSchema.parse({})),
     limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),

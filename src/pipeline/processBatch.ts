@@ -3,10 +3,12 @@ import path from 'node:path';
 import type { Logger } from 'pino';
 import { deliverAlerts, type DeliverySummary } from '../alerts/deliverAlerts.ts';
 import type { Config } from '../config/load.ts';
+import { orderDeliveries } from '../ingest/deliveryOrder.ts';
 import { ingestFile, type IngestOutcome } from '../ingest/ingestFile.ts';
 import { recompute, type RunSummary } from '../risk/recompute.ts';
 import type { Database } from '../storage/database.ts';
 import { publishReadCopy } from '../storage/workspace.ts';
+import { nothingToCompute } from './nothingToCompute.ts';
 import { mergeScope, triggerFor, uncoveredFiles, type RecomputeScope } from './recomputeScope.ts';
 
 export interface BatchOptions {
@@ -29,12 +31,14 @@ export interface BatchSummary {
   run: RunSummary | null;
   /** The recompute failed; its files stay uncovered and the next batch or start retries them. */
   runError: string | null;
+  /** Why no run was made although files were loaded (nothing to compute), in plain words. */
+  idle: string | null;
   delivery: DeliverySummary | null;
 }
 
 /**
- * One unit of the worker's queue: each file in its own ingest transaction (in the order
- * given), then ONE recompute over everything they touched, which checks limits inside
+ * One unit of the worker's queue: each file in its own ingest transaction (reference
+ * data, fx, prices, then positions; by arrival within a kind), then ONE recompute over everything they touched, which checks limits inside
  * its transaction, then alert delivery (optional) and the read copy.
  */
 export async function processBatch(
@@ -45,9 +49,9 @@ export async function processBatch(
   options: BatchOptions = {},
 ): Promise<BatchSummary> {
   const blog = log.child({ stage: 'pipeline' });
-  const summary: BatchSummary = { files: [], skipped: [], scope: null, run: null, runError: null, delivery: null };
+  const summary: BatchSummary = { files: [], skipped: [], scope: null, run: null, runError: null, idle: null, delivery: null };
 
-  for (const file of files) {
+  for (const file of orderDeliveries(config, files)) {
     if (options.shouldStop?.()) {
       summary.skipped.push(file);
       continue;
@@ -65,7 +69,9 @@ export async function processBatch(
   }
 
   summary.scope = mergeScope(summary.files, await uncoveredFiles(db));
-  if (summary.scope) {
+  summary.idle = summary.scope && (await nothingToCompute(db, summary.scope));
+  if (summary.idle) blog.info({ files: summary.scope?.files }, summary.idle);
+  if (summary.scope && !summary.idle) {
     const trigger = triggerFor(summary.scope, summary.files.some((f) => f.status === 'ingested') ? 'ingest' : 'resume');
     try {
       summary.run = await recompute(db, config, log, { trigger, from: summary.scope.from, portfolios: summary.scope.portfolios });
@@ -83,6 +89,7 @@ export async function processBatch(
       skipped: summary.skipped.length,
       runId: summary.run?.runId ?? null,
       runError: summary.runError,
+      idle: summary.idle,
     },
     'batch done',
   );

@@ -9,6 +9,7 @@ import { markerSuffix } from '../ingest/completeness.ts';
 import { processBatch } from '../pipeline/processBatch.ts';
 import type { Database } from '../storage/database.ts';
 import { openWorkspace, publishReadCopy } from '../storage/workspace.ts';
+import { ArrivalWindow } from './arrivalWindow.ts';
 import { DeliveryLoop } from './deliveryLoop.ts';
 import { listInbox, waitUntilStable } from './inboxFiles.ts';
 import { watchInbox } from './inboxWatcher.ts';
@@ -76,6 +77,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
     }
   };
   const queue = new WorkQueue(runBatch);
+  const arrivals = new ArrivalWindow(config.watch.settleMs, config.watch.maxBatchWaitMs, (files) => queue.addFiles(files));
   const republish = () => {
     publishWanted = true;
     queue.exclusive(() => (publishWanted ? publishReadCopy(db, config, log) : Promise.resolve())).then(
@@ -94,6 +96,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       stopping = true;
       wlog.info({ waiting: queue.waiting }, 'stopping: finishing the current file');
       await watcher?.close();
+      arrivals.close();
       await schedules?.stop();
       await queue.stop();
       await delivery.stop();
@@ -107,7 +110,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
 
   try {
     // new arrivals queue up (lane still closed) while the catch-up list is made
-    watcher = await watchInbox(config, log, (file) => queue.addFile(file));
+    watcher = await watchInbox(config, log, (file) => arrivals.add(file));
     await recoverAtStart(db, config, log);
     const present = listInbox(config.inbox, markerSuffix(config));
     const stable = await Promise.all(present.map((f) => waitUntilStable(f, config.watch.stableMs, config.watch.pollMs)));

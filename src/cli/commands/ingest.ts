@@ -12,8 +12,8 @@ import { contextFrom, withConfigOption } from '../context.ts';
 import { describeRun } from './recompute.ts';
 
 /**
- * `riskfold ingest [FILE...]`: the given files (in the order given) or the inbox (oldest
- * first), through the same batch as the worker: ingest each, one recompute, limits,
+ * `riskfold ingest [FILE...]`: the given files or the inbox, through the same batch as
+ * the worker (applied securities, fx, prices, then positions, by arrival within a kind): ingest each, one recompute, limits,
  * alerts, read copy. A rejected file is data, not a failure: it is printed and the exit
  * code stays 0; a missing file, a locked database or a failed recompute exit non-zero.
  */
@@ -37,6 +37,7 @@ export function registerIngest(program: Command): void {
       const rejected = summary.files.filter((f) => f.status === 'rejected').length;
       if (rejected > 0) process.stdout.write(`${rejected} file${rejected === 1 ? '' : 's'} rejected: see the reason files in ${shown(config.quarantine)}\n`);
       if (summary.run) process.stdout.write(`${describeRun(summary.run)}\n`);
+      if (summary.idle) process.stdout.write(`${summary.idle}\n`);
       if (summary.runError !== null) throw new Error(`the files are loaded but the recompute failed: ${summary.runError}`);
     } finally {
       db.close();
