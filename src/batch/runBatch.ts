@@ -41,7 +41,7 @@ export interface BatchSummary {
  * data, fx, prices, then positions; by arrival within a kind), then ONE recompute over everything they touched, which checks limits inside
  * its transaction, then alert delivery (optional) and the read copy.
  */
-export async function processBatch(
+export async function runBatch(
   db: Database,
   config: Config,
   log: Logger,

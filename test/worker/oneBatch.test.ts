@@ -2,7 +2,7 @@ import { writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { memoryLogger } from '../../src/log/logger.ts';
-import { startWorker, type Worker } from '../../src/watch/runWorker.ts';
+import { startWorker, type Worker } from '../../src/worker/startWorker.ts';
 import { pricesCsv } from '../helpers/files.ts';
 import { waitFor } from '../helpers/wait.ts';
 import { workerDir, type WorkerDir } from '../helpers/workspace.ts';

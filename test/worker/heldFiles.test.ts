@@ -3,7 +3,7 @@ import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { memoryLogger } from '../../src/log/logger.ts';
 import { openDatabase } from '../../src/storage/database.ts';
-import { startWorker, type Worker } from '../../src/watch/runWorker.ts';
+import { startWorker, type Worker } from '../../src/worker/startWorker.ts';
 import { waitFor } from '../helpers/wait.ts';
 import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
 

@@ -1,6 +1,6 @@
 import { utimesSync } from 'node:fs';
 import { afterEach, describe, expect, it } from 'vitest';
-import { processBatch } from '../../src/pipeline/processBatch.ts';
+import { runBatch } from '../../src/batch/runBatch.ts';
 import { refreshDerived } from '../../src/storage/derived.ts';
 import { pricesCsv, writeCsv } from '../helpers/files.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
@@ -11,7 +11,7 @@ function arrived(file: string, second: number): string {
   return file;
 }
 
-describe('processBatch: the order of one delivery and one run for it', () => {
+describe('runBatch: the order of one delivery and one run for it', () => {
   let ws: TempWorkspace | undefined;
   afterEach(() => ws?.cleanup());
 
@@ -24,7 +24,7 @@ describe('processBatch: the order of one delivery and one run for it', () => {
       arrived(writeCsv(inbox, 'fx_0410.csv', [['date', 'currency', 'rate'], ['2020-01-01', 'EUR', '1.1']]), 3),
       arrived(writeCsv(inbox, 'securities_0410.csv', [['security_id', 'currency'], ['EQ-NORDWIND', 'USD']]), 4),
     ];
-    const summary = await processBatch(ws.db, ws.config, ws.log, files);
+    const summary = await runBatch(ws.db, ws.config, ws.log, files);
     expect(summary.files.map((f) => f.name)).toEqual(['securities_0410.csv', 'fx_0410.csv', 'prices_0410.csv', 'positions_0410.csv']);
     expect(summary.run).not.toBeNull();
   });
@@ -34,7 +34,7 @@ describe('processBatch: the order of one delivery and one run for it', () => {
     const header = ['date', 'security_id', 'price'];
     const original = arrived(writeCsv(ws.config.inbox, 'prices_z_0410.csv', [header, ['2020-01-02', 'EQ-NORDWIND', '101']]), 1);
     const correction = arrived(writeCsv(ws.config.inbox, 'prices_a_fix.csv', [header, ['2020-01-02', 'EQ-NORDWIND', '102.5']]), 2);
-    const summary = await processBatch(ws.db, ws.config, ws.log, [correction, original]);
+    const summary = await runBatch(ws.db, ws.config, ws.log, [correction, original]);
     expect(summary.files.map((f) => f.name)).toEqual(['prices_z_0410.csv', 'prices_a_fix.csv']);
     await refreshDerived(ws.db, ws.log);
     expect(await ws.db.all("select price from clean_prices where security_id = 'EQ-NORDWIND'")).toEqual([{ price: 102.5 }]);
@@ -42,10 +42,10 @@ describe('processBatch: the order of one delivery and one run for it', () => {
 
   it('runs nothing for a batch whose dates have no prices yet, and says so plainly', async () => {
     ws = await tempWorkspace();
-    await processBatch(ws.db, ws.config, ws.log, [writeCsv(ws.config.inbox, 'prices_0101.csv', pricesCsv(30, 2, '2020-01-01').trim().split('\n').map((l) => l.split(',')))]);
+    await runBatch(ws.db, ws.config, ws.log, [writeCsv(ws.config.inbox, 'prices_0101.csv', pricesCsv(30, 2, '2020-01-01').trim().split('\n').map((l) => l.split(',')))]);
     const runsBefore = await ws.db.all('select run_id from risk_runs');
     const positions = writeCsv(ws.config.inbox, 'positions_0301.csv', [['date', 'portfolio_id', 'security_id', 'quantity'], ['2020-03-01', 'acct-growth', 'EQ-NORDWIND', '10']]);
-    const summary = await processBatch(ws.db, ws.config, ws.log, [positions]);
+    const summary = await runBatch(ws.db, ws.config, ws.log, [positions]);
     expect(summary.files.map((f) => f.status)).toEqual(['ingested']);
     expect(summary.run).toBeNull();
     expect(summary.idle).toBe('nothing to compute: the files start on 2020-03-01, after the last priced date 2020-01-30; risk follows when prices for those dates arrive');

@@ -4,15 +4,15 @@ import type { Logger } from 'pino';
 import { deliverAlerts } from '../alerts/deliverAlerts.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
-import { recoverAtStart } from '../ingest/recovery.ts';
+import { runBatch } from '../batch/runBatch.ts';
 import { markerSuffix } from '../ingest/completeness.ts';
-import { processBatch } from '../pipeline/processBatch.ts';
+import { recoverAtStart } from '../ingest/recovery.ts';
 import type { Database } from '../storage/database.ts';
 import { openWorkspace, publishReadCopy } from '../storage/workspace.ts';
-import { ArrivalWindow } from './arrivalWindow.ts';
+import { ArrivalWindow } from '../watch/arrivalWindow.ts';
 import { DeliveryLoop } from './deliveryLoop.ts';
-import { listInbox, waitUntilStable } from './inboxFiles.ts';
-import { watchInbox } from './inboxWatcher.ts';
+import { listInbox, waitUntilStable } from '../watch/inboxFiles.ts';
+import { watchInbox } from '../watch/inboxWatcher.ts';
 import { describeHolder, removePidFile, writePidFile } from './workerPidFile.ts';
 import { WorkQueue } from './workQueue.ts';
 
@@ -63,9 +63,9 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
   // a fault is reported through `done` to whoever awaits it, never as an unhandled rejection
   done.catch(() => undefined);
 
-  const runBatch = async (files: string[]) => {
+  const handleBatch = async (files: string[]) => {
     try {
-      await processBatch(db, config, log, files, { deliver: false, shouldStop: () => stopping });
+      await runBatch(db, config, log, files, { deliver: false, shouldStop: () => stopping });
       publishWanted = false;
       delivery.kick();
     } catch (err) {
@@ -76,7 +76,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       void stop();
     }
   };
-  const queue = new WorkQueue(runBatch);
+  const queue = new WorkQueue(handleBatch);
   const arrivals = new ArrivalWindow(config.watch.settleMs, config.watch.maxBatchWaitMs, (files) => queue.addFiles(files));
   const republish = () => {
     publishWanted = true;
