@@ -50,6 +50,6 @@ describe('runBatch: the order of one delivery and one run for it', () => {
     expect(summary.run).toBeNull();
     expect(summary.idle).toBe('nothing to compute: the files start on 2020-03-01, after the last priced date 2020-01-30; risk follows when prices for those dates arrive');
     expect(await ws.db.all('select run_id from risk_runs')).toEqual(runsBefore);
-    expect(ws.logLines().find((l) => l.msg === summary.idle)).toMatchObject({ level: 30, stage: 'pipeline' });
+    expect(ws.logLines().find((l) => l.msg === summary.idle)).toMatchObject({ level: 30, stage: 'batch' });
   });
 });
