@@ -10,7 +10,8 @@ export type RejectionCode =
   | 'empty_file'
   | 'missing_column'
   | 'bad_value'
-  | 'duplicate_key';
+  | 'duplicate_key'
+  | 'too_large';
 
 export interface Rejection {
   code: RejectionCode;

@@ -166,6 +166,50 @@ const scheduleSchema = z
   })
   .strict();
 
+const isoDate = z.string().regex(/^\d{4}-\d\d-\d\d$/, 'a date written YYYY-MM-DD');
+
+const ingestSchema = z
+  .object({
+    earliestDate: isoDate.default('1900-01-01').describe('A row dated before this is refused.'),
+    maxDaysAhead: z
+      .number()
+      .int()
+      .min(0)
+      .default(7)
+      .describe('A row dated more than this many days after the day the file is received is refused.'),
+    minMagnitude: z
+      .number()
+      .positive()
+      .default(1e-12)
+      .describe('Smallest accepted magnitude of a price, fx rate or non-zero quantity (refuses subnormal values).'),
+    maxMagnitude: z
+      .number()
+      .positive()
+      .default(1e15)
+      .describe('Largest accepted magnitude of a price, fx rate or quantity (refuses values that overflow a valuation).'),
+    doneMarker: z
+      .enum(['none', 'done', 'ok'])
+      .default('none')
+      .describe('"done" or "ok": a delivery is loaded only once <name>.done (or <name>.ok) lies beside it; the marker is then removed.'),
+    snapshotKeepShare: z
+      .number()
+      .min(0)
+      .max(1)
+      .default(0.5)
+      .describe('A positions snapshot keeping fewer than this share of a portfolio\'s previous holdings is held as suspect (0 turns the check off).'),
+    confirmedFiles: z
+      .array(z.string().min(1))
+      .default([])
+      .describe('File names whose suspect snapshot drop is confirmed as intended: they load.'),
+    maxExpandedMB: z
+      .number()
+      .positive()
+      .default(512)
+      .describe('A compressed delivery expanding past this many megabytes is refused while it is read.'),
+  })
+  .strict()
+  .refine((i) => i.minMagnitude < i.maxMagnitude, { message: 'minMagnitude must be below maxMagnitude', path: ['minMagnitude'] });
+
 export const configSchema = z
   .object({
     $schema: z.string().optional(),
@@ -192,9 +236,23 @@ export const configSchema = z
       .object({
         stableMs: z.number().int().min(0).default(1000).describe('A file counts as written once its size holds this long.'),
         pollMs: z.number().int().positive().default(100).describe('How often a growing file\'s size is checked.'),
+        settleMs: z
+          .number()
+          .int()
+          .min(0)
+          .default(2000)
+          .describe('Files landing within this long of each other form one batch (one run): it starts this long after the last arrival.'),
+        maxBatchWaitMs: z
+          .number()
+          .int()
+          .positive()
+          .default(30_000)
+          .describe('A batch starts at the latest this long after its first arrival, however files keep trickling in.'),
       })
       .strict()
-      .default({ stableMs: 1000, pollMs: 100 }),
+      .refine((w) => w.settleMs <= w.maxBatchWaitMs, { message: 'settleMs must not exceed maxBatchWaitMs', path: ['settleMs'] })
+      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, maxBatchWaitMs: 30_000 }),
+    ingest: ingestSchema.default(ingestSchema.parse({})),
     risk: riskSchema.default(riskSchema.parse({})),
     limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),
     alerts: alertsSchema.default({ maxAgeDays: 5 }),

@@ -1,5 +1,6 @@
 import { execFile } from 'node:child_process';
 import { existsSync, mkdirSync, renameSync, rmSync } from 'node:fs';
+import { faultPoint } from '../faults.ts';
 import path from 'node:path';
 import { promisify } from 'node:util';
 import type { Logger } from 'pino';
@@ -53,6 +54,7 @@ export async function publishReadCopy(db: Database, config: Config, log: Logger)
   const tmp = `${config.readCopy}.tmp-${process.pid}`;
   try {
     await copyInChildProcess(config.database, tmp);
+    faultPoint('copied');
     renameSync(tmp, config.readCopy);
   } catch (err) {
     rmSync(tmp, { force: true }); // a full disk must not leave a stray copy behind

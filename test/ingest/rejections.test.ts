@@ -160,11 +160,12 @@ describe('ingestFile: rejected files', () => {
     );
   });
 
-  it('rejects an empty file and a file with a header only', async () => {
+  it('holds a zero-byte file (a write not begun) and rejects a file with a header only', async () => {
     const ws = await workspace();
     const empty = path.join(ws.config.inbox, 'prices_empty.csv');
     writeFileSync(empty, '');
-    expect(await expectRejected(empty)).toMatchObject({ code: 'empty_file' });
+    expect(await ingestFile(ws.db, ws.config, ws.log, empty)).toMatchObject({ status: 'held', fileId: null, hold: { code: 'empty_so_far' } });
+    expect(existsSync(empty)).toBe(true);
     expect(await rejectRows('prices_header.csv', [PRICE_HEADER])).toMatchObject({ code: 'empty_file', message: 'has a header but no data rows' });
   });
 
@@ -201,5 +202,82 @@ describe('ingestFile: rejected files', () => {
     const ws = current();
     expect(readdirSync(ws.config.quarantine).sort()).toEqual(['prices_j-1.csv', 'prices_j-1.csv.reason.txt', 'prices_j.csv', 'prices_j.csv.reason.txt']);
     expect(readFileSync(path.join(ws.config.quarantine, 'prices_j-1.csv.reason.txt'), 'utf8')).toContain('value:    "-2"');
+  });
+});
+
+/** 'YYYY-MM-DD' of the local day `days` after today (the worker counts from the receiving day, local time). */
+function localDayFromToday(days: number): string {
+  const now = new Date();
+  const d = new Date(now.getFullYear(), now.getMonth(), now.getDate() + days);
+  return [d.getFullYear(), d.getMonth() + 1, d.getDate()].map((n) => String(n).padStart(2, '0')).join('-');
+}
+
+describe('ingestFile: plausibility at the door', () => {
+  const POSITION_HEADER = ['date', 'portfolio_id', 'security_id', 'quantity'];
+
+  it('refuses dates before 1900-01-01 and after today plus 7 days, naming the accepted range', async () => {
+    const ahead = localDayFromToday(7);
+    const tooFar = localDayFromToday(8);
+    const early = await rejectRows('prices_early.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1', ''], ['1899-12-31', 'EQ-A', '1', '']]);
+    expect(early).toMatchObject({ row: 2, column: 'date', value: '1899-12-31', expected: `a date from 1900-01-01 to ${ahead}` });
+    expect(formatRejection(early)).toBe(`prices_early.csv row 2, column date: "1899-12-31" is not a date from 1900-01-01 to ${ahead}`);
+    expect(await rejectRows('prices_zero.csv', [PRICE_HEADER, ['0000-01-01', 'EQ-A', '1', '']])).toMatchObject({ row: 1, column: 'date', value: '0000-01-01' });
+    expect(await rejectRows('prices_end.csv', [PRICE_HEADER, ['9999-12-31', 'EQ-A', '1', '']])).toMatchObject({ row: 1, column: 'date', value: '9999-12-31' });
+    expect(await rejectRows('prices_ahead.csv', [PRICE_HEADER, [tooFar, 'EQ-A', '1', '']])).toMatchObject({ row: 1, column: 'date', value: tooFar });
+    const w = current();
+    const edge = await ingestFile(w.db, w.config, w.log, writeCsv(w.config.inbox, 'prices_edge.csv', [PRICE_HEADER, ['1900-01-01', 'EQ-A', '1', ''], [ahead, 'EQ-A', '1', '']]));
+    expect(edge.status).toBe('ingested');
+  });
+
+  // IEEE 754 binary64: 5e-324 is the smallest subnormal, about 1.8e308 the largest finite value
+  it('refuses a subnormal price and overflow-prone prices and quantities', async () => {
+    const tiny = await rejectRows('prices_tiny.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '5e-324', '']]);
+    expect(formatRejection(tiny)).toBe('prices_tiny.csv row 1, column price: "5e-324" is not a positive number of magnitude 1e-12 to 1000000000000000');
+    expect(await rejectRows('prices_huge.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1e308', '']])).toMatchObject({ row: 1, column: 'price', value: '1e308' });
+    const qty = await rejectRows('positions_huge.csv', [POSITION_HEADER, ['2026-04-10', 'acct-growth', 'EQ-A', '1'], ['2026-04-10', 'acct-growth', 'EQ-B', '-1e307']]);
+    expect(qty).toMatchObject({ row: 2, column: 'quantity', value: '-1e307', expected: 'a number of zero or of magnitude 1e-12 to 1000000000000000' });
+    expect(await rejectRows('fx_tiny.csv', [['date', 'currency', 'rate'], ['2026-04-10', 'EUR', '1e-300']])).toMatchObject({ row: 1, column: 'rate' });
+  });
+
+  it('reads the magnitude bounds from the config', async () => {
+    ws = await tempWorkspace({ ingest: { maxMagnitude: 1e6, minMagnitude: 0.001 } });
+    const r = await rejectRows('prices_cfg.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '999999', ''], ['2026-04-10', 'EQ-B', '1000001', '']]);
+    expect(r).toMatchObject({ row: 2, column: 'price', value: '1000001', expected: 'a positive number of magnitude 0.001 to 1000000' });
+    const w = current();
+    const zero = await ingestFile(w.db, w.config, w.log, writeCsv(w.config.inbox, 'positions_z.csv', [POSITION_HEADER, ['2026-04-10', 'acct-growth', 'EQ-A', '0']]));
+    expect(zero.status).toBe('ingested');
+  });
+
+  // DuckDB's cast alone reads "1_75.5" as 175.5 and "+-1" as -1 (checked against DuckDB 1.5)
+  it('accepts only numbers written in plain decimal notation', async () => {
+    const r = await rejectRows('prices_us.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1_75.5', '']]);
+    expect(formatRejection(r)).toBe('prices_us.csv row 1, column price: "1_75.5" is not a positive number');
+    for (const [i, bad] of ['0x1A', '.5e', '1.2.3', '+-1', '1__2', 'NaN', 'inf'].entries()) {
+      const got = await rejectRows(`positions_n${i}.csv`, [POSITION_HEADER, ['2026-04-10', 'acct-growth', 'EQ-A', bad]]);
+      expect(got).toMatchObject({ row: 1, column: 'quantity', value: bad });
+    }
+    const w = current();
+    const ok = await ingestFile(
+      w.db,
+      w.config,
+      w.log,
+      writeCsv(w.config.inbox, 'positions_ok.csv', [POSITION_HEADER, ...['-40', '+3', '.5', '2.5E3', '1e-3'].map((q, i) => ['2026-04-10', 'acct-growth', `EQ-${i}`, q])]),
+    );
+    expect(ok.status).toBe('ingested');
+    const stored = await w.db.all<{ q: number }>('select quantity as q from positions where file_id = $1 order by line', [ok.fileId]);
+    expect(stored.map((s) => s.q)).toEqual([-40, 3, 0.5, 2500, 0.001]);
+  });
+
+  // Unicode Standard Annex #9 (bidirectional algorithm) lists U+202E and U+200F as explicit
+  // direction marks; ECMA-48 makes ESC (U+001B) the start of terminal control sequences
+  it('refuses ids holding control, format or bidirectional characters, and prints them escaped', async () => {
+    const bidi = await rejectRows('positions_rlo.csv', [POSITION_HEADER, ['2026-04-10', 'acct\u202Egrowth', 'EQ-A', '1']]);
+    expect(bidi).toMatchObject({ row: 1, column: 'portfolio_id', value: 'acct\u202Egrowth', expected: 'an id of printable characters (no control, format or bidirectional marks)' });
+    expect(formatRejection(bidi)).toBe('positions_rlo.csv row 1, column portfolio_id: "acct\\u202egrowth" is not an id of printable characters (no control, format or bidirectional marks)');
+    const esc = await rejectRows('prices_esc.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-\u001b[31mA', '1', '']]);
+    expect(formatRejection(esc)).toContain('"EQ-\\u001b[31mA"');
+    for (const [i, id] of ['EQ-\u200FA', 'EQ-\u200BA', 'EQ-\u0007A'].entries()) {
+      expect(await rejectRows(`prices_id${i}.csv`, [PRICE_HEADER, ['2026-04-10', id, '1', '']])).toMatchObject({ column: 'security_id', value: id });
+    }
   });
 });
