@@ -220,7 +220,7 @@ describe('ingestFile: plausibility at the door', () => {
     const tooFar = localDayFromToday(8);
     const early = await rejectRows('prices_early.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1', ''], ['1899-12-31', 'EQ-A', '1', '']]);
     expect(early).toMatchObject({ row: 2, column: 'date', value: '1899-12-31', expected: `a date from 1900-01-01 to ${ahead}` });
-    expect(formatRejection(early)).toBe(`prices_early.csv row 2, column date: "1899-12-31" is not a date from 1900-01-01 to ${ahead}`);
+    expect(formatRejection(early)).toBe(`prices_early.csv line 3, column date: "1899-12-31" is not a date from 1900-01-01 to ${ahead}`);
     expect(await rejectRows('prices_zero.csv', [PRICE_HEADER, ['0000-01-01', 'EQ-A', '1', '']])).toMatchObject({ row: 1, column: 'date', value: '0000-01-01' });
     expect(await rejectRows('prices_end.csv', [PRICE_HEADER, ['9999-12-31', 'EQ-A', '1', '']])).toMatchObject({ row: 1, column: 'date', value: '9999-12-31' });
     expect(await rejectRows('prices_ahead.csv', [PRICE_HEADER, [tooFar, 'EQ-A', '1', '']])).toMatchObject({ row: 1, column: 'date', value: tooFar });
@@ -232,7 +232,7 @@ describe('ingestFile: plausibility at the door', () => {
   // IEEE 754 binary64: 5e-324 is the smallest subnormal, about 1.8e308 the largest finite value
   it('refuses a subnormal price and overflow-prone prices and quantities', async () => {
     const tiny = await rejectRows('prices_tiny.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '5e-324', '']]);
-    expect(formatRejection(tiny)).toBe('prices_tiny.csv row 1, column price: "5e-324" is not a positive number of magnitude 1e-12 to 1000000000000000');
+    expect(formatRejection(tiny)).toBe('prices_tiny.csv line 2, column price: "5e-324" is not a positive number of magnitude 1e-12 to 1000000000000000');
     expect(await rejectRows('prices_huge.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1e308', '']])).toMatchObject({ row: 1, column: 'price', value: '1e308' });
     const qty = await rejectRows('positions_huge.csv', [POSITION_HEADER, ['2026-04-10', 'acct-growth', 'EQ-A', '1'], ['2026-04-10', 'acct-growth', 'EQ-B', '-1e307']]);
     expect(qty).toMatchObject({ row: 2, column: 'quantity', value: '-1e307', expected: 'a number of zero or of magnitude 1e-12 to 1000000000000000' });
@@ -251,7 +251,7 @@ describe('ingestFile: plausibility at the door', () => {
   // DuckDB's cast alone reads "1_75.5" as 175.5 and "+-1" as -1 (checked against DuckDB 1.5)
   it('accepts only numbers written in plain decimal notation', async () => {
     const r = await rejectRows('prices_us.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1_75.5', '']]);
-    expect(formatRejection(r)).toBe('prices_us.csv row 1, column price: "1_75.5" is not a positive number');
+    expect(formatRejection(r)).toBe('prices_us.csv line 2, column price: "1_75.5" is not a positive number');
     for (const [i, bad] of ['0x1A', '.5e', '1.2.3', '+-1', '1__2', 'NaN', 'inf'].entries()) {
       const got = await rejectRows(`positions_n${i}.csv`, [POSITION_HEADER, ['2026-04-10', 'acct-growth', 'EQ-A', bad]]);
       expect(got).toMatchObject({ row: 1, column: 'quantity', value: bad });
@@ -273,7 +273,7 @@ describe('ingestFile: plausibility at the door', () => {
   it('refuses ids holding control, format or bidirectional characters, and prints them escaped', async () => {
     const bidi = await rejectRows('positions_rlo.csv', [POSITION_HEADER, ['2026-04-10', 'acct\u202Egrowth', 'EQ-A', '1']]);
     expect(bidi).toMatchObject({ row: 1, column: 'portfolio_id', value: 'acct\u202Egrowth', expected: 'an id of printable characters (no control, format or bidirectional marks)' });
-    expect(formatRejection(bidi)).toBe('positions_rlo.csv row 1, column portfolio_id: "acct\\u202egrowth" is not an id of printable characters (no control, format or bidirectional marks)');
+    expect(formatRejection(bidi)).toBe('positions_rlo.csv line 2, column portfolio_id: "acct\\u202egrowth" is not an id of printable characters (no control, format or bidirectional marks)');
     const esc = await rejectRows('prices_esc.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-\u001b[31mA', '1', '']]);
     expect(formatRejection(esc)).toContain('"EQ-\\u001b[31mA"');
     for (const [i, id] of ['EQ-\u200FA', 'EQ-\u200BA', 'EQ-\u0007A'].entries()) {
