@@ -2,7 +2,8 @@ import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { ALERT_RETRY_DEFAULTS } from '../config/schema.ts';
 import type { Database } from '../storage/database.ts';
-import { configuredChannels, type AlertMessage, type Channel } from './channels.ts';
+import { channelSecrets, configuredChannels, type AlertMessage, type Channel } from './channels.ts';
+import { redactSecrets } from './redact.ts';
 
 export interface DeliverySummary {
   /** Alerts every channel now has (this call). */
@@ -33,7 +34,7 @@ const lanes = new WeakMap<Database, Lane>();
  * transaction there. A failed channel is recorded on the alert (attempts, last_error,
  * next_attempt_at) and the call still resolves; only a database fault rejects.
  */
-export function deliverAlerts(db: Database, config: Config, log: Logger, options: { now?: Date } = {}): Promise<DeliverySummary> {
+export function deliverAlerts(db: Database, config: Config, log: Logger, options: { clock?: () => Date } = {}): Promise<DeliverySummary> {
   let lane = lanes.get(db);
   if (lane === undefined) {
     lane = { tail: Promise.resolve(), waiting: null };
@@ -43,7 +44,7 @@ export function deliverAlerts(db: Database, config: Config, log: Logger, options
   const current = lane;
   const pass = current.tail.then(() => {
     current.waiting = null;
-    return deliverDue(db, config, log.child({ stage: 'alerts' }), options.now ?? new Date());
+    return deliverDue(db, config, log.child({ stage: 'alerts' }), options.clock ?? (() => new Date()));
   });
   current.waiting = pass;
   current.tail = pass.catch(() => undefined);
@@ -65,7 +66,8 @@ interface DueAlert {
   attempts: number;
 }
 
-async function deliverDue(db: Database, config: Config, log: Logger, now: Date): Promise<DeliverySummary> {
+async function deliverDue(db: Database, config: Config, log: Logger, clock: () => Date): Promise<DeliverySummary> {
+  const now = clock();
   const retry: RetrySchedule = config.alerts.webhook ?? ALERT_RETRY_DEFAULTS;
   const channels = configuredChannels(config, log);
   const session = await db.openSession();
@@ -79,7 +81,7 @@ async function deliverDue(db: Database, config: Config, log: Logger, now: Date):
     );
     const summary: DeliverySummary = { delivered: 0, failed: 0, pending: 0 };
     for (const alert of due) {
-      if (await deliverOne(session, channels, alert, now, retry, log)) summary.delivered++;
+      if (await deliverOne(session, channels, alert, clock, retry, channelSecrets(config), log)) summary.delivered++;
       else summary.failed++;
     }
     const [{ pending }] = await session.all<{ pending: number }>('select count(*)::integer as pending from alerts where delivered_at is null');
@@ -95,8 +97,9 @@ async function deliverOne(
   db: Database,
   channels: Channel[],
   alert: DueAlert,
-  now: Date,
+  clock: () => Date,
   retry: RetrySchedule,
+  secrets: (string | undefined)[],
   log: Logger,
 ): Promise<boolean> {
   const done = await db.all<{ channel: string }>('select channel from alert_deliveries where alert_id = $1', [alert.alert_id]);
@@ -115,12 +118,15 @@ async function deliverOne(
     try {
       await channel.send(message);
     } catch (err) {
-      errors.push(`${channel.name}: ${(err as Error).message}`);
+      // whatever a channel's error quotes, a secret never reaches last_error, the log or status
+      errors.push(`${channel.name}: ${redactSecrets((err as Error).message, secrets)}`);
       continue;
     }
-    await db.run('insert into alert_deliveries values ($1, $2, $3::timestamptz)', [alert.alert_id, channel.name, now.toISOString()]);
+    await db.run('insert into alert_deliveries values ($1, $2, $3::timestamptz)', [alert.alert_id, channel.name, clock().toISOString()]);
   }
   const attempts = alert.attempts + 1;
+  // read after the sends: the backoff counts from this alert's failure, not from the round's start
+  const now = clock();
   if (errors.length === 0) {
     await db.run('update alerts set delivered_at = $1::timestamptz, attempts = $2, last_error = null, next_attempt_at = null where alert_id = $3', [
       now.toISOString(),
