@@ -1,5 +1,5 @@
 import type { Logger } from 'pino';
-import { readColumns } from '../../src/risk/columnar.ts';
+import { readColumns } from '../../src/storage/columnar.ts';
 import { quadraticForm, sampleCovariance } from '../../src/risk/math/covariance.ts';
 import { openWorkspace } from '../../src/storage/workspace.ts';
 import type { Database } from '../../src/storage/database.ts';

@@ -1,7 +1,7 @@
 import { statSync } from 'node:fs';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
-import type { QueryResult } from '../pipeline/readQuery.ts';
+import type { QueryResult } from '../read/readQuery.ts';
 import type { ReadHandle } from '../storage/workspace.ts';
 
 export const OUTPUT_FORMATS = ['table', 'csv', 'json'] as const;

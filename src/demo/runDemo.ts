@@ -5,7 +5,7 @@ import type { Logger } from 'pino';
 import { deliveriesSettled } from '../alerts/deliverAlerts.ts';
 import { loadConfig, type Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
-import { processBatch } from '../pipeline/processBatch.ts';
+import { runBatch } from '../batch/runBatch.ts';
 import { defaultReportName, reportHtml } from '../report/writeReport.ts';
 import { openWorkspace } from '../storage/workspace.ts';
 import { demoConfig } from './demoConfig.ts';
@@ -44,7 +44,7 @@ function prepareFolder(dir: string | undefined): string {
 
 /**
  * Builds the invented scenario in a folder and runs the whole pipeline on it, one
- * delivery at a time as the worker would (processBatch per delivery: ingest each file,
+ * delivery at a time as the worker would (runBatch per delivery: ingest each file,
  * one recompute, limit check, alert delivery, read copy), then writes the report of the
  * account that breached and returns the summary read back from the database.
  */
@@ -64,7 +64,7 @@ export async function runDemo(log: Logger, options: DemoOptions = {}): Promise<D
         writeFileSync(file, f.text);
         return file;
       });
-      const batch = await processBatch(db, config, log, files);
+      const batch = await runBatch(db, config, log, files);
       if (batch.runError !== null) throw new Error(`demo: the recompute after ${delivery.label} failed: ${batch.runError}`);
       options.onDelivery?.(delivery, i, deliveries.length);
     }

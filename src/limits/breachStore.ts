@@ -1,6 +1,6 @@
 import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
 import type { ResolvedLimit } from '../config/load.ts';
-import { ChunkAppender, readColumns } from '../risk/columnar.ts';
+import { ChunkAppender, readColumns } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';
 import { limitKey } from './applicableLimits.ts';
 import type { Episode, LimitLevel, MetricPoint } from './episodes.ts';

@@ -1,6 +1,6 @@
 import type { Database } from '../storage/database.ts';
 import { refreshDerived } from '../storage/derived.ts';
-import { readColumns, streamColumns } from './columnar.ts';
+import { readColumns, streamColumns } from '../storage/columnar.ts';
 
 /**
  * The risk stage's inputs, read from the views in bulk into typed arrays. Dates are

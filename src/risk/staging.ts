@@ -1,6 +1,6 @@
 import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
 import type { Database } from '../storage/database.ts';
-import { ChunkAppender } from './columnar.ts';
+import { ChunkAppender } from '../storage/columnar.ts';
 import type { ResultBatch } from './resultColumns.ts';
 
 /**

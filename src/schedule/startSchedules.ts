@@ -2,7 +2,7 @@ import cron, { type ScheduledTask, type TaskContext } from 'node-cron';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
-import type { ScheduleHost } from '../watch/runWorker.ts';
+import type { ScheduleHost } from '../worker/startWorker.ts';
 import { checkMissingData, checkpointDatabase } from './jobs.ts';
 
 /**

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { formatResult, parseFormat, toCsv, toTable } from '../../src/cli/format.ts';
-import type { QueryResult } from '../../src/pipeline/readQuery.ts';
+import type { QueryResult } from '../../src/read/readQuery.ts';
 
 const result: QueryResult = {
   columns: ['portfolio_id', 'vol_ex_ante', 'note'],

@@ -1,7 +1,7 @@
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
-import { processBatch } from '../../src/pipeline/processBatch.ts';
+import { runBatch } from '../../src/batch/runBatch.ts';
 import { writeCsv } from '../helpers/files.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 import { pricesCsv } from '../helpers/files.ts';
@@ -15,7 +15,7 @@ describe('riskfold status and sql with no worker running', () => {
     ws = await tempWorkspace();
     writeFileSync(path.join(ws.config.inbox, 'prices_2020.csv'), pricesCsv(70, 2));
     writeCsv(ws.config.inbox, 'positions_bad.csv', [['date', 'portfolio_id', 'security_id'], ['2020-01-01', 'acct-growth', 'EQ-NORDWIND']]);
-    await processBatch(ws.db, ws.config, ws.log, [
+    await runBatch(ws.db, ws.config, ws.log, [
       path.join(ws.config.inbox, 'prices_2020.csv'),
       path.join(ws.config.inbox, 'positions_bad.csv'),
     ]);

@@ -2,7 +2,7 @@ import { existsSync, readdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { openDatabase, type Database } from '../../src/storage/database.ts';
-import { pidFilePath } from '../../src/watch/workerPidFile.ts';
+import { pidFilePath } from '../../src/worker/workerPidFile.ts';
 import { waitFor } from '../helpers/wait.ts';
 import { pricesCsv } from '../helpers/files.ts';
 import { workerDir, type WorkerDir } from '../helpers/workspace.ts';

@@ -3,7 +3,7 @@ import path from 'node:path';
 import type { Command } from 'commander';
 import { formatRejection, RiskfoldError } from '../../errors.ts';
 import type { IngestOutcome } from '../../ingest/ingestFile.ts';
-import { processBatch } from '../../pipeline/processBatch.ts';
+import { runBatch } from '../../batch/runBatch.ts';
 import { openWorkspace } from '../../storage/workspace.ts';
 import { listInbox } from '../../watch/inboxFiles.ts';
 import { contextFrom, withConfigOption } from '../context.ts';
@@ -29,7 +29,7 @@ export function registerIngest(program: Command): void {
     try {
       const batch = given.length > 0 ? given : listInbox(config.inbox);
       if (batch.length === 0) process.stdout.write(`no files in ${path.relative(process.cwd(), config.inbox) || '.'}\n`);
-      const summary = await processBatch(db, config, log, batch, { deliver: true, onFile: (o) => process.stdout.write(`${describeOutcome(o)}\n`) });
+      const summary = await runBatch(db, config, log, batch, { deliver: true, onFile: (o) => process.stdout.write(`${describeOutcome(o)}\n`) });
       for (const skipped of summary.skipped) process.stdout.write(`skipped    ${path.basename(skipped)}: gone before its turn\n`);
       const rejected = summary.files.filter((f) => f.status === 'rejected').length;
       if (rejected > 0) process.stdout.write(`${rejected} file${rejected === 1 ? '' : 's'} rejected: see the reason files in ${shown(config.quarantine)}\n`);

@@ -1,6 +1,6 @@
 import type { Command } from 'commander';
 import { loadConfig } from '../../config/load.ts';
-import { runReadOnlyQuery } from '../../pipeline/readQuery.ts';
+import { runReadOnlyQuery } from '../../read/readQuery.ts';
 import { openForReading } from '../../storage/workspace.ts';
 import { withConfigOption } from '../context.ts';
 import { formatResult, noteReadCopy, parseFormat } from '../format.ts';

@@ -1,6 +1,6 @@
 import type { Command } from 'commander';
 import { loadConfig } from '../../config/load.ts';
-import { readStatus, type StatusSection } from '../../pipeline/readStatus.ts';
+import { readStatus, type StatusSection } from '../../read/readStatus.ts';
 import { openForReading } from '../../storage/workspace.ts';
 import { withConfigOption } from '../context.ts';
 import { formatResult, noteReadCopy, parseFormat, toObjects, type OutputFormat } from '../format.ts';

@@ -1,6 +1,6 @@
 import type { Command } from 'commander';
 import { startSchedules } from '../../schedule/startSchedules.ts';
-import { startWorker } from '../../watch/runWorker.ts';
+import { startWorker } from '../../worker/startWorker.ts';
 import { contextFrom, withConfigOption } from '../context.ts';
 
 export function registerWatch(program: Command): void {

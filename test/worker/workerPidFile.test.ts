@@ -1,6 +1,6 @@
 import { existsSync, writeFileSync } from 'node:fs';
 import { afterEach, describe, expect, it } from 'vitest';
-import { describeHolder, pidFilePath, readPidFile, removePidFile, writePidFile } from '../../src/watch/workerPidFile.ts';
+import { describeHolder, pidFilePath, readPidFile, removePidFile, writePidFile } from '../../src/worker/workerPidFile.ts';
 import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
 
 // DuckDB 1.5's lock error, as printed by a real refusal on Linux (path and pid vary)

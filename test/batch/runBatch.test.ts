@@ -1,7 +1,7 @@
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
-import { processBatch } from '../../src/pipeline/processBatch.ts';
+import { runBatch } from '../../src/batch/runBatch.ts';
 import { applyViews } from '../../src/storage/sqlFiles.ts';
 import { writeCsv } from '../helpers/files.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
@@ -15,7 +15,7 @@ interface RunRow {
   status: string;
 }
 
-describe('processBatch', () => {
+describe('runBatch', () => {
   let ws: TempWorkspace | undefined;
   afterEach(() => ws?.cleanup());
 
@@ -39,7 +39,7 @@ describe('processBatch', () => {
       inbox('prices_early.csv', pricesCsv(40, 2, '2020-01-01')),
       positions('positions_start.csv', '2020-01-01', 'acct-growth'),
     ];
-    const summary = await processBatch(ws.db, ws.config, ws.log, files);
+    const summary = await runBatch(ws.db, ws.config, ws.log, files);
     expect(summary.files.map((f) => [f.name, f.status])).toEqual([
       ['prices_late.csv', 'ingested'],
       ['prices_early.csv', 'ingested'],
@@ -55,8 +55,8 @@ describe('processBatch', () => {
 
   it('limits a positions-only batch to its portfolios, and runs nothing for a duplicate', async () => {
     ws = await tempWorkspace();
-    await processBatch(ws.db, ws.config, ws.log, [inbox('prices_all.csv', pricesCsv(80, 2, '2020-01-01'))]);
-    const second = await processBatch(ws.db, ws.config, ws.log, [
+    await runBatch(ws.db, ws.config, ws.log, [inbox('prices_all.csv', pricesCsv(80, 2, '2020-01-01'))]);
+    const second = await runBatch(ws.db, ws.config, ws.log, [
       positions('positions_b.csv', '2020-02-03', 'acct-income'),
       positions('positions_a.csv', '2020-01-06', 'acct-growth'),
     ]);
@@ -68,7 +68,7 @@ describe('processBatch', () => {
     });
     expect(second.scope?.portfolios).toEqual(['acct-growth', 'acct-income']);
     const before = (await runs()).length;
-    const dup = await processBatch(ws.db, ws.config, ws.log, [inbox('prices_again.csv', pricesCsv(80, 2, '2020-01-01'))]);
+    const dup = await runBatch(ws.db, ws.config, ws.log, [inbox('prices_again.csv', pricesCsv(80, 2, '2020-01-01'))]);
     expect(dup.files[0].status).toBe('duplicate');
     expect(dup.run).toBeNull();
     expect((await runs()).length).toBe(before);
@@ -78,11 +78,11 @@ describe('processBatch', () => {
     ws = await tempWorkspace();
     // a missing view makes the risk stage fail, as a broken migration or disk would
     await ws.db.run('drop view ret_portfolios');
-    const failed = await processBatch(ws.db, ws.config, ws.log, [inbox('prices_first.csv', pricesCsv(80, 2, '2020-01-01'))]);
+    const failed = await runBatch(ws.db, ws.config, ws.log, [inbox('prices_first.csv', pricesCsv(80, 2, '2020-01-01'))]);
     expect(failed.files[0].status).toBe('ingested');
     expect(failed.runError).not.toBeNull();
     await applyViews(ws.db, ws.log);
-    const next = await processBatch(ws.db, ws.config, ws.log, [positions('positions_a.csv', '2020-03-02', 'acct-growth')]);
+    const next = await runBatch(ws.db, ws.config, ws.log, [positions('positions_a.csv', '2020-03-02', 'acct-growth')]);
     expect(next.runError).toBeNull();
     // the prices file widens the positions-only batch back to every portfolio and its first date
     expect(next.scope).toEqual({ from: '2020-01-01', portfolios: null, files: ['positions_a.csv', 'prices_first.csv'] });
@@ -95,7 +95,7 @@ describe('processBatch', () => {
     const first = inbox('prices_a.csv', pricesCsv(5, 2, '2020-01-01'));
     const rest = inbox('prices_b.csv', pricesCsv(5, 2, '2020-02-01'));
     let stop = false;
-    const summary = await processBatch(ws.db, ws.config, ws.log, [gone, first, rest], {
+    const summary = await runBatch(ws.db, ws.config, ws.log, [gone, first, rest], {
       onFile: () => (stop = true),
       shouldStop: () => stop,
     });

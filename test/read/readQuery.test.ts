@@ -4,7 +4,7 @@ import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { toCsv } from '../../src/cli/format.ts';
 import { RiskfoldError } from '../../src/errors.ts';
-import { readTable, runReadOnlyQuery } from '../../src/pipeline/readQuery.ts';
+import { readTable, runReadOnlyQuery } from '../../src/read/readQuery.ts';
 import { openDatabase, type Database } from '../../src/storage/database.ts';
 
 describe('runReadOnlyQuery', () => {

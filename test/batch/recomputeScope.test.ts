@@ -1,6 +1,6 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import type { IngestOutcome } from '../../src/ingest/ingestFile.ts';
-import { mergeScope, triggerFor, uncoveredFiles } from '../../src/pipeline/recomputeScope.ts';
+import { mergeScope, triggerFor, uncoveredFiles } from '../../src/batch/recomputeScope.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
 function outcome(partial: Partial<IngestOutcome> & { fileId: number; name: string }): IngestOutcome {

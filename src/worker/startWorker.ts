@@ -4,12 +4,12 @@ import type { Logger } from 'pino';
 import { deliverAlerts } from '../alerts/deliverAlerts.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
-import { processBatch } from '../pipeline/processBatch.ts';
+import { runBatch } from '../batch/runBatch.ts';
 import type { Database } from '../storage/database.ts';
 import { openWorkspace, publishReadCopy } from '../storage/workspace.ts';
 import { DeliveryLoop } from './deliveryLoop.ts';
-import { listInbox, waitUntilStable } from './inboxFiles.ts';
-import { watchInbox } from './inboxWatcher.ts';
+import { listInbox, waitUntilStable } from '../watch/inboxFiles.ts';
+import { watchInbox } from '../watch/inboxWatcher.ts';
 import { describeHolder, removePidFile, writePidFile } from './workerPidFile.ts';
 import { WorkQueue } from './workQueue.ts';
 
@@ -60,9 +60,9 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
   // a fault is reported through `done` to whoever awaits it, never as an unhandled rejection
   done.catch(() => undefined);
 
-  const runBatch = async (files: string[]) => {
+  const handleBatch = async (files: string[]) => {
     try {
-      await processBatch(db, config, log, files, { deliver: false, shouldStop: () => stopping });
+      await runBatch(db, config, log, files, { deliver: false, shouldStop: () => stopping });
       publishWanted = false;
       delivery.kick();
     } catch (err) {
@@ -73,7 +73,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       void stop();
     }
   };
-  const queue = new WorkQueue(runBatch);
+  const queue = new WorkQueue(handleBatch);
   const republish = () => {
     publishWanted = true;
     queue.exclusive(() => (publishWanted ? publishReadCopy(db, config, log) : Promise.resolve())).then(

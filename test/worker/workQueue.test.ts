@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { WorkQueue } from '../../src/watch/workQueue.ts';
+import { WorkQueue } from '../../src/worker/workQueue.ts';
 import { waitFor } from '../helpers/wait.ts';
 
 /** A batch runner whose batches finish only when the test releases them. */

@@ -37,7 +37,7 @@ export interface BatchSummary {
  * given), then ONE recompute over everything they touched, which checks limits inside
  * its transaction, then alert delivery (optional) and the read copy.
  */
-export async function processBatch(
+export async function runBatch(
   db: Database,
   config: Config,
   log: Logger,
