@@ -12,6 +12,8 @@ export interface DeliverySummary {
   failed: number;
   /** Alerts still undelivered after this call, including those past maxAttempts. */
   pending: number;
+  /** When the earliest alert still to be retried is due (ISO 8601); null: none waits for a retry. */
+  nextAttemptAt: string | null;
 }
 
 interface RetrySchedule {
@@ -79,13 +81,18 @@ async function deliverDue(db: Database, config: Config, log: Logger, clock: () =
        order by created_at, alert_id`,
       [retry.maxAttempts, now.toISOString()],
     );
-    const summary: DeliverySummary = { delivered: 0, failed: 0, pending: 0 };
+    const summary: DeliverySummary = { delivered: 0, failed: 0, pending: 0, nextAttemptAt: null };
     for (const alert of due) {
       if (await deliverOne(session, channels, alert, clock, retry, channelSecrets(config), log)) summary.delivered++;
       else summary.failed++;
     }
-    const [{ pending }] = await session.all<{ pending: number }>('select count(*)::integer as pending from alerts where delivered_at is null');
+    const [{ pending, next_ms }] = await session.all<{ pending: number; next_ms: string | null }>(
+      `select count(*)::integer as pending, epoch_ms(min(coalesce(next_attempt_at, now())) filter (where attempts < $1))::varchar as next_ms
+       from alerts where delivered_at is null`,
+      [retry.maxAttempts],
+    );
     summary.pending = pending;
+    summary.nextAttemptAt = next_ms === null ? null : new Date(Number(next_ms)).toISOString();
     if (due.length > 0) log.info(summary, 'alerts delivered');
     return summary;
   } finally {

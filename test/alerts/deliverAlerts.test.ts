@@ -67,7 +67,7 @@ describe('deliverAlerts', () => {
     const ids = await raise(ws.db, 2);
     const summary = await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW });
 
-    expect(summary).toEqual({ delivered: 2, failed: 0, pending: 0 });
+    expect(summary).toEqual({ delivered: 2, failed: 0, pending: 0, nextAttemptAt: null });
     expect(receiver.received.map((r) => r.body.alert_id)).toEqual(ids);
     expect(receiver.received.map((r) => r.headers.authorization)).toEqual([`Bearer ${TOKEN}`, `Bearer ${TOKEN}`]);
     expect(receiver.received[0].headers['content-type']).toBe('application/json');
@@ -84,7 +84,7 @@ describe('deliverAlerts', () => {
 
     const rows = await ws.db.all<{ delivered_at: string | null; attempts: number }>('select delivered_at, attempts from alerts');
     expect(rows.every((r) => r.delivered_at !== null && r.attempts === 1)).toBe(true);
-    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(1000) })).toEqual({ delivered: 0, failed: 0, pending: 0 });
+    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(1000) })).toEqual({ delivered: 0, failed: 0, pending: 0, nextAttemptAt: null });
     expect(receiver.received).toHaveLength(2);
   });
 
@@ -97,7 +97,7 @@ describe('deliverAlerts', () => {
         'select attempts, last_error, epoch_ms(next_attempt_at) as next_ms, delivered_at from alerts',
       );
 
-    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW })).toEqual({ delivered: 0, failed: 1, pending: 1 });
+    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW })).toEqual({ delivered: 0, failed: 1, pending: 1, nextAttemptAt: at(60_000).toISOString() });
     expect((await state())[0]).toMatchObject({ attempts: 1, last_error: 'webhook: webhook answered HTTP 500', delivered_at: null });
     expect(Number((await state())[0].next_ms)).toBe(at(60_000).getTime());
 
@@ -108,7 +108,7 @@ describe('deliverAlerts', () => {
     expect((await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(60_000) })).failed).toBe(1);
     expect(Number((await state())[0].next_ms)).toBe(at(60_000 + 120_000).getTime());
 
-    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(180_000) })).toEqual({ delivered: 1, failed: 0, pending: 0 });
+    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(180_000) })).toEqual({ delivered: 1, failed: 0, pending: 0, nextAttemptAt: null });
     expect((await state())[0]).toMatchObject({ attempts: 3, last_error: null });
     // at least once: three POSTs of the same alert; the receiver de-duplicates by alert_id
     expect(receiver.received.map((r) => r.body.alert_id)).toEqual([id, id, id]);
@@ -135,7 +135,7 @@ describe('deliverAlerts', () => {
     receiver.answers.push(500, 500, 500);
     await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW });
     await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(60_000) });
-    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(10_000_000) })).toEqual({ delivered: 0, failed: 0, pending: 1 });
+    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(10_000_000) })).toEqual({ delivered: 0, failed: 0, pending: 1, nextAttemptAt: null });
     expect(receiver.received).toHaveLength(2);
     expect(ws.logLines().some((l) => l.level === 50 && /given up/.test(String(l.msg)))).toBe(true);
   });
@@ -161,10 +161,10 @@ describe('deliverAlerts', () => {
     const later = deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW });
     const results = await Promise.all([first, ...joined, later]);
     expect(results).toEqual([
-      { delivered: 3, failed: 0, pending: 0 },
-      { delivered: 3, failed: 0, pending: 0 },
-      { delivered: 3, failed: 0, pending: 0 },
-      { delivered: 0, failed: 0, pending: 0 },
+      { delivered: 3, failed: 0, pending: 0, nextAttemptAt: null },
+      { delivered: 3, failed: 0, pending: 0, nextAttemptAt: null },
+      { delivered: 3, failed: 0, pending: 0, nextAttemptAt: null },
+      { delivered: 0, failed: 0, pending: 0, nextAttemptAt: null },
     ]);
     expect(receiver.received.map((r) => r.body.alert_id)).toEqual(ids);
     expect(fileLines(file)).toHaveLength(3);
@@ -175,7 +175,7 @@ describe('deliverAlerts', () => {
     await receiver.close();
     await raise(ws.db, 1);
     const summary = await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW });
-    expect(summary).toEqual({ delivered: 0, failed: 1, pending: 1 });
+    expect(summary).toEqual({ delivered: 0, failed: 1, pending: 1, nextAttemptAt: at(60_000).toISOString() });
     const [row] = await ws.db.all<{ last_error: string }>('select last_error from alerts');
     expect(row.last_error).toMatch(/^webhook: webhook not reached \(fetch failed: .*ECONNREFUSED/);
   });

@@ -63,9 +63,9 @@ describe('alert delivery across restarts and crashes', () => {
     await db!.transaction(() => insertAlert(db!, alert(1)));
     const { config, log } = await restart();
 
-    expect(await deliverAlerts(db!, config, log, { clock: () => NOW })).toEqual({ delivered: 1, failed: 0, pending: 0 });
+    expect(await deliverAlerts(db!, config, log, { clock: () => NOW })).toEqual({ delivered: 1, failed: 0, pending: 0, nextAttemptAt: null });
     const again = await restart();
-    expect(await deliverAlerts(db!, again.config, again.log, { clock: () => NOW })).toEqual({ delivered: 0, failed: 0, pending: 0 });
+    expect(await deliverAlerts(db!, again.config, again.log, { clock: () => NOW })).toEqual({ delivered: 0, failed: 0, pending: 0, nextAttemptAt: null });
     expect(receiver!.received.map((r) => r.body.alert_id)).toEqual([alert(1).alertId]);
     expect(lines(config)).toHaveLength(1);
   });
