@@ -21,3 +21,21 @@ select breach_id,
 from alerts
 where breach_id is not null
 qualify row_number() over (partition by breach_id order by created_at desc, alert_id desc) = 1;
+
+-- Suspect prices found by src/checks (one open row per security and date at most). A
+-- row is never deleted: when a later delivery repeats or corrects the price, or a recheck
+-- no longer finds it suspect, the row is cleared. `held`: left out of risk (mode hold),
+-- the previous price carried forward as stale.
+create sequence price_check_id_seq start 1;
+create table price_checks (
+  check_id       integer primary key default nextval('price_check_id_seq'),
+  security_id    varchar not null,
+  date           date not null,
+  price          double not null,        -- the delivered price found suspect
+  rules          varchar not null,       -- jump | power_of_ten | unchanged, comma-joined
+  reason         varchar not null,
+  held           boolean not null,
+  flagged_at     timestamptz not null default now(),
+  cleared_at     timestamptz,
+  cleared_reason varchar
+);

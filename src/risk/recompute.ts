@@ -1,6 +1,8 @@
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
+import { checkPrices } from '../checks/checkPrices.ts';
+import { markSuspectWindows } from '../checks/suspectStatus.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
 import type { Database } from '../storage/database.ts';
 import { computeRisk, progressUnits } from './computeRisk.ts';
@@ -52,6 +54,8 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
   rlog.info({ runId, trigger: request.trigger, from, portfolios: scope }, 'recompute started');
   const phases = phaseClock();
   try {
+    // before the prices are read: a suspect one is flagged (or held out) in this very run
+    await phases.time('check_prices', () => checkPrices(db, config, log, { from }));
     const returns = await phases.time('read_returns', () => readReturnPanel(db));
     const dates = returns.dates;
     const fromRow = from === null ? 0 : firstRowOnOrAfter(dates, from);
@@ -81,6 +85,7 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
 
     const limits = await db.transaction(async () => {
       await phases.time('write', () => replaceResults(db, { runId, from, portfolios: scope, contributions: config.risk.contributions }));
+      await phases.time('suspect_status', () => markSuspectWindows(db, runId));
       await phases.time('save_ewma_state', () => saveEwmaState(db, ewma, dates, ewmaStates, runId));
       const outcome = await phases.time('limits', () => checkLimits(db, config, log, { runId, from, portfolios: scope }));
       await db.run(`update risk_runs set status = 'done', finished_at = now(), risk_rows = $2 where run_id = $1`, [runId, riskRows]);
