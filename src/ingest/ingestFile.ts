@@ -10,6 +10,7 @@ import { readColumnMapping, type ColumnMapping } from './header.ts';
 import { findIngested, portfoliosOf, recordFile, updateArchivedPath, type EarlierDelivery } from './ledger.ts';
 import { layoutOf, type KindLayout } from './layout.ts';
 import { loadFile } from './load.ts';
+import { neverPricedSecurities } from './neverPriced.ts';
 import { archiveDir, freePath, moveWithoutOverwrite, quarantine } from './moves.ts';
 import { matchSource } from './sourceMatch.ts';
 import { dropStage, stageFile } from './stage.ts';
@@ -29,6 +30,8 @@ export interface IngestOutcome {
   rejection?: Rejection;
   /** Status duplicate: the file_id that first delivered these bytes. */
   duplicateOf?: number;
+  /** Positions files: held securities that have never had a price (their portfolios cannot be valued). */
+  neverPriced?: string[];
 }
 
 /**
@@ -68,7 +71,11 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
         { fileId: attempt.fileId, kind: base.kind, source: base.source, rows, minDate, maxDate, movedTo, seconds, rowsPerSecond: Math.round(rows / seconds) },
         'file ingested',
       );
-      return { status: 'ingested', fileId: attempt.fileId, name, kind: base.kind, rows, minDate, portfolios, movedTo };
+      const neverPriced = base.kind === 'positions' ? await neverPricedSecurities(db, attempt.fileId) : [];
+      if (neverPriced.length > 0) {
+        flog.warn({ fileId: attempt.fileId, securities: neverPriced }, 'positions name securities that have never had a price; their portfolios have no value until one arrives');
+      }
+      return { status: 'ingested', fileId: attempt.fileId, name, kind: base.kind, rows, minDate, portfolios, movedTo, ...(neverPriced.length > 0 ? { neverPriced } : {}) };
     }
     sha256 = attempt.sha256;
     const earlier = await findIngested(db, sha256);
