@@ -39,3 +39,13 @@ create table price_checks (
   cleared_at     timestamptz,
   cleared_reason varchar
 );
+
+-- Data problems alerted as open (portfolio_unvalued): one row while the problem lasts; the
+-- run that finds it gone raises the closing alert and removes the row.
+create table data_alert_state (
+  problem_key     varchar primary key,     -- kind|portfolio_id
+  kind            varchar not null,
+  portfolio_id    varchar,
+  since           date not null,
+  opened_alert_id varchar not null
+);

@@ -3,6 +3,7 @@ import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { checkPrices } from '../checks/checkPrices.ts';
 import { markSuspectWindows } from '../checks/suspectStatus.ts';
+import { alertUnvaluedPortfolios } from '../checks/unvaluedPortfolios.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
 import type { Database } from '../storage/database.ts';
 import { computeRisk, progressUnits } from './computeRisk.ts';
@@ -86,6 +87,7 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
     const limits = await db.transaction(async () => {
       await phases.time('write', () => replaceResults(db, { runId, from, portfolios: scope, contributions: config.risk.contributions }));
       await phases.time('suspect_status', () => markSuspectWindows(db, runId));
+      await phases.time('unvalued', () => alertUnvaluedPortfolios(db, log, { runId, portfolios: scope }));
       await phases.time('save_ewma_state', () => saveEwmaState(db, ewma, dates, ewmaStates, runId));
       const outcome = await phases.time('limits', () => checkLimits(db, config, log, { runId, from, portfolios: scope }));
       await db.run(`update risk_runs set status = 'done', finished_at = now(), risk_rows = $2 where run_id = $1`, [runId, riskRows]);
