@@ -8,7 +8,8 @@ export type AlertKind =
   | 'limit_state'
   | 'data_missing'
   | 'portfolio_unvalued'
-  | 'price_suspect';
+  | 'price_suspect'
+  | 'run_failed';
 
 export interface NewAlert {
   /** Stable and unique: a receiver de-duplicates by it, a re-derived alert gets the same id. */

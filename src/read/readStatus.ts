@@ -15,12 +15,18 @@ export interface StatusSection {
 const SHOWN = 20;
 
 /**
- * What operations look at first: the latest files and what became of them, the latest
- * run, open episodes, the alerts the channels have not all taken, and data problems on
- * the latest valuation date.
+ * What operations look at first: a failed or interrupted last run (first, since the
+ * figures below are then behind the data), the latest files and what became of them,
+ * the latest run, open episodes, the alerts the channels have not all taken, and data
+ * problems on the latest valuation date.
  */
 export async function readStatus(db: Database): Promise<StatusSection[]> {
+  const failed = await section(db, 'lastRunFailed', 'THE LAST RUN DID NOT FINISH: risk figures are not up to date', `
+    select run_id, trigger, status, started_at, finished_at, error
+    from (select * from risk_runs order by run_id desc limit 1)
+    where status in ('failed', 'interrupted')`, 1);
   const sections = [
+    ...(failed.total > 0 ? [failed] : []),
     await section(db, 'lastFiles', 'last files', `
       select file_id, name, kind, status, rows, received_at, error
       from ingested_files order by file_id desc`, 10),

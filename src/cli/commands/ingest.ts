@@ -4,6 +4,7 @@ import type { Command } from 'commander';
 import { formatRejection, RiskfoldError } from '../../errors.ts';
 import type { IngestOutcome } from '../../ingest/ingestFile.ts';
 import { runBatch } from '../../batch/runBatch.ts';
+import { describeChange } from '../../batch/runSettings.ts';
 import { openWorkspace } from '../../storage/workspace.ts';
 import { listInbox } from '../../watch/inboxFiles.ts';
 import { contextFrom, withConfigOption } from '../context.ts';
@@ -33,6 +34,7 @@ export function registerIngest(program: Command): void {
       for (const skipped of summary.skipped) process.stdout.write(`skipped    ${path.basename(skipped)}: gone before its turn\n`);
       const rejected = summary.files.filter((f) => f.status === 'rejected').length;
       if (rejected > 0) process.stdout.write(`${rejected} file${rejected === 1 ? '' : 's'} rejected: see the reason files in ${shown(config.quarantine)}\n`);
+      for (const change of summary.settingChanges) process.stdout.write(`${describeChange(change)}\n`);
       if (summary.run) process.stdout.write(`${describeRun(summary.run)}\n`);
       if (summary.runError !== null) throw new Error(`the files are loaded but the recompute failed: ${summary.runError}`);
     } finally {

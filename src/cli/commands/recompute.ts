@@ -1,7 +1,8 @@
 import type { Command } from 'commander';
-import { deliverAlerts } from '../../alerts/deliverAlerts.ts';
-import { recompute, requireIsoDate, type RunSummary } from '../../risk/recompute.ts';
-import { openWorkspace, publishReadCopy } from '../../storage/workspace.ts';
+import { runBatch } from '../../batch/runBatch.ts';
+import { requireIsoDate, type RunSummary } from '../../batch/runRecompute.ts';
+import { describeChange } from '../../batch/runSettings.ts';
+import { openWorkspace } from '../../storage/workspace.ts';
 import { contextFrom, withConfigOption } from '../context.ts';
 
 interface RecomputeOptions {
@@ -24,10 +25,10 @@ export function registerRecompute(program: Command): void {
     const db = await openWorkspace(config, log);
     try {
       const portfolios = opts.portfolio.length > 0 ? [...new Set(opts.portfolio)] : null;
-      const run = await recompute(db, config, log, { trigger: 'recompute', from: opts.from ?? null, portfolios });
-      await deliverAlerts(db, config, log);
-      await publishReadCopy(db, config, log);
-      process.stdout.write(`${describeRun(run)}\n`);
+      const batch = await runBatch(db, config, log, [], { recompute: { trigger: 'recompute', from: opts.from ?? null, portfolios } });
+      for (const change of batch.settingChanges) process.stdout.write(`${describeChange(change)}\n`);
+      if (batch.run === null) throw new Error(`recompute failed: ${batch.runError}`);
+      process.stdout.write(`${describeRun(batch.run)}\n`);
     } finally {
       db.close();
     }

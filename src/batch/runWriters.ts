@@ -1,0 +1,64 @@
+import type { Logger } from 'pino';
+import { markSuspectWindows } from '../checks/suspectStatus.ts';
+import { alertUnvaluedPortfolios } from '../checks/unvaluedPortfolios.ts';
+import type { Config } from '../config/load.ts';
+import { checkLimits } from '../limits/checkLimits.ts';
+import type { ComputedRisk, RiskScope } from '../risk/computeRun.ts';
+import { saveEwmaState } from '../risk/ewmaState.ts';
+import { replaceResults } from '../risk/staging.ts';
+import type { Database } from '../storage/database.ts';
+import { closeRunFailure } from './runIncident.ts';
+
+/** What a writer knows about the run whose results it commits. */
+export interface RunContext extends RiskScope {
+  trigger: string;
+  config: Config;
+  log: Logger;
+  /** The computed run: staged rows, dates, EWMA states. */
+  risk: ComputedRisk;
+  /** Alerts written to the outbox so far in this transaction; a writer that raises alerts adds its count. */
+  alertsRaised: number;
+}
+
+/**
+ * One part of a run's write step. Every writer runs, in list order, inside the run's ONE
+ * transaction (`tx` is the database with that transaction open: begin and commit
+ * nothing), so all of a run's results, checks and alerts commit together or not at all.
+ * The name is the phase name in the run's log record.
+ */
+export interface RunWriter {
+  name: string;
+  write(tx: Database, run: RunContext): Promise<void>;
+}
+
+/**
+ * The write step of every run: risk rows and their suspect_price status, then the
+ * estimator state, then limits (which read the new rows) and their alerts, the
+ * portfolio_unvalued alerts, then the close of a failure episode.
+ */
+export const RUN_WRITERS: readonly RunWriter[] = [
+  {
+    name: 'write',
+    write: (tx, run) =>
+      replaceResults(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, contributions: run.config.risk.contributions }),
+  },
+  { name: 'suspect_status', write: async (tx, run) => void (await markSuspectWindows(tx, run.runId)) },
+  {
+    name: 'save_ewma_state',
+    write: (tx, run) => saveEwmaState(tx, run.config.risk.ewma, run.risk.dates, run.risk.ewmaStates, run.runId, run.settings),
+  },
+  {
+    name: 'limits',
+    write: async (tx, run) => {
+      const outcome = await checkLimits(tx, run.config, run.log, { runId: run.runId, from: run.from, portfolios: run.portfolios });
+      run.alertsRaised += outcome.alertsRaised;
+    },
+  },
+  {
+    name: 'unvalued',
+    write: async (tx, run) => {
+      run.alertsRaised += await alertUnvaluedPortfolios(tx, run.log, { runId: run.runId, portfolios: run.portfolios });
+    },
+  },
+  closeRunFailure,
+];
