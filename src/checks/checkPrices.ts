@@ -27,7 +27,8 @@ interface OpenCheck {
 }
 
 /**
- * Checks every delivered price dated from `from` (null: all) against its security's own
+ * Checks every delivered price dated from `from` (null: all) of the securities ever held
+ * (only they enter risk; a file of prices nobody holds costs nothing) against its security's own
  * history, records the suspect ones in price_checks, clears those a later delivery
  * repeated or corrected, and raises one price_suspect alert when a flag is raised and
  * one when it clears. Runs before the risk stage reads the prices, in its own transaction.
@@ -37,9 +38,13 @@ export async function checkPrices(db: Database, config: Config, log: Logger, sco
   const clog = log.child({ stage: 'checks' });
   const { rows, columns: c } = await readColumns(
     db,
-    `with latest as (
-       select security_id, date, price, coalesce(currency, '') as market, file_id from clean_prices
-       where security_id not like 'CASH:%' and ($1::date is null or date >= $1::date - ${LOOKBACK_DAYS})
+    `with held as (
+       select distinct security_id from clean_positions where quantity <> 0 and security_id not like 'CASH:%'
+     ),
+     latest as (
+       select security_id, date, price, coalesce(currency, '') as market, file_id
+       from clean_prices semi join held using (security_id)
+       where $1::date is null or date >= $1::date - ${LOOKBACK_DAYS}
      ),
      repeated as (
        select p.security_id, p.date from prices p join latest l using (security_id, date)
