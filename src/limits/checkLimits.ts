@@ -17,7 +17,7 @@ import {
 import { replayEpisodes, transitionsOf, type Episode, type MetricPoint } from './episodes.ts';
 import { retractionAlert, stateAlert, topContributors, transitionAlert, type Contributor } from './limitAlerts.ts';
 import { matchEpisodes } from './matchEpisodes.ts';
-import { currentState, loadToldStates, RETRACTED, sameState, saveToldStates, stateAfter, type ToldState } from './toldState.ts';
+import { currentState, loadToldStates, retractedState, sameState, saveToldStates, stateAfter, type ToldState } from './toldState.ts';
 
 export interface LimitScope {
   runId: number;
@@ -121,7 +121,7 @@ export async function checkLimits(db: Database, config: Config, log: Logger, sco
       stageLog.info({ portfolioId: r.portfolioId, breachId: episode.breachId, openedOn: episode.openedOn }, 'limit episode retracted');
       // tell operations only if they had been told of it
       const told = toldBefore.get(episode.breachId);
-      const state = RETRACTED(episode.openedOn);
+      const state = retractedState(episode.openedOn);
       if (told === undefined || sameState(told, state)) continue;
       const alert = retractionAlert({ portfolioId: r.portfolioId, limit: r.limit, breachId: episode.breachId, runId: scope.runId, episode, contributors: [] }, state);
       if (!(await insertAlert(db, alert))) continue;

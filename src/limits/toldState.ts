@@ -32,7 +32,9 @@ export function stateAfter(episode: Pick<EpisodeFacts, 'openedOn' | 'openLevel'>
   return { episodeState: 'open', level: t.kind === 'limit_escalated' ? 'breach' : episode.openLevel, openedOn: episode.openedOn };
 }
 
-export const RETRACTED = (openedOn: string): EpisodeState => ({ episodeState: 'closed', level: 'retracted', openedOn });
+export function retractedState(openedOn: string): EpisodeState {
+  return { episodeState: 'closed', level: 'retracted', openedOn };
+}
 
 export function sameState(a: EpisodeState, b: EpisodeState): boolean {
   return a.episodeState === b.episodeState && a.level === b.level && a.openedOn === b.openedOn;
