@@ -27,16 +27,28 @@ const KIND = 'portfolio_unvalued';
  * stage's transaction, for the portfolios of the run.
  */
 export async function alertUnvaluedPortfolios(db: Database, log: Logger, scope: { runId: number; portfolios: readonly string[] | null }): Promise<number> {
-  const filter = scope.portfolios === null ? null : JSON.stringify(scope.portfolios);
+  const scopeFilter = scope.portfolios === null ? null : JSON.stringify(scope.portfolios);
   const inScope = `($1::varchar is null or list_contains(from_json($1, '["VARCHAR"]'), portfolio_id))`;
+  const open = await db.all<{ portfolio_id: string; since: string }>(
+    `select portfolio_id, since::varchar as since from data_alert_state where kind = '${KIND}' and ${inScope}`,
+    [scopeFilter],
+  );
+  // the risk stage has just said which portfolios it could not value on the latest date
+  // (status unpriced): only they, and those alerted before, are looked at in detail
+  const unpriced = await db.all<{ portfolio_id: string }>(
+    `select distinct portfolio_id from risk_daily
+     where run_id = $2 and ${inScope} and status like '%unpriced%' and date = (select max(date) from align_valuation_dates)`,
+    [scopeFilter, scope.runId],
+  );
+  if (unpriced.length === 0 && open.length === 0) return 0;
+  const filter = JSON.stringify([...new Set([...unpriced, ...open].map((p) => p.portfolio_id))]);
   const holdings = await db.all<UnvaluedHolding>(
-    `with latest as (
-       select portfolio_id, max(date) as date from value_portfolios where ${inScope} group by all
-     ),
-     missing as (
-       select p.portfolio_id, p.security_id, p.price_status, p.currency, l.date as latest
-       from value_positions p join latest l using (portfolio_id, date)
-       where p.value_base is null and p.quantity <> 0
+    // positions carry forward, so every portfolio's latest date is the latest valuation
+    // date; a filter on it (not a max over the view) keeps the view to one date
+    `with missing as (
+       select portfolio_id, security_id, price_status, currency, date as latest
+       from value_positions
+       where date = (select max(date) from align_valuation_dates) and ${inScope} and value_base is null and quantity <> 0
      ),
      days as (
        select portfolio_id, date, bool_or(value_base is null and quantity <> 0) as unvalued
@@ -58,10 +70,6 @@ export async function alertUnvaluedPortfolios(db: Database, log: Logger, scope: 
        s.since::varchar as since, m.latest::varchar as latest
      from missing m join since s using (portfolio_id) left join last_valued v using (portfolio_id, security_id)
      order by m.portfolio_id, m.security_id`,
-    [filter],
-  );
-  const open = await db.all<{ portfolio_id: string; since: string }>(
-    `select portfolio_id, since::varchar as since from data_alert_state where kind = '${KIND}' and ${inScope}`,
     [filter],
   );
   const byPortfolio = new Map<string, UnvaluedHolding[]>();
