@@ -38,8 +38,10 @@ export async function checkPrices(db: Database, config: Config, log: Logger, sco
   const clog = log.child({ stage: 'checks' });
   const { rows, columns: c } = await readColumns(
     db,
+    // the raw positions (superseded snapshots too): a superset of what was ever held, read
+    // without rebuilding the snapshots in force
     `with held as (
-       select distinct security_id from clean_positions where quantity <> 0 and security_id not like 'CASH:%'
+       select distinct security_id from positions where quantity <> 0 and security_id not like 'CASH:%'
      ),
      latest as (
        select security_id, date, price, coalesce(currency, '') as market, file_id
