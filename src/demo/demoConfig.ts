@@ -4,7 +4,11 @@ import { ACCOUNTS, BASE_CURRENCY } from './universe.ts';
 /** The 63-day limit each account's mandate sets (on vol_ex_ante, sample estimator). */
 export const DEMO_LIMIT_WINDOW = 63;
 
-/** pipeline.config.json of the demo folder: the minimal layout plus three windows and one limit per account. */
+/**
+ * pipeline.config.json of the demo folder: the minimal layout plus three windows, one
+ * limit per account, and suspect prices held out of risk (the demo's 10x slip is carried
+ * over by the previous price until the custodian's correction arrives).
+ */
 export function demoConfig(): ConfigInput {
   return {
     inbox: 'inbox',
@@ -15,5 +19,6 @@ export function demoConfig(): ConfigInput {
     risk: { windows: [21, DEMO_LIMIT_WINDOW, 252], tradingDaysPerYear: 252 },
     limits: ACCOUNTS.map((a) => ({ portfolio: a.id, metric: 'vol_ex_ante' as const, window: DEMO_LIMIT_WINDOW, limit: a.volLimit })),
     alerts: { file: 'alerts.jsonl' },
+    checks: { suspectPrices: { mode: 'hold' } },
   };
 }
