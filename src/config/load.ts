@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { z } from 'zod';
-import { configSchema, type LimitConfig, type ParsedConfig } from './schema.ts';
+import { configSchema, limitLevels, type LimitConfig, type ParsedConfig } from './schema.ts';
 import { RiskfoldError } from '../errors.ts';
 
 export type ResolvedLimit = Required<LimitConfig>;
@@ -40,11 +40,7 @@ export function resolveConfig(raw: unknown, configPath: string): Config {
     database,
     readCopy: cfg.readCopy === undefined ? database.replace(/(\.duckdb)?$/, '.read.duckdb') : at(cfg.readCopy),
     alerts,
-    limits: cfg.limits.map((l) => ({
-      ...l,
-      warning: l.warning ?? 0.9 * l.limit,
-      clear: l.clear ?? 0.85 * l.limit,
-    })),
+    limits: cfg.limits.map((l) => ({ ...l, ...limitLevels(l) })),
   });
 }
 

@@ -44,7 +44,13 @@ export const DEFAULT_SOURCES: z.input<typeof sourceSchema>[] = [
   { name: 'securities', kind: 'securities', pattern: 'securities*.csv*' },
 ];
 
-export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d'] as const;
+export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d', 'backtest_zone'] as const;
+
+/**
+ * The Basel zones as limit levels on the exceptions in 250 tested days (Basel Committee
+ * 1996): yellow (warning) from 5, red (breach) from 10, green again below 5.
+ */
+export const BACKTEST_ZONE_LEVELS = { limit: 10, warning: 5, clear: 4.5 } as const;
 export const ESTIMATORS = ['sample', 'ewma'] as const;
 export type Estimator = (typeof ESTIMATORS)[number];
 
@@ -54,12 +60,22 @@ export const limitSchema = z
     metric: z
       .enum(LIMIT_METRICS)
       .default('vol_ex_ante')
-      .describe('Figure of risk_daily to watch; var_99_1d is taken as a fraction of portfolio value.'),
+      .describe(
+        'Figure to watch: of risk_daily (var_99_1d as a fraction of portfolio value), or backtest_zone, the exceptions in 250 days of the normal 1-day 99% VaR backtest (var_backtest) of this window and estimator.',
+      ),
     window: z.number().int().min(0).describe('Window in trading days (0 with estimator "ewma").'),
     estimator: z.enum(ESTIMATORS).default('sample').describe('Which estimate of risk_daily the limit reads.'),
-    limit: z.number().positive().describe('Mandate limit, a fraction (0.15 = 15%).'),
-    warning: z.number().positive().optional().describe('Warning level; default 0.9 x limit.'),
-    clear: z.number().positive().optional().describe('An episode closes on the first date below this; default 0.85 x limit.'),
+    limit: z
+      .number()
+      .positive()
+      .optional()
+      .describe('Mandate limit, a fraction (0.15 = 15%); required except for backtest_zone (default 10 exceptions: red).'),
+    warning: z.number().positive().optional().describe('Warning level; default 0.9 x limit (backtest_zone: 5 exceptions, yellow).'),
+    clear: z
+      .number()
+      .positive()
+      .optional()
+      .describe('An episode closes on the first date below this; default 0.85 x limit (backtest_zone: 4.5, back to green).'),
   })
   .strict();
 
@@ -100,6 +116,55 @@ const riskSchema = z
       .enum(['latest', 'all'])
       .default('latest')
       .describe('Keep risk contributions for the latest date of each portfolio only, or for every date.'),
+    historical: z
+      .object({
+        days: z
+          .array(z.number().int().min(10))
+          .min(1)
+          .default([250, 500])
+          .describe('Scenarios (past valuation dates) of the historical and filtered historical VaR, one var_daily row each.'),
+      })
+      .strict()
+      .default({ days: [250, 500] }),
+  })
+  .strict();
+
+const shockReturn = z.number().min(-1).describe('Simple return of the move, e.g. -0.2 for -20%.');
+
+export const shockSchema = z.union([
+  z.object({ all: z.literal(true).describe('Every holding except cash.'), return: shockReturn }).strict(),
+  z.object({ assetClass: z.string().min(1).describe('The securities\' asset_class.'), return: shockReturn }).strict(),
+  z.object({ currency: currencyCode.describe('Every holding in this currency, cash included, in base terms.'), return: shockReturn }).strict(),
+  z.object({ security: z.string().min(1).describe('One security_id.'), return: shockReturn }).strict(),
+]);
+
+const isoDate = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'a date YYYY-MM-DD');
+
+export const stressScenarioSchema = z.discriminatedUnion('kind', [
+  z
+    .object({
+      id: z.string().min(1).describe('Scenario id in stress_results.'),
+      kind: z.literal('historical'),
+      from: isoDate.describe('Close the move starts from.'),
+      to: isoDate.describe('Close the move ends at: each security\'s compounded return over the returns dated after from up to to.'),
+    })
+    .strict(),
+  z
+    .object({
+      id: z.string().min(1).describe('Scenario id in stress_results.'),
+      kind: z.literal('hypothetical'),
+      shocks: z.array(shockSchema).min(1).describe('Most specific price shock wins (security, asset class, all); a currency shock compounds with it.'),
+    })
+    .strict(),
+]);
+export type StressScenario = z.infer<typeof stressScenarioSchema>;
+
+const stressSchema = z
+  .object({
+    scenarios: z
+      .array(stressScenarioSchema)
+      .default([])
+      .describe('Named moves applied to each portfolio\'s latest holdings; the worst 1-, 5- and 20-day windows of its history are added.'),
   })
   .strict();
 
@@ -185,6 +250,7 @@ export const configSchema = z
     limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),
     alerts: alertsSchema.default({ maxAgeDays: 5 }),
     schedule: scheduleSchema.default(scheduleSchema.parse({})),
+    stress: stressSchema.default({ scenarios: [] }),
   })
   .strict()
   .superRefine((cfg, ctx) => {
@@ -199,13 +265,16 @@ export const configSchema = z
         });
       }
       limitKeys.add(key);
-      const warning = limit.warning ?? 0.9 * limit.limit;
-      const clear = limit.clear ?? 0.85 * limit.limit;
-      if (!(clear < warning && warning <= limit.limit)) {
+      if (limit.limit === undefined && limit.metric !== 'backtest_zone') {
+        ctx.addIssue({ code: 'custom', path: ['limits', i, 'limit'], message: `a ${limit.metric} limit needs "limit"` });
+        return;
+      }
+      const { limit: level, warning, clear } = limitLevels(limit);
+      if (!(clear < warning && warning <= level)) {
         ctx.addIssue({
           code: 'custom',
           path: ['limits', i],
-          message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${limit.limit}`,
+          message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${level}`,
         });
       }
       if (limit.estimator === 'ewma' ? limit.window !== 0 : !cfg.risk.windows.includes(limit.window)) {
@@ -219,7 +288,45 @@ export const configSchema = z
         });
       }
     });
+    const scenarioIds = new Set<string>();
+    cfg.stress.scenarios.forEach((scenario, i) => {
+      if (scenarioIds.has(scenario.id) || scenario.id.startsWith(WORST_WINDOW_PREFIX)) {
+        ctx.addIssue({ code: 'custom', path: ['stress', 'scenarios', i, 'id'], message: `scenario id "${scenario.id}" is taken` });
+      }
+      scenarioIds.add(scenario.id);
+      if (scenario.kind === 'historical' && !(scenario.from < scenario.to)) {
+        ctx.addIssue({ code: 'custom', path: ['stress', 'scenarios', i], message: `needs from < to, got ${scenario.from} .. ${scenario.to}` });
+      }
+      if (scenario.kind !== 'hypothetical') return;
+      const targets = new Set<string>();
+      scenario.shocks.forEach((shock, k) => {
+        const [target] = Object.entries(shock).filter(([name]) => name !== 'return');
+        const key = `${target[0]} ${String(target[1])}`;
+        const at = ['stress', 'scenarios', i, 'shocks', k];
+        if (targets.has(key)) ctx.addIssue({ code: 'custom', path: at, message: `a second shock on ${key}` });
+        targets.add(key);
+        if ('currency' in shock && shock.currency === cfg.baseCurrency) {
+          ctx.addIssue({ code: 'custom', path: at, message: `the base currency ${cfg.baseCurrency} cannot move against itself` });
+        }
+      });
+    });
   });
+
+/** Scenario ids of the worst windows of a portfolio's own history, reserved: worst_1d, worst_5d, worst_20d. */
+export const WORST_WINDOW_PREFIX = 'worst_';
+
+/** A limit's levels with their defaults (backtest_zone: the Basel zone boundaries). */
+export function limitLevels(limit: Pick<LimitConfig, 'metric' | 'limit' | 'warning' | 'clear'>): { limit: number; warning: number; clear: number } {
+  if (limit.metric === 'backtest_zone') {
+    return {
+      limit: limit.limit ?? BACKTEST_ZONE_LEVELS.limit,
+      warning: limit.warning ?? BACKTEST_ZONE_LEVELS.warning,
+      clear: limit.clear ?? BACKTEST_ZONE_LEVELS.clear,
+    };
+  }
+  const level = limit.limit as number;
+  return { limit: level, warning: limit.warning ?? 0.9 * level, clear: limit.clear ?? 0.85 * level };
+}
 
 export type ConfigInput = z.input<typeof configSchema>;
 export type ParsedConfig = z.infer<typeof configSchema>;

@@ -41,21 +41,21 @@ export interface LimitAlertInput {
 /** An alert for a dated transition (opened, escalated, closed) of an episode. */
 export function transitionAlert(input: LimitAlertInput, t: Transition): NewAlert {
   const { portfolioId, limit, episode } = input;
-  const label = `${portfolioId}: ${metricLabel(limit)} ${pct(t.value)}`;
-  const peak = `peak ${pct(episode.peakValue)} on ${episode.peakOn}`;
+  const label = `${portfolioId}: ${metricLabel(limit)} ${fmt(limit, t.value)}`;
+  const peak = `peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn}`;
   let text: string;
   let level = episode.level;
   if (t.kind === 'limit_opened') {
     level = episode.openLevel;
     text =
       level === 'breach'
-        ? `${label} reached its ${pct(limit.limit)} limit on ${t.date}`
-        : `${label} reached its ${pct(limit.warning)} warning level (limit ${pct(limit.limit)}) on ${t.date}`;
+        ? `${label} reached its ${fmt(limit, limit.limit)} limit on ${t.date}`
+        : `${label} reached its ${fmt(limit, limit.warning)} warning level (limit ${fmt(limit, limit.limit)}) on ${t.date}`;
   } else if (t.kind === 'limit_escalated') {
     level = 'breach';
-    text = `${label} reached its ${pct(limit.limit)} limit on ${t.date} (warning since ${episode.openedOn}, ${peak})`;
+    text = `${label} reached its ${fmt(limit, limit.limit)} limit on ${t.date} (warning since ${episode.openedOn}, ${peak})`;
   } else {
-    text = `${label} is back below ${pct(limit.clear)} on ${t.date}; the episode since ${episode.openedOn} is closed (${peak})`;
+    text = `${label} is back below ${fmt(limit, limit.clear)} on ${t.date}; the episode since ${episode.openedOn} is closed (${peak})`;
   }
   return buildAlert(input, t.kind, t.date, { level, value: t.value, value_on: t.date }, text);
 }
@@ -66,10 +66,10 @@ export function transitionAlert(input: LimitAlertInput, t: Transition): NewAlert
  */
 export function lateOpenAlert(input: LimitAlertInput, asOf: string, last: { date: string; value: number }): NewAlert {
   const { portfolioId, limit, episode } = input;
-  const level = episode.level === 'breach' ? `its ${pct(limit.limit)} limit` : `its ${pct(limit.warning)} warning level`;
+  const level = episode.level === 'breach' ? `its ${fmt(limit, limit.limit)} limit` : `its ${fmt(limit, limit.warning)} warning level`;
   const text =
-    `${portfolioId}: ${metricLabel(limit)} ${pct(last.value)} has been at or above ${level} since ${episode.openedOn} ` +
-    `(peak ${pct(episode.peakValue)} on ${episode.peakOn}); found by a run over past dates`;
+    `${portfolioId}: ${metricLabel(limit)} ${fmt(limit, last.value)} has been at or above ${level} since ${episode.openedOn} ` +
+    `(peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn}); found by a run over past dates`;
   return buildAlert(input, 'limit_opened', asOf, { level: episode.level, value: last.value, value_on: last.date, late: true }, text);
 }
 
@@ -104,6 +104,7 @@ function buildAlert(
       window_days: limit.window,
       estimator: limit.estimator,
       ...facts,
+      ...(limit.metric === 'backtest_zone' ? { zone: zoneOf(facts.level) } : {}),
       limit: limit.limit,
       warning: limit.warning,
       clear: limit.clear,
@@ -123,7 +124,20 @@ export function metricLabel(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'es
   const span = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day`;
   if (limit.metric === 'vol_realized') return `${span} realized volatility`;
   if (limit.metric === 'var_99_1d') return `${span} 99% 1-day VaR (of value)`;
+  if (limit.metric === 'backtest_zone') return `${span} normal 99% VaR backtest`;
   return `${span} volatility`;
+}
+
+/** A limit's figure as text: a fraction as a percentage, a backtest's exceptions as a count. */
+function fmt(limit: Pick<ResolvedLimit, 'metric'>, value: number): string {
+  return limit.metric === 'backtest_zone' ? `${value} exceptions in 250 days` : pct(value);
+}
+
+/** The Basel zone a backtest_zone episode level stands for (warning = yellow, breach = red). */
+function zoneOf(level: string): string {
+  if (level === 'warning') return 'yellow';
+  if (level === 'breach') return 'red';
+  return 'green';
 }
 
 function pct(fraction: number, digits = 1): string {

@@ -2,6 +2,8 @@ import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
+import { computeLosses } from '../loss/computeLosses.ts';
+import { dropLossStage, writeLosses } from '../loss/lossStage.ts';
 import type { Database } from '../storage/database.ts';
 import { computeRisk, progressUnits } from './computeRisk.ts';
 import type { EwmaState } from './ewmaEstimate.ts';
@@ -25,6 +27,8 @@ export interface RunSummary {
   to: string | null;
   portfolios: number;
   riskRows: number;
+  /** Rows written to var_daily (historical methods; the normal ones are copied from risk_daily), var_backtest, stress_results. */
+  lossRows: { varRows: number; backtestRows: number; stressRows: number };
   alertsRaised: number;
   seconds: number;
   /** Wall-clock seconds per phase (inputs, compute, write, limits, ...), in the order they ran. */
@@ -34,8 +38,9 @@ export interface RunSummary {
 /**
  * Recomputes risk from `from` on (earlier rows stay as they are) for the given
  * portfolios: records a risk_runs row, reads the views in bulk, computes into staging
- * tables, then in ONE transaction replaces the scope's rows of risk_daily,
- * risk_contributions and security_stats, stores the EWMA state, checks limits and
+ * tables (the loss stage too, src/loss), then in ONE transaction replaces the scope's
+ * rows of risk_daily, risk_contributions, security_stats, var_daily, var_backtest and
+ * stress_results, stores the EWMA state, checks limits and
  * marks the run done. A failure marks the run failed and rethrows; nothing of it is
  * visible.
  */
@@ -78,9 +83,11 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
       phases.add('stage_flush', flushStarted);
     }
     const riskRows = stage.dailyRows;
+    const losses = await phases.time('losses', () => computeLosses(db, config, log, { returns, portfolios, fromRow }));
 
     const limits = await db.transaction(async () => {
       await phases.time('write', () => replaceResults(db, { runId, from, portfolios: scope, contributions: config.risk.contributions }));
+      await phases.time('write_losses', () => writeLosses(db, { runId, from, portfolios: scope }));
       await phases.time('save_ewma_state', () => saveEwmaState(db, ewma, dates, ewmaStates, runId));
       const outcome = await phases.time('limits', () => checkLimits(db, config, log, { runId, from, portfolios: scope }));
       await db.run(`update risk_runs set status = 'done', finished_at = now(), risk_rows = $2 where run_id = $1`, [runId, riskRows]);
@@ -92,6 +99,7 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
       to: dates.length > 0 ? dates[dates.length - 1] : null,
       portfolios: portfolios.ids.length,
       riskRows,
+      lossRows: losses,
       alertsRaised: limits.alertsRaised,
       seconds: (Date.now() - started) / 1000,
       phases: phases.seconds,
@@ -107,6 +115,7 @@ export async function recompute(db: Database, config: Config, log: Logger, reque
     throw err;
   } finally {
     await dropStaging(db).catch(() => undefined);
+    await dropLossStage(db).catch(() => undefined);
   }
 }
 

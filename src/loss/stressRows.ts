@@ -1,0 +1,107 @@
+import type { StressScenario } from '../config/schema.ts';
+import { WORST_WINDOW_PREFIX } from '../config/schema.ts';
+import type { ReturnPanel } from '../risk/inputs.ts';
+import { compoundedReturns, hypotheticalReturns, stressPnl, worstWindow, type StressHolding } from '../risk/math/stress.ts';
+import type { StressRow } from './lossStage.ts';
+
+/**
+ * stress_results rows of one portfolio at one date (SPEC section 9, formulas in
+ * src/risk/math/stress.ts): every configured scenario, then the worst 1-, 5- and 20-day
+ * windows of the portfolio's own return history up to that date. A stress result says
+ * what one move would do to the holdings; it is not a probability.
+ */
+
+/** The worst-window lengths, in valuation dates; scenario ids worst_1d, worst_5d, worst_20d. */
+export const WORST_WINDOW_DAYS = [1, 5, 20] as const;
+
+export interface StressBook extends StressHolding {
+  /** Value at the date's close in base currency. */
+  valueBase: number;
+}
+
+export interface StressInputs {
+  portfolioId: string;
+  /** Date row of the holdings. */
+  d: number;
+  holdings: readonly StressBook[];
+  returns: ReturnPanel;
+  /** The portfolio's holdings log return by date row (NaN: none), rows 0 .. d at least. */
+  portfolioReturns: Float64Array;
+}
+
+export function stressRows(inputs: StressInputs, scenarios: readonly StressScenario[], baseCurrency: string, emit: (row: StressRow) => void): void {
+  const { portfolioId, d, holdings, returns } = inputs;
+  const date = returns.dates[d];
+  const values = Float64Array.from(holdings, (h) => h.valueBase);
+  const total = values.reduce((a, b) => a + b, 0);
+  const base = { portfolioId, date };
+  for (const scenario of scenarios) {
+    if (scenario.kind === 'hypothetical') {
+      const result = stressPnl(values, hypotheticalReturns(holdings, scenario.shocks, baseCurrency));
+      emit({ ...base, scenarioId: scenario.id, kind: 'hypothetical', ...figures(result, holdings), rangeFrom: null, rangeTo: null });
+      continue;
+    }
+    const [first, last] = rangeRows(returns.dates, scenario.from, scenario.to);
+    const simple = first > last ? new Float64Array(holdings.length).fill(Number.NaN) : rangeReturns(inputs, first, last);
+    emit({
+      ...base,
+      scenarioId: scenario.id,
+      kind: 'historical',
+      ...figures(stressPnl(values, simple), holdings),
+      rangeFrom: first > last ? scenario.from : returns.dates[first - 1],
+      rangeTo: first > last ? scenario.to : returns.dates[last],
+    });
+  }
+  for (const days of WORST_WINDOW_DAYS) {
+    const worst = worstWindow(inputs.portfolioReturns.subarray(0, d + 1), days);
+    emit({
+      ...base,
+      scenarioId: `${WORST_WINDOW_PREFIX}${days}d`,
+      kind: 'historical',
+      pnlBase: worst === null ? Number.NaN : total * worst.return,
+      pnlPct: worst === null || !(total > 0) ? Number.NaN : worst.return,
+      coverage: worst === null ? 0 : 1,
+      missing: [],
+      rangeFrom: worst === null ? null : returns.dates[worst.start - 1],
+      rangeTo: worst === null ? null : returns.dates[worst.start + days - 1],
+    });
+  }
+}
+
+/** The rows whose returns make up the move from the close of `from` to the close of `to`: dates in (from, to]. */
+function rangeRows(dates: readonly string[], from: string, to: string): [number, number] {
+  let first = dates.findIndex((date) => date > from);
+  if (first === -1) first = dates.length;
+  let last = first - 1;
+  while (last + 1 < dates.length && dates[last + 1] <= to) last++;
+  // row 0 has no return
+  return [Math.max(first, 1), last];
+}
+
+/** Each holding's compounded return over rows first .. last; base cash 0, a gap NaN. */
+function rangeReturns(inputs: StressInputs, first: number, last: number): Float64Array {
+  const { returns, holdings } = inputs;
+  const n = returns.securityIds.length;
+  const position = new Map(returns.securityIds.map((id, j) => [id, j]));
+  const rows = last - first + 1;
+  const logReturns = new Float64Array(rows * holdings.length);
+  holdings.forEach((h, a) => {
+    const j = position.get(h.security);
+    for (let r = 0; r < rows; r++) {
+      logReturns[r * holdings.length + a] =
+        j === undefined ? Number.NaN : returns.isCash[j] === 1 ? 0 : returns.returns[(first + r) * n + j];
+    }
+  });
+  return compoundedReturns(logReturns, rows, holdings.length);
+}
+
+function figures(result: ReturnType<typeof stressPnl>, holdings: readonly StressBook[]): Pick<StressRow, 'pnlBase' | 'pnlPct' | 'coverage' | 'missing'> {
+  // nothing revalued: no figure, not a zero
+  const none = !(result.coverage > 0);
+  return {
+    pnlBase: none ? Number.NaN : result.pnl[0],
+    pnlPct: none ? Number.NaN : result.pnlPct,
+    coverage: result.coverage,
+    missing: Array.from(result.missing, (a) => holdings[a].security),
+  };
+}
