@@ -42,14 +42,19 @@ export function stressRows(inputs: StressInputs, scenarios: readonly StressScena
       continue;
     }
     const [first, last] = rangeRows(returns.dates, scenario.from, scenario.to);
-    const simple = first > last ? new Float64Array(holdings.length).fill(Number.NaN) : rangeReturns(inputs, first, last);
+    const scenarioBase = { ...base, scenarioId: scenario.id, kind: 'historical' as const };
+    if (first > last) {
+      // no stored date in the range: no figure at all, every holding that could move is named
+      const simple = rangeReturns(inputs, first, last);
+      const missing = holdings.filter((_, a) => Number.isNaN(simple[a])).map((h) => h.security);
+      emit({ ...scenarioBase, pnlBase: Number.NaN, pnlPct: Number.NaN, coverage: 0, missing, rangeFrom: scenario.from, rangeTo: scenario.to });
+      continue;
+    }
     emit({
-      ...base,
-      scenarioId: scenario.id,
-      kind: 'historical',
-      ...figures(stressPnl(values, simple), holdings),
-      rangeFrom: first > last ? scenario.from : returns.dates[first - 1],
-      rangeTo: first > last ? scenario.to : returns.dates[last],
+      ...scenarioBase,
+      ...figures(stressPnl(values, rangeReturns(inputs, first, last)), holdings),
+      rangeFrom: returns.dates[first - 1],
+      rangeTo: returns.dates[last],
     });
   }
   for (const days of WORST_WINDOW_DAYS) {
@@ -78,11 +83,16 @@ function rangeRows(dates: readonly string[], from: string, to: string): [number,
   return [Math.max(first, 1), last];
 }
 
-/** Each holding's compounded return over rows first .. last; base cash 0, a gap NaN. */
+/** Each holding's compounded return over rows first .. last; base cash 0, a gap (or a range without rows) NaN. */
 function rangeReturns(inputs: StressInputs, first: number, last: number): Float64Array {
   const { returns, holdings } = inputs;
   const n = returns.securityIds.length;
   const position = new Map(returns.securityIds.map((id, j) => [id, j]));
+  const riskless = (h: StressBook) => {
+    const j = position.get(h.security);
+    return j !== undefined && returns.isCash[j] === 1;
+  };
+  if (first > last) return Float64Array.from(holdings, (h) => (riskless(h) ? 0 : Number.NaN));
   const rows = last - first + 1;
   const logReturns = new Float64Array(rows * holdings.length);
   holdings.forEach((h, a) => {
