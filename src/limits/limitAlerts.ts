@@ -104,7 +104,7 @@ function buildAlert(
       window_days: limit.window,
       estimator: limit.estimator,
       ...facts,
-      ...(limit.metric === 'backtest_zone' ? { zone: zoneOf(facts.level) } : {}),
+      ...(limit.metric === 'backtest_zone' ? { zone: kind === 'limit_closed' ? 'green' : zoneOf(facts.level) } : {}),
       limit: limit.limit,
       warning: limit.warning,
       clear: limit.clear,
@@ -133,11 +133,9 @@ function fmt(limit: Pick<ResolvedLimit, 'metric'>, value: number): string {
   return limit.metric === 'backtest_zone' ? `${value} exceptions in 250 days` : pct(value);
 }
 
-/** The Basel zone a backtest_zone episode level stands for (warning = yellow, breach = red). */
+/** The Basel zone a backtest_zone episode level stands for: warning = yellow, breach = red. */
 function zoneOf(level: string): string {
-  if (level === 'warning') return 'yellow';
-  if (level === 'breach') return 'red';
-  return 'green';
+  return level === 'warning' ? 'yellow' : 'red';
 }
 
 function pct(fraction: number, digits = 1): string {
