@@ -1,4 +1,4 @@
-import { filteredReturns, historicalLoss, scenarioPnlSimple } from '../risk/math/historicalSimulation.ts';
+import { filteredReturns, historicalLoss, scenarioPnlSimple, type ScenarioPnl } from '../risk/math/historicalSimulation.ts';
 import type { PortfolioPanel, ReturnPanel } from '../risk/inputs.ts';
 import type { VarRow } from './lossStage.ts';
 
@@ -32,58 +32,66 @@ export const ES_LEVEL = 0.975;
 export function historicalVarRows(inputs: HistoricalInputs, settings: HistoricalSettings, emit: (row: VarRow, p: number, d: number) => void): void {
   const { returns, portfolios, fromRow } = inputs;
   const t = returns.dates.length;
-  const n = returns.securityIds.length;
-  const longest = Math.max(...settings.days);
-  // each return converted once: every portfolio and date revalues under the same scenarios
-  const simple = returns.returns.map(Math.expm1);
+  const days = [...settings.days].sort((a, b) => b - a);
+  const longest = days[0];
+  // each return converted once, by security: every portfolio and date revalues under the same scenarios
+  const simple = returns.returnsBySecurity.map(Math.expm1);
+  const filtered = new FilteredScenarios(inputs, longest);
+  let matrix = new Float64Array(0);
   for (let d = Math.max(fromRow, portfolios.firstRow); d < t; d++) {
-    const filtered = new FilteredCache(inputs, d, longest);
+    filtered.moveTo(d);
     for (let p = 0; p < portfolios.ids.length; p++) {
       const slot = p * t + d;
       if (portfolios.present[slot] === 0) continue;
       const value = portfolios.value[slot];
       const start = portfolios.offsets[slot];
       const held = portfolios.security.subarray(start, portfolios.offsets[slot + 1]);
-      const values = portfolios.weight.subarray(start, start + held.length).map((w) => w * value);
+      const h = held.length;
+      const values = portfolios.weight.subarray(start, start + h).map((w) => w * value);
       const stale = portfolios.stale[slot] === 1;
+      const reason = portfolios.unpriced[slot] === 1 || !Number.isFinite(value) ? 'unpriced' : value <= 0 ? 'value_not_positive' : null;
+      // row 0 has no return: N scenarios need N + 1 dates
+      const usable = reason === null ? days.filter((n) => d - n + 1 >= 1) : [];
+      if (matrix.length < longest * h) matrix = new Float64Array(longest * h);
       for (const method of ['historical', 'filtered_historical'] as const) {
-        for (const days of settings.days) {
-          const base = { portfolioId: portfolios.ids[p], date: returns.dates[d], method, windowDays: days };
-          let figures: Omit<VarRow, keyof typeof base>;
-          if (portfolios.unpriced[slot] === 1 || !Number.isFinite(value)) figures = empty('unpriced', stale);
-          else if (value <= 0) figures = empty('value_not_positive', stale);
-          // row 0 has no return: N scenarios need N + 1 dates
-          else if (d - days + 1 < 1) figures = empty('insufficient_history', stale);
-          else {
-            const matrix = new Float64Array(days * held.length);
-            for (let a = 0; a < held.length; a++) {
-              const j = held[a];
-              const column = method === 'historical' ? null : filtered.column(j);
-              for (let s = 0; s < days; s++) {
-                const row = d - days + 1 + s;
-                matrix[s * held.length + a] =
-                  returns.isCash[j] === 1 ? 0 : column === null ? simple[row * n + j] : column[longest - days + s];
-              }
-            }
-            figures = revalue(values, matrix, days, held, returns.securityIds, settings.minCoverage, stale);
+        if (usable.length > 0) {
+          // the longest lookback's scenarios, oldest first; a shorter one is its last rows
+          const n = usable[0];
+          for (let a = 0; a < h; a++) {
+            const j = held[a];
+            const cash = returns.isCash[j] === 1;
+            const column = method === 'historical' ? simple.subarray(j * t + d - n + 1, j * t + d + 1) : filtered.column(j, n);
+            for (let s = 0; s < n; s++) matrix[s * h + a] = cash ? 0 : column[s];
           }
-          emit({ ...base, ...figures }, p, d);
+        }
+        let widest: ScenarioPnl | null = null;
+        for (const n of days) {
+          const base = { portfolioId: portfolios.ids[p], date: returns.dates[d], method, windowDays: n };
+          if (reason !== null || !usable.includes(n)) {
+            emit({ ...base, ...empty(reason ?? 'insufficient_history', stale) }, p, d);
+            continue;
+          }
+          const offset = (usable[0] - n) * h;
+          // with nothing missing over the longest lookback, a shorter one is the tail of its P&L
+          const result: ScenarioPnl =
+            widest !== null && widest.missing.length === 0
+              ? { ...widest, pnl: widest.pnl.subarray(usable[0] - n) }
+              : scenarioPnlSimple(values, matrix.subarray(offset, offset + n * h), n);
+          widest ??= result;
+          emit({ ...base, ...figures(result, held, returns.securityIds, settings.minCoverage, stale) }, p, d);
         }
       }
     }
   }
 }
 
-function revalue(
-  values: Float64Array,
-  matrix: Float64Array,
-  days: number,
+function figures(
+  { pnl, coverage, missing }: ScenarioPnl,
   held: Int32Array,
   ids: readonly string[],
   minCoverage: number,
   stale: boolean,
 ): Omit<VarRow, 'portfolioId' | 'date' | 'method' | 'windowDays'> {
-  const { pnl, coverage, missing } = scenarioPnlSimple(values, matrix, days);
   const names = Array.from(missing, (a) => ids[held[a]]);
   if (!(coverage >= minCoverage)) return { ...empty('insufficient_history', stale), coverage, missing: names };
   const loss = historicalLoss(pnl, VAR_LEVEL, ES_LEVEL);
@@ -100,40 +108,57 @@ function withStale(reason: string, stale: boolean): string {
 }
 
 /**
- * The filtered simple returns of one date's scenarios, per security, computed once and
- * shared by every portfolio that holds it: r*_s = r_s sigma_today / sigma_s, then
- * exp(r*) - 1. A past date without a sigma (before the security's EWMA entry) is a gap;
- * a security without a sigma today has no filtered scenario at all.
+ * The filtered simple returns of one date's scenarios, per security, computed once per
+ * date and shared by every portfolio that holds it: r*_s = r_s sigma_today / sigma_s,
+ * then exp(r*) - 1. A past date without a sigma (before the security's EWMA entry) is a
+ * gap; a security without a sigma today has no filtered scenario at all. Buffers are
+ * reused from date to date.
  */
-class FilteredCache {
-  private readonly columns = new Map<number, Float64Array>();
+class FilteredScenarios {
+  private d = -1;
+  private readonly done: Int32Array;
+  private readonly out: Float64Array;
+  private readonly r: Float64Array;
+  private readonly past: Float64Array;
+  private readonly today = new Float64Array(1);
 
   constructor(
     private readonly inputs: HistoricalInputs,
-    private readonly d: number,
     private readonly longest: number,
-  ) {}
+  ) {
+    const n = inputs.returns.securityIds.length;
+    this.done = new Int32Array(n).fill(-1);
+    this.out = new Float64Array(n * longest);
+    this.r = new Float64Array(longest);
+    this.past = new Float64Array(longest);
+  }
 
-  /** The last `longest` scenarios ending at d (rows d - longest + 1 .. d), oldest first. */
-  column(j: number): Float64Array {
-    let out = this.columns.get(j);
-    if (out !== undefined) return out;
-    const { returns, sigmaAfter } = this.inputs;
-    const n = returns.securityIds.length;
-    const first = this.d - this.longest + 1;
-    const past = new Float64Array(this.longest);
-    const r = new Float64Array(this.longest);
-    const today = sigmaAfter[this.d * n + j];
-    for (let s = 0; s < this.longest; s++) {
-      const row = first + s;
-      const sigma = row >= 1 ? sigmaAfter[(row - 1) * n + j] : Number.NaN;
-      const known = Number.isFinite(sigma) && Number.isFinite(today);
-      // an unknown sigma is a gap: NaN return over a unit sigma stays NaN
-      past[s] = known ? sigma : 1;
-      r[s] = known && row >= 1 ? returns.returns[row * n + j] : Number.NaN;
+  moveTo(d: number): void {
+    this.d = d;
+  }
+
+  /** The last `count` scenarios ending at the current date, oldest first. */
+  column(j: number, count: number): Float64Array {
+    const { longest, d } = this;
+    const column = this.out.subarray(j * longest, (j + 1) * longest);
+    if (this.done[j] !== d) {
+      const { returns, sigmaAfter } = this.inputs;
+      const n = returns.securityIds.length;
+      const t = returns.dates.length;
+      const today = sigmaAfter[d * n + j];
+      for (let s = 0; s < longest; s++) {
+        const row = d - longest + 1 + s;
+        const sigma = row >= 1 ? sigmaAfter[(row - 1) * n + j] : Number.NaN;
+        const known = Number.isFinite(sigma) && Number.isFinite(today);
+        // an unknown sigma is a gap: a NaN return over a unit sigma stays NaN
+        this.past[s] = known ? sigma : 1;
+        this.r[s] = known ? returns.returnsBySecurity[j * t + row] : Number.NaN;
+      }
+      this.today[0] = Number.isFinite(today) ? today : 0;
+      filteredReturns(this.r, longest, this.past, this.today, column);
+      for (let s = 0; s < longest; s++) column[s] = Math.expm1(column[s]);
+      this.done[j] = d;
     }
-    out = filteredReturns(r, this.longest, past, Float64Array.of(Number.isFinite(today) ? today : 0)).map(Math.expm1);
-    this.columns.set(j, out);
-    return out;
+    return column.subarray(longest - count);
   }
 }

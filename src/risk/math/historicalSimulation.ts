@@ -125,21 +125,23 @@ export function historicalLoss(pnl: Float64Array, varLevel: number, esLevel: num
  *
  * A missing return (NaN) stays missing. A past sigma of zero (a series that had never
  * moved) scales a zero return to zero and leaves any other return missing (NaN), since
- * the ratio is undefined; the coverage of `scenarioPnl` then reports it.
+ * the ratio is undefined; the coverage of `scenarioPnl` then reports it. `out`, when
+ * given, receives the result (a caller walking many dates reuses one buffer).
  */
 export function filteredReturns(
   returns: Float64Array,
   scenarios: number,
   sigmaPast: Float64Array,
   sigmaToday: Float64Array,
+  out: Float64Array = new Float64Array(returns.length),
 ): Float64Array {
   const fn = 'filteredReturns';
   const n = sigmaToday.length;
   requireInteger(fn, 'scenarios', scenarios, 1);
   requireLength(fn, 'returns', returns.length, scenarios * n);
   requireLength(fn, 'sigmaPast', sigmaPast.length, scenarios * n);
+  requireLength(fn, 'out', out.length, scenarios * n);
   for (let i = 0; i < n; i++) requireSigma(fn, `sigmaToday[${i}]`, sigmaToday[i]);
-  const out = new Float64Array(returns.length);
   for (let s = 0; s < scenarios; s++) {
     for (let i = 0; i < n; i++) {
       const at = s * n + i;
