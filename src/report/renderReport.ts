@@ -1,5 +1,6 @@
 import { contributionsSection, correlationSection, realizedSection, volatilitySection } from './chartSections.ts';
 import { escapeHtml } from './format.ts';
+import { lossSection } from './lossSections.ts';
 import type { ReportData } from './reportData.ts';
 import { STYLESHEET } from './style.ts';
 import { breachTable, cautionsSection, keyFigures, latestTable, provenanceFooter, qualitySection } from './tableSections.ts';
@@ -30,6 +31,7 @@ ${volatilitySection(data)}
 ${realizedSection(data)}
 ${contributionsSection(data)}
 ${correlationSection(data)}
+${lossSection(data)}
 ${breachTable(data)}
 ${latestTable(data)}
 ${qualitySection(data)}

@@ -5,6 +5,7 @@ import { RiskfoldError } from '../errors.ts';
 import { applicableLimits } from '../limits/applicableLimits.ts';
 import { sqlString, type Database } from '../storage/database.ts';
 import { correlationOfReturns, type CorrelationResult, type ReturnObservation } from './correlation.ts';
+import { loadLossData, type LossData } from './lossData.ts';
 
 export interface RiskPoint {
   date: string;
@@ -77,6 +78,7 @@ export interface ReportData {
   correlation: (CorrelationResult & { names: string[]; window: number }) | { error: string };
   breaches: Breach[];
   quality: QualityFlag[];
+  losses: LossData;
   provenance: { runId: number | null; runFinishedAt: string | null; trigger: string | null; configHash: string; database: string };
 }
 
@@ -140,6 +142,7 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
     correlation: await loadCorrelation(db, portfolioId, asOf),
     breaches: await db.all<Breach>('select * from limit_breaches where portfolio_id = $1 order by opened_on, breach_id', [portfolioId]),
     quality: await loadQuality(db, portfolioId),
+    losses: await loadLossData(db, portfolioId, asOf, focusWindow, chartFrom),
     provenance: await loadProvenance(db, config, latest, database),
   };
 }
