@@ -3,7 +3,7 @@ import { escapeHtml } from './format.ts';
 import { lossSection } from './lossSections.ts';
 import type { ReportData } from './reportData.ts';
 import { STYLESHEET } from './style.ts';
-import { breachTable, cautionsSection, keyFigures, latestTable, provenanceFooter, qualitySection } from './tableSections.ts';
+import { breachTable, cautionsSection, currencyTable, keyFigures, latestTable, provenanceFooter, qualitySection } from './tableSections.ts';
 
 /**
  * The whole report as one HTML page: inline CSS and SVG, no script and no external
@@ -29,6 +29,7 @@ export function renderReport(data: ReportData, generatedAt: Date): string {
 ${keyFigures(data)}
 ${volatilitySection(data)}
 ${realizedSection(data)}
+${currencyTable(data)}
 ${contributionsSection(data)}
 ${correlationSection(data)}
 ${lossSection(data)}
