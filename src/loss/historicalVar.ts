@@ -59,9 +59,14 @@ export function historicalVarRows(inputs: HistoricalInputs, settings: Historical
           const n = usable[0];
           for (let a = 0; a < h; a++) {
             const j = held[a];
-            const cash = returns.isCash[j] === 1;
-            const column = method === 'historical' ? simple.subarray(j * t + d - n + 1, j * t + d + 1) : filtered.column(j, n);
-            for (let s = 0; s < n; s++) matrix[s * h + a] = cash ? 0 : column[s];
+            if (returns.isCash[j] === 1) {
+              for (let s = 0; s < n; s++) matrix[s * h + a] = 0;
+              continue;
+            }
+            // indices into one flat buffer, so no view is made per holding
+            const source = method === 'historical' ? simple : filtered.scenarios;
+            const first = method === 'historical' ? j * t + d - n + 1 : filtered.columnStart(j) + longest - n;
+            for (let s = 0; s < n; s++) matrix[s * h + a] = source[first + s];
           }
         }
         let widest: ScenarioPnl | null = null;
@@ -137,10 +142,15 @@ class FilteredScenarios {
     this.d = d;
   }
 
-  /** The last `count` scenarios ending at the current date, oldest first. */
-  column(j: number, count: number): Float64Array {
+  /** Every security's filtered simple returns of the current date: `longest` per security, oldest first. */
+  get scenarios(): Float64Array {
+    return this.out;
+  }
+
+  /** Where security j's scenarios of the current date start in `scenarios`, computing them on first use. */
+  columnStart(j: number): number {
     const { longest, d } = this;
-    const column = this.out.subarray(j * longest, (j + 1) * longest);
+    const start = j * longest;
     if (this.done[j] !== d) {
       const { returns, sigmaAfter } = this.inputs;
       const n = returns.securityIds.length;
@@ -155,10 +165,11 @@ class FilteredScenarios {
         this.r[s] = known ? returns.returnsBySecurity[j * t + row] : Number.NaN;
       }
       this.today[0] = Number.isFinite(today) ? today : 0;
+      const column = this.out.subarray(start, start + longest);
       filteredReturns(this.r, longest, this.past, this.today, column);
       for (let s = 0; s < longest; s++) column[s] = Math.expm1(column[s]);
       this.done[j] = d;
     }
-    return column.subarray(longest - count);
+    return start;
   }
 }
