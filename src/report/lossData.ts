@@ -77,7 +77,7 @@ export async function loadLossData(db: Database, portfolioId: string, asOf: stri
   const stress = await db.all<StressFigure>(
     `select date, scenario_id, kind, pnl_base, pnl_pct, coverage, missing, range_from, range_to from stress_results
      where portfolio_id = $1 and date = (select max(date) from stress_results where portfolio_id = $1 and date <= $2)
-     order by kind desc, scenario_id`,
+     order by starts_with(scenario_id, 'worst_'), length(scenario_id), scenario_id`,
     [portfolioId, asOf],
   );
   return { methods, backtests, chart: { window: focusWindow, points }, stress };
