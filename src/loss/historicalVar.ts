@@ -34,11 +34,15 @@ export function historicalVarRows(inputs: HistoricalInputs, settings: Historical
   const t = returns.dates.length;
   const days = [...settings.days].sort((a, b) => b - a);
   const longest = days[0];
-  // each return converted once, by security: every portfolio and date revalues under the same scenarios
-  const simple = returns.returnsBySecurity.map(Math.expm1);
+  // each return the run's scenarios use converted once, by security: every portfolio and date revalues under them
+  const firstDate = Math.max(fromRow, portfolios.firstRow);
+  const simple = new Float64Array(t * returns.securityIds.length);
+  for (let j = 0; j < returns.securityIds.length; j++) {
+    for (let row = Math.max(0, firstDate - longest + 1); row < t; row++) simple[j * t + row] = Math.expm1(returns.returnsBySecurity[j * t + row]);
+  }
   const filtered = new FilteredScenarios(inputs, longest);
   let matrix = new Float64Array(0);
-  for (let d = Math.max(fromRow, portfolios.firstRow); d < t; d++) {
+  for (let d = firstDate; d < t; d++) {
     filtered.moveTo(d);
     for (let p = 0; p < portfolios.ids.length; p++) {
       const slot = p * t + d;
