@@ -1,5 +1,6 @@
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
+import { WORST_WINDOW_PREFIX } from '../config/schema.ts';
 import type { PortfolioPanel, ReturnPanel } from '../risk/inputs.ts';
 import { readColumns } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';
@@ -8,6 +9,7 @@ import { historicalVarRows } from './historicalVar.ts';
 import { LossStage } from './lossStage.ts';
 import { securitySigmas } from './securitySigmas.ts';
 import { stressRows, type StressBook } from './stressRows.ts';
+import { WORST_WINDOW_DAYS, worstWindowsUpTo, type WorstWindows } from './worstWindows.ts';
 
 /**
  * The loss stage: historical and filtered historical VaR/ES, the VaR backtest of every
@@ -49,13 +51,15 @@ export async function computeLosses(db: Database, config: Config, log: Logger, i
     backtestRows(history, portfolios, returns.dates, fromRow, await readPriorFlags(db, inputs), (row) => stage.addBacktest(row));
     if (fromRow < t) {
       const books = await readLatestBooks(db, inputs);
-      const history = await readPortfolioReturns(db, portfolios, t);
+      const stored = await readStoredWorst(db, inputs);
+      // the whole history is read only when a portfolio has no stored worst windows to continue
+      // from, or the panel does not reach back over the longest window before the run
+      const continues = fromRow - Math.max(...WORST_WINDOW_DAYS) >= portfolios.firstRow && [...books.keys()].every((p) => stored.has(p));
+      const series = continues ? portfolios.logReturn : await readPortfolioReturns(db, portfolios, t);
       for (const [p, book] of books) {
-        stressRows(
-          { portfolioId: portfolios.ids[p], d: book.d, holdings: book.holdings, returns, portfolioReturns: history.subarray(p * t, (p + 1) * t) },
-          config.stress.scenarios,
-          config.baseCurrency,
-          (row) => stage.addStress(row),
+        const worst = worstWindowsUpTo(series.subarray(p * t, (p + 1) * t), book.d, fromRow, continues ? stored.get(p)! : null);
+        stressRows({ portfolioId: portfolios.ids[p], d: book.d, holdings: book.holdings, returns, worst }, config.stress.scenarios, config.baseCurrency, (row) =>
+          stage.addStress(row),
         );
       }
     }
@@ -158,6 +162,35 @@ async function readLatestBooks(db: Database, inputs: LossInputs): Promise<Map<nu
     book.holdings.push({ security: r.security_id, currency: r.currency, isCash: r.is_cash, assetClass: r.asset_class, valueBase: r.value_base });
   }
   return books;
+}
+
+/**
+ * The worst windows each portfolio had up to the day before the run, as stored then (its
+ * stress rows of that date); a portfolio is left out unless all of them can be read back.
+ */
+async function readStoredWorst(db: Database, inputs: LossInputs): Promise<Map<number, WorstWindows>> {
+  const { fromRow, returns, portfolios } = inputs;
+  const out = new Map<number, WorstWindows>();
+  if (fromRow < 1) return out;
+  const rows = await db.all<{ portfolio_id: string; scenario_id: string; pnl_pct: number | null; coverage: number | null; range_to: string | null }>(
+    `select portfolio_id, scenario_id, pnl_pct, coverage, range_to from stress_results
+     where date = $1::date and starts_with(scenario_id, $2) and list_contains(from_json($3, '["VARCHAR"]'), portfolio_id)`,
+    [returns.dates[fromRow - 1], WORST_WINDOW_PREFIX, JSON.stringify(portfolios.ids)],
+  );
+  const rowOf = new Map(returns.dates.map((date, d) => [date, d]));
+  const index = new Map(portfolios.ids.map((id, p) => [id, p]));
+  const found = new Map<number, WorstWindows>();
+  for (const r of rows) {
+    const p = index.get(r.portfolio_id)!;
+    const days = Number(r.scenario_id.slice(WORST_WINDOW_PREFIX.length, -1));
+    let windows = found.get(p);
+    if (!windows) found.set(p, (windows = new Map()));
+    // no window at all (coverage 0), or one whose return can be read back (a positive value)
+    if (r.coverage === 0) windows.set(days, null);
+    else if (r.pnl_pct !== null && r.range_to !== null && rowOf.has(r.range_to)) windows.set(days, { start: rowOf.get(r.range_to)! - days + 1, return: r.pnl_pct });
+  }
+  for (const [p, windows] of found) if (WORST_WINDOW_DAYS.every((days) => windows.has(days))) out.set(p, windows);
+  return out;
 }
 
 /**

@@ -1,8 +1,9 @@
 import type { StressScenario } from '../config/schema.ts';
 import { WORST_WINDOW_PREFIX } from '../config/schema.ts';
 import type { ReturnPanel } from '../risk/inputs.ts';
-import { compoundedReturns, hypotheticalReturns, stressPnl, worstWindow, type StressHolding } from '../risk/math/stress.ts';
+import { compoundedReturns, hypotheticalReturns, stressPnl, type StressHolding } from '../risk/math/stress.ts';
 import type { StressRow } from './lossStage.ts';
+import type { WorstWindows } from './worstWindows.ts';
 
 /**
  * stress_results rows of one portfolio at one date (SPEC section 9, formulas in
@@ -10,9 +11,6 @@ import type { StressRow } from './lossStage.ts';
  * windows of the portfolio's own return history up to that date. A stress result says
  * what one move would do to the holdings; it is not a probability.
  */
-
-/** The worst-window lengths, in valuation dates; scenario ids worst_1d, worst_5d, worst_20d. */
-export const WORST_WINDOW_DAYS = [1, 5, 20] as const;
 
 export interface StressBook extends StressHolding {
   /** Value at the date's close in base currency. */
@@ -25,8 +23,8 @@ export interface StressInputs {
   d: number;
   holdings: readonly StressBook[];
   returns: ReturnPanel;
-  /** The portfolio's holdings log return by date row (NaN: none), rows 0 .. d at least. */
-  portfolioReturns: Float64Array;
+  /** The worst windows of the portfolio's own history up to row d (worstWindowsUpTo). */
+  worst: WorstWindows;
 }
 
 export function stressRows(inputs: StressInputs, scenarios: readonly StressScenario[], baseCurrency: string, emit: (row: StressRow) => void): void {
@@ -57,8 +55,7 @@ export function stressRows(inputs: StressInputs, scenarios: readonly StressScena
       rangeTo: returns.dates[last],
     });
   }
-  for (const days of WORST_WINDOW_DAYS) {
-    const worst = worstWindow(inputs.portfolioReturns.subarray(0, d + 1), days);
+  for (const [days, worst] of inputs.worst) {
     emit({
       ...base,
       scenarioId: `${WORST_WINDOW_PREFIX}${days}d`,

@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { recompute } from '../../src/risk/recompute.ts';
+import { refreshDerived } from '../../src/storage/derived.ts';
 import { insertFx, insertPositions, insertPrices, insertSecurities } from '../helpers/rawRows.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 import { SP500_CLOSES, SP500_DATES } from '../risk/math/data/sp500Closes2008.ts';
@@ -217,5 +218,32 @@ describe('a recompute from a later date', () => {
     expect(await read()).toEqual(full);
     const runs = await ws.db.all(`select distinct run_id from var_backtest where date >= '2008-10-01'`);
     expect(runs).toEqual([{ run_id: 2 }]);
+  });
+});
+
+describe('a new day after a run', () => {
+  it('continues the worst windows from the stored ones and writes what a full backfill writes', async () => {
+    const day = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252, historical: { days: [250, 200] } }, limits: [] });
+    try {
+      await insertPrices(day.db, 2, SP500_DATES.map((date, t) => [date, 'IX-BROAD', SP500_CLOSES[t], 'USD']));
+      await insertPositions(day.db, 4, [
+        [SP500_DATES[0], 'acct-index', 'IX-BROAD', UNITS],
+        [SP500_DATES[0], 'acct-index', 'CASH:USD', 500_000],
+      ]);
+      // the history up to 2008-10-14, then 2008-10-15 (the index's worst day) as a new day
+      const cut = SP500_DATES.indexOf('2008-10-15');
+      await day.db.run(`delete from prices where date >= $1::date`, [SP500_DATES[cut]]);
+      await refreshDerived(day.db);
+      await recompute(day.db, day.config, day.log, { trigger: 'history' });
+      await insertPrices(day.db, 5, [[SP500_DATES[cut], 'IX-BROAD', SP500_CLOSES[cut], 'USD']]);
+      await recompute(day.db, day.config, day.log, { trigger: 'new day', from: SP500_DATES[cut] });
+      const read = `select scenario_id, pnl_base, pnl_pct, range_from, range_to from stress_results where date = '${SP500_DATES[cut]}' order by scenario_id`;
+      const incremental = await day.db.all(read);
+      await recompute(day.db, day.config, day.log, { trigger: 'full' });
+      expect(incremental).toEqual(await day.db.all(read));
+      expect(incremental.map((r) => r.scenario_id)).toEqual(['worst_1d', 'worst_20d', 'worst_5d']);
+    } finally {
+      day.cleanup();
+    }
   });
 });
