@@ -1,6 +1,6 @@
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
-import { WORST_WINDOW_PREFIX } from '../config/schema.ts';
+import { WORST_WINDOW_PREFIX } from '../config/stressSchema.ts';
 import type { PortfolioPanel, ReturnPanel } from '../risk/inputs.ts';
 import { readColumns } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';

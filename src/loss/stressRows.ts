@@ -1,5 +1,5 @@
-import type { StressScenario } from '../config/schema.ts';
-import { WORST_WINDOW_PREFIX } from '../config/schema.ts';
+import type { StressScenario } from '../config/stressSchema.ts';
+import { WORST_WINDOW_PREFIX } from '../config/stressSchema.ts';
 import type { ReturnPanel } from '../risk/inputs.ts';
 import { compoundedReturns, hypotheticalReturns, stressPnl, type StressHolding } from '../risk/math/stress.ts';
 import type { StressRow } from './lossStage.ts';
