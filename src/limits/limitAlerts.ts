@@ -45,7 +45,10 @@ export function transitionAlert(input: LimitAlertInput, t: Transition): NewAlert
   const peak = `peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn}`;
   let text: string;
   let level = episode.level;
-  if (t.kind === 'limit_opened') {
+  if (limit.metric === 'backtest_zone') {
+    level = t.kind === 'limit_opened' ? episode.openLevel : episode.level;
+    text = zoneText(portfolioId, limit, t);
+  } else if (t.kind === 'limit_opened') {
     level = episode.openLevel;
     text =
       level === 'breach'
@@ -131,6 +134,14 @@ export function metricLabel(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'es
 /** A limit's figure as text: a fraction as a percentage, a backtest's exceptions as a count. */
 function fmt(limit: Pick<ResolvedLimit, 'metric'>, value: number): string {
   return limit.metric === 'backtest_zone' ? `${value} exceptions in 250 days` : pct(value);
+}
+
+/** "acct: the 63-day normal 99% VaR had 5 exceptions in its last 250 tested days on <date>: yellow zone (red from 10)". */
+function zoneText(portfolioId: string, limit: ResolvedLimit, t: Transition): string {
+  const zone = t.kind === 'limit_closed' ? 'green' : t.value >= limit.limit ? 'red' : 'yellow';
+  const model = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day`;
+  const bounds = zone === 'red' ? `red from ${limit.limit}` : zone === 'yellow' ? `yellow from ${limit.warning}, red from ${limit.limit}` : `green below ${limit.warning}`;
+  return `${portfolioId}: the ${model} normal 99% VaR had ${t.value} exceptions in its last 250 tested days on ${t.date}: ${zone} zone (${bounds})`;
 }
 
 /** The Basel zone a backtest_zone episode level stands for: warning = yellow, breach = red. */

@@ -54,7 +54,11 @@ describe('a limit on the backtest zone (metric backtest_zone)', () => {
       ['limit_escalated', days[4], 'breach', 'red', 'backtest_zone'],
       ['limit_closed', days[7], 'breach', 'green', 'backtest_zone'],
     ]);
-    expect(alerts[0].data.text).toMatch(/63-day normal 99% VaR backtest 5 exceptions in 250 days/);
+    expect(alerts.map((a) => a.data.text)).toEqual([
+      `acct-growth: the 63-day normal 99% VaR had 5 exceptions in its last 250 tested days on ${days[2]}: yellow zone (yellow from 5, red from 10)`,
+      `acct-growth: the 63-day normal 99% VaR had 10 exceptions in its last 250 tested days on ${days[4]}: red zone (red from 10)`,
+      `acct-growth: the 63-day normal 99% VaR had 4 exceptions in its last 250 tested days on ${days[7]}: green zone (green below 5)`,
+    ]);
     const [breach] = await breachRows(db);
     expect(breach).toMatchObject({ level: 'breach', opened_on: days[2], escalated_on: days[4], closed_on: days[7], peak_value: 10 });
   });
