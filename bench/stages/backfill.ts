@@ -1,5 +1,5 @@
 import type { Logger } from 'pino';
-import { recompute, type RunSummary } from '../../src/risk/recompute.ts';
+import { runRecompute, type RunSummary } from '../../src/batch/runRecompute.ts';
 import { openWorkspace } from '../../src/storage/workspace.ts';
 import { figure, type Figure } from '../figures.ts';
 import type { SizeName } from '../scenario.ts';
@@ -26,7 +26,7 @@ export async function measureBackfill(ws: BenchWorkspace, size: SizeName, runs: 
   const summaries: RunSummary[] = [];
   try {
     for (let run = 0; run < runs; run++) {
-      const out = await timed(() => recompute(db, ws.config, log, { trigger: 'bench:backfill', from: null, portfolios: null }));
+      const out = await timed(() => runRecompute(db, ws.config, log, { trigger: 'bench:backfill', from: null, portfolios: null }));
       seconds.push(out.seconds);
       summaries.push(out.value);
     }

@@ -1,6 +1,13 @@
 import type { Database } from '../storage/database.ts';
 
-export type AlertKind = 'limit_opened' | 'limit_escalated' | 'limit_closed' | 'limit_retracted' | 'data_missing';
+export type AlertKind =
+  | 'limit_opened'
+  | 'limit_escalated'
+  | 'limit_closed'
+  | 'limit_retracted'
+  | 'data_missing'
+  | 'run_failed'
+  | 'file_held';
 
 export interface NewAlert {
   /** Stable and unique: a receiver de-duplicates by it, a re-derived alert gets the same id. */

@@ -3,11 +3,15 @@ import path from 'node:path';
 import type { Logger } from 'pino';
 import { deliverAlerts, type DeliverySummary } from '../alerts/deliverAlerts.ts';
 import type { Config } from '../config/load.ts';
+import { orderDeliveries } from '../ingest/deliveryOrder.ts';
 import { ingestFile, type IngestOutcome } from '../ingest/ingestFile.ts';
-import { recompute, type RunSummary } from '../risk/recompute.ts';
 import type { Database } from '../storage/database.ts';
 import { publishReadCopy } from '../storage/workspace.ts';
+import { nothingToCompute } from './nothingToCompute.ts';
+import { markInterruptedRuns } from './runRecord.ts';
 import { mergeScope, triggerFor, uncoveredFiles, type RecomputeScope } from './recomputeScope.ts';
+import { runRecompute, type RecomputeRequest, type RunSummary } from './runRecompute.ts';
+import { changedSettings, describeChange, resultSettings, type SettingChange } from './runSettings.ts';
 
 export interface BatchOptions {
   /**
@@ -19,6 +23,11 @@ export interface BatchOptions {
   shouldStop?: () => boolean;
   /** Called after each file's transaction, for progress output. */
   onFile?: (outcome: IngestOutcome) => void;
+  /**
+   * Recompute exactly this instead of what the files touched (the `recompute` command,
+   * usually with no files). Files the run does not reach stay uncovered for the next batch.
+   */
+  recompute?: RecomputeRequest;
 }
 
 export interface BatchSummary {
@@ -26,16 +35,23 @@ export interface BatchSummary {
   /** Files not processed: gone from the inbox before their turn, or left for the next start after a stop. */
   skipped: string[];
   scope: RecomputeScope | null;
+  /** Settings that differ from those the stored results were made with: the run was widened to the full history. */
+  settingChanges: SettingChange[];
   run: RunSummary | null;
   /** The recompute failed; its files stay uncovered and the next batch or start retries them. */
   runError: string | null;
+  /** Why no run was made although files were loaded (nothing to compute), in plain words. */
+  idle: string | null;
   delivery: DeliverySummary | null;
 }
 
 /**
- * One unit of the worker's queue: each file in its own ingest transaction (in the order
- * given), then ONE recompute over everything they touched, which checks limits inside
- * its transaction, then alert delivery (optional) and the read copy.
+ * The one home of a batch, for `watch`, `ingest`, `recompute` and the demo: each file in
+ * its own ingest transaction (securities, fx, prices, then positions; by arrival within
+ * a kind), then ONE run over everything they
+ * touched (runRecompute: derived refresh, risk, then one transaction for risk rows,
+ * estimator state, limits and the outbox), then, after the commit, alert delivery
+ * (optional) and the read copy.
  */
 export async function runBatch(
   db: Database,
@@ -44,10 +60,13 @@ export async function runBatch(
   files: string[],
   options: BatchOptions = {},
 ): Promise<BatchSummary> {
-  const blog = log.child({ stage: 'pipeline' });
-  const summary: BatchSummary = { files: [], skipped: [], scope: null, run: null, runError: null, delivery: null };
+  const blog = log.child({ stage: 'batch' });
+  const summary: BatchSummary = { files: [], skipped: [], scope: null, settingChanges: [], run: null, runError: null, idle: null, delivery: null };
 
-  for (const file of files) {
+  const interrupted = await markInterruptedRuns(db);
+  if (interrupted.length > 0) blog.warn({ runIds: interrupted }, `run ${interrupted.join(', ')} marked interrupted: the process ended during it`);
+
+  for (const file of orderDeliveries(config, files)) {
     if (options.shouldStop?.()) {
       summary.skipped.push(file);
       continue;
@@ -65,13 +84,19 @@ export async function runBatch(
   }
 
   summary.scope = mergeScope(summary.files, await uncoveredFiles(db));
-  if (summary.scope) {
-    const trigger = triggerFor(summary.scope, summary.files.some((f) => f.status === 'ingested') ? 'ingest' : 'resume');
+  summary.idle = summary.scope && !options.recompute ? await nothingToCompute(db, summary.scope) : null;
+  if (summary.idle) blog.info({ files: summary.scope?.files }, summary.idle);
+  let request = summary.idle ? null : (options.recompute ?? requestFor(summary));
+  // stored results made under other settings would mix with new rows: recompute them all
+  summary.settingChanges = await changedSettings(db, resultSettings(config));
+  for (const change of summary.settingChanges) blog.warn({ ...change }, describeChange(change));
+  if (summary.settingChanges.length > 0) request = { trigger: request?.trigger ?? 'settings', from: null, portfolios: null };
+  if (request) {
     try {
-      summary.run = await recompute(db, config, log, { trigger, from: summary.scope.from, portfolios: summary.scope.portfolios });
+      summary.run = await runRecompute(db, config, log, request);
     } catch (err) {
       summary.runError = err instanceof Error ? err.message : String(err);
-      blog.error({ err, trigger }, 'recompute failed; its files are retried with the next batch');
+      blog.error({ err, trigger: request.trigger }, 'recompute failed; its files are retried with the next batch');
     }
   }
 
@@ -83,8 +108,16 @@ export async function runBatch(
       skipped: summary.skipped.length,
       runId: summary.run?.runId ?? null,
       runError: summary.runError,
+      idle: summary.idle,
     },
     'batch done',
   );
   return summary;
+}
+
+/** The run that covers the batch's files and any left uncovered before; null when there are none. */
+function requestFor(summary: BatchSummary): RecomputeRequest | null {
+  if (!summary.scope) return null;
+  const trigger = triggerFor(summary.scope, summary.files.some((f) => f.status === 'ingested') ? 'ingest' : 'resume');
+  return { trigger, from: summary.scope.from, portfolios: summary.scope.portfolios };
 }

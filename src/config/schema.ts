@@ -55,6 +55,9 @@ export const BACKTEST_ZONE_LEVELS = { limit: 10, warning: 5, clear: 4.5 } as con
 export const ESTIMATORS = ['sample', 'ewma'] as const;
 export type Estimator = (typeof ESTIMATORS)[number];
 
+/** A limit level: positive; above 1 only for backtest_zone, whose levels count exceptions (checked with the metric below). */
+const levelSchema = z.number().positive();
+
 export const limitSchema = z
   .object({
     portfolio: z.string().min(1).describe('A portfolio id, or "*" for every portfolio; a specific id overrides "*".'),
@@ -66,15 +69,11 @@ export const limitSchema = z
       ),
     window: z.number().int().min(0).describe('Window in trading days (0 with estimator "ewma").'),
     estimator: z.enum(ESTIMATORS).default('sample').describe('Which estimate of risk_daily the limit reads.'),
-    limit: z
-      .number()
-      .positive()
+    limit: levelSchema
       .optional()
-      .describe('Mandate limit, a fraction (0.15 = 15%); required except for backtest_zone (default 10 exceptions: red).'),
-    warning: z.number().positive().optional().describe('Warning level; default 0.9 x limit (backtest_zone: 5 exceptions, yellow).'),
-    clear: z
-      .number()
-      .positive()
+      .describe('Mandate limit, a fraction up to 1 (0.15 = 15%); required except for backtest_zone, whose levels count exceptions (default 10: red).'),
+    warning: levelSchema.optional().describe('Warning level; default 0.9 x limit (backtest_zone: 5 exceptions, yellow).'),
+    clear: levelSchema
       .optional()
       .describe('An episode closes on the first date below this; default 0.85 x limit (backtest_zone: 4.5, back to green).'),
   })
@@ -187,6 +186,50 @@ const scheduleSchema = z
   })
   .strict();
 
+const isoDate = z.string().regex(/^\d{4}-\d\d-\d\d$/, 'a date written YYYY-MM-DD');
+
+const ingestSchema = z
+  .object({
+    earliestDate: isoDate.default('1900-01-01').describe('A row dated before this is refused.'),
+    maxDaysAhead: z
+      .number()
+      .int()
+      .min(0)
+      .default(7)
+      .describe('A row dated more than this many days after the day the file is received is refused.'),
+    minMagnitude: z
+      .number()
+      .positive()
+      .default(1e-12)
+      .describe('Smallest accepted magnitude of a price, fx rate or non-zero quantity (refuses subnormal values).'),
+    maxMagnitude: z
+      .number()
+      .positive()
+      .default(1e15)
+      .describe('Largest accepted magnitude of a price, fx rate or quantity (refuses values that overflow a valuation).'),
+    doneMarker: z
+      .enum(['none', 'done', 'ok'])
+      .default('none')
+      .describe('"done" or "ok": a delivery is loaded only once <name>.done (or <name>.ok) lies beside it; the marker is then removed.'),
+    snapshotKeepShare: z
+      .number()
+      .min(0)
+      .max(1)
+      .default(0.5)
+      .describe('A positions snapshot keeping fewer than this share of a portfolio\'s previous holdings is held as suspect (0 turns the check off).'),
+    confirmedFiles: z
+      .array(z.string().min(1))
+      .default([])
+      .describe('File names whose suspect snapshot drop is confirmed as intended: they load.'),
+    maxExpandedMB: z
+      .number()
+      .positive()
+      .default(512)
+      .describe('A compressed delivery expanding past this many megabytes is refused while it is read.'),
+  })
+  .strict()
+  .refine((i) => i.minMagnitude < i.maxMagnitude, { message: 'minMagnitude must be below maxMagnitude', path: ['minMagnitude'] });
+
 export const configSchema = z
   .object({
     $schema: z.string().optional(),
@@ -199,15 +242,37 @@ export const configSchema = z
       .optional()
       .describe('Read-only copy published after each committed run; default: <database>.read.duckdb.'),
     baseCurrency: currencyCode.default('USD').describe('ISO 4217 code values are reported in; other currencies need fx rates.'),
-    // prefault, not default: the defaults go through sourceSchema and get its own defaults (delimiter, columns, ...)
-    sources: z.array(sourceSchema).prefault(DEFAULT_SOURCES).describe('How file names map to kinds and how each sender\'s columns map to the canonical layout.'),
+    sources: z
+      .array(sourceSchema)
+      .default([])
+      .describe(
+        'How file names map to kinds and how each sender\'s columns map to the canonical layout. These come before the default sources (prices*.csv*, positions*.csv*, fx*.csv*, securities*.csv*), so they win where patterns overlap.',
+      ),
+    replaceDefaultSources: z
+      .boolean()
+      .default(false)
+      .describe('true: only the sources listed here are used, the default ones are dropped.'),
     watch: z
       .object({
         stableMs: z.number().int().min(0).default(1000).describe('A file counts as written once its size holds this long.'),
         pollMs: z.number().int().positive().default(100).describe('How often a growing file\'s size is checked.'),
+        settleMs: z
+          .number()
+          .int()
+          .min(0)
+          .default(2000)
+          .describe('Files landing within this long of each other form one batch (one run): it starts this long after the last arrival.'),
+        maxBatchWaitMs: z
+          .number()
+          .int()
+          .positive()
+          .default(30_000)
+          .describe('A batch starts at the latest this long after its first arrival, however files keep trickling in.'),
       })
       .strict()
-      .default({ stableMs: 1000, pollMs: 100 }),
+      .refine((w) => w.settleMs <= w.maxBatchWaitMs, { message: 'settleMs must not exceed maxBatchWaitMs', path: ['settleMs'] })
+      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, maxBatchWaitMs: 30_000 }),
+    ingest: ingestSchema.default(ingestSchema.parse({})),
     risk: riskSchema.default(riskSchema.parse({})),
     limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),
     alerts: alertsSchema.default({ maxAgeDays: 5 }),
@@ -216,6 +281,9 @@ export const configSchema = z
   })
   .strict()
   .superRefine((cfg, ctx) => {
+    if (cfg.replaceDefaultSources && cfg.sources.length === 0) {
+      ctx.addIssue({ code: 'custom', path: ['sources'], message: 'replaceDefaultSources is true but no sources are listed: no file could be read' });
+    }
     const limitKeys = new Set<string>();
     cfg.limits.forEach((limit, i) => {
       const key = [limit.portfolio, limit.metric, limit.window, limit.estimator].join('|');
@@ -230,6 +298,19 @@ export const configSchema = z
       if (limit.limit === undefined && limit.metric !== 'backtest_zone') {
         ctx.addIssue({ code: 'custom', path: ['limits', i, 'limit'], message: `a ${limit.metric} limit needs "limit"` });
         return;
+      }
+      if (limit.metric !== 'backtest_zone') {
+        // a fraction, so 15 meant as 15% is refused with the likely fix
+        for (const field of ['limit', 'warning', 'clear'] as const) {
+          const value = limit[field];
+          if (value !== undefined && value > 1) {
+            ctx.addIssue({
+              code: 'custom',
+              path: ['limits', i, field],
+              message: `${value} is above 1, but levels are fractions (0.15 = 15%); did you mean ${value / 100}?`,
+            });
+          }
+        }
       }
       const { limit: level, warning, clear } = limitLevels(limit);
       if (!(clear < warning && warning <= level)) {

@@ -21,7 +21,7 @@ type Limit = Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>;
  * fraction of value), or for backtest_zone the exceptions in 250 tested days of the
  * normal VaR's backtest, null until 250 days have been tested (no zone yet).
  */
-const METRIC_SQL: Record<ResolvedLimit['metric'], { value: string; rows: string }> = {
+export const METRIC_SQL: Record<ResolvedLimit['metric'], { value: string; rows: string }> = {
   vol_ex_ante: { value: 'vol_ex_ante', rows: 'risk_daily' },
   vol_realized: { value: 'vol_realized', rows: 'risk_daily' },
   var_99_1d: { value: 'var_99_1d / nullif(portfolio_value, 0)', rows: 'risk_daily' },

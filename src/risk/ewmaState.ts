@@ -7,7 +7,9 @@ import type { EwmaState } from './ewmaEstimate.ts';
  * dates, so that a new day continues from the day before and so does a run that redoes
  * the last date (a same-day correction). A run may continue from a state only when it
  * sits exactly on the date before the run's first date and was computed with the same
- * lambda and seedDays; otherwise the EWMA replays from the first date in memory.
+ * lambda and seedDays and the same result settings (the returns depend on the base
+ * currency and the stale-price carry too); otherwise the EWMA replays from the first
+ * date in memory.
  */
 
 export interface EwmaSettings {
@@ -21,12 +23,13 @@ export async function loadEwmaState(
   settings: EwmaSettings,
   dates: readonly string[],
   fromRow: number,
+  recordedWith: string,
 ): Promise<EwmaState | null> {
   if (fromRow < 1 || fromRow > dates.length) return null;
   const reader = await db.conn.runAndReadAll(
     `select security_ids, matrix from risk_ewma_state
-     where as_of = $1::date and decay = $2 and seed_days = $3`,
-    [dates[fromRow - 1], settings.lambda, settings.seedDays],
+     where as_of = $1::date and decay = $2 and seed_days = $3 and settings::varchar = $4`,
+    [dates[fromRow - 1], settings.lambda, settings.seedDays, recordedWith],
   );
   const rows = reader.getRows();
   if (rows.length !== 1) return null;
@@ -47,6 +50,7 @@ export async function saveEwmaState(
   dates: readonly string[],
   states: readonly EwmaState[],
   runId: number,
+  recordedWith: string,
 ): Promise<void> {
   await db.run('delete from risk_ewma_state');
   for (const state of states) {
@@ -54,13 +58,10 @@ export async function saveEwmaState(
     const view = new DataView(bytes.buffer);
     for (let i = 0; i < state.matrix.length; i++) view.setFloat64(i * 8, state.matrix[i], true);
     // ids as JSON: an empty JS list cannot be bound (DuckDB cannot type a list of nothing)
-    await db.run(`insert into risk_ewma_state values ($1::date, $2, $3, from_json($4, '["VARCHAR"]'), $5, $6)`, [
-      dates[state.row],
-      settings.lambda,
-      settings.seedDays,
-      JSON.stringify(state.securityIds),
-      blobValue(bytes),
-      runId,
-    ]);
+    await db.run(
+      `insert into risk_ewma_state (as_of, decay, seed_days, security_ids, matrix, run_id, settings)
+       values ($1::date, $2, $3, from_json($4, '["VARCHAR"]'), $5, $6, $7::json)`,
+      [dates[state.row], settings.lambda, settings.seedDays, JSON.stringify(state.securityIds), blobValue(bytes), runId, recordedWith],
+    );
   }
 }

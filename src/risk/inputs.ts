@@ -1,5 +1,4 @@
 import type { Database } from '../storage/database.ts';
-import { refreshDerived } from '../storage/derived.ts';
 import { readColumns, streamColumns } from '../storage/columnar.ts';
 
 /**
@@ -46,11 +45,10 @@ export interface PortfolioPanel {
 /**
  * Reads all valuation dates and all security returns (the EWMA may need to replay from
  * the first date; N x T doubles stay small), then the holdings of the portfolios in
- * scope from `firstRow` on.
+ * scope from `firstRow` on. The views read the derived tables: the caller refreshes
+ * them first (src/batch does, as a step of its own); this only reads.
  */
 export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
-  // the views read the derived tables: bring them up to the raw tables first (a no-op when current)
-  await refreshDerived(db);
   await db.run('create or replace temp table risk_in_dates as select date, date_index from align_valuation_dates');
   await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities');
   await db.run(`create or replace temp table risk_in_securities as

@@ -5,8 +5,11 @@ import { deliverAlerts } from '../alerts/deliverAlerts.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { runBatch } from '../batch/runBatch.ts';
+import { markerSuffix } from '../ingest/completeness.ts';
+import { recoverAtStart } from '../ingest/recovery.ts';
 import type { Database } from '../storage/database.ts';
 import { openWorkspace, publishReadCopy } from '../storage/workspace.ts';
+import { ArrivalWindow } from '../watch/arrivalWindow.ts';
 import { DeliveryLoop } from './deliveryLoop.ts';
 import { listInbox, waitUntilStable } from '../watch/inboxFiles.ts';
 import { watchInbox } from '../watch/inboxWatcher.ts';
@@ -74,6 +77,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
     }
   };
   const queue = new WorkQueue(handleBatch);
+  const arrivals = new ArrivalWindow(config.watch.settleMs, config.watch.maxBatchWaitMs, (files) => queue.addFiles(files));
   const republish = () => {
     publishWanted = true;
     queue.exclusive(() => (publishWanted ? publishReadCopy(db, config, log) : Promise.resolve())).then(
@@ -92,6 +96,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       stopping = true;
       wlog.info({ waiting: queue.waiting }, 'stopping: finishing the current file');
       await watcher?.close();
+      arrivals.close();
       await schedules?.stop();
       await queue.stop();
       await delivery.stop();
@@ -105,8 +110,9 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
 
   try {
     // new arrivals queue up (lane still closed) while the catch-up list is made
-    watcher = await watchInbox(config, log, (file) => queue.addFile(file));
-    const present = listInbox(config.inbox);
+    watcher = await watchInbox(config, log, (file) => arrivals.add(file));
+    await recoverAtStart(db, config, log);
+    const present = listInbox(config.inbox, markerSuffix(config));
     const stable = await Promise.all(present.map((f) => waitUntilStable(f, config.watch.stableMs, config.watch.pollMs)));
     const catchUp = present.filter((_, i) => stable[i]);
     wlog.info({ files: catchUp.map((f) => path.basename(f)) }, 'catching up on the inbox');

@@ -63,6 +63,7 @@ export async function insertDeliveries(db: Database, raw: Deliveries): Promise<v
   await insertRows(db, 'prices', ['date', 'security_id', 'price', 'currency'], raw.prices.map((r) => [r.fileId, r.line, r.date, r.securityId, r.price, r.currency]));
   await insertRows(db, 'fx_rates', ['date', 'currency', 'rate'], raw.fx.map((r) => [r.fileId, r.line, r.date, r.currency, r.rate]));
   await insertRows(db, 'positions', ['date', 'portfolio_id', 'security_id', 'quantity'], raw.positions.map((r) => [r.fileId, r.line, r.date, r.portfolioId, r.securityId, r.quantity]));
+  await refreshDerived(db);
 }
 
 /** Rows equal to the expected ones, numbers to `digits` decimals (floating point), the rest exactly. */

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { recompute } from '../../src/risk/recompute.ts';
+import { runRecompute } from '../../src/batch/runRecompute.ts';
 import { refreshDerived } from '../../src/storage/derived.ts';
 import { insertFx, insertPositions, insertPrices, insertSecurities } from '../helpers/rawRows.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
@@ -40,7 +40,7 @@ beforeAll(async () => {
     [SP500_DATES[0], 'acct-index', 'CASH:USD', 500_000],
     [SP500_DATES[0], 'acct-index', 'CASH:EUR', 100_000],
   ]);
-  await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+  await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
 }, 60_000);
 
 afterAll(() => ws?.cleanup());
@@ -214,7 +214,7 @@ describe('a recompute from a later date', () => {
       return out;
     };
     const full = await read();
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test', from: '2008-10-01' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test', from: '2008-10-01' });
     expect(await read()).toEqual(full);
     const runs = await ws.db.all(`select distinct run_id from var_backtest where date >= '2008-10-01'`);
     expect(runs).toEqual([{ run_id: 2 }]);
@@ -234,12 +234,12 @@ describe('a new day after a run', () => {
       const cut = SP500_DATES.indexOf('2008-10-15');
       await day.db.run(`delete from prices where date >= $1::date`, [SP500_DATES[cut]]);
       await refreshDerived(day.db);
-      await recompute(day.db, day.config, day.log, { trigger: 'history' });
+      await runRecompute(day.db, day.config, day.log, { trigger: 'history' });
       await insertPrices(day.db, 5, [[SP500_DATES[cut], 'IX-BROAD', SP500_CLOSES[cut], 'USD']]);
-      await recompute(day.db, day.config, day.log, { trigger: 'new day', from: SP500_DATES[cut] });
+      await runRecompute(day.db, day.config, day.log, { trigger: 'new day', from: SP500_DATES[cut] });
       const read = `select scenario_id, pnl_base, pnl_pct, range_from, range_to from stress_results where date = '${SP500_DATES[cut]}' order by scenario_id`;
       const incremental = await day.db.all(read);
-      await recompute(day.db, day.config, day.log, { trigger: 'full' });
+      await runRecompute(day.db, day.config, day.log, { trigger: 'full' });
       expect(incremental).toEqual(await day.db.all(read));
       expect(incremental.map((r) => r.scenario_id)).toEqual(['worst_1d', 'worst_20d', 'worst_5d']);
     } finally {

@@ -1,7 +1,7 @@
 import * as ss from 'simple-statistics';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { loadCurrencySplits } from '../../src/report/currencySplit.ts';
-import { recompute } from '../../src/risk/recompute.ts';
+import { runRecompute } from '../../src/batch/runRecompute.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 import { buildScenario, loadDays, RISK, type Scenario } from '../risk/stage/scenario.ts';
 
@@ -18,7 +18,7 @@ beforeAll(async () => {
   ws = await tempWorkspace({ risk: RISK, limits: [] });
   s = buildScenario(250);
   await loadDays(ws.db, s, 0, s.dates.length - 1);
-  await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+  await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
 }, 60_000);
 
 afterAll(() => ws?.cleanup());

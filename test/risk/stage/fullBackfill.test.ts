@@ -1,7 +1,7 @@
 import * as ss from 'simple-statistics';
 import { afterEach, describe, expect, it } from 'vitest';
 import type { ConfigInput } from '../../../src/config/schema.ts';
-import { recompute } from '../../../src/risk/recompute.ts';
+import { runRecompute } from '../../../src/batch/runRecompute.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
 import { expectMatchesReference, readDaily } from './compare.ts';
 import { referenceRisk, type ReferenceOptions } from './reference.ts';
@@ -18,7 +18,7 @@ describe('recompute: a full backfill', () => {
     ws = await tempWorkspace({ risk });
     const s = buildScenario();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     return s;
   }
 

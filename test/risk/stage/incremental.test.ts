@@ -1,6 +1,6 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import { RiskfoldError } from '../../../src/errors.ts';
-import { recompute } from '../../../src/risk/recompute.ts';
+import { runRecompute } from '../../../src/batch/runRecompute.ts';
 import type { Database } from '../../../src/storage/database.ts';
 import { applyViews } from '../../../src/storage/sqlFiles.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
@@ -37,14 +37,14 @@ describe('recompute: incremental runs', () => {
     const last = s.dates.length - 1;
     const daily = await workspace();
     await loadDays(daily.db, s, 0, last - 5);
-    await recompute(daily.db, daily.config, daily.log, { trigger: 'test' });
+    await runRecompute(daily.db, daily.config, daily.log, { trigger: 'test' });
     for (let d = last - 4; d <= last; d++) {
       await loadDays(daily.db, s, d, d);
-      await recompute(daily.db, daily.config, daily.log, { trigger: 'test', from: s.dates[d] });
+      await runRecompute(daily.db, daily.config, daily.log, { trigger: 'test', from: s.dates[d] });
     }
     const full = await workspace();
     await loadDays(full.db, s, 0, last);
-    await recompute(full.db, full.config, full.log, { trigger: 'test' });
+    await runRecompute(full.db, full.config, full.log, { trigger: 'test' });
 
     expectSameRows(await readDaily(daily.db), await readDaily(full.db), AGREE);
     expectSameRows(await readStats(daily.db), await readStats(full.db), AGREE);
@@ -62,11 +62,11 @@ describe('recompute: incremental runs', () => {
     const s = buildScenario();
     const ws = await workspace();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     const before = await readDaily(ws.db);
     const states = await ws.db.all<{ as_of: string }>('select as_of from risk_ewma_state order by as_of');
     expect(states.map((r) => r.as_of)).toEqual(s.dates.slice(-2));
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test', from: s.dates[s.dates.length - 1] });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test', from: s.dates[s.dates.length - 1] });
     expect(ws.logLines().filter((l) => l.msg === 'inputs read').map((l) => l.ewmaFromState)).toEqual([false, true]);
     expectSameRows(await readDaily(ws.db), before, AGREE);
   });
@@ -75,11 +75,11 @@ describe('recompute: incremental runs', () => {
     const s = buildScenario();
     const ws = await workspace();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     const before = await readDaily(ws.db);
     const day = 60;
     await correctPrice(ws.db, s, 'EQ-SALTMARSH', day, (s.prices['EQ-SALTMARSH'][day] as number) * 1.03);
-    const run = await recompute(ws.db, ws.config, ws.log, { trigger: 'correction', from: s.dates[day] });
+    const run = await runRecompute(ws.db, ws.config, ws.log, { trigger: 'correction', from: s.dates[day] });
     const after = await readDaily(ws.db);
 
     const earlier = (rows: DailyRow[]) => rows.filter((r) => (r.date as string) < s.dates[day]);
@@ -90,7 +90,7 @@ describe('recompute: incremental runs', () => {
     expect(changed.length).toBeGreaterThan(100);
     expect(Math.min(...changed.map((r) => r.date as string).map((d) => s.dates.indexOf(d)))).toBe(day);
 
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     expectSameRows(after, await readDaily(ws.db), AGREE);
   });
 
@@ -98,8 +98,8 @@ describe('recompute: incremental runs', () => {
     const s = buildScenario();
     const ws = await workspace();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    const first = await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
-    const second = await recompute(ws.db, ws.config, ws.log, { trigger: 'test', from: s.dates[200], portfolios: ['acct-income'] });
+    const first = await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    const second = await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test', from: s.dates[200], portfolios: ['acct-income'] });
     expect(second.portfolios).toBe(1);
     const runs = await ws.db.all<{ portfolio_id: string; late: boolean; run_id: number }>(
       `select portfolio_id, date >= $1::date as late, run_id from risk_daily group by all order by all`,
@@ -119,10 +119,10 @@ describe('recompute: incremental runs', () => {
     const s = buildScenario();
     const ws = await workspace();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    await recompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     const before = await readDaily(ws.db);
     await ws.db.run('drop view ret_portfolios');
-    await expect(recompute(ws.db, ws.config, ws.log, { trigger: 'broken', from: s.dates[100] })).rejects.toThrow(/ret_portfolios/);
+    await expect(runRecompute(ws.db, ws.config, ws.log, { trigger: 'broken', from: s.dates[100] })).rejects.toThrow(/ret_portfolios/);
     const [run] = await ws.db.all<{ status: string; error: string }>('select status, error from risk_runs order by run_id desc limit 1');
     expect(run.status).toBe('failed');
     expect(run.error).toMatch(/ret_portfolios/);
@@ -132,7 +132,7 @@ describe('recompute: incremental runs', () => {
 
   it('refuses a from date that is not an ISO calendar date, naming it', async () => {
     const ws = await workspace();
-    const attempt = recompute(ws.db, ws.config, ws.log, { trigger: 'test', from: '2024-02-30' });
+    const attempt = runRecompute(ws.db, ws.config, ws.log, { trigger: 'test', from: '2024-02-30' });
     await expect(attempt).rejects.toBeInstanceOf(RiskfoldError);
     await expect(attempt).rejects.toThrow(/"2024-02-30" is not an ISO date/);
   });

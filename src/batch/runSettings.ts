@@ -1,0 +1,61 @@
+import type { Config } from '../config/load.ts';
+import type { Database } from '../storage/database.ts';
+
+/**
+ * The settings that shape stored results, keyed by their config path, in a fixed order
+ * (the JSON text is compared as recorded). Settings that only steer the worker
+ * (folders, watch, alerts, schedules) are not here: changing them leaves results valid.
+ */
+export type ResultSettings = Record<string, string | number | boolean | number[]>;
+
+export function resultSettings(config: Config): ResultSettings {
+  const { risk } = config;
+  return {
+    baseCurrency: config.baseCurrency,
+    // as the risk stage uses them: each window once, ascending
+    'risk.windows': [...new Set(risk.windows)].sort((a, b) => a - b),
+    'risk.tradingDaysPerYear': risk.tradingDaysPerYear,
+    'risk.maxStaleDays': risk.maxStaleDays,
+    'risk.weights': risk.weights,
+    'risk.minCoverage': risk.minCoverage,
+    'risk.contributions': risk.contributions,
+    'risk.ewma.enabled': risk.ewma.enabled,
+    'risk.ewma.lambda': risk.ewma.lambda,
+    'risk.ewma.seedDays': risk.ewma.seedDays,
+    // the loss stage's lookbacks shape var_daily and var_backtest (the stress rows are rewritten by every run)
+    'risk.historical.days': [...new Set(risk.historical.days)].sort((a, b) => a - b),
+  };
+}
+
+/** One setting whose recorded value differs from the current one; `before` undefined: not recorded. */
+export interface SettingChange {
+  setting: string;
+  before: unknown;
+  after: unknown;
+}
+
+/**
+ * What differs between the settings of the stored results (the last finished run) and
+ * `current`; empty when nothing is stored yet or nothing changed. Results recorded
+ * before settings were kept count as unknown: every setting is reported as changed.
+ */
+export async function changedSettings(db: Database, current: ResultSettings): Promise<SettingChange[]> {
+  const [last] = await db.all<{ settings: string | null }>(
+    `select settings::varchar as settings from risk_runs where status = 'done' order by run_id desc limit 1`,
+  );
+  if (last === undefined) return [];
+  const recorded = last.settings === null ? {} : (JSON.parse(last.settings) as Record<string, unknown>);
+  return Object.entries(current)
+    .filter(([key, value]) => JSON.stringify(recorded[key]) !== JSON.stringify(value))
+    .map(([setting, after]) => ({ setting, before: recorded[setting], after }));
+}
+
+/** "setting risk.ewma.lambda changed 0.94 -> 0.97: recomputing full history" */
+export function describeChange(change: SettingChange): string {
+  return `setting ${change.setting} changed ${shown(change.before)} -> ${shown(change.after)}: recomputing full history`;
+}
+
+function shown(value: unknown): string {
+  if (value === undefined) return '(not recorded)';
+  return Array.isArray(value) ? value.join(',') : String(value);
+}

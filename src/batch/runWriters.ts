@@ -1,0 +1,60 @@
+import type { Logger } from 'pino';
+import type { Config } from '../config/load.ts';
+import { checkLimits } from '../limits/checkLimits.ts';
+import { writeLosses } from '../loss/lossStage.ts';
+import type { ComputedRisk, RiskScope } from '../risk/computeRun.ts';
+import { saveEwmaState } from '../risk/ewmaState.ts';
+import { replaceResults } from '../risk/staging.ts';
+import type { Database } from '../storage/database.ts';
+import { closeRunFailure } from './runIncident.ts';
+
+/** What a writer knows about the run whose results it commits. */
+export interface RunContext extends RiskScope {
+  trigger: string;
+  config: Config;
+  log: Logger;
+  /** The computed run: staged rows, dates, EWMA states (its input panels are let go before the write step). */
+  risk: Omit<ComputedRisk, 'inputs'>;
+  /** Alerts written to the outbox so far in this transaction; a writer that raises alerts adds its count. */
+  alertsRaised: number;
+}
+
+/**
+ * One part of a run's write step. Every writer runs, in list order, inside the run's ONE
+ * transaction (`tx` is the database with that transaction open: begin and commit
+ * nothing), so all of a run's results, checks and alerts commit together or not at all.
+ * The name is the phase name in the run's log record.
+ */
+export interface RunWriter {
+  name: string;
+  write(tx: Database, run: RunContext): Promise<void>;
+}
+
+/**
+ * The write step of every run: risk rows, the loss rows, then the estimator state, then
+ * limits (which read the new rows) and their alerts, then the close of a failure episode.
+ */
+export const RUN_WRITERS: readonly RunWriter[] = [
+  {
+    name: 'write',
+    write: (tx, run) =>
+      replaceResults(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, contributions: run.config.risk.contributions }),
+  },
+  {
+    // after the risk rows: var_daily copies the normal figures from risk_daily; before the limits, which read var_backtest
+    name: 'write_losses',
+    write: (tx, run) => writeLosses(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios }),
+  },
+  {
+    name: 'save_ewma_state',
+    write: (tx, run) => saveEwmaState(tx, run.config.risk.ewma, run.risk.dates, run.risk.ewmaStates, run.runId, run.settings),
+  },
+  {
+    name: 'limits',
+    write: async (tx, run) => {
+      const outcome = await checkLimits(tx, run.config, run.log, { runId: run.runId, from: run.from, portfolios: run.portfolios });
+      run.alertsRaised += outcome.alertsRaised;
+    },
+  },
+  closeRunFailure,
+];
