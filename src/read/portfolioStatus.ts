@@ -48,7 +48,9 @@ export async function readPortfolioStatus(db: Database, config: Config, portfoli
   for (const s of series) {
     const name = seriesName(s);
     columns.push(name, `${name}_limit`, `${name}_headroom`, `${name}_episode`, `${name}_since`);
-    units.push('percent', 'percent', 'percent', null, null);
+    // a backtest zone watches a count of exceptions, every other figure a fraction
+    const unit = s.metric === 'backtest_zone' ? null : 'percent';
+    units.push(unit, unit, unit, null, null);
   }
   columns.push('coverage', 'status');
   units.push('percent', null);
