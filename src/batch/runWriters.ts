@@ -1,4 +1,6 @@
 import type { Logger } from 'pino';
+import { markSuspectWindows } from '../checks/suspectStatus.ts';
+import { alertUnvaluedPortfolios } from '../checks/unvaluedPortfolios.ts';
 import type { Config } from '../config/load.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
 import { writeLosses } from '../loss/lossStage.ts';
@@ -31,8 +33,9 @@ export interface RunWriter {
 }
 
 /**
- * The write step of every run: risk rows, the loss rows, then the estimator state, then
- * limits (which read the new rows) and their alerts, then the close of a failure episode.
+ * The write step of every run: risk rows and their suspect_price status, the loss rows,
+ * then the estimator state, then limits (which read the new rows) and their alerts, the
+ * portfolio_unvalued alerts, then the close of a failure episode.
  */
 export const RUN_WRITERS: readonly RunWriter[] = [
   {
@@ -40,6 +43,7 @@ export const RUN_WRITERS: readonly RunWriter[] = [
     write: (tx, run) =>
       replaceResults(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, contributions: run.config.risk.contributions }),
   },
+  { name: 'suspect_status', write: async (tx, run) => void (await markSuspectWindows(tx, run.runId)) },
   {
     // after the risk rows: var_daily copies the normal figures from risk_daily; before the limits, which read var_backtest
     name: 'write_losses',
@@ -54,6 +58,12 @@ export const RUN_WRITERS: readonly RunWriter[] = [
     write: async (tx, run) => {
       const outcome = await checkLimits(tx, run.config, run.log, { runId: run.runId, from: run.from, portfolios: run.portfolios });
       run.alertsRaised += outcome.alertsRaised;
+    },
+  },
+  {
+    name: 'unvalued',
+    write: async (tx, run) => {
+      run.alertsRaised += await alertUnvaluedPortfolios(tx, run.log, { runId: run.runId, portfolios: run.portfolios });
     },
   },
   closeRunFailure,

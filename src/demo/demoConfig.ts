@@ -6,8 +6,10 @@ export const DEMO_LIMIT_WINDOW = 63;
 
 /**
  * pipeline.config.json of the demo folder: the minimal layout plus three windows, one
- * volatility limit per account, a watch on each account's backtest zone, and a few
- * stress scenarios of the invented market (a range of its own history and shocks).
+ * volatility limit per account, a watch on each account's backtest zone, a few stress
+ * scenarios of the invented market (a range of its own history and shocks), and suspect
+ * prices held out of risk (the demo's 10x slip is carried over by the previous price
+ * until the custodian's correction arrives).
  */
 export function demoConfig(): ConfigInput {
   return {
@@ -30,5 +32,6 @@ export function demoConfig(): ConfigInput {
         { id: 'everything-15', kind: 'hypothetical', shocks: [{ all: true, return: -0.15 }] },
       ],
     },
+    checks: { suspectPrices: { mode: 'hold' } },
   };
 }

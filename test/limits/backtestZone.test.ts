@@ -49,10 +49,10 @@ describe('a limit on the backtest zone (metric backtest_zone)', () => {
     await db.transaction(() => checkLimits(db, config, log, { runId: 1, from: null, portfolios: null }));
 
     const alerts = await alertRows(db);
-    expect(alerts.map((a) => [a.kind, a.as_of, a.data.level, a.data.zone, a.data.metric])).toEqual([
-      ['limit_opened', days[2], 'warning', 'yellow', 'backtest_zone'],
-      ['limit_escalated', days[4], 'breach', 'red', 'backtest_zone'],
-      ['limit_closed', days[7], 'breach', 'green', 'backtest_zone'],
+    expect(alerts.map((a) => [a.kind, a.as_of, a.data.level, a.data.episode_state, a.data.zone, a.data.metric])).toEqual([
+      ['limit_opened', days[2], 'warning', 'open', 'yellow', 'backtest_zone'],
+      ['limit_escalated', days[4], 'breach', 'open', 'red', 'backtest_zone'],
+      ['limit_closed', days[7], 'closed', 'closed', 'green', 'backtest_zone'],
     ]);
     expect(alerts.map((a) => a.data.text)).toEqual([
       `acct-growth: the 63-day normal 99% VaR had 5 exceptions in its last 250 tested days on ${days[2]}: yellow zone (yellow from 5, red from 10)`,
