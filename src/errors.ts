@@ -10,27 +10,42 @@ export type RejectionCode =
   | 'empty_file'
   | 'missing_column'
   | 'bad_value'
-  | 'duplicate_key';
+  | 'duplicate_key'
+  | 'too_large';
 
 export interface Rejection {
   code: RejectionCode;
   file: string;
-  /** 1-based data row (the header is row 0). */
+  /** 1-based data row (the header is row 0); people are shown the file line, `fileLine()`. */
   row?: number;
   column?: string;
   value?: string;
   /** What was expected, in plain words. */
   expected?: string;
   message: string;
+  /** The likely fix, when the file's shape gives it away (src/ingest/hints.ts). */
+  hint?: string;
+  /** Where that fix belongs: the file, the config, or either. */
+  fixIn?: 'file' | 'config' | 'either';
+}
+
+/**
+ * The line of the file a data row is on, as an editor counts: the header is line 1, so
+ * data row n is line n + 1 (a quoted field holding a line break would shift it; DuckDB's
+ * own CSV errors already count physical lines).
+ */
+export function fileLine(r: Pick<Rejection, 'row'>): number | undefined {
+  return r.row === undefined ? undefined : r.row + 1;
 }
 
 export type Result<T> = { ok: true; value: T } | { ok: false; rejection: Rejection };
 
-/** `prices_0412.csv row 17, column price: "-3.0" is not a positive number` */
+/** `prices_0412.csv line 18, column price: "-3.0" is not a positive number`, then the hint if there is one. */
 export function formatRejection(r: Rejection): string {
-  const where = [r.file, r.row !== undefined ? `row ${r.row}` : undefined].filter(Boolean).join(' ');
+  const line = fileLine(r);
+  const where = [r.file, line !== undefined ? `line ${line}` : undefined].filter(Boolean).join(' ');
   const col = r.column !== undefined ? `, column ${r.column}` : '';
-  return `${where}${col}: ${r.message}`;
+  return `${where}${col}: ${r.message}${r.hint ? `; ${r.hint}` : ''}`;
 }
 
 export type ErrorKind =
@@ -39,7 +54,8 @@ export type ErrorKind =
   | 'database_locked'
   | 'usage'
   | 'query_refused'
-  | 'not_found';
+  | 'not_found'
+  | 'input_rejected';
 
 export class RiskfoldError extends Error {
   readonly kind: ErrorKind;

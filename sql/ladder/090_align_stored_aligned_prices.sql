@@ -29,16 +29,25 @@ carried_in as (
   where a.date = getvariable('derived_carry_from')
 ),
 
+-- a suspect price held out of risk (checks.suspectPrices.mode hold; step 085) is skipped
+-- here, so the previous price is carried over its date, stale, until a delivery repeats
+-- or corrects it
+delivered_prices as (
+  select p.date, p.security_id, p.price, p.currency
+  from clean_prices p
+  anti join derived_held_out_prices o on o.security_id = p.security_id and o.date = p.date
+),
+
 -- prices after the kept rows (those between derived_carry_from and derived_from fall on
 -- no valuation date but may still be carried), and a new security's whole history
 held_prices as (
-  select p.date, p.security_id, p.price, p.currency
-  from clean_prices p
+  select p.*
+  from delivered_prices p
   semi join held_securities h on h.security_id = p.security_id and h.keeps_earlier_rows
   where p.date > coalesce(getvariable('derived_carry_from'), '-infinity'::date)
   union all
-  select p.date, p.security_id, p.price, p.currency
-  from clean_prices p
+  select p.*
+  from delivered_prices p
   semi join held_securities h on h.security_id = p.security_id and not h.keeps_earlier_rows
 ),
 

@@ -1,12 +1,20 @@
 -- Daily log return of each ever-held security between consecutive valuation dates:
 -- log_return = ln(P_base_t / P_base_t-1) with P_base = price_local * fx_rate (base
 -- currency), log_return_local the same in the security's own currency. Null when either
--- side is missing. Cash has no rows: its return is zero by definition.
+-- side is missing. Cash in the base currency has no rows: its return is zero by
+-- definition. Cash in another currency (CASH:<code>) is a balance at price 1 in that
+-- currency: its base-currency return is the fx log return ln(fx_t / fx_t-1), its local
+-- return zero (SPEC section 3, round 2).
 -- ret_securities_since(first_date_index): the returns from that valuation date on, read
--- from the prices of the date before it on.
+-- from the prices and rates of the date before it on.
 create or replace macro ret_securities_since(first_date_index) as table
-with rates as (
-  select currency, date, rate, is_stale
+with settings as (
+  select base_currency
+  from pipeline_settings
+),
+
+rates as (
+  select currency, date, date_index, rate, is_stale
   from align_fx
   where date_index >= first_date_index - 1
 ),
@@ -49,9 +57,52 @@ returns as (
     prev_price_base
   from paired
   where prev_date_index is not null and date_index >= first_date_index
+),
+
+foreign_cash as (
+  select distinct p.security_id, substr(p.security_id, 6) as currency
+  from clean_positions p
+  cross join settings
+  where p.quantity <> 0 and p.security_id like 'CASH:%' and substr(p.security_id, 6) <> settings.base_currency
+),
+
+-- align_fx has a row for every valuation date from a currency's first rate on
+cash_paired as (
+  select
+    c.security_id,
+    f.date,
+    f.date_index,
+    f.rate,
+    lag(f.rate) over by_date as prev_rate,
+    lag(f.date_index) over by_date as prev_date_index,
+    f.is_stale
+  from foreign_cash c
+  join rates f on f.currency = c.currency
+  window by_date as (partition by c.security_id order by f.date_index)
+),
+
+cash_returns as (
+  select
+    security_id,
+    date,
+    date_index,
+    case when rate > 0 and prev_rate > 0 then ln(rate / prev_rate) end as log_return,
+    case when rate > 0 and prev_rate > 0 then 0.0::double end as log_return_local,
+    is_stale,
+    rate / prev_rate - 1 as simple_return,
+    rate as price_base,
+    prev_rate as prev_price_base
+  from cash_paired
+  where prev_date_index is not null and date_index >= first_date_index
+),
+
+all_returns as (
+  select * from returns
+  union all
+  select * from cash_returns
 )
 
-select * from returns;
+select * from all_returns;
 
 create or replace view ret_securities as
 select * from ret_securities_since(1);

@@ -66,9 +66,9 @@ export async function uncoveredFiles(db: Database): Promise<Touch[]> {
  * move every portfolio).
  */
 export function mergeScope(batch: IngestOutcome[], leftover: Touch[]): RecomputeScope | null {
-  const touches: Touch[] = batch
-    .filter((o) => o.status === 'ingested')
-    .map((o) => ({ fileId: o.fileId, name: o.name, minDate: o.minDate, portfolios: o.portfolios }));
+  const touches: Touch[] = batch.flatMap((o) =>
+    o.status === 'ingested' && o.fileId !== null ? [{ fileId: o.fileId, name: o.name, minDate: o.minDate, portfolios: o.portfolios }] : [],
+  );
   for (const t of leftover) if (!touches.some((b) => b.fileId === t.fileId)) touches.push(t);
   if (touches.length === 0) return null;
   const from = touches.some((t) => t.minDate === null) ? null : touches.map((t) => t.minDate as string).sort()[0];

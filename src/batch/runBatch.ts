@@ -3,9 +3,11 @@ import path from 'node:path';
 import type { Logger } from 'pino';
 import { deliverAlerts, type DeliverySummary } from '../alerts/deliverAlerts.ts';
 import type { Config } from '../config/load.ts';
+import { orderDeliveries } from '../ingest/deliveryOrder.ts';
 import { ingestFile, type IngestOutcome } from '../ingest/ingestFile.ts';
 import type { Database } from '../storage/database.ts';
 import { publishReadCopy } from '../storage/workspace.ts';
+import { nothingToCompute } from './nothingToCompute.ts';
 import { markInterruptedRuns } from './runRecord.ts';
 import { mergeScope, triggerFor, uncoveredFiles, type RecomputeScope } from './recomputeScope.ts';
 import { runRecompute, type RecomputeRequest, type RunSummary } from './runRecompute.ts';
@@ -38,12 +40,15 @@ export interface BatchSummary {
   run: RunSummary | null;
   /** The recompute failed; its files stay uncovered and the next batch or start retries them. */
   runError: string | null;
+  /** Why no run was made although files were loaded (nothing to compute), in plain words. */
+  idle: string | null;
   delivery: DeliverySummary | null;
 }
 
 /**
  * The one home of a batch, for `watch`, `ingest`, `recompute` and the demo: each file in
- * its own ingest transaction (in the order given), then ONE run over everything they
+ * its own ingest transaction (securities, fx, prices, then positions; by arrival within
+ * a kind), then ONE run over everything they
  * touched (runRecompute: derived refresh, risk, then one transaction for risk rows,
  * estimator state, limits and the outbox), then, after the commit, alert delivery
  * (optional) and the read copy.
@@ -56,12 +61,12 @@ export async function runBatch(
   options: BatchOptions = {},
 ): Promise<BatchSummary> {
   const blog = log.child({ stage: 'batch' });
-  const summary: BatchSummary = { files: [], skipped: [], scope: null, settingChanges: [], run: null, runError: null, delivery: null };
+  const summary: BatchSummary = { files: [], skipped: [], scope: null, settingChanges: [], run: null, runError: null, idle: null, delivery: null };
 
   const interrupted = await markInterruptedRuns(db);
   if (interrupted.length > 0) blog.warn({ runIds: interrupted }, `run ${interrupted.join(', ')} marked interrupted: the process ended during it`);
 
-  for (const file of files) {
+  for (const file of orderDeliveries(config, files)) {
     if (options.shouldStop?.()) {
       summary.skipped.push(file);
       continue;
@@ -79,7 +84,9 @@ export async function runBatch(
   }
 
   summary.scope = mergeScope(summary.files, await uncoveredFiles(db));
-  let request = options.recompute ?? requestFor(summary);
+  summary.idle = summary.scope && !options.recompute ? await nothingToCompute(db, summary.scope) : null;
+  if (summary.idle) blog.info({ files: summary.scope?.files }, summary.idle);
+  let request = summary.idle ? null : (options.recompute ?? requestFor(summary));
   // stored results made under other settings would mix with new rows: recompute them all
   summary.settingChanges = await changedSettings(db, resultSettings(config));
   for (const change of summary.settingChanges) blog.warn({ ...change }, describeChange(change));
@@ -101,6 +108,7 @@ export async function runBatch(
       skipped: summary.skipped.length,
       runId: summary.run?.runId ?? null,
       runError: summary.runError,
+      idle: summary.idle,
     },
     'batch done',
   );

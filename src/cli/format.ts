@@ -1,8 +1,9 @@
 import { statSync } from 'node:fs';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
-import type { QueryResult } from '../read/readQuery.ts';
+import type { QueryResult, Unit } from '../read/readQuery.ts';
 import type { ReadHandle } from '../storage/workspace.ts';
+import { forTableCell, forTerminal, jsonForTerminal } from './terminalText.ts';
 
 export const OUTPUT_FORMATS = ['table', 'csv', 'json'] as const;
 export type OutputFormat = (typeof OUTPUT_FORMATS)[number];
@@ -14,7 +15,7 @@ export function parseFormat(value: string): OutputFormat {
 
 export function formatResult(result: QueryResult, format: OutputFormat): string {
   if (format === 'csv') return toCsv(result);
-  if (format === 'json') return `${JSON.stringify(toObjects(result), null, 2)}\n`;
+  if (format === 'json') return `${jsonForTerminal(JSON.stringify(toObjects(result), null, 2))}\n`;
   return toTable(result);
 }
 
@@ -37,19 +38,42 @@ function csvField(text: string): string {
   return /[",\r\n]/.test(text) ? `"${text.replaceAll('"', '""')}"` : text;
 }
 
-/** Aligned columns for people: numbers right-aligned, then a row count. */
+/**
+ * Aligned columns for people: numbers right-aligned and rounded for reading (fractions
+ * of a `percent` column as percentages, `amount` columns with two decimals), then a row
+ * count. csv and json are the formats that keep full precision.
+ */
 export function toTable(result: QueryResult): string {
-  const cells = result.rows.map((row) => row.map(cellText));
+  const cells = result.rows.map((row) => row.map((v, i) => tableCell(v, result.units?.[i] ?? null)));
   const numeric = result.columns.map((_, i) => result.rows.length > 0 && result.rows.every((r) => r[i] === null || typeof r[i] === 'number'));
-  const widths = result.columns.map((c, i) => Math.max(c.length, ...cells.map((r) => r[i].length)));
+  const headers = result.columns.map(forTableCell);
+  const widths = headers.map((h, i) => Math.max(h.length, ...cells.map((r) => r[i].length)));
   const line = (row: string[]) =>
     row
       .map((text, i) => (numeric[i] ? text.padStart(widths[i]) : text.padEnd(widths[i])))
       .join('  ')
       .trimEnd();
-  const out = [line(result.columns), widths.map((w) => '-'.repeat(w)).join('  '), ...cells.map(line)];
+  const out = [line(headers), widths.map((w) => '-'.repeat(w)).join('  '), ...cells.map(line)];
   out.push(`(${result.rows.length} ${result.rows.length === 1 ? 'row' : 'rows'})`);
   return `${out.join('\n')}\n`;
+}
+
+function tableCell(value: unknown, unit: Unit | null): string {
+  if (typeof value === 'boolean') return value ? 'yes' : 'no';
+  if (typeof value !== 'number' || !Number.isFinite(value)) return forTableCell(cellText(value));
+  if (unit === 'percent') return `${(value * 100).toFixed(2)}%`;
+  if (unit === 'amount') return value.toLocaleString('en-US', { minimumFractionDigits: 2, maximumFractionDigits: 2 });
+  return readableNumber(value);
+}
+
+/**
+ * Integers as they are; other numbers to six significant digits, but never fewer than
+ * two decimals of a large figure (8470123.4567 shows as 8470123.46, not 8470120).
+ */
+export function readableNumber(value: number): string {
+  if (Number.isInteger(value)) return String(value);
+  const integerDigits = Math.max(1, Math.floor(Math.log10(Math.abs(value))) + 1);
+  return String(Number(value.toPrecision(Math.min(17, Math.max(6, integerDigits + 2)))));
 }
 
 function cellText(value: unknown): string {
@@ -57,6 +81,11 @@ function cellText(value: unknown): string {
   if (typeof value === 'string') return value;
   if (typeof value === 'number' || typeof value === 'boolean') return String(value);
   return JSON.stringify(value);
+}
+
+/** Writes a command's result to stdout; csv, the one raw format, is escaped only when a person reads it on a terminal. */
+export function writeResult(text: string, format: OutputFormat): void {
+  process.stdout.write(format === 'csv' && process.stdout.isTTY ? forTerminal(text) : text);
 }
 
 /** Tells the user (on stderr, so stdout stays data) that they see the worker's last published copy. */

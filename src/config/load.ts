@@ -1,14 +1,15 @@
-import { readFileSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import { z } from 'zod';
-import { configSchema, type LimitConfig, type ParsedConfig } from './schema.ts';
+import { configSchema, DEFAULT_SOURCES, limitLevels, sourceSchema, type LimitConfig, type ParsedConfig, type SourceConfig } from './schema.ts';
 import { RiskfoldError } from '../errors.ts';
+import { jsonErrorOffset, knownKeysAt, lineAndColumn, nearestKey } from './explain.ts';
 
 export type ResolvedLimit = Required<LimitConfig>;
 
 /** The config the stages receive: paths absolute, limit levels filled in, frozen. */
 export type Config = Readonly<
-  Omit<ParsedConfig, 'limits' | 'readCopy' | '$schema'> & {
+  Omit<ParsedConfig, 'limits' | 'readCopy' | '$schema' | 'replaceDefaultSources'> & {
     configPath: string;
     readCopy: string;
     limits: readonly ResolvedLimit[];
@@ -17,11 +18,13 @@ export type Config = Readonly<
 
 export const DEFAULT_CONFIG_FILE = 'pipeline.config.json';
 
+const defaultSources: readonly SourceConfig[] = DEFAULT_SOURCES.map((s) => sourceSchema.parse(s));
+
 /** Parses an already-read JSON value; `configPath` anchors the relative paths. */
 export function resolveConfig(raw: unknown, configPath: string): Config {
   const parsed = configSchema.safeParse(raw);
   if (!parsed.success) {
-    throw new RiskfoldError('config_invalid', `${configPath}: invalid config\n${z.prettifyError(parsed.error)}`, {
+    throw new RiskfoldError('config_invalid', `${configPath}: invalid config\n${z.prettifyError(withKeySuggestions(parsed.error))}`, {
       file: configPath,
     });
   }
@@ -30,9 +33,11 @@ export function resolveConfig(raw: unknown, configPath: string): Config {
   const at = (p: string) => path.resolve(dir, p);
   const database = at(cfg.database);
   const alerts = { ...cfg.alerts, file: cfg.alerts.file === undefined ? undefined : at(cfg.alerts.file) };
-  const { $schema: _ignored, ...rest } = cfg;
+  const { $schema: _ignored, replaceDefaultSources, ...rest } = cfg;
   return deepFreeze({
     ...rest,
+    // the config's own sources come first, so they win over a default with an overlapping pattern
+    sources: replaceDefaultSources ? cfg.sources : [...cfg.sources, ...defaultSources.map((s) => ({ ...s }))],
     configPath: path.resolve(configPath),
     inbox: at(cfg.inbox),
     archive: at(cfg.archive),
@@ -40,12 +45,26 @@ export function resolveConfig(raw: unknown, configPath: string): Config {
     database,
     readCopy: cfg.readCopy === undefined ? database.replace(/(\.duckdb)?$/, '.read.duckdb') : at(cfg.readCopy),
     alerts,
-    limits: cfg.limits.map((l) => ({
-      ...l,
-      warning: l.warning ?? 0.9 * l.limit,
-      clear: l.clear ?? 0.85 * l.limit,
-    })),
+    limits: cfg.limits.map((l) => ({ ...l, ...limitLevels(l) })),
   });
+}
+
+const HOW_TO_MAKE_ONE = 'create one with "riskfold init [DIR]"';
+
+/**
+ * Which config file a command uses: `--config` when given, else the file named by the
+ * environment variable RISKFOLD_CONFIG, else ./pipeline.config.json in `cwd`; when none
+ * applies, an error that says how to make one.
+ */
+export function findConfigFile(given: string | undefined, env: NodeJS.ProcessEnv = process.env, cwd = process.cwd()): string {
+  if (given !== undefined) return given;
+  if (env.RISKFOLD_CONFIG) return env.RISKFOLD_CONFIG;
+  const local = path.join(cwd, DEFAULT_CONFIG_FILE);
+  if (existsSync(local)) return local;
+  throw new RiskfoldError(
+    'config_missing',
+    `no ${DEFAULT_CONFIG_FILE} in ${cwd}, no --config and no RISKFOLD_CONFIG: ${HOW_TO_MAKE_ONE}, or name yours with --config PATH`,
+  );
 }
 
 export function loadConfig(configPath: string = DEFAULT_CONFIG_FILE): Config {
@@ -53,7 +72,8 @@ export function loadConfig(configPath: string = DEFAULT_CONFIG_FILE): Config {
   try {
     text = readFileSync(configPath, 'utf8');
   } catch (cause) {
-    throw new RiskfoldError('config_missing', `${configPath}: cannot read the config file (${(cause as Error).message})`, {
+    const reason = (cause as NodeJS.ErrnoException).code === 'ENOENT' ? `no such file; ${HOW_TO_MAKE_ONE}` : (cause as Error).message;
+    throw new RiskfoldError('config_missing', `${configPath}: cannot read the config file (${reason})`, {
       file: configPath,
     });
   }
@@ -61,11 +81,30 @@ export function loadConfig(configPath: string = DEFAULT_CONFIG_FILE): Config {
   try {
     raw = JSON.parse(text);
   } catch (cause) {
-    throw new RiskfoldError('config_invalid', `${configPath}: not valid JSON (${(cause as Error).message})`, {
+    const message = (cause as Error).message.split('\n')[0];
+    const { line, column } = lineAndColumn(text, jsonErrorOffset(text, message));
+    throw new RiskfoldError('config_invalid', `${configPath}:${line}:${column}: not valid JSON (${message.replace(/ in JSON at position \d+/, '')})`, {
       file: configPath,
     });
   }
   return resolveConfig(raw, configPath);
+}
+
+/** Adds "did you mean ...?" to each unknown key that is a near miss of a known one. */
+function withKeySuggestions(error: z.ZodError): z.ZodError {
+  return new z.ZodError(
+    error.issues.map((issue) => {
+      if (issue.code !== 'unrecognized_keys') return issue;
+      const known = (knownKeysAt(configSchema, issue.path) ?? []).filter((k) => k !== '$schema');
+      const message = issue.keys
+        .map((key) => {
+          const near = nearestKey(key, known);
+          return near === undefined ? `unknown key "${key}"` : `unknown key "${key}"; did you mean "${near}"?`;
+        })
+        .join('; ');
+      return { ...issue, message };
+    }),
+  );
 }
 
 function deepFreeze<T>(value: T): T {

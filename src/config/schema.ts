@@ -1,4 +1,6 @@
 import { z } from 'zod';
+import { currencyCode } from './codes.ts';
+import { checkStressScenarios, stressSchema } from './stressSchema.ts';
 
 /**
  * The single source of truth for pipeline.config.json: types, defaults, the JSON
@@ -16,7 +18,6 @@ export const CANONICAL_COLUMNS: Record<FileKind, { required: string[]; optional:
   securities: { required: ['security_id'], optional: ['name', 'asset_class', 'currency'] },
 };
 
-const currencyCode = z.string().regex(/^[A-Z]{3}$/, 'an ISO 4217 code: three capital letters');
 
 export const sourceSchema = z
   .object({
@@ -44,9 +45,18 @@ export const DEFAULT_SOURCES: z.input<typeof sourceSchema>[] = [
   { name: 'securities', kind: 'securities', pattern: 'securities*.csv*' },
 ];
 
-export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d'] as const;
+export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d', 'backtest_zone'] as const;
+
+/**
+ * The Basel zones as limit levels on the exceptions in 250 tested days (Basel Committee
+ * 1996): yellow (warning) from 5, red (breach) from 10, green again below 5.
+ */
+export const BACKTEST_ZONE_LEVELS = { limit: 10, warning: 5, clear: 4.5 } as const;
 export const ESTIMATORS = ['sample', 'ewma'] as const;
 export type Estimator = (typeof ESTIMATORS)[number];
+
+/** A limit level: positive; above 1 only for backtest_zone, whose levels count exceptions (checked with the metric below). */
+const levelSchema = z.number().positive();
 
 export const limitSchema = z
   .object({
@@ -54,12 +64,18 @@ export const limitSchema = z
     metric: z
       .enum(LIMIT_METRICS)
       .default('vol_ex_ante')
-      .describe('Figure of risk_daily to watch; var_99_1d is taken as a fraction of portfolio value.'),
+      .describe(
+        'Figure to watch: of risk_daily (var_99_1d as a fraction of portfolio value), or backtest_zone, the exceptions in 250 days of the normal 1-day 99% VaR backtest (var_backtest) of this window and estimator.',
+      ),
     window: z.number().int().min(0).describe('Window in trading days (0 with estimator "ewma").'),
     estimator: z.enum(ESTIMATORS).default('sample').describe('Which estimate of risk_daily the limit reads.'),
-    limit: z.number().positive().describe('Mandate limit, a fraction (0.15 = 15%).'),
-    warning: z.number().positive().optional().describe('Warning level; default 0.9 x limit.'),
-    clear: z.number().positive().optional().describe('An episode closes on the first date below this; default 0.85 x limit.'),
+    limit: levelSchema
+      .optional()
+      .describe('Mandate limit, a fraction up to 1 (0.15 = 15%); required except for backtest_zone, whose levels count exceptions (default 10: red).'),
+    warning: levelSchema.optional().describe('Warning level; default 0.9 x limit (backtest_zone: 5 exceptions, yellow).'),
+    clear: levelSchema
+      .optional()
+      .describe('An episode closes on the first date below this; default 0.85 x limit (backtest_zone: 4.5, back to green).'),
   })
   .strict();
 
@@ -100,6 +116,16 @@ const riskSchema = z
       .enum(['latest', 'all'])
       .default('latest')
       .describe('Keep risk contributions for the latest date of each portfolio only, or for every date.'),
+    historical: z
+      .object({
+        days: z
+          .array(z.number().int().min(10))
+          .min(1)
+          .default([250, 500])
+          .describe('Scenarios (past valuation dates) of the historical and filtered historical VaR, one var_daily row each.'),
+      })
+      .strict()
+      .default({ days: [250, 500] }),
   })
   .strict();
 
@@ -145,6 +171,37 @@ const alertsSchema = z
   })
   .strict();
 
+const suspectPricesSchema = z
+  .object({
+    mode: z
+      .enum(['flag', 'hold'])
+      .default('flag')
+      .describe('flag: a suspect price is used and flagged; hold: it is left out (the previous price carried forward as stale) until a later delivery repeats or corrects it.'),
+    sigmaMultiple: z.number().positive().default(8).describe('A log move beyond this many EWMA daily sigmas (and beyond minLogMove) is suspect.'),
+    minLogMove: z.number().positive().default(0.25).describe('Absolute floor: a log move of at most this (0.25: +28% / -22%) is never a jump.'),
+    lambda: z.number().gt(0).lt(1).default(0.94).describe('Decay of the EWMA daily sigma each price is checked against.'),
+    seedReturns: z.number().int().min(1).default(20).describe('Accepted returns that seed the EWMA sigma; before, only minLogMove applies.'),
+    powerOfTenTolerance: z
+      .number()
+      .min(0)
+      .lt(0.5)
+      .default(0.02)
+      .describe('A move within this many log10 units of a factor 10, 100, 0.1, ... is a unit or separator slip.'),
+    unchangedDates: z
+      .number()
+      .int()
+      .min(2)
+      .default(10)
+      .describe('A price unchanged for this many valuation dates while its market (same currency) moved on most of them is suspect.'),
+  })
+  .strict();
+
+const checksSchema = z
+  .object({
+    suspectPrices: suspectPricesSchema.default(suspectPricesSchema.parse({})),
+  })
+  .strict();
+
 const scheduleSchema = z
   .object({
     timezone: z.string().default('UTC').describe('IANA time zone the cron expressions run in.'),
@@ -181,6 +238,50 @@ const engineSchema = z
   })
   .strict();
 
+const isoDate = z.string().regex(/^\d{4}-\d\d-\d\d$/, 'a date written YYYY-MM-DD');
+
+const ingestSchema = z
+  .object({
+    earliestDate: isoDate.default('1900-01-01').describe('A row dated before this is refused.'),
+    maxDaysAhead: z
+      .number()
+      .int()
+      .min(0)
+      .default(7)
+      .describe('A row dated more than this many days after the day the file is received is refused.'),
+    minMagnitude: z
+      .number()
+      .positive()
+      .default(1e-12)
+      .describe('Smallest accepted magnitude of a price, fx rate or non-zero quantity (refuses subnormal values).'),
+    maxMagnitude: z
+      .number()
+      .positive()
+      .default(1e15)
+      .describe('Largest accepted magnitude of a price, fx rate or quantity (refuses values that overflow a valuation).'),
+    doneMarker: z
+      .enum(['none', 'done', 'ok'])
+      .default('none')
+      .describe('"done" or "ok": a delivery is loaded only once <name>.done (or <name>.ok) lies beside it; the marker is then removed.'),
+    snapshotKeepShare: z
+      .number()
+      .min(0)
+      .max(1)
+      .default(0.5)
+      .describe('A positions snapshot keeping fewer than this share of a portfolio\'s previous holdings is held as suspect (0 turns the check off).'),
+    confirmedFiles: z
+      .array(z.string().min(1))
+      .default([])
+      .describe('File names whose suspect snapshot drop is confirmed as intended: they load.'),
+    maxExpandedMB: z
+      .number()
+      .positive()
+      .default(512)
+      .describe('A compressed delivery expanding past this many megabytes is refused while it is read.'),
+  })
+  .strict()
+  .refine((i) => i.minMagnitude < i.maxMagnitude, { message: 'minMagnitude must be below maxMagnitude', path: ['minMagnitude'] });
+
 export const configSchema = z
   .object({
     $schema: z.string().optional(),
@@ -193,23 +294,50 @@ export const configSchema = z
       .optional()
       .describe('Read-only copy published after each committed run; default: <database>.read.duckdb.'),
     baseCurrency: currencyCode.default('USD').describe('ISO 4217 code values are reported in; other currencies need fx rates.'),
-    // prefault, not default: the defaults go through sourceSchema and get its own defaults (delimiter, columns, ...)
-    sources: z.array(sourceSchema).prefault(DEFAULT_SOURCES).describe('How file names map to kinds and how each sender\'s columns map to the canonical layout.'),
+    sources: z
+      .array(sourceSchema)
+      .default([])
+      .describe(
+        'How file names map to kinds and how each sender\'s columns map to the canonical layout. These come before the default sources (prices*.csv*, positions*.csv*, fx*.csv*, securities*.csv*), so they win where patterns overlap.',
+      ),
+    replaceDefaultSources: z
+      .boolean()
+      .default(false)
+      .describe('true: only the sources listed here are used, the default ones are dropped.'),
     watch: z
       .object({
         stableMs: z.number().int().min(0).default(1000).describe('A file counts as written once its size holds this long.'),
         pollMs: z.number().int().positive().default(100).describe('How often a growing file\'s size is checked.'),
+        settleMs: z
+          .number()
+          .int()
+          .min(0)
+          .default(2000)
+          .describe('Files landing within this long of each other form one batch (one run): it starts this long after the last arrival.'),
+        maxBatchWaitMs: z
+          .number()
+          .int()
+          .positive()
+          .default(30_000)
+          .describe('A batch starts at the latest this long after its first arrival, however files keep trickling in.'),
       })
       .strict()
-      .default({ stableMs: 1000, pollMs: 100 }),
+      .refine((w) => w.settleMs <= w.maxBatchWaitMs, { message: 'settleMs must not exceed maxBatchWaitMs', path: ['settleMs'] })
+      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, maxBatchWaitMs: 30_000 }),
+    ingest: ingestSchema.default(ingestSchema.parse({})),
     risk: riskSchema.default(riskSchema.parse({})),
     limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),
     alerts: alertsSchema.default({ maxAgeDays: 5 }),
+    checks: checksSchema.default(checksSchema.parse({})).describe('Checks of delivered data before it enters risk.'),
     schedule: scheduleSchema.default(scheduleSchema.parse({})),
+    stress: stressSchema.default({ scenarios: [] }),
     engine: engineSchema.default(ENGINE_DEFAULTS),
   })
   .strict()
   .superRefine((cfg, ctx) => {
+    if (cfg.replaceDefaultSources && cfg.sources.length === 0) {
+      ctx.addIssue({ code: 'custom', path: ['sources'], message: 'replaceDefaultSources is true but no sources are listed: no file could be read' });
+    }
     const limitKeys = new Set<string>();
     cfg.limits.forEach((limit, i) => {
       const key = [limit.portfolio, limit.metric, limit.window, limit.estimator].join('|');
@@ -221,13 +349,29 @@ export const configSchema = z
         });
       }
       limitKeys.add(key);
-      const warning = limit.warning ?? 0.9 * limit.limit;
-      const clear = limit.clear ?? 0.85 * limit.limit;
-      if (!(clear < warning && warning <= limit.limit)) {
+      if (limit.limit === undefined && limit.metric !== 'backtest_zone') {
+        ctx.addIssue({ code: 'custom', path: ['limits', i, 'limit'], message: `a ${limit.metric} limit needs "limit"` });
+        return;
+      }
+      if (limit.metric !== 'backtest_zone') {
+        // a fraction, so 15 meant as 15% is refused with the likely fix
+        for (const field of ['limit', 'warning', 'clear'] as const) {
+          const value = limit[field];
+          if (value !== undefined && value > 1) {
+            ctx.addIssue({
+              code: 'custom',
+              path: ['limits', i, field],
+              message: `${value} is above 1, but levels are fractions (0.15 = 15%); did you mean ${value / 100}?`,
+            });
+          }
+        }
+      }
+      const { limit: level, warning, clear } = limitLevels(limit);
+      if (!(clear < warning && warning <= level)) {
         ctx.addIssue({
           code: 'custom',
           path: ['limits', i],
-          message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${limit.limit}`,
+          message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${level}`,
         });
       }
       if (limit.estimator === 'ewma' ? limit.window !== 0 : !cfg.risk.windows.includes(limit.window)) {
@@ -241,7 +385,21 @@ export const configSchema = z
         });
       }
     });
+    checkStressScenarios(cfg.stress.scenarios, cfg.baseCurrency, ctx);
   });
+
+/** A limit's levels with their defaults (backtest_zone: the Basel zone boundaries). */
+export function limitLevels(limit: Pick<LimitConfig, 'metric' | 'limit' | 'warning' | 'clear'>): { limit: number; warning: number; clear: number } {
+  if (limit.metric === 'backtest_zone') {
+    return {
+      limit: limit.limit ?? BACKTEST_ZONE_LEVELS.limit,
+      warning: limit.warning ?? BACKTEST_ZONE_LEVELS.warning,
+      clear: limit.clear ?? BACKTEST_ZONE_LEVELS.clear,
+    };
+  }
+  const level = limit.limit as number;
+  return { limit: level, warning: limit.warning ?? 0.9 * level, clear: limit.clear ?? 0.85 * level };
+}
 
 export type ConfigInput = z.input<typeof configSchema>;
 export type ParsedConfig = z.infer<typeof configSchema>;

@@ -23,7 +23,9 @@ export function parsedSql(field: FieldSpec, source: SourceConfig): string {
   }
   // decimal comma: "1.234,56" -> "1234.56"
   const text = source.decimal === ',' ? `replace(replace(${col}, '.', ''), ',', '.')` : col;
-  return `try_cast(${text} as double)`;
+  // the cast alone reads "1_75.5" as 175.5 and "+-1" as -1; two substring tests (not a
+  // regular expression, which would cost the load a third of its speed) refuse both
+  return `case when not (contains(${text}, '_') or contains(${text}, '+-')) then try_cast(${text} as double) end`;
 }
 
 /**

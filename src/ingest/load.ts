@@ -1,15 +1,19 @@
 import type { SourceConfig } from '../config/schema.ts';
 import type { Database } from '../storage/database.ts';
 import { ident, readCsvSql, typedSelect } from './csvSql.ts';
+import type { HoldReason } from './completeness.ts';
 import type { ColumnMapping } from './header.ts';
 import { findIngested, recordFile, type EarlierDelivery, type FileRecord } from './ledger.ts';
 import type { KindLayout } from './layout.ts';
+import type { Plausibility } from './plausibility.ts';
 import { badSql, summaryOf, summarySelect, type FileSummary } from './rules.ts';
 
 export type LoadAttempt =
   | { kind: 'loaded'; sha256: string; fileId: number; summary: FileSummary }
   /** These bytes were loaded before: nothing of this attempt stays. */
   | { kind: 'known'; sha256: string; earlier: EarlierDelivery }
+  /** The rows are readable but suspect (`guard` said why): rolled back, the file stays in the inbox. */
+  | { kind: 'held'; sha256: string; hold: HoldReason }
   /** A row broke a rule, a key repeats, there are no rows or DuckDB could not read it: rolled back. */
   | { kind: 'failed'; sha256: string; cause: unknown };
 
@@ -36,15 +40,18 @@ export async function loadFile(
   source: SourceConfig,
   layout: KindLayout,
   mapping: ColumnMapping,
+  bounds: Plausibility,
   hashing: Promise<string>,
   record: LoadRecord,
+  /** Looks at the inserted rows (by file_id) before the commit; a reason holds the file back. */
+  guard: (fileId: number, sha256: string) => Promise<HoldReason | null> = async () => null,
 ): Promise<LoadAttempt> {
   try {
     return await db.transaction(async () => {
       const [{ id }] = await db.all<{ id: number }>(`select nextval('file_id_seq')::integer as id`);
       const columns = layout.fields.map((f) => ident(f.name));
       const checked = layout.fields.map((f) => {
-        const bad = badSql(f);
+        const bad = f.type === 'id' ? null : badSql(f, bounds);
         return bad === null ? ident(f.name) : `case when ${bad} then error('row ' || ordinality || ' breaks the ${f.name} rule') else ${ident(f.name)} end`;
       });
       try {
@@ -57,6 +64,7 @@ export async function loadFile(
       } catch (cause) {
         throw new Abort({ kind: 'failed', sha256: await hashing, cause });
       }
+      if (await badIdIn(db, layout, bounds, id)) throw new Abort({ kind: 'failed', sha256: await hashing, cause: null });
       const [row] = await db.all<Record<string, unknown>>(`select ${summarySelect(layout).join(', ')} from ${layout.table} where file_id = $1`, [id]);
       const summary = summaryOf(row);
       const sha256 = await hashing;
@@ -65,6 +73,8 @@ export async function loadFile(
       if (summary.rows === 0 || (summary.keys < summary.rows && (await keyRepeats(db, layout, id)))) {
         throw new Abort({ kind: 'failed', sha256, cause: null });
       }
+      const hold = await guard(id, sha256);
+      if (hold) throw new Abort({ kind: 'held', sha256, hold });
       await recordFile(db, {
         ...record,
         fileId: id,
@@ -82,6 +92,19 @@ export async function loadFile(
     if (err instanceof Abort) return err.attempt;
     throw err;
   }
+}
+
+/**
+ * Ids repeat on nearly every row, and their rule holds a regular expression (printable
+ * characters): it runs once per distinct id of the file instead of once per row.
+ */
+async function badIdIn(db: Database, layout: KindLayout, bounds: Plausibility, fileId: number): Promise<boolean> {
+  for (const field of layout.fields.filter((f) => f.type === 'id')) {
+    const col = ident(field.name);
+    const hit = await db.all(`select 1 from (select distinct ${col} from ${layout.table} where file_id = $1) where ${badSql(field, bounds)} limit 1`, [fileId]);
+    if (hit.length > 0) return true;
+  }
+  return false;
 }
 
 /** The exact test behind a short count of key hashes (which a hash collision could also cause). */

@@ -1,13 +1,16 @@
 import { copyFileSync, constants, existsSync, linkSync, mkdirSync, unlinkSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
-import { formatRejection, type Rejection } from '../errors.ts';
+import { fileLine, formatRejection, type Rejection } from '../errors.ts';
+import { faultPoint } from '../faults.ts';
 
 /** `archive/2026-04-12/`: the folder of the day the file was received (local date). */
 export function archiveDir(archiveRoot: string, receivedAt: Date): string {
-  const day = [receivedAt.getFullYear(), receivedAt.getMonth() + 1, receivedAt.getDate()]
-    .map((n) => String(n).padStart(2, '0'))
-    .join('-');
-  return path.join(archiveRoot, day);
+  return path.join(archiveRoot, localDay(receivedAt));
+}
+
+/** 'YYYY-MM-DD' of the local calendar day. */
+export function localDay(d: Date): string {
+  return [d.getFullYear(), d.getMonth() + 1, d.getDate()].map((n) => String(n).padStart(2, '0')).join('-');
 }
 
 /** `prices.csv.gz` -> `prices-2.csv.gz`: the number goes before the extensions, so the kind's pattern still matches. */
@@ -49,26 +52,38 @@ export function moveWithoutOverwrite(from: string, dir: string, name: string): s
         throw copyErr;
       }
     }
+    faultPoint('linked');
     unlinkSync(from);
     return target;
   }
 }
 
-/** Moves a rejected file into quarantine and writes `<name>.reason.txt` beside it. */
-export function quarantine(from: string, quarantineDir: string, rejection: Rejection, receivedAt: Date): string {
-  const target = moveWithoutOverwrite(from, quarantineDir, path.basename(from));
+/** The reason file's last line: what to do, depending on where the fix belongs. */
+const NEXT_STEP: Record<NonNullable<Rejection['fixIn']>, string> = {
+  file: 'Fix the file and drop it into the inbox again; nothing of it was loaded.',
+  config:
+    'The fix belongs in the config, not in the file (see the hint): change the config, restart the worker if one runs, then move this file back into the inbox; nothing of it was loaded.',
+  either: 'Fix the file, or the config if the hint fits the sender, then drop the file into the inbox again; nothing of it was loaded.',
+};
+
+/**
+ * Writes `<target>.reason.txt` for a rejected file about to be moved to `target`: the
+ * note is there before the file, so a kill never leaves a quarantined file without one.
+ */
+export function writeReasonFile(target: string, rejection: Rejection, receivedAt: Date): void {
   const lines = [
     `file:     ${rejection.file}`,
     `received: ${receivedAt.toISOString()}`,
     `reason:   ${formatRejection(rejection)}`,
     `code:     ${rejection.code}`,
-    rejection.row !== undefined ? `row:      ${rejection.row} (data rows count from 1 after the header)` : null,
+    rejection.row !== undefined ? `line:     ${fileLine(rejection)} (the header is line 1)` : null,
     rejection.column !== undefined ? `column:   ${rejection.column}` : null,
     rejection.value !== undefined ? `value:    "${rejection.value}"` : null,
     rejection.expected !== undefined ? `expected: ${rejection.expected}` : null,
+    rejection.hint !== undefined ? `hint:     ${rejection.hint}` : null,
     '',
-    'Fix the file and drop it into the inbox again; nothing of it was loaded.',
+    NEXT_STEP[rejection.fixIn ?? 'file'],
   ];
+  mkdirSync(path.dirname(target), { recursive: true });
   writeFileSync(`${target}.reason.txt`, `${lines.filter((l) => l !== null).join('\n')}\n`);
-  return target;
 }

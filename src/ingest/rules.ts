@@ -1,6 +1,8 @@
 import type { SourceConfig } from '../config/schema.ts';
 import { ident } from './csvSql.ts';
 import type { FieldSpec, KindLayout } from './layout.ts';
+import type { Plausibility } from './plausibility.ts';
+import { sqlString } from '../storage/database.ts';
 
 /**
  * The rules a row must meet, as SQL over the typed canonical columns. The load and the
@@ -9,20 +11,29 @@ import type { FieldSpec, KindLayout } from './layout.ts';
 
 const CURRENCY_CODE = `'[A-Z]{3}'`;
 
+/**
+ * Characters an id may not hold: control characters (NUL, line breaks, ESC of terminal
+ * sequences) and format characters (bidirectional marks, zero-width joiners), which
+ * make two ids look alike or rewrite the line they are printed on.
+ */
+const UNPRINTABLE = `'[\\p{Cc}\\p{Cf}\\p{Zl}\\p{Zp}]'`;
+
 /** True for a row whose value breaks the field's rule; null for a field without one. */
-export function badSql(field: FieldSpec): string | null {
+export function badSql(field: FieldSpec, bounds: Plausibility): string | null {
   const col = ident(field.name);
+  const { minMagnitude: min, maxMagnitude: max } = bounds;
   switch (field.type) {
     case 'date':
-      return `${col} is null`;
+      return `${col} is null or ${col} < ${sqlString(bounds.earliestDate)}::date or ${col} > ${sqlString(bounds.latestDate)}::date`;
     case 'positive':
-      return `not coalesce(isfinite(${col}) and ${col} > 0, false)`;
+      return `not coalesce(${col} between ${min} and ${max}, false)`;
     case 'finite':
-      return `not coalesce(isfinite(${col}), false)`;
+      return `not coalesce(${col} = 0 or abs(${col}) between ${min} and ${max}, false)`;
     case 'id':
       // surrounding spaces would make " EQ-A" a security of its own; prefix tests cost no copy, unlike trim()
       return (
         `${col} is null or ${col} = '' or starts_with(${col}, ' ') or ends_with(${col}, ' ')` +
+        ` or regexp_matches(${col}, ${UNPRINTABLE})` +
         ` or (starts_with(${col}, 'CASH:') and not regexp_full_match(${col}, 'CASH:' || ${CURRENCY_CODE}))`
       );
     case 'currency': {
@@ -34,25 +45,57 @@ export function badSql(field: FieldSpec): string | null {
   }
 }
 
-/** What the field should have held, and the message for the value it did hold. */
-export function explain(field: FieldSpec, source: SourceConfig, raw: string | null): { expected: string; message: string } {
+/**
+ * What the field should have held, and the message for the value it did hold. `parsed`
+ * is the typed value (null where the text did not parse): a value that parses but lies
+ * outside the plausible range gets a message naming the range.
+ */
+export function explain(
+  field: FieldSpec,
+  source: SourceConfig,
+  raw: string | null,
+  parsed: unknown,
+  bounds: Plausibility,
+): { expected: string; message: string } {
   const decimalNote = source.decimal === ',' ? ' (decimal comma)' : '';
-  const expected = {
-    date: `a date in the format ${source.dateFormat}`,
-    positive: `a positive number${decimalNote}`,
-    finite: `a number${decimalNote}`,
-    id: idExpectation(raw),
-    currency: 'an ISO 4217 currency code (three capital letters)',
-    text: 'text',
-  }[field.type];
-  // JSON quoting keeps the message on one line whatever the cell held
-  const message = raw === null || raw === '' ? `is empty; expected ${expected}` : `${JSON.stringify(raw)} is not ${expected}`;
+  const outOfRange = implausible(field, parsed, bounds);
+  const expected =
+    outOfRange ??
+    {
+      date: `a date in the format ${source.dateFormat}`,
+      positive: `a positive number${decimalNote}`,
+      finite: `a number${decimalNote}`,
+      id: idExpectation(raw),
+      currency: 'an ISO 4217 currency code (three capital letters)',
+      text: 'text',
+    }[field.type];
+  const message = raw === null || raw === '' ? `is empty; expected ${expected}` : `${quoted(raw)} is not ${expected}`;
   return { expected, message };
+}
+
+/** The range a value that did parse (as a date, a positive price, a number) fell outside; null otherwise. */
+function implausible(field: FieldSpec, parsed: unknown, bounds: Plausibility): string | null {
+  const range = `of magnitude ${bounds.minMagnitude} to ${bounds.maxMagnitude}`;
+  if (field.type === 'date' && parsed !== null) return `a date from ${bounds.earliestDate} to ${bounds.latestDate}`;
+  if (typeof parsed !== 'number' || !Number.isFinite(parsed)) return null;
+  if (field.type === 'positive' && parsed > 0) return `a positive number ${range}`;
+  if (field.type === 'finite') return `a number of zero or ${range}`;
+  return null;
+}
+
+/**
+ * JSON quoting keeps the message on one line whatever the cell held; format and
+ * separator characters, which JSON leaves as they are, are escaped too, so a
+ * right-to-left mark cannot reorder the line it is printed on.
+ */
+function quoted(raw: string): string {
+  return JSON.stringify(raw).replace(/[\p{Cf}\p{Zl}\p{Zp}]/gu, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
 }
 
 function idExpectation(raw: string | null): string {
   if (raw === null || raw.trim() === '') return 'a non-empty id';
   if (raw !== raw.trim()) return 'an id without surrounding spaces';
+  if (/[\p{Cc}\p{Cf}\p{Zl}\p{Zp}]/u.test(raw)) return 'an id of printable characters (no control, format or bidirectional marks)';
   return 'CASH: followed by an ISO 4217 currency code';
 }
 

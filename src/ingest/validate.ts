@@ -1,8 +1,9 @@
 import type { SourceConfig } from '../config/schema.ts';
-import type { Rejection } from '../errors.ts';
+import { fileLine, type Rejection } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
 import { ident } from './csvSql.ts';
 import type { FieldSpec, KindLayout } from './layout.ts';
+import type { Plausibility } from './plausibility.ts';
 import { badSql, explain, summaryOf, summarySelect } from './rules.ts';
 import { STAGE_TABLE, textColumn } from './stage.ts';
 
@@ -12,9 +13,15 @@ import { STAGE_TABLE, textColumn } from './stage.ts';
  * that count shows a repeated key does a second query look for it. The earliest failing
  * row wins (ties: the field order of the layout). Null: nothing wrong.
  */
-export async function findFirstProblem(db: Database, layout: KindLayout, source: SourceConfig, file: string): Promise<Rejection | null> {
+export async function findFirstProblem(
+  db: Database,
+  layout: KindLayout,
+  source: SourceConfig,
+  bounds: Plausibility,
+  file: string,
+): Promise<Rejection | null> {
   const checked = layout.fields.flatMap((f) => {
-    const bad = badSql(f);
+    const bad = badSql(f, bounds);
     return bad === null ? [] : [{ field: f, bad }];
   });
   const select = [...summarySelect(layout), ...checked.map((c, i) => `(min(rowid) filter (where ${c.bad}))::integer + 1 as bad_${i}`)];
@@ -25,7 +32,7 @@ export async function findFirstProblem(db: Database, layout: KindLayout, source:
   const failures: { row: number; rejection: () => Promise<Rejection> }[] = [];
   checked.forEach((c, i) => {
     const at = row[`bad_${i}`] as number | null;
-    if (at !== null) failures.push({ row: at, rejection: () => valueRejection(db, c.field, source, file, at) });
+    if (at !== null) failures.push({ row: at, rejection: () => valueRejection(db, c.field, source, bounds, file, at) });
   });
   if (summary.keys < summary.rows) {
     const repeat = await firstRepeatedKey(db, layout);
@@ -37,10 +44,20 @@ export async function findFirstProblem(db: Database, layout: KindLayout, source:
   return first.rejection();
 }
 
-async function valueRejection(db: Database, field: FieldSpec, source: SourceConfig, file: string, row: number): Promise<Rejection> {
-  const [hit] = await db.all<{ v: string | null }>(`select ${ident(textColumn(field))} as v from ${STAGE_TABLE} where rowid = $1`, [row - 1]);
+async function valueRejection(
+  db: Database,
+  field: FieldSpec,
+  source: SourceConfig,
+  bounds: Plausibility,
+  file: string,
+  row: number,
+): Promise<Rejection> {
+  const [hit] = await db.all<{ v: string | null; parsed: unknown }>(
+    `select ${ident(textColumn(field))} as v, ${ident(field.name)} as parsed from ${STAGE_TABLE} where rowid = $1`,
+    [row - 1],
+  );
   const raw = hit?.v ?? null;
-  return { code: 'bad_value', file, row, column: field.name, value: raw ?? '', ...explain(field, source, raw) };
+  return { code: 'bad_value', file, row, column: field.name, value: raw ?? '', ...explain(field, source, raw, hit?.parsed ?? null, bounds) };
 }
 
 interface RepeatedKey {
@@ -79,6 +96,6 @@ function duplicateRejection(layout: KindLayout, file: string, repeat: RepeatedKe
     column: key,
     value,
     expected: `one row per ${key}`,
-    message: `${value} repeats the ${key} of row ${repeat.firstRow}`,
+    message: `${value} repeats the ${key} of line ${fileLine({ row: repeat.firstRow })}`,
   };
 }

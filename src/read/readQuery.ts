@@ -1,11 +1,16 @@
-import { DuckDBTypeId, StatementType, type DuckDBType } from '@duckdb/node-api';
+import { DuckDBTypeId, StatementType, type DuckDBType, type DuckDBValue } from '@duckdb/node-api';
 import { RiskfoldError } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
+
+/** How `--format table` shows a numeric column: `percent` for fractions (0.15 as 15.00%), `amount` for money. */
+export type Unit = 'percent' | 'amount';
 
 /** A query's result as plain JSON values, columns in order; what src/cli/format.ts prints. */
 export interface QueryResult {
   columns: string[];
   rows: unknown[][];
+  /** Per column, how a table shows it; csv and json always print the full value. */
+  units?: (Unit | null)[];
 }
 
 // Statement types that only read. DuckDB reports describe/show/summarize/pragma table_info
@@ -13,31 +18,47 @@ export interface QueryResult {
 // files or settings even on a read-only database, so it is refused.
 const READ_STATEMENTS = new Set<StatementType>([StatementType.SELECT, StatementType.EXPLAIN]);
 
+// Pragmas that only describe the database; other pragmas change settings or run work.
+const DESCRIBING_PRAGMA = /^pragma\s+(table_info|storage_info|show|show_tables|show_tables_expanded|database_size|database_list|version|platform)\b/i;
+
 /**
- * Runs one statement that must only read. The database is opened read-only as well; the
- * type check gives a clear refusal before DuckDB's own error and also stops statements
- * that write outside the database (COPY ... TO, EXPORT DATABASE, ATTACH).
+ * Runs one statement that must only read. The database is opened read-only and locked
+ * down (src/storage/readerSandbox.ts) as well. The statement is vetted from its parse
+ * alone before DuckDB binds it, since binding EXPORT DATABASE already creates its
+ * folder: a refused statement leaves no trace. The type check after preparing gives a
+ * second, clear refusal.
  */
 export async function runReadOnlyQuery(db: Database, sql: string): Promise<QueryResult> {
   const extracted = await db.conn.extractStatements(sql);
   if (extracted.count !== 1) {
     throw new RiskfoldError('query_refused', `expected exactly one SQL statement, got ${extracted.count}`);
   }
+  if (!(await onlyReads(db, sql.trim()))) throw refusal(/^\s*(\w+)/.exec(sql)?.[1]?.toUpperCase() ?? 'this');
   const prepared = await extracted.prepare(0);
-  if (!READ_STATEMENTS.has(prepared.statementType)) {
-    const kind = StatementType[prepared.statementType] ?? String(prepared.statementType);
-    throw new RiskfoldError(
-      'query_refused',
-      `refused: ${kind} statements may write; sql runs only reads (select, with, describe, show, summarize, explain)`,
-    );
-  }
+  if (!READ_STATEMENTS.has(prepared.statementType)) throw refusal(StatementType[prepared.statementType] ?? String(prepared.statementType));
   const reader = await prepared.runAndReadAll();
   return toQueryResult(reader.columnNames(), reader.columnTypes(), reader.getRowsJson());
 }
 
+function refusal(kind: string): RiskfoldError {
+  return new RiskfoldError('query_refused', `refused: ${kind} statements may write; sql runs only reads (select, with, describe, show, summarize, explain)`);
+}
+
+/**
+ * From the parse, without binding: a SELECT (DuckDB serializes only those, and describe,
+ * show, summarize and `from t` are SELECTs to it), an EXPLAIN of one, or a describing pragma.
+ */
+async function onlyReads(db: Database, text: string): Promise<boolean> {
+  const explain = /^explain(\s+analyze)?\s+/i.exec(text);
+  const statement = explain ? text.slice(explain[0].length) : text;
+  if (!explain && DESCRIBING_PRAGMA.test(statement)) return true;
+  const [{ failed }] = await db.all<{ failed: boolean }>("select (json_serialize_sql($1::varchar)::json->>'error')::boolean as failed", [statement]);
+  return !failed;
+}
+
 /** Runs a query of our own (status) and returns it in the same printable shape. */
-export async function readTable(db: Database, sql: string): Promise<QueryResult> {
-  const reader = await db.conn.runAndReadAll(sql);
+export async function readTable(db: Database, sql: string, params: DuckDBValue[] = []): Promise<QueryResult> {
+  const reader = await db.conn.runAndReadAll(sql, params);
   return toQueryResult(reader.columnNames(), reader.columnTypes(), reader.getRowsJson());
 }
 

@@ -1,3 +1,8 @@
+import type { DuckDBValue } from '@duckdb/node-api';
+import type { Config } from '../config/load.ts';
+import { readDeliveryStatus } from './deliveryStatus.ts';
+import { readPortfolioStatus } from './portfolioStatus.ts';
+import { requireKnownPortfolios } from './portfolios.ts';
 import type { Database } from '../storage/database.ts';
 import { readTable, type QueryResult } from './readQuery.ts';
 
@@ -12,58 +17,89 @@ export interface StatusSection {
   note?: string;
 }
 
+export interface StatusOptions {
+  /** Narrow portfolios, alerts and data problems to this portfolio. */
+  portfolio: string | null;
+  /** Add the rows behind the summaries (files, open breaches, alerts, data problems). */
+  details: boolean;
+  /** The instant the expected deliveries are judged at. */
+  now: Date;
+}
+
 const SHOWN = 20;
 
 /**
  * What operations look at first: a failed or interrupted last run (first, since the
- * figures below are then behind the data), the latest files and what became of them,
- * the latest run, open episodes, the alerts the channels have not all taken, and data
- * problems on the latest valuation date.
+ * figures below are then behind the data), each portfolio against its limits, whether
+ * the day's files arrived, the last run, then the alerts the channels have not all taken
+ * and the data problems on the latest valuation date, counted by kind. `details` adds
+ * the rows.
  */
-export async function readStatus(db: Database): Promise<StatusSection[]> {
+export async function readStatus(db: Database, config: Config, options: StatusOptions): Promise<StatusSection[]> {
+  const { portfolio } = options;
+  if (portfolio !== null) await requireKnownPortfolios(db, [portfolio]);
   const failed = await section(db, 'lastRunFailed', 'THE LAST RUN DID NOT FINISH: risk figures are not up to date', `
     select run_id, trigger, status, started_at, finished_at, error
     from (select * from risk_runs order by run_id desc limit 1)
-    where status in ('failed', 'interrupted')`, 1);
-  const sections = [
+    where status in ('failed', 'interrupted')`, [], 1);
+  const portfolios = await readPortfolioStatus(db, config, portfolio);
+  const files = await readDeliveryStatus(db, config, options.now);
+  const sections: StatusSection[] = [
     ...(failed.total > 0 ? [failed] : []),
-    await section(db, 'lastFiles', 'last files', `
-      select file_id, name, kind, status, rows, received_at, error
-      from ingested_files order by file_id desc`, 10),
+    { key: 'portfolios', title: 'portfolios', result: portfolios, total: portfolios.rows.length },
+    { key: 'files', title: 'files by kind', result: files, total: files.rows.length },
     await section(db, 'lastRun', 'last run', `
       select run_id, trigger, status, from_date, portfolios, started_at, finished_at, risk_rows, error
-      from risk_runs order by run_id desc`, 1),
+      from risk_runs order by run_id desc`, [], 1),
+    await section(db, 'alerts', 'undelivered alerts by kind', `
+      select kind, count(*) as alerts, min(as_of) as oldest_as_of, max(attempts) as most_attempts, arg_max(last_error, created_at) as latest_error
+      from alerts where delivered_at is null and ($1::varchar is null or portfolio_id = $1)
+      group by kind order by kind`, [portfolio]),
+  ];
+  sections.push(await dataQualitySection(db, portfolio, 'summary'));
+  if (!options.details) return sections;
+  sections.push(
+    await section(db, 'lastFiles', 'last files', `
+      select file_id, name, kind, status, rows, received_at, error
+      from ingested_files order by file_id desc`, [], 10),
     await section(db, 'openBreaches', 'open breaches', `
-      select breach_id, portfolio_id, metric, window_days, estimator, level, limit_value, opened_on, peak_value, peak_on
-      from limit_breaches where closed_on is null and not retracted
-      order by opened_on, portfolio_id`),
+      select breach_id, portfolio_id, metric, window_days, estimator, level, limit_value, opened_on, escalated_on, peak_value, peak_on
+      from limit_breaches where closed_on is null and not retracted and ($1::varchar is null or portfolio_id = $1)
+      order by opened_on, portfolio_id`, [portfolio]),
     await section(db, 'undeliveredAlerts', 'undelivered alerts', `
       select alert_id, kind, portfolio_id, as_of, created_at, attempts, last_error
-      from alerts where delivered_at is null
-      order by created_at, alert_id`),
-  ];
-  sections.push(await dataQualitySection(db));
+      from alerts where delivered_at is null and ($1::varchar is null or portfolio_id = $1)
+      order by created_at, alert_id`, [portfolio]),
+    await dataQualitySection(db, portfolio, 'rows'),
+  );
   return sections;
 }
 
-async function dataQualitySection(db: Database): Promise<StatusSection> {
-  const key = 'dataProblems';
-  const title = 'data problems on the latest valuation date';
+async function dataQualitySection(db: Database, portfolio: string | null, shape: 'summary' | 'rows'): Promise<StatusSection> {
+  const key = shape === 'summary' ? 'dataProblems' : 'dataProblemRows';
+  const title = shape === 'summary' ? 'data problems on the latest valuation date, by kind' : 'data problems on the latest valuation date';
   const views = await db.all<{ view_name: string }>(
     "select view_name from duckdb_views() where view_name in ('check_data_quality', 'align_valuation_dates')",
   );
   if (views.length < 2) {
     return { key, title, result: { columns: [], rows: [] }, total: 0, note: 'the data-quality views are not in this database' };
   }
-  return section(db, key, title, `
-    select portfolio_id, date, security_id, problem, reason
-    from check_data_quality
-    where date = (select max(date) from align_valuation_dates)
-    order by portfolio_id, problem, security_id`);
+  const latest = `from check_data_quality
+    where date = (select max(date) from align_valuation_dates) and ($1::varchar is null or portfolio_id = $1)`;
+  const sql =
+    shape === 'summary'
+      ? `select problem, count(*) as rows, count(distinct portfolio_id) as portfolios, count(distinct security_id) as securities
+         ${latest} group by problem order by problem`
+      : `select portfolio_id, date, security_id, problem, reason ${latest} order by portfolio_id, problem, security_id`;
+  return section(db, key, title, sql, [portfolio]);
 }
 
-async function section(db: Database, key: string, title: string, sql: string, limit = SHOWN): Promise<StatusSection> {
-  const [{ n }] = await db.all<{ n: string }>(`select count(*)::varchar as n from (${sql})`);
-  const result = await readTable(db, `${sql} limit ${limit}`);
+// limit levels and episode peaks are fractions (0.15 = 15%): a table shows them as percentages
+const FRACTION_COLUMNS = new Set(['limit_value', 'peak_value']);
+
+async function section(db: Database, key: string, title: string, sql: string, params: DuckDBValue[], limit = SHOWN): Promise<StatusSection> {
+  const [{ n }] = await db.all<{ n: string }>(`select count(*)::varchar as n from (${sql})`, params);
+  const result = await readTable(db, `${sql} limit ${limit}`, params);
+  result.units = result.columns.map((c) => (FRACTION_COLUMNS.has(c) ? 'percent' : null));
   return { key, title, result, total: Number(n) };
 }

@@ -37,21 +37,6 @@ export function progressUnits(config: Config, dateCount: number, fromRow: number
   return (uniqueWindows(config).length + (config.risk.ewma.enabled ? 1 : 0)) * Math.max(0, dateCount - fromRow);
 }
 
-/**
- * First date row whose returns the run's estimates read: each window's sliding start
- * (at or before fromRow - W + 1, see slidingStartRow; the window path needs exactly
- * that), the EWMA's seeding window when it continues a stored state, row 0 when it
- * replays. Run lengths counted from there agree with the full history's wherever an
- * estimate compares them with its window, so a bounded read gives the same figures.
- */
-export function firstReturnRow(config: Config, fromRow: number, ewmaState: EwmaState | null): number {
-  const { ewma } = config.risk;
-  if (ewma.enabled && ewmaState === null) return 0;
-  const starts = uniqueWindows(config).map((w) => slidingStartRow(fromRow, w));
-  if (ewma.enabled) starts.push(fromRow - ewma.seedDays + 1);
-  return Math.max(0, Math.min(...starts));
-}
-
 /** Computes every estimate into `sink`; returns the EWMA states at the last two dates, oldest first (none without EWMA or dates). */
 export async function computeRisk(
   input: ComputeInputs,

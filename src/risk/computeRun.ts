@@ -2,10 +2,10 @@ import type { Logger } from 'pino';
 import type { Database } from '../storage/database.ts';
 import type { Config } from '../config/load.ts';
 import type { PhaseClock } from '../log/phaseClock.ts';
-import { computeRisk, firstReturnRow, progressUnits } from './computeRisk.ts';
+import { computeRisk, progressUnits } from './computeRisk.ts';
 import type { EwmaState } from './ewmaEstimate.ts';
 import { loadEwmaState } from './ewmaState.ts';
-import { readPortfolioPanel, readReturnPanel, readValuationDates } from './inputs.ts';
+import { readPortfolioPanel, readReturnPanel, readValuationDates, type PortfolioPanel, type ReturnPanel } from './inputs.ts';
 import { startProgress } from './progress.ts';
 import { ResultStage } from './staging.ts';
 
@@ -30,6 +30,8 @@ export interface ComputedRisk {
   riskRows: number;
   /** EWMA states at the last two dates, oldest first (none without EWMA or dates). */
   ewmaStates: EwmaState[];
+  /** The panels the run computed from, for the loss stage (src/loss) that revalues the same holdings. */
+  inputs: { returns: ReturnPanel; portfolios: PortfolioPanel; fromRow: number };
 }
 
 /**
@@ -45,20 +47,18 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   const fromRow = scope.from === null ? 0 : firstRowOnOrAfter(dates, scope.from);
   const { ewma } = config.risk;
   const ewmaState = ewma.enabled ? await phases.time('load_ewma_state', () => loadEwmaState(db, ewma, dates, fromRow, scope.settings)) : null;
-  const returnsFromRow = firstReturnRow(config, fromRow, ewmaState);
   const longest = Math.max(...config.risk.windows);
+  // holdings and portfolio returns from the longest window before the first output row
+  // (realized figures, averaged weights; the loss stage's backtest and worst windows);
+  // security returns from the first date: the loss stage's EWMA-filtered scenarios and
+  // stress ranges reach back that far
   const windowStart = Math.max(0, fromRow - longest + 1);
-  // holdings before the first output row serve only to average weights over a window
-  const firstRows = { returns: windowStart, holdings: config.risk.weights === 'window_average' ? windowStart : fromRow };
-  const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, returnsFromRow, firstRows.holdings));
-  const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, firstRows, scope.portfolios));
+  const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, windowStart));
+  const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, windowStart, scope.portfolios));
   for (const id of scope.portfolios ?? []) {
     if (!portfolios.ids.includes(id)) rlog.warn({ portfolio: id }, 'no positions for this portfolio: nothing to compute');
   }
-  rlog.debug(
-    { fromRow, returnsFromRow, dates: dates.length, securities: returns.securityIds.length, ewmaFromState: ewmaState !== null },
-    'inputs read',
-  );
+  rlog.debug({ fromRow, dates: dates.length, securities: returns.securityIds.length, ewmaFromState: ewmaState !== null }, 'inputs read');
 
   const stage = await ResultStage.open(db);
   const progress = startProgress(rlog, progressUnits(config, dates.length, fromRow), 'recompute');
@@ -73,7 +73,7 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
     stage.close();
     phases.add('stage_flush', flushStarted);
   }
-  return { dates, portfolios: portfolios.ids.length, riskRows: stage.dailyRows, ewmaStates };
+  return { dates, portfolios: portfolios.ids.length, riskRows: stage.dailyRows, ewmaStates, inputs: { returns, portfolios, fromRow } };
 }
 
 /** First date row on or after `from` (dates ascending, ISO strings compare as dates); dates.length if none. */

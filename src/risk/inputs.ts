@@ -5,15 +5,18 @@ import { readColumns, streamColumns } from '../storage/columnar.ts';
  * The risk stage's inputs, read from the views in bulk into typed arrays. Dates are
  * addressed by row d = date_index - 1 of align_valuation_dates; securities (cash
  * included) by their position j in the sorted list of every id that has a return or a
- * position. Cash and a security without returns have all-NaN columns, so they never
- * have a full window.
+ * position. Base-currency cash and a security without returns have all-NaN columns, so
+ * they never have a full window; cash in another currency has its fx returns.
  */
 
 export interface ReturnPanel {
   /** 'YYYY-MM-DD' of every valuation date, d = date_index - 1. */
   dates: string[];
   securityIds: string[];
-  /** 1 where security j is a cash balance (CASH:<ISO 4217>). */
+  /**
+   * 1 where security j is a balance in the base currency (CASH:<base>): zero return and
+   * zero covariance. Cash in another currency has its fx returns and counts as a holding.
+   */
   isCash: Uint8Array;
   /** T x N row-major log returns in base currency, NaN = missing (row 0 has none). */
   returns: Float64Array;
@@ -58,15 +61,12 @@ export async function readValuationDates(db: Database): Promise<string[]> {
 }
 
 /**
- * Reads the security returns of date rows `firstRow` on (earlier rows stay NaN: a run
- * reads only what its windows and the EWMA need, so its cost does not grow with the
- * history). The securities are those with a return from `firstRow` on or a position
- * from `holdingsFromRow` on (the rows whose holdings the run reads).
+ * Reads the security returns of every date row (the loss stage's EWMA-filtered scenarios
+ * and stress ranges reach back to the first). The securities are those with a return or
+ * a position from `holdingsFromRow` on (the rows whose holdings the run reads).
  */
-export async function readReturnPanel(db: Database, dates: string[], firstRow: number, holdingsFromRow: number): Promise<ReturnPanel> {
-  await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities_since($1)', [
-    firstRow + 1,
-  ]);
+export async function readReturnPanel(db: Database, dates: string[], holdingsFromRow: number): Promise<ReturnPanel> {
+  await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities');
   await db.run(
     `create or replace temp table risk_in_securities as
      select security_id, (row_number() over (order by security_id) - 1)::integer as k
@@ -75,7 +75,7 @@ export async function readReturnPanel(db: Database, dates: string[], firstRow: n
   );
   const ids = await readColumns(
     db,
-    `select security_id, security_id like 'CASH:%' from risk_in_securities order by k`,
+    `select security_id, security_id = 'CASH:' || (select base_currency from pipeline_settings) from risk_in_securities order by k`,
     undefined,
     { security_id: 'text', is_cash: 'bool' },
   );
@@ -110,17 +110,11 @@ export function seriesLayouts(returns: Float64Array, t: number, n: number): Pick
   return { returnsBySecurity, runLength };
 }
 
-/** First date rows a run reads: portfolio returns (realized figures over a window) and holdings (from the first output row, or a window earlier to average weights). */
-export interface PortfolioRows {
-  returns: number;
-  holdings: number;
-}
-
-/** The portfolios in scope (null: every portfolio with a position), sorted by id. */
+/** The portfolios in scope (null: every portfolio with a position), sorted by id, their returns and holdings from `firstRow` on. */
 export async function readPortfolioPanel(
   db: Database,
   dateCount: number,
-  firstRows: PortfolioRows,
+  firstRow: number,
   portfolios: readonly string[] | null,
 ): Promise<PortfolioPanel> {
   // ids bound as JSON: DuckDB cannot type an empty JS list
@@ -145,7 +139,7 @@ export async function readPortfolioPanel(
     db,
     `select p.k, r.date_index, r.log_return::double
      from ret_portfolios_since($1) r join risk_in_portfolios p using (portfolio_id)`,
-    [firstRows.returns + 1],
+    [firstRow + 1],
     { k: 'int', date_index: 'int', log_return: 'double' },
   );
   for (let i = 0; i < returns.rows; i++) {
@@ -169,7 +163,7 @@ export async function readPortfolioPanel(
      -- left: a holding missing from the securities read is a fault (a null j fails the read), never dropped
      left join risk_in_securities s using (security_id)
      order by p.k, w.date_index, j`,
-    [firstRows.holdings + 1],
+    [firstRow + 1],
     { k: 'int', date_index: 'int', j: 'int', weight: 'double', value_base: 'double', is_stale: 'bool' },
     (c, n) => {
       if (rows + n > security.length) {
@@ -196,7 +190,7 @@ export async function readPortfolioPanel(
   }
   return {
     ids,
-    firstRow: firstRows.holdings,
+    firstRow,
     present,
     value,
     unpriced,

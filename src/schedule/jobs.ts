@@ -20,13 +20,10 @@ export interface MissingDataOutcome {
  */
 export async function checkMissingData(db: Database, config: Config, log: Logger, now: Date): Promise<MissingDataOutcome> {
   const { timezone } = config.schedule;
-  const expectedDate = previousBusinessDay(localDate(now, timezone));
+  const expectedDate = expectedDeliveryDate(config, now);
   const outcome: MissingDataOutcome = { expectedDate, missing: [], alertsRaised: 0 };
   for (const kind of config.schedule.missingData.expect) {
-    const [{ latest }] = await db.all<{ latest: string | null }>(
-      "select max(max_date) as latest from ingested_files where kind = $1 and status = 'ingested'",
-      [kind],
-    );
+    const latest = await latestDeliveredDate(db, kind);
     if (latest !== null && latest >= expectedDate) continue;
     outcome.missing.push(kind);
     const raised = await insertAlert(db, {
@@ -35,6 +32,9 @@ export async function checkMissingData(db: Database, config: Config, log: Logger
       portfolioId: null,
       asOf: expectedDate,
       payload: {
+        level: 'missing',
+        // a missing file is not cleared by an alert: the next file ends it
+        episode_state: 'open',
         file_kind: kind,
         expected_date: expectedDate,
         latest_date: latest,
@@ -47,6 +47,20 @@ export async function checkMissingData(db: Database, config: Config, log: Logger
   }
   log.info({ stage: 'schedule', job: 'missing-data', ...outcome }, 'missing-data check done');
   return outcome;
+}
+
+/** The business day whose files should be in by `now`: the previous weekday in the schedule's time zone. */
+export function expectedDeliveryDate(config: Config, now: Date): string {
+  return previousBusinessDay(localDate(now, config.schedule.timezone));
+}
+
+/** The latest business date any ingested file of `kind` reaches; null when none has. */
+export async function latestDeliveredDate(db: Database, kind: FileKind): Promise<string | null> {
+  const [{ latest }] = await db.all<{ latest: string | null }>(
+    "select max(max_date)::varchar as latest from ingested_files where kind = $1 and status = 'ingested'",
+    [kind],
+  );
+  return latest;
 }
 
 /**

@@ -15,9 +15,19 @@ import { LADDER_DIR, listLadder } from './sqlFiles.ts';
 /** The raw tables the derived layers read, each with a `date` and the `file_id` of its delivery. */
 const RAW_TABLES = ['prices', 'positions', 'fx_rates'] as const;
 
-/** Rows and highest file_id of each raw table, `rows:max|rows:max|rows:max`; count(*) comes from metadata. */
+/** The suspect prices held out of risk (open, held): the carried prices skip them. */
+const HELD_OUT_SQL = 'select distinct security_id, date from price_checks where held and cleared_at is null';
+
+/**
+ * Rows and highest file_id of each raw table, `rows:max` (count(*) comes from metadata),
+ * then the held suspect prices: count of checks, count and sum of ids of those held out.
+ * A flag raised, cleared or switched to hold changes the last part.
+ */
 const FINGERPRINT_SQL = `
-  select concat_ws('|', ${RAW_TABLES.map((t) => `(select count(*) || ':' || coalesce(max(file_id), 0) from ${t})`).join(', ')}) as fingerprint`;
+  select concat_ws('|',
+    ${RAW_TABLES.map((t) => `(select count(*) || ':' || coalesce(max(file_id), 0) from ${t})`).join(',\n    ')},
+    (select count(*) || ':' || count(*) filter (where held and cleared_at is null) || ':' || coalesce(sum(check_id) filter (where held and cleared_at is null), 0)
+     from price_checks)) as fingerprint`;
 
 export interface DerivedRefresh {
   /** 'current': nothing to do; 'from': refilled from `from` on; 'full': rebuilt. */
@@ -43,7 +53,16 @@ export async function refreshDerived(db: Database, log?: Logger, dir = LADDER_DI
   const recorded = await db.all<{ raw_fingerprint: string }>('select raw_fingerprint from derived_state');
   const before = recorded.length === 1 ? recorded[0].raw_fingerprint : null;
   if (before === fingerprint) return { mode: 'current', from: null, seconds: (performance.now() - started) / 1000 };
-  const from = before === null ? null : await appendedFrom(db, before, fingerprint);
+  const reach = before === null ? FULL : await changedFrom(db, before, fingerprint);
+  if (reach === NOTHING) {
+    // the checks changed but not which prices they hold out
+    await db.transaction(async () => {
+      await db.run('delete from derived_state');
+      await db.run('insert into derived_state (raw_fingerprint) values ($1)', [fingerprint]);
+    });
+    return { mode: 'current', from: null, seconds: (performance.now() - started) / 1000 };
+  }
+  const from = reach === FULL ? null : reach;
   // forget the old fingerprint first: a crash half way leaves no record, so the next call rebuilds
   await db.run('delete from derived_state');
   const dateLiteral = (d: string | null) => (d === null ? `'-infinity'::date` : `date '${d}'`);
@@ -68,25 +87,46 @@ export async function refreshDerived(db: Database, log?: Logger, dir = LADDER_DI
   return { mode, from, seconds };
 }
 
+const FULL = Symbol('full rebuild');
+const NOTHING = Symbol('nothing to refill');
+
 /**
- * The earliest date of the rows delivered since `before`, when every change since then
- * is such rows (each table has exactly its old rows plus those with a higher file_id);
- * null when anything else happened and only a full rebuild is safe.
+ * The earliest date the derived tables must be refilled from: that of the rows delivered
+ * since `before` and of the prices whose hold changed since the last refresh (step 085
+ * stored them). FULL when a raw table changed other than by such rows (each must hold
+ * exactly its old rows plus those with a higher file_id) and only a full rebuild is safe;
+ * NOTHING when no date is affected.
  */
-async function appendedFrom(db: Database, before: string, now: string): Promise<string | null> {
-  const parse = (f: string) => f.split('|').map((part) => part.split(':').map(Number));
-  const old = parse(before);
-  const current = parse(now);
-  if (old.length !== RAW_TABLES.length || old.some((pair) => pair.length !== 2 || pair.some((x) => !Number.isSafeInteger(x)))) return null;
-  let from: string | null = null;
+async function changedFrom(db: Database, before: string, now: string): Promise<string | typeof FULL | typeof NOTHING> {
+  const old = before.split('|');
+  const current = now.split('|');
+  const pair = (part: string) => part.split(':').map(Number);
+  if (old.length !== RAW_TABLES.length + 1 || old.slice(0, RAW_TABLES.length).some((p) => pair(p).length !== 2 || pair(p).some((x) => !Number.isSafeInteger(x)))) {
+    return FULL;
+  }
+  const firsts: (string | null)[] = [];
   for (const [i, table] of RAW_TABLES.entries()) {
-    const [oldRows, oldMaxFile] = old[i];
+    if (old[i] === current[i]) continue;
+    const [oldRows, oldMaxFile] = pair(old[i]);
     const [{ added, first }] = await db.all<{ added: string; first: string | null }>(
       `select count(*) as added, min(date)::varchar as first from ${table} where file_id > $1`,
       [oldMaxFile],
     );
-    if (current[i][0] !== oldRows + Number(added)) return null;
-    if (first !== null && (from === null || first < from)) from = first;
+    if (first === null || pair(current[i])[0] !== oldRows + Number(added)) return FULL;
+    firsts.push(first);
   }
-  return from;
+  if (old[RAW_TABLES.length] !== current[RAW_TABLES.length]) {
+    const [{ first }] = await db.all<{ first: string | null }>(
+      `with now_held as (${HELD_OUT_SQL}),
+       changed as (
+         (select * from now_held except select * from derived_held_out_prices)
+         union all
+         (select * from derived_held_out_prices except select * from now_held)
+       )
+       select min(date)::varchar as first from changed`,
+    );
+    firsts.push(first);
+  }
+  const dates = firsts.filter((d): d is string => d !== null).sort();
+  return dates.length === 0 ? NOTHING : dates[0];
 }

@@ -1,11 +1,13 @@
 import { execFile } from 'node:child_process';
 import { existsSync, mkdirSync, renameSync, rmSync } from 'node:fs';
+import { faultPoint } from '../faults.ts';
 import path from 'node:path';
 import { promisify } from 'node:util';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { openDatabase, type Database } from './database.ts';
+import { lockDownReader } from './readerSandbox.ts';
 import { refreshDerived } from './derived.ts';
 import { applyMigrations, applyViews } from './sqlFiles.ts';
 
@@ -52,6 +54,7 @@ export async function publishReadCopy(db: Database, config: Config, log: Logger)
   const tmp = `${config.readCopy}.tmp-${process.pid}`;
   try {
     await copyInChildProcess(config.database, tmp);
+    faultPoint('copied');
     renameSync(tmp, config.readCopy);
   } catch (err) {
     rmSync(tmp, { force: true }); // a full disk must not leave a stray copy behind
@@ -76,8 +79,22 @@ export interface ReadHandle {
   source: 'database' | 'read_copy';
 }
 
-/** Opens history for reading without ever blocking the worker: the primary file if free, else the read copy. */
-export async function openForReading(config: Config): Promise<ReadHandle> {
+/**
+ * Opens history for reading without ever blocking the worker: the primary file if free,
+ * else the read copy; either way locked down to the database itself (plus `readableDirs`).
+ */
+export async function openForReading(config: Config, readableDirs: readonly string[] = []): Promise<ReadHandle> {
+  const handle = await openEither(config);
+  try {
+    await lockDownReader(handle.db, readableDirs);
+  } catch (err) {
+    handle.db.close();
+    throw err;
+  }
+  return handle;
+}
+
+async function openEither(config: Config): Promise<ReadHandle> {
   if (!existsSync(config.database)) {
     throw new RiskfoldError('not_found', `${config.database} does not exist yet: run "riskfold ingest" or "riskfold watch" first`);
   }

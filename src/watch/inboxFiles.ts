@@ -19,10 +19,15 @@ export function isPlainFile(file: string): boolean {
   }
 }
 
-/** The deliveries already in the inbox, oldest first (name breaks ties), for the catch-up at start. */
-export function listInbox(inbox: string): string[] {
+/** With a done-marker convention (`marker` '.done' or '.ok'): the delivery a marker name stands for, else null. */
+export function markedDelivery(name: string, marker: string | null): string | null {
+  return marker !== null && name.endsWith(marker) && name.length > marker.length ? name.slice(0, -marker.length) : null;
+}
+
+/** The deliveries already in the inbox, oldest first (name breaks ties), for the catch-up at start; markers are not deliveries. */
+export function listInbox(inbox: string, marker: string | null = null): string[] {
   const files = readdirSync(inbox, { withFileTypes: true })
-    .filter((d) => d.isFile() && isDeliveryName(d.name))
+    .filter((d) => d.isFile() && isDeliveryName(d.name) && markedDelivery(d.name, marker) === null)
     .map((d) => {
       const file = path.join(inbox, d.name);
       return { file, mtime: statSync(file).mtimeMs };

@@ -1,8 +1,10 @@
+import { existsSync } from 'node:fs';
 import path from 'node:path';
 import { watch, type FSWatcher } from 'chokidar';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
-import { isDeliveryName, isPlainFile } from './inboxFiles.ts';
+import { markerSuffix } from '../ingest/completeness.ts';
+import { isDeliveryName, isPlainFile, markedDelivery } from './inboxFiles.ts';
 
 /**
  * Watches the inbox (not its subfolders) and calls `onFile` once per delivery, after its
@@ -23,8 +25,15 @@ export async function watchInbox(config: Config, log: Logger, onFile: (file: str
     awaitWriteFinish: { stabilityThreshold: config.watch.stableMs, pollInterval: config.watch.pollMs },
     ignored: (p: string) => p !== inbox && !isDeliveryName(path.basename(p)),
   });
+  const marker = markerSuffix(config);
   const announce = (file: string) => {
     if (path.dirname(file) !== inbox) return;
+    // a done-marker arriving announces the delivery it marks
+    const marked = markedDelivery(path.basename(file), marker);
+    if (marked !== null) {
+      if (existsSync(path.join(inbox, marked))) announce(path.join(inbox, marked));
+      return;
+    }
     if (!isPlainFile(file)) {
       wlog.warn({ file: path.basename(file) }, 'not a regular file (a symlink?), left alone');
       return;

@@ -2,11 +2,16 @@ import path from 'node:path';
 import type { FSWatcher } from 'chokidar';
 import type { Logger } from 'pino';
 import { deliverAlerts } from '../alerts/deliverAlerts.ts';
+import { rearmAlerts } from '../alerts/rearm.ts';
+import { watchRetryRequests } from '../alerts/retryRequests.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { runBatch } from '../batch/runBatch.ts';
+import { markerSuffix } from '../ingest/completeness.ts';
+import { recoverAtStart } from '../ingest/recovery.ts';
 import type { Database } from '../storage/database.ts';
 import { openWorkspace, publishReadCopy } from '../storage/workspace.ts';
+import { ArrivalWindow } from '../watch/arrivalWindow.ts';
 import { DeliveryLoop } from './deliveryLoop.ts';
 import { listInbox, waitUntilStable } from '../watch/inboxFiles.ts';
 import { watchInbox } from '../watch/inboxWatcher.ts';
@@ -74,6 +79,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
     }
   };
   const queue = new WorkQueue(handleBatch);
+  const arrivals = new ArrivalWindow(config.watch.settleMs, config.watch.maxBatchWaitMs, (files) => queue.addFiles(files));
   const republish = () => {
     publishWanted = true;
     queue.exclusive(() => (publishWanted ? publishReadCopy(db, config, log) : Promise.resolve())).then(
@@ -83,6 +89,12 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
   };
   // deliverAlerts works on a session of its own, so it may run while a batch holds a transaction
   const delivery = new DeliveryLoop(() => deliverAlerts(db, config, log), republish, log);
+  // `riskfold alerts retry` while this worker owns the database
+  const retryRequests = watchRetryRequests(config, log, async (ids) => {
+    const outcome = await queue.exclusive(() => rearmAlerts(db, config, ids));
+    delivery.kick();
+    return outcome;
+  });
 
   let watcher: FSWatcher | null = null;
   let schedules: { stop(): void | Promise<void> } | null = null;
@@ -92,7 +104,9 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       stopping = true;
       wlog.info({ waiting: queue.waiting }, 'stopping: finishing the current file');
       await watcher?.close();
+      arrivals.close();
       await schedules?.stop();
+      retryRequests.stop();
       await queue.stop();
       await delivery.stop();
       if (publishWanted && !fault) await publishReadCopy(db, config, log).catch((err) => wlog.error({ err }, 'final publish failed'));
@@ -105,8 +119,9 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
 
   try {
     // new arrivals queue up (lane still closed) while the catch-up list is made
-    watcher = await watchInbox(config, log, (file) => queue.addFile(file));
-    const present = listInbox(config.inbox);
+    watcher = await watchInbox(config, log, (file) => arrivals.add(file));
+    await recoverAtStart(db, config, log);
+    const present = listInbox(config.inbox, markerSuffix(config));
     const stable = await Promise.all(present.map((f) => waitUntilStable(f, config.watch.stableMs, config.watch.pollMs)));
     const catchUp = present.filter((_, i) => stable[i]);
     wlog.info({ files: catchUp.map((f) => path.basename(f)) }, 'catching up on the inbox');

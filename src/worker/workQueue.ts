@@ -15,10 +15,10 @@ export class WorkQueue {
   /** `runBatch` handles its own failures: a rejection here would stop the lane. */
   constructor(private readonly runBatch: (files: string[]) => Promise<void>) {}
 
-  /** Queues a delivery unless it is already waiting (a file can be both listed at start and announced). */
-  addFile(file: string): void {
-    if (this.stopped || this.pending.includes(file)) return;
-    this.pending.push(file);
+  /** Queues deliveries unless already waiting (a file can be both listed at start and announced); together they make one batch. */
+  addFiles(files: readonly string[]): void {
+    if (this.stopped) return;
+    for (const file of files) if (!this.pending.includes(file)) this.pending.push(file);
     this.kick();
   }
 

@@ -1,4 +1,4 @@
-import { writeFileSync } from 'node:fs';
+import { utimesSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { runBatch } from '../../src/batch/runBatch.ts';
@@ -32,12 +32,14 @@ describe('runBatch', () => {
       [date, portfolio, 'EQ-SALTMARSH', 50],
     ]);
 
-  it('ingests the files in order and runs ONE recompute from the earliest date for every portfolio', async () => {
+  it('ingests prices before positions, each kind in arrival order, and runs ONE recompute from the earliest date for every portfolio', async () => {
     ws = await tempWorkspace();
+    // arrival = modification time: the positions landed first, yet load after the prices they are valued with
+    const arrived = (file: string, second: number) => (utimesSync(file, 0, new Date(Date.UTC(2026, 3, 10, 18, 0, second))), file);
     const files = [
-      inbox('prices_late.csv', pricesCsv(80, 2, '2020-03-01')),
-      inbox('prices_early.csv', pricesCsv(40, 2, '2020-01-01')),
-      positions('positions_start.csv', '2020-01-01', 'acct-growth'),
+      arrived(positions('positions_start.csv', '2020-01-01', 'acct-growth'), 1),
+      arrived(inbox('prices_late.csv', pricesCsv(80, 2, '2020-03-01')), 2),
+      arrived(inbox('prices_early.csv', pricesCsv(40, 2, '2020-01-01')), 3),
     ];
     const summary = await runBatch(ws.db, ws.config, ws.log, files);
     expect(summary.files.map((f) => [f.name, f.status])).toEqual([
@@ -100,7 +102,8 @@ describe('runBatch', () => {
       shouldStop: () => stop,
     });
     expect(summary.files.map((f) => f.name)).toEqual(['prices_a.csv']);
-    expect(summary.skipped).toEqual([gone, rest]);
+    // a file already gone sorts last
+    expect(summary.skipped).toEqual([rest, gone]);
     expect(summary.run?.runId).toBeGreaterThan(0);
   });
 });

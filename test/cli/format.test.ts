@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { formatResult, parseFormat, toCsv, toTable } from '../../src/cli/format.ts';
+import { formatResult, parseFormat, readableNumber, toCsv, toTable } from '../../src/cli/format.ts';
 import type { QueryResult } from '../../src/read/readQuery.ts';
 
 const result: QueryResult = {
@@ -43,6 +43,23 @@ describe('toTable', () => {
     expect(lines[2]).toBe('acct-growth    5');
     expect(lines[3]).toBe('b            123');
     expect(lines[4]).toBe('(2 rows)');
+  });
+});
+
+describe('toTable units', () => {
+  it('shows percent columns as percentages, amounts with two decimals and booleans as yes/no; csv keeps the doubles', () => {
+    const r: QueryResult = { columns: ['vol', 'value', 'ok'], rows: [[0.14577298288177143, 8470123.456, true]], units: ['percent', 'amount', null] };
+    expect(toTable(r).split('\n')[2]).toBe('14.58%  8,470,123.46  yes');
+    expect(toCsv(r)).toBe('vol,value,ok\n0.14577298288177143,8470123.456,true\n');
+  });
+});
+
+describe('readableNumber', () => {
+  it('keeps six significant digits, two decimals of large figures, and integers whole', () => {
+    expect(readableNumber(0.14577298288177143)).toBe('0.145773');
+    expect(readableNumber(8470123.4567)).toBe('8470123.46');
+    expect(readableNumber(-0.000012345678)).toBe('-0.0000123457');
+    expect(readableNumber(42)).toBe('42');
   });
 });
 

@@ -10,6 +10,8 @@ import { runCli, startCli, type RunningCli } from './cliProcess.ts';
 
 const BIG_DAYS = 5000;
 const BIG_SECURITIES = 100; // 500,000 rows, about 17 MB: an ingest that takes a while
+// 5,000 calendar days from here end in 2023: no row is dated beyond the receiving day
+const BIG_START = '2010-01-01';
 
 describe('riskfold watch as a real process', () => {
   let wd: WorkerDir | undefined;
@@ -59,7 +61,7 @@ describe('riskfold watch as a real process', () => {
     wd = workerDir();
     const w = watch();
     await waitFor(() => logged(w, 'watching the inbox'), 20_000, 'the worker');
-    writeFileSync(path.join(wd.config.inbox, 'prices_big.csv'), pricesCsv(BIG_DAYS, BIG_SECURITIES));
+    writeFileSync(path.join(wd.config.inbox, 'prices_big.csv'), pricesCsv(BIG_DAYS, BIG_SECURITIES, BIG_START));
     await waitFor(() => logged(w, 'ingesting file', 'prices_big.csv'), 20_000, 'the load to start');
     w.child.kill('SIGTERM');
     expect(await w.exited).toEqual({ code: 0, signal: null });
@@ -73,7 +75,7 @@ describe('riskfold watch as a real process', () => {
     wd = workerDir();
     const w = watch();
     await waitFor(() => logged(w, 'watching the inbox'), 20_000, 'the worker');
-    writeFileSync(path.join(wd.config.inbox, 'prices_big.csv'), pricesCsv(BIG_DAYS, BIG_SECURITIES));
+    writeFileSync(path.join(wd.config.inbox, 'prices_big.csv'), pricesCsv(BIG_DAYS, BIG_SECURITIES, BIG_START));
     await waitFor(() => logged(w, 'ingesting file', 'prices_big.csv'), 20_000, 'the load to start');
     w.child.kill('SIGKILL');
     expect((await w.exited).signal).toBe('SIGKILL');
@@ -108,7 +110,7 @@ describe('riskfold watch as a real process', () => {
     );
     expect(first.stderr).toMatch(/a worker holds .*; reading the copy it published at \d{4}-\d\d-\d\dT/);
 
-    const status = runCli(['status', '--config', wd.configPath, '--format', 'json']);
+    const status = runCli(['status', '--details', '--config', wd.configPath, '--format', 'json']);
     expect(status.status).toBe(0);
     const body = JSON.parse(status.stdout) as { source: string; lastFiles: { rows: { name: string; status: string }[] } };
     expect(body.source).toBe('read_copy');

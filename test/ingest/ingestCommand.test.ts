@@ -21,7 +21,7 @@ let ws: TempWorkspace | undefined;
 afterEach(() => ws?.cleanup());
 
 describe('riskfold ingest', () => {
-  it('loads every delivery in the inbox oldest first, prints one line per file and exits 0 despite a rejection', async () => {
+  it('loads every delivery in the inbox, prices before positions and oldest first within a kind, prints one line per file and exits 0 despite a rejection', async () => {
     ws = await tempWorkspace();
     const inbox = ws.config.inbox;
     // modification time decides the order, as the files were delivered
@@ -39,8 +39,8 @@ describe('riskfold ingest', () => {
     expect(run.code).toBe(0);
     const lines = run.stdout.trim().split('\n');
     expect(lines[0]).toMatch(/^ingested {3}prices_0410\.csv: 2 rows of prices -> archive\/\d{4}-\d\d-\d\d\/prices_0410\.csv$/);
-    expect(lines[1]).toMatch(/^ingested {3}positions_0410\.csv: 2 rows of positions -> /);
-    expect(lines[2]).toBe('rejected   prices_bad.csv row 1, column price: "-3.0" is not a positive number -> quarantine/prices_bad.csv');
+    expect(lines[1]).toBe('rejected   prices_bad.csv line 2, column price: "-3.0" is not a positive number -> quarantine/prices_bad.csv');
+    expect(lines[2]).toMatch(/^ingested {3}positions_0410\.csv: 2 rows of positions -> /);
     expect(lines[3]).toBe('1 file rejected: see the reason files in quarantine');
     expect(readdirSync(inbox).sort()).toEqual(['.prices_hidden.csv', 'prices_folder.csv', 'prices_late.csv.part']);
 
@@ -48,8 +48,8 @@ describe('riskfold ingest', () => {
     try {
       expect(await db.all('select name, status from ingested_files order by file_id')).toEqual([
         { name: 'prices_0410.csv', status: 'ingested' },
-        { name: 'positions_0410.csv', status: 'ingested' },
         { name: 'prices_bad.csv', status: 'rejected' },
+        { name: 'positions_0410.csv', status: 'ingested' },
       ]);
     } finally {
       db.close();

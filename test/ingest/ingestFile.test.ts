@@ -135,7 +135,7 @@ describe('ingestFile: loading', () => {
     const fix = writeCsv(ws.config.inbox, 'prices_0410_fix.csv', [['date', 'security_id', 'price'], ['2026-04-10', 'EQ-NORDWIND', '102.4']]);
     const second = await ingestFile(ws.db, ws.config, ws.log, fix);
     expect(second).toMatchObject({ status: 'ingested', rows: 1, minDate: '2026-04-10' });
-    expect(second.fileId).toBeGreaterThan(first.fileId);
+    expect(second.fileId).toBeGreaterThan(first.fileId!);
     const rows = await ws.db.all("select file_id, price from prices where security_id = 'EQ-NORDWIND' and date = '2026-04-10' order by file_id");
     expect(rows).toEqual([{ file_id: first.fileId, price: 102 }, { file_id: second.fileId, price: 102.4 }]);
   });

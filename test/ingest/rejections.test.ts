@@ -74,19 +74,19 @@ describe('ingestFile: rejected files', () => {
     rows.push(['2026-04-17', 'EQ-NORDWIND', '-3.0', 'EUR'], ['2026-04-18', 'EQ-NORDWIND', 'x', 'EUR']);
     const r = await rejectRows('prices_0412.csv', rows);
     expect(r).toMatchObject({ code: 'bad_value', file: 'prices_0412.csv', row: 17, column: 'price', value: '-3.0', expected: 'a positive number' });
-    expect(formatRejection(r)).toBe('prices_0412.csv row 17, column price: "-3.0" is not a positive number');
+    expect(formatRejection(r)).toBe('prices_0412.csv line 18, column price: "-3.0" is not a positive number');
   });
 
   it('rejects a zero price, a non-finite price and an empty one', async () => {
     expect(await rejectRows('prices_a.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '0', 'EUR']])).toMatchObject({ row: 1, column: 'price', value: '0' });
     expect(await rejectRows('prices_b.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', 'inf', 'EUR']])).toMatchObject({ row: 1, column: 'price', value: 'inf' });
     const empty = await rejectRows('prices_c.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '', 'EUR']]);
-    expect(formatRejection(empty)).toBe('prices_c.csv row 1, column price: is empty; expected a positive number');
+    expect(formatRejection(empty)).toBe('prices_c.csv line 2, column price: is empty; expected a positive number');
   });
 
   it('rejects a date that does not parse in the source format', async () => {
     const r = await rejectRows('prices_d.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '1', ''], ['2026-04-31', 'EQ-NORDWIND', '1', '']]);
-    expect(formatRejection(r)).toBe('prices_d.csv row 2, column date: "2026-04-31" is not a date in the format %Y-%m-%d');
+    expect(formatRejection(r)).toBe('prices_d.csv line 3, column date: "2026-04-31" is not a date in the format %Y-%m-%d');
   });
 
   // ISO 8601 calendar date, extended format YYYY-MM-DD: nothing shorter, longer or signed
@@ -112,7 +112,7 @@ describe('ingestFile: rejected files', () => {
     const ok = await ingestFile(ws.db, ws.config, ws.log, writeCsv(ws.config.inbox, 'positions_ok.csv', [header, ['2026-04-10', 'acct-growth', 'EQ-NORDWIND', '-40'], ['2026-04-10', 'acct-growth', 'BD-KESTREL-28', '0']]));
     expect(ok.status).toBe('ingested');
     const r = await rejectRows('positions_bad.csv', [header, ['2026-04-10', 'acct-growth', 'EQ-NORDWIND', '12 shares']]);
-    expect(formatRejection(r)).toBe('positions_bad.csv row 1, column quantity: "12 shares" is not a number');
+    expect(formatRejection(r)).toBe('positions_bad.csv line 2, column quantity: "12 shares" is not a number');
   });
 
   it('rejects an empty portfolio id and a cash id without a valid currency code', async () => {
@@ -125,13 +125,13 @@ describe('ingestFile: rejected files', () => {
   it('rejects an id with surrounding spaces rather than load it as another security', async () => {
     const header = ['date', 'portfolio_id', 'security_id', 'quantity'];
     const r = await rejectRows('positions_d.csv', [header, ['2026-04-10', 'acct-growth', ' EQ-NORDWIND', '1']]);
-    expect(formatRejection(r)).toBe('positions_d.csv row 1, column security_id: " EQ-NORDWIND" is not an id without surrounding spaces');
+    expect(formatRejection(r)).toBe('positions_d.csv line 2, column security_id: " EQ-NORDWIND" is not an id without surrounding spaces');
   });
 
   it('keeps the message on one line when the bad cell holds a quoted line break', async () => {
     const r = await rejectRows('prices_nl.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-NORDWIND', '"1\n2"', '']]);
     expect(r).toMatchObject({ row: 1, column: 'price', value: '1\n2' });
-    expect(formatRejection(r)).toBe('prices_nl.csv row 1, column price: "1\\n2" is not a positive number');
+    expect(formatRejection(r)).toBe('prices_nl.csv line 2, column price: "1\\n2" is not a positive number');
   });
 
   it('reports the earliest failing row across columns', async () => {
@@ -142,7 +142,7 @@ describe('ingestFile: rejected files', () => {
   it('names both rows of a repeated key', async () => {
     const r = await rejectRows('prices_g.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1', ''], ['2026-04-10', 'EQ-B', '2', ''], ['2026-04-10', 'EQ-A', '1.5', '']]);
     expect(r).toMatchObject({ code: 'duplicate_key', row: 3, column: 'date+security_id' });
-    expect(formatRejection(r)).toBe('prices_g.csv row 3, column date+security_id: "2026-04-10", "EQ-A" repeats the date+security_id of row 1');
+    expect(formatRejection(r)).toBe('prices_g.csv line 4, column date+security_id: "2026-04-10", "EQ-A" repeats the date+security_id of line 2');
   });
 
   it('compares keys by value: the same date written two ways is the same key', async () => {
@@ -154,14 +154,18 @@ describe('ingestFile: rejected files', () => {
   it('names a missing column and lists the header it found', async () => {
     const r = await rejectRows('positions_c.csv', [['date', 'portfolio', 'security_id', 'quantity'], ['2026-04-10', 'acct-growth', 'EQ-A', '1']]);
     expect(r).toMatchObject({ code: 'missing_column', column: 'portfolio_id' });
-    expect(formatRejection(r)).toBe('positions_c.csv, column portfolio_id: is missing; header found: "date", "portfolio", "security_id", "quantity"');
+    expect(formatRejection(r)).toBe(
+      'positions_c.csv, column portfolio_id: is missing; header found: "date", "portfolio", "security_id", "quantity"; ' +
+        'if the sender names this column differently, map it in source "positions": "columns": { "portfolio_id": "portfolio" }; if it is absent, the file must be fixed',
+    );
   });
 
-  it('rejects an empty file and a file with a header only', async () => {
+  it('holds a zero-byte file (a write not begun) and rejects a file with a header only', async () => {
     const ws = await workspace();
     const empty = path.join(ws.config.inbox, 'prices_empty.csv');
     writeFileSync(empty, '');
-    expect(await expectRejected(empty)).toMatchObject({ code: 'empty_file' });
+    expect(await ingestFile(ws.db, ws.config, ws.log, empty)).toMatchObject({ status: 'held', fileId: null, hold: { code: 'empty_so_far' } });
+    expect(existsSync(empty)).toBe(true);
     expect(await rejectRows('prices_header.csv', [PRICE_HEADER])).toMatchObject({ code: 'empty_file', message: 'has a header but no data rows' });
   });
 
@@ -198,5 +202,82 @@ describe('ingestFile: rejected files', () => {
     const ws = current();
     expect(readdirSync(ws.config.quarantine).sort()).toEqual(['prices_j-1.csv', 'prices_j-1.csv.reason.txt', 'prices_j.csv', 'prices_j.csv.reason.txt']);
     expect(readFileSync(path.join(ws.config.quarantine, 'prices_j-1.csv.reason.txt'), 'utf8')).toContain('value:    "-2"');
+  });
+});
+
+/** 'YYYY-MM-DD' of the local day `days` after today (the worker counts from the receiving day, local time). */
+function localDayFromToday(days: number): string {
+  const now = new Date();
+  const d = new Date(now.getFullYear(), now.getMonth(), now.getDate() + days);
+  return [d.getFullYear(), d.getMonth() + 1, d.getDate()].map((n) => String(n).padStart(2, '0')).join('-');
+}
+
+describe('ingestFile: plausibility at the door', () => {
+  const POSITION_HEADER = ['date', 'portfolio_id', 'security_id', 'quantity'];
+
+  it('refuses dates before 1900-01-01 and after today plus 7 days, naming the accepted range', async () => {
+    const ahead = localDayFromToday(7);
+    const tooFar = localDayFromToday(8);
+    const early = await rejectRows('prices_early.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1', ''], ['1899-12-31', 'EQ-A', '1', '']]);
+    expect(early).toMatchObject({ row: 2, column: 'date', value: '1899-12-31', expected: `a date from 1900-01-01 to ${ahead}` });
+    expect(formatRejection(early)).toBe(`prices_early.csv line 3, column date: "1899-12-31" is not a date from 1900-01-01 to ${ahead}`);
+    expect(await rejectRows('prices_zero.csv', [PRICE_HEADER, ['0000-01-01', 'EQ-A', '1', '']])).toMatchObject({ row: 1, column: 'date', value: '0000-01-01' });
+    expect(await rejectRows('prices_end.csv', [PRICE_HEADER, ['9999-12-31', 'EQ-A', '1', '']])).toMatchObject({ row: 1, column: 'date', value: '9999-12-31' });
+    expect(await rejectRows('prices_ahead.csv', [PRICE_HEADER, [tooFar, 'EQ-A', '1', '']])).toMatchObject({ row: 1, column: 'date', value: tooFar });
+    const w = current();
+    const edge = await ingestFile(w.db, w.config, w.log, writeCsv(w.config.inbox, 'prices_edge.csv', [PRICE_HEADER, ['1900-01-01', 'EQ-A', '1', ''], [ahead, 'EQ-A', '1', '']]));
+    expect(edge.status).toBe('ingested');
+  });
+
+  // IEEE 754 binary64: 5e-324 is the smallest subnormal, about 1.8e308 the largest finite value
+  it('refuses a subnormal price and overflow-prone prices and quantities', async () => {
+    const tiny = await rejectRows('prices_tiny.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '5e-324', '']]);
+    expect(formatRejection(tiny)).toBe('prices_tiny.csv line 2, column price: "5e-324" is not a positive number of magnitude 1e-12 to 1000000000000000');
+    expect(await rejectRows('prices_huge.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1e308', '']])).toMatchObject({ row: 1, column: 'price', value: '1e308' });
+    const qty = await rejectRows('positions_huge.csv', [POSITION_HEADER, ['2026-04-10', 'acct-growth', 'EQ-A', '1'], ['2026-04-10', 'acct-growth', 'EQ-B', '-1e307']]);
+    expect(qty).toMatchObject({ row: 2, column: 'quantity', value: '-1e307', expected: 'a number of zero or of magnitude 1e-12 to 1000000000000000' });
+    expect(await rejectRows('fx_tiny.csv', [['date', 'currency', 'rate'], ['2026-04-10', 'EUR', '1e-300']])).toMatchObject({ row: 1, column: 'rate' });
+  });
+
+  it('reads the magnitude bounds from the config', async () => {
+    ws = await tempWorkspace({ ingest: { maxMagnitude: 1e6, minMagnitude: 0.001 } });
+    const r = await rejectRows('prices_cfg.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '999999', ''], ['2026-04-10', 'EQ-B', '1000001', '']]);
+    expect(r).toMatchObject({ row: 2, column: 'price', value: '1000001', expected: 'a positive number of magnitude 0.001 to 1000000' });
+    const w = current();
+    const zero = await ingestFile(w.db, w.config, w.log, writeCsv(w.config.inbox, 'positions_z.csv', [POSITION_HEADER, ['2026-04-10', 'acct-growth', 'EQ-A', '0']]));
+    expect(zero.status).toBe('ingested');
+  });
+
+  // DuckDB's cast alone reads "1_75.5" as 175.5 and "+-1" as -1 (checked against DuckDB 1.5)
+  it('accepts only numbers written in plain decimal notation', async () => {
+    const r = await rejectRows('prices_us.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-A', '1_75.5', '']]);
+    expect(formatRejection(r)).toBe('prices_us.csv line 2, column price: "1_75.5" is not a positive number');
+    for (const [i, bad] of ['0x1A', '.5e', '1.2.3', '+-1', '1__2', 'NaN', 'inf'].entries()) {
+      const got = await rejectRows(`positions_n${i}.csv`, [POSITION_HEADER, ['2026-04-10', 'acct-growth', 'EQ-A', bad]]);
+      expect(got).toMatchObject({ row: 1, column: 'quantity', value: bad });
+    }
+    const w = current();
+    const ok = await ingestFile(
+      w.db,
+      w.config,
+      w.log,
+      writeCsv(w.config.inbox, 'positions_ok.csv', [POSITION_HEADER, ...['-40', '+3', '.5', '2.5E3', '1e-3'].map((q, i) => ['2026-04-10', 'acct-growth', `EQ-${i}`, q])]),
+    );
+    expect(ok.status).toBe('ingested');
+    const stored = await w.db.all<{ q: number }>('select quantity as q from positions where file_id = $1 order by line', [ok.fileId]);
+    expect(stored.map((s) => s.q)).toEqual([-40, 3, 0.5, 2500, 0.001]);
+  });
+
+  // Unicode Standard Annex #9 (bidirectional algorithm) lists U+202E and U+200F as explicit
+  // direction marks; ECMA-48 makes ESC (U+001B) the start of terminal control sequences
+  it('refuses ids holding control, format or bidirectional characters, and prints them escaped', async () => {
+    const bidi = await rejectRows('positions_rlo.csv', [POSITION_HEADER, ['2026-04-10', 'acct\u202Egrowth', 'EQ-A', '1']]);
+    expect(bidi).toMatchObject({ row: 1, column: 'portfolio_id', value: 'acct\u202Egrowth', expected: 'an id of printable characters (no control, format or bidirectional marks)' });
+    expect(formatRejection(bidi)).toBe('positions_rlo.csv line 2, column portfolio_id: "acct\\u202egrowth" is not an id of printable characters (no control, format or bidirectional marks)');
+    const esc = await rejectRows('prices_esc.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-\u001b[31mA', '1', '']]);
+    expect(formatRejection(esc)).toContain('"EQ-\\u001b[31mA"');
+    for (const [i, id] of ['EQ-\u200FA', 'EQ-\u200BA', 'EQ-\u0007A'].entries()) {
+      expect(await rejectRows(`prices_id${i}.csv`, [PRICE_HEADER, ['2026-04-10', id, '1', '']])).toMatchObject({ column: 'security_id', value: id });
+    }
   });
 });

@@ -1,4 +1,4 @@
-import { mkdtempSync, rmSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
@@ -6,20 +6,24 @@ import { toCsv } from '../../src/cli/format.ts';
 import { RiskfoldError } from '../../src/errors.ts';
 import { readTable, runReadOnlyQuery } from '../../src/read/readQuery.ts';
 import { openDatabase, type Database } from '../../src/storage/database.ts';
+import { lockDownReader } from '../../src/storage/readerSandbox.ts';
 
 describe('runReadOnlyQuery', () => {
   let cleanup: (() => void) | undefined;
   afterEach(() => cleanup?.());
 
-  /** A database file with two stored doubles, opened read-only as `sql` opens it. */
-  async function readOnlyCopy(): Promise<Database> {
-    const dir = mkdtempSync(path.join(tmpdir(), 'riskfold-query-'));
+  let dir = '';
+
+  /** A database file with two stored doubles, opened read-only and locked down as `sql` opens it. */
+  async function readOnlyCopy(readableDirs: string[] = []): Promise<Database> {
+    dir = mkdtempSync(path.join(tmpdir(), 'riskfold-query-'));
     const file = path.join(dir, 'history.duckdb');
     const writer = await openDatabase(file);
     await writer.run('create table prices (line integer, security_id varchar, price double)');
     await writer.run("insert into prices values (1, 'EQ-NORDWIND', 0.1::double + 0.2::double), (2, 'EQ-NORDWIND', 1::double / 3)");
     writer.close();
     const db = await openDatabase(file, { readOnly: true });
+    await lockDownReader(db, readableDirs.map((d) => path.join(dir, d)));
     cleanup = () => {
       db.close();
       rmSync(dir, { recursive: true, force: true });
@@ -53,6 +57,9 @@ describe('runReadOnlyQuery', () => {
     'set threads = 1',
     'checkpoint',
     'load json',
+    "export database '/tmp/riskfold-should-not-exist'",
+    "explain analyze copy prices to '/tmp/riskfold-should-not-exist.csv'",
+    "pragma enable_profiling",
   ])('refuses %s with a clear message, before DuckDB runs it', async (sql) => {
     const db = await readOnlyCopy();
     const err = await runReadOnlyQuery(db, sql).catch((e: unknown) => e);
@@ -61,6 +68,34 @@ describe('runReadOnlyQuery', () => {
     expect((err as Error).message).toMatch(/^refused: [A-Z_]+ statements may write/);
     const [{ n }] = await db.all<{ n: string }>('select count(*) as n from prices');
     expect(n).toBe('2');
+  });
+
+  it('leaves no trace of a refused EXPORT DATABASE, even in a folder the query may read', async () => {
+    const db = await readOnlyCopy(['open']);
+    mkdirSync(path.join(dir, 'open'));
+    const target = path.join(dir, 'open', 'dump');
+    await expect(runReadOnlyQuery(db, `export database '${target}'`)).rejects.toThrow(/^refused: EXPORT statements may write/);
+    expect(existsSync(target)).toBe(false);
+  });
+
+  it('reads only the database: local files, URLs and settings are out of reach', async () => {
+    const db = await readOnlyCopy();
+    writeFileSync(path.join(dir, 'secret.txt'), 'nothing to see');
+    await expect(runReadOnlyQuery(db, `select * from read_text('${path.join(dir, 'secret.txt')}')`)).rejects.toThrow(/disabled by configuration/);
+    await expect(runReadOnlyQuery(db, `select * from glob('${dir}/*')`)).rejects.toThrow(/disabled by configuration/);
+    // no extension is fetched to read a URL: access ends before any download
+    await expect(runReadOnlyQuery(db, "select * from 'https://example.invalid/prices.csv'")).rejects.toThrow(/disabled by configuration/);
+    await expect(db.run('set enable_external_access = true')).rejects.toThrow(/locked|Cannot enable/);
+  });
+
+  it('reads files under a folder the user opted into, and nowhere next to it', async () => {
+    const db = await readOnlyCopy(['inbox']);
+    mkdirSync(path.join(dir, 'inbox'));
+    mkdirSync(path.join(dir, 'inbox2'));
+    writeFileSync(path.join(dir, 'inbox', 'a.csv'), 'x\n1\n');
+    writeFileSync(path.join(dir, 'inbox2', 'b.csv'), 'x\n2\n');
+    expect((await runReadOnlyQuery(db, `select x from read_csv('${path.join(dir, 'inbox', 'a.csv')}')`)).rows).toEqual([[1]]);
+    await expect(runReadOnlyQuery(db, `select x from read_csv('${path.join(dir, 'inbox2', 'b.csv')}')`)).rejects.toThrow(/disabled by configuration/);
   });
 
   it('refuses two statements at once, so a read cannot smuggle a write behind it', async () => {

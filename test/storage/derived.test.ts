@@ -11,6 +11,7 @@ import { buildScenario, correctPrice, scenarioDeliveries, type Scenario } from '
 const TABLES: Record<string, string> = {
   derived_snapshots: 'portfolio_id, snapshot_date',
   derived_held_securities: 'security_id',
+  derived_held_out_prices: 'security_id, date',
   derived_valuation_dates: 'date',
   derived_aligned_prices: 'security_id, date',
   derived_aligned_fx: 'currency, date',
@@ -104,5 +105,32 @@ describe('refreshDerived from the earliest delivered date', () => {
     await ws.db.run('delete from positions where file_id = 200002');
     await expectRefreshEqualsRebuild(ws.db, 'full');
     expect((await halyard())[0].first).toBe(s.dates[0]);
+  });
+
+  it('redoes from a suspect price held out of risk, and again when the hold is lifted or the mode switched', async () => {
+    ws = await tempWorkspace();
+    const s = buildScenario();
+    await loadDays(ws.db, s, 0, s.dates.length - 1);
+    await refreshDerived(ws.db);
+    const flag = (date: string, held: boolean) =>
+      ws!.db.run(`insert into price_checks (security_id, date, price, rules, reason, held) values ('EQ-QUILLON', $1::date, 1, 'jump', 'test', $2)`, [date, held]);
+    await flag(s.dates[120], true);
+    await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[120]);
+    // the held price is skipped: the one before it is carried over its date
+    const [carried] = await ws.db.all<{ observed_on: string; stale_days: number }>(
+      `select observed_on::varchar as observed_on, stale_days from derived_aligned_prices where security_id = 'EQ-QUILLON' and date = $1::date`,
+      [s.dates[120]],
+    );
+    expect(carried).toEqual({ observed_on: s.dates[119], stale_days: 1 });
+
+    // an earlier flag only reported (mode report): the carried prices stay as they are
+    await flag(s.dates[60], false);
+    expect((await refreshDerived(ws.db)).mode).toBe('current');
+    // switched to hold: both are held, redone from the earlier one
+    await ws.db.run('update price_checks set held = true where cleared_at is null');
+    await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[60]);
+    // the later one cleared (a delivery confirmed it)
+    await ws.db.run(`update price_checks set cleared_at = now() where date = $1::date`, [s.dates[120]]);
+    await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[120]);
   });
 });

@@ -55,6 +55,7 @@ describe('the ordered SQL runner', () => {
       'derived_snapshots',
       'derived_held_securities',
       'derived_valuation_dates',
+      'derived_held_out_prices',
       'derived_aligned_prices',
       'derived_aligned_fx',
     ]);

@@ -18,12 +18,12 @@ describe('WorkQueue', () => {
   it('runs the catch-up first, then files that arrived meanwhile as the next batch', async () => {
     const r = gatedRunner();
     const q = new WorkQueue(r.run);
-    q.addFile('/in/b.csv');
-    q.addFile('/in/a.csv');
+    q.addFiles(['/in/b.csv']);
+    q.addFiles(['/in/a.csv']);
     q.start(['/in/a.csv']);
     await waitFor(() => r.batches.length === 1, 1000, 'the catch-up batch');
     expect(r.batches[0]).toEqual(['/in/a.csv']);
-    q.addFile('/in/c.csv');
+    q.addFiles(['/in/c.csv']);
     r.release();
     await waitFor(() => r.batches.length === 2, 1000, 'the second batch');
     // a.csv was in the catch-up, so only the others, in arrival order
@@ -55,7 +55,7 @@ describe('WorkQueue', () => {
       order.push('job');
       return 42;
     });
-    q.addFile('/in/b.csv');
+    q.addFiles(['/in/b.csv']);
     r.release();
     await waitFor(() => r.batches.length === 2, 1000, 'the second batch');
     r.release();
@@ -68,7 +68,7 @@ describe('WorkQueue', () => {
     const q = new WorkQueue(r.run);
     q.start(['/in/a.csv']);
     await waitFor(() => r.batches.length === 1, 1000, 'the first batch');
-    q.addFile('/in/b.csv');
+    q.addFiles(['/in/b.csv']);
     const job = q.exclusive(async () => 'never');
     let stopped = false;
     const stopping = q.stop().then(() => (stopped = true));

@@ -48,10 +48,9 @@ export function registerInit(program: Command): void {
       .command('init')
       .description('writes a starter pipeline.config.json (with its JSON Schema) and the inbox, archive and quarantine folders')
       .argument('[dir]', 'folder to set up', '.'),
-  ).action((dir: string, opts: { config: string }, cmd: Command) => {
+  ).action((dir: string, opts: { config?: string }) => {
     // --config given by hand names the file to write; otherwise it goes into DIR
-    const explicit = cmd.getOptionValueSource('config') === 'cli';
-    const { configPath, folders } = initWorkspace(explicit ? opts.config : path.join(dir, DEFAULT_CONFIG_FILE));
+    const { configPath, folders } = initWorkspace(opts.config ?? path.join(dir, DEFAULT_CONFIG_FILE));
     process.stdout.write(
       `wrote ${configPath}\ncreated ${folders.map((f) => path.relative(process.cwd(), f) || '.').join(', ')}\n` +
         `next: drop custodian files into the inbox and run "riskfold watch --config ${path.relative(process.cwd(), configPath)}"\n`,

@@ -2,6 +2,9 @@ import type { Command } from 'commander';
 import { runBatch } from '../../batch/runBatch.ts';
 import { requireIsoDate, type RunSummary } from '../../batch/runRecompute.ts';
 import { describeChange } from '../../batch/runSettings.ts';
+import { RiskfoldError } from '../../errors.ts';
+import { requireKnownPortfolios } from '../../read/portfolios.ts';
+import type { Database } from '../../storage/database.ts';
 import { openWorkspace } from '../../storage/workspace.ts';
 import { contextFrom, withConfigOption } from '../context.ts';
 
@@ -25,6 +28,8 @@ export function registerRecompute(program: Command): void {
     const db = await openWorkspace(config, log);
     try {
       const portfolios = opts.portfolio.length > 0 ? [...new Set(opts.portfolio)] : null;
+      await requireKnownPortfolios(db, portfolios ?? []);
+      if (opts.from !== undefined) await requireFromInHistory(db, opts.from);
       const batch = await runBatch(db, config, log, [], { recompute: { trigger: 'recompute', from: opts.from ?? null, portfolios } });
       for (const change of batch.settingChanges) process.stdout.write(`${describeChange(change)}\n`);
       if (batch.run === null) throw new Error(`recompute failed: ${batch.runError}`);
@@ -33,6 +38,13 @@ export function registerRecompute(program: Command): void {
       db.close();
     }
   });
+}
+
+/** A --from after the last valuation date would recompute nothing and print a reversed range: refuse it. */
+async function requireFromInHistory(db: Database, from: string): Promise<void> {
+  const [{ latest }] = await db.all<{ latest: string | null }>('select max(date)::varchar as latest from align_valuation_dates');
+  if (latest === null) throw new RiskfoldError('usage', `--from ${from}: there are no valuation dates yet (no prices of held securities)`);
+  if (from > latest) throw new RiskfoldError('usage', `--from ${from} is after the latest valuation date, ${latest}: nothing to recompute`);
 }
 
 /** "run 7: 3 portfolios, 2020-01-02 .. 2026-11-30, 12,345 risk rows, 2 alerts, 4.1 s" */

@@ -1,9 +1,8 @@
 import type { Command } from 'commander';
-import { loadConfig } from '../../config/load.ts';
 import { runReadOnlyQuery } from '../../read/readQuery.ts';
 import { openForReading } from '../../storage/workspace.ts';
-import { withConfigOption } from '../context.ts';
-import { formatResult, noteReadCopy, parseFormat } from '../format.ts';
+import { configFrom, withConfigOption } from '../context.ts';
+import { formatResult, noteReadCopy, parseFormat, writeResult } from '../format.ts';
 
 export function registerSql(program: Command): void {
   withConfigOption(
@@ -11,15 +10,21 @@ export function registerSql(program: Command): void {
       .command('sql')
       .description('runs a read-only query on the history (the published read copy while the worker runs)')
       .argument('<query>', 'one SQL statement that only reads, e.g. "select * from risk_daily limit 5"')
-      .option('--format <format>', 'table, csv (header row) or json; csv and json keep full precision', 'table'),
-  ).action(async (query: string, opts: { config: string; format: string }) => {
+      .option('--format <format>', 'table, csv (header row) or json; csv and json keep full precision', 'table')
+      .option(
+        '--read-files <dir>',
+        'also let the query read files under DIR (read_csv, glob, ...); without it only the database is readable (repeat for several)',
+        (dir: string, dirs: string[]) => [...dirs, dir],
+        [] as string[],
+      ),
+  ).action(async (query: string, opts: { config?: string; format: string; readFiles: string[] }) => {
     const format = parseFormat(opts.format);
-    const config = loadConfig(opts.config);
-    const handle = await openForReading(config);
+    const config = configFrom(opts);
+    const handle = await openForReading(config, opts.readFiles);
     try {
       noteReadCopy(handle, config);
       const result = await runReadOnlyQuery(handle.db, query);
-      process.stdout.write(formatResult(result, format));
+      writeResult(formatResult(result, format), format);
     } finally {
       handle.db.close();
     }

@@ -59,8 +59,8 @@ describe('recompute: incremental runs', () => {
     expect(runs.map((r) => r.n)).toEqual([last - 5 + 1, 1, 1, 1, 1, 1]);
   });
 
-  it('a new day on a long history reads returns only from its windows reach, with the figures of a full recompute', async () => {
-    // 560 dates: past two sliding refreshes (every 256 rows), so the reach is well after row 0
+  it('a new day on a long history continues the stored state, with the figures of a full recompute', async () => {
+    // 560 dates: past two sliding refreshes (every 256 rows)
     const s = buildScenario(560);
     const last = s.dates.length - 1;
     const daily = await workspace();
@@ -72,13 +72,10 @@ describe('recompute: incremental runs', () => {
     await loadDays(full.db, s, 0, last);
     await runRecompute(full.db, full.config, full.log, { trigger: 'test' });
 
-    // windows 21 and 63: the sliding state restarts from row 256 (its last exact refresh
-    // before row 559 needs rows 448..511); the EWMA continues from its state, seeding
-    // needs 10 rows; so rows 256 on, not the 559 before
     const reads = daily.logLines().filter((l) => l.msg === 'inputs read');
-    expect(reads.map((l) => [l.fromRow, l.returnsFromRow, l.ewmaFromState])).toEqual([
-      [0, 0, false],
-      [last, 256, true],
+    expect(reads.map((l) => [l.fromRow, l.ewmaFromState])).toEqual([
+      [0, false],
+      [last, true],
     ]);
     expectSameRows(await readDaily(daily.db), await readDaily(full.db), AGREE);
     expectSameRows(await readStats(daily.db), await readStats(full.db), AGREE);

@@ -88,8 +88,8 @@ describe('computeRisk in worker threads', () => {
     const s = buildScenario();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
     const dates = await readValuationDates(ws.db);
-    const returns = await readReturnPanel(ws.db, dates, 0, 0);
-    const portfolios = await readPortfolioPanel(ws.db, dates.length, { returns: 0, holdings: 0 }, null);
+    const returns = await readReturnPanel(ws.db, dates, 0);
+    const portfolios = await readPortfolioPanel(ws.db, dates.length, 0, null);
     return { returns, portfolios, fromRow: fromDay, ewmaState: null };
   }
 

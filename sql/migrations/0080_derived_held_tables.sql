@@ -7,5 +7,13 @@ create table derived_held_securities (
   first_held_on date not null
 );
 
+-- The suspect prices held out of risk when the carried prices were last refreshed (step
+-- 085): a refresh compares it with price_checks to find the earliest date whose hold
+-- changed. Written only by src/storage/derived.ts.
+create table derived_held_out_prices (
+  security_id varchar not null,
+  date        date not null
+);
+
 -- the other derived tables were built without it: the next refresh rebuilds them all
 delete from derived_state;

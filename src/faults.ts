@@ -1,0 +1,20 @@
+/**
+ * The steps of a delivery's life at which a kill can land. Tests set RISKFOLD_FAULT to
+ * one of them to make the process kill itself (SIGKILL: no cleanup, no finally) exactly
+ * there, then restart it and check the ledger; without the variable this does nothing.
+ */
+export type FaultStep =
+  /** The load transaction committed; the file is still in the inbox. */
+  | 'committed'
+  /** A rejected or duplicate file's ledger row is written; the file is still in the inbox. */
+  | 'recorded'
+  /** The file is linked into archive/ or quarantine/ and still linked in the inbox. */
+  | 'linked'
+  /** The file has left the inbox; the bookkeeping after the move is not done. */
+  | 'moved'
+  /** The temporary read copy is written and not yet renamed into place. */
+  | 'copied';
+
+export function faultPoint(step: FaultStep): void {
+  if (process.env.RISKFOLD_FAULT === step) process.kill(process.pid, 'SIGKILL');
+}

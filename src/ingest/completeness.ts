@@ -1,0 +1,102 @@
+import { closeSync, createReadStream, existsSync, fstatSync, openSync, readSync } from 'node:fs';
+import { pipeline } from 'node:stream/promises';
+import { createGunzip } from 'node:zlib';
+import type { Config } from '../config/load.ts';
+import type { Rejection } from '../errors.ts';
+
+/** Why a delivery is left in the inbox for now. */
+export interface HoldReason {
+  code: 'unterminated_line' | 'no_done_marker' | 'truncated_stream' | 'empty_so_far' | 'snapshot_drop';
+  reason: string;
+}
+
+export type Completeness = { state: 'complete' } | { state: 'held'; hold: HoldReason } | { state: 'rejected'; rejection: Rejection };
+
+const NEWLINE = 0x0a;
+
+/**
+ * Whether a delivery looks completely written: its done-marker is there (when the config
+ * asks for one), it is not empty, and its last line ends with a line break (for .gz the
+ * last decompressed byte, found by one streaming pass that also enforces
+ * `ingest.maxExpandedMB`). A sender paused mid-write leaves a last line without one,
+ * which read_csv would take as a whole row.
+ */
+export async function checkComplete(config: Config, filePath: string, name: string): Promise<Completeness> {
+  const marker = markerSuffix(config);
+  if (marker !== null && !existsSync(`${filePath}${marker}`)) {
+    return held('no_done_marker', `waiting for its marker ${name}${marker}`);
+  }
+  if (/\.gz$/i.test(name)) return checkGzip(filePath, name, config.ingest.maxExpandedMB);
+  // other compressed forms are not inspected: their last byte says nothing about lines
+  if (/\.(zst|bz2)$/i.test(name)) return { state: 'complete' };
+  const last = lastByte(filePath);
+  if (last === null) return held('empty_so_far', 'the file is empty (still being written?)');
+  if (last !== NEWLINE) return held('unterminated_line', 'its last line has no line break (still being written?)');
+  return { state: 'complete' };
+}
+
+/** '.done' or '.ok' when the config asks for a marker; null otherwise. */
+export function markerSuffix(config: Config): string | null {
+  return config.ingest.doneMarker === 'none' ? null : `.${config.ingest.doneMarker}`;
+}
+
+function held(code: HoldReason['code'], reason: string): Completeness {
+  return { state: 'held', hold: { code, reason } };
+}
+
+function lastByte(filePath: string): number | null {
+  const fd = openSync(filePath, 'r');
+  try {
+    const size = fstatSync(fd).size;
+    if (size === 0) return null;
+    const buf = Buffer.alloc(1);
+    readSync(fd, buf, 0, 1, size - 1);
+    return buf[0];
+  } finally {
+    closeSync(fd);
+  }
+}
+
+/**
+ * Decompresses in a stream, counting: past the limit it stops at once (a gzip bomb costs
+ * no more than the limit). A stream that ends early is a file still being written.
+ */
+async function checkGzip(filePath: string, name: string, maxExpandedMB: number): Promise<Completeness> {
+  const limit = maxExpandedMB * 1024 * 1024;
+  let expanded = 0;
+  let last: number | null = null;
+  let tooLarge = false;
+  try {
+    await pipeline(createReadStream(filePath, { highWaterMark: 1 << 20 }), createGunzip(), async (source: AsyncIterable<Buffer>) => {
+      for await (const bytes of source) {
+        expanded += bytes.length;
+        if (bytes.length > 0) last = bytes[bytes.length - 1];
+        if (expanded > limit) {
+          tooLarge = true;
+          throw new Error('expansion limit passed');
+        }
+      }
+    });
+  } catch (err) {
+    // the pipeline may report the stop as its own abort: the flag is the truth
+    if (tooLarge) {
+      return {
+        state: 'rejected',
+        rejection: {
+          code: 'too_large',
+          file: name,
+          expected: `at most ${maxExpandedMB} MB once decompressed (ingest.maxExpandedMB)`,
+          message: `expands past ${maxExpandedMB} MB when decompressed; refused while reading`,
+        },
+      };
+    }
+    const code = (err as NodeJS.ErrnoException).code;
+    if (code === 'Z_BUF_ERROR') return held('truncated_stream', 'its compressed stream ends early (still being written?)');
+    // not gzip at all: read_csv rejects it with its own words
+    if (code === 'Z_DATA_ERROR') return { state: 'complete' };
+    throw err;
+  }
+  if (last === null) return held('empty_so_far', 'the file decompresses to nothing (still being written?)');
+  if (last !== NEWLINE) return held('unterminated_line', 'its last line has no line break (still being written?)');
+  return { state: 'complete' };
+}

@@ -1,0 +1,132 @@
+import type { Config, ResolvedLimit } from '../config/load.ts';
+import { applicableLimits, limitKey } from '../limits/applicableLimits.ts';
+import { METRIC_SQL, seriesKey } from '../limits/breachStore.ts';
+import type { QueryResult, Unit } from './readQuery.ts';
+import type { Database } from '../storage/database.ts';
+
+type Series = Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>;
+
+interface LatestRow {
+  portfolio_id: string;
+  date: string;
+  portfolio_value: number | null;
+  coverage: number | null;
+  status: string;
+  value: number | null;
+}
+
+interface EpisodeRow {
+  portfolio_id: string;
+  metric: ResolvedLimit['metric'];
+  window_days: number;
+  estimator: ResolvedLimit['estimator'];
+  level: string;
+  opened_on: string;
+  escalated_on: string | null;
+  closed_on: string | null;
+}
+
+/**
+ * One row per portfolio, what an operator checks first: the latest valuation date, the
+ * value in base currency, each watched figure against its limit with the headroom left
+ * and the state of its episode, then coverage and status. Coverage and status are those
+ * of the first watched estimate (without limits: the first configured window, sample).
+ * `portfolio` narrows it to one portfolio.
+ */
+export async function readPortfolioStatus(db: Database, config: Config, portfolio: string | null): Promise<QueryResult> {
+  const series = watchedSeries(config);
+  const headline = series[0] ?? { metric: 'vol_ex_ante', window: config.risk.windows[0], estimator: 'sample' };
+  const base = await latestRows(db, headline, portfolio);
+  const asOf = await latestDates(db, portfolio);
+  const figures: Map<string, LatestRow>[] = [];
+  for (const s of series) figures.push(new Map((await latestRows(db, s, portfolio)).map((r) => [r.portfolio_id, r])));
+  const episodes = await latestEpisodes(db, portfolio);
+  const baseById = new Map(base.map((r) => [r.portfolio_id, r]));
+
+  const columns = ['portfolio_id', 'as_of', 'value_base'];
+  const units: (Unit | null)[] = [null, null, 'amount'];
+  for (const s of series) {
+    const name = seriesName(s);
+    columns.push(name, `${name}_limit`, `${name}_headroom`, `${name}_episode`, `${name}_since`);
+    // a backtest zone watches a count of exceptions, every other figure a fraction
+    const unit = s.metric === 'backtest_zone' ? null : 'percent';
+    units.push(unit, unit, unit, null, null);
+  }
+  columns.push('coverage', 'status');
+  units.push('percent', null);
+
+  const rows = [...asOf.keys()].map((id) => {
+    const head = baseById.get(id);
+    const row: unknown[] = [id, asOf.get(id), head?.portfolio_value ?? null];
+    const limits = applicableLimits(config.limits, id);
+    series.forEach((s, i) => {
+      const limit = limits.find((l) => limitKey(l) === limitKey(s));
+      if (!limit) {
+        row.push(null, null, null, 'not watched', null);
+        return;
+      }
+      const value = figures[i].get(id)?.value ?? null;
+      const episode = episodes.get(seriesKey(id, s));
+      row.push(value, limit.limit, value === null ? null : limit.limit - value, ...episodeState(episode));
+    });
+    row.push(head?.coverage ?? null, head?.status ?? 'no_risk_rows');
+    return row;
+  });
+  return { columns, rows, units };
+}
+
+/** Each distinct figure some limit watches, in config order. */
+function watchedSeries(config: Config): Series[] {
+  const seen = new Map<string, Series>();
+  for (const l of config.limits) if (!seen.has(limitKey(l))) seen.set(limitKey(l), { metric: l.metric, window: l.window, estimator: l.estimator });
+  return [...seen.values()];
+}
+
+/** `vol_ex_ante_63d`, `vol_ex_ante_ewma`: the column stem of one watched figure. */
+function seriesName(s: Series): string {
+  return s.estimator === 'ewma' ? `${s.metric}_ewma` : `${s.metric}_${s.window}d`;
+}
+
+/** `breach` since its escalation, `warning` since it opened, `clear` since the last episode closed (null: never opened). */
+function episodeState(e: EpisodeRow | undefined): [string, string | null] {
+  if (!e) return ['clear', null];
+  if (e.closed_on !== null) return ['clear', e.closed_on];
+  return [e.level, e.level === 'breach' ? (e.escalated_on ?? e.opened_on) : e.opened_on];
+}
+
+async function latestDates(db: Database, portfolio: string | null): Promise<Map<string, string>> {
+  const rows = await db.all<{ portfolio_id: string; date: string }>(
+    `select portfolio_id, max(date) as date from risk_daily
+     where $1::varchar is null or portfolio_id = $1 group by portfolio_id order by portfolio_id`,
+    [portfolio],
+  );
+  return new Map(rows.map((r) => [r.portfolio_id, r.date]));
+}
+
+/** Per portfolio, the latest risk_daily row of one estimate and the watched figure on it. */
+async function latestRows(db: Database, s: Series, portfolio: string | null): Promise<LatestRow[]> {
+  return db.all<LatestRow>(
+    // the watched figure comes from its own rows (risk_daily, or var_backtest for backtest_zone)
+    `select d.portfolio_id, d.date, d.portfolio_value, d.coverage, d.status, m.value
+     from risk_daily d
+     left join (select portfolio_id, date, window_days, estimator, ${METRIC_SQL[s.metric].value} as value from ${METRIC_SQL[s.metric].rows}) m
+       using (portfolio_id, date, window_days, estimator)
+     where d.window_days = $1 and d.estimator = $2 and ($3::varchar is null or d.portfolio_id = $3)
+     qualify row_number() over (partition by d.portfolio_id order by d.date desc) = 1`,
+    [s.window, s.estimator, portfolio],
+  );
+}
+
+/** The latest episode, not retracted, of each watched series, keyed `portfolio|metric|window|estimator`. */
+async function latestEpisodes(db: Database, portfolio: string | null): Promise<Map<string, EpisodeRow>> {
+  const rows = await db.all<EpisodeRow>(
+    `select portfolio_id, metric, window_days, estimator, level, opened_on, escalated_on, closed_on
+     from limit_breaches
+     where not retracted and ($1::varchar is null or portfolio_id = $1)
+     qualify row_number() over (partition by portfolio_id, metric, window_days, estimator order by opened_on desc) = 1`,
+    [portfolio],
+  );
+  return new Map(
+    rows.map((r) => [seriesKey(r.portfolio_id, { metric: r.metric, window: r.window_days, estimator: r.estimator }), r]),
+  );
+}

@@ -1,0 +1,40 @@
+import { writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { afterEach, describe, expect, it } from 'vitest';
+import { memoryLogger } from '../../src/log/logger.ts';
+import { startWorker, type Worker } from '../../src/worker/startWorker.ts';
+import { pricesCsv } from '../helpers/files.ts';
+import { waitFor } from '../helpers/wait.ts';
+import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
+
+describe('the worker and one business day\'s files landing together', () => {
+  let wd: WorkerDir | undefined;
+  let worker: Worker | undefined;
+  afterEach(async () => {
+    await worker?.stop();
+    worker = undefined;
+    wd?.cleanup();
+  });
+
+  it('makes one batch of files landing within watch.settleMs of each other, prices before positions, and one run', async () => {
+    wd = workerDir({ watch: { stableMs: 200, pollMs: 50, settleMs: 1500, maxBatchWaitMs: 10_000 } });
+    const { log, lines } = memoryLogger();
+    worker = await startWorker(wd.config, log);
+    await worker.idle();
+    const inbox = wd.config.inbox;
+    const pause = () => new Promise((resolve) => setTimeout(resolve, 400));
+    writeFileSync(path.join(inbox, 'positions_0410.csv'), 'date,portfolio_id,security_id,quantity\n2020-01-01,acct-growth,EQ-NORDWIND,10\n');
+    await pause();
+    writeFileSync(path.join(inbox, 'prices_0410.csv'), pricesCsv(30, 2, '2020-01-01'));
+    await pause();
+    writeFileSync(path.join(inbox, 'securities_0410.csv'), 'security_id,currency\nEQ-NORDWIND,USD\n');
+    const batches = await waitFor(() => {
+      const done = lines().filter((l) => l.msg === 'batch done');
+      return done.length >= 2 ? done : null;
+    }, 15_000, 'the batch after the catch-up');
+    expect((batches[1].files as { name: string }[]).map((f) => f.name)).toEqual(['securities_0410.csv', 'prices_0410.csv', 'positions_0410.csv']);
+    expect(batches[1].runId).not.toBeNull();
+    await worker.idle();
+    expect(lines().filter((l) => l.msg === 'batch done')).toHaveLength(2);
+  });
+});
