@@ -1,4 +1,4 @@
--- Backs align_prices. Each ever-held security on each valuation date from its first
+-- Backs align_prices. Each ever-held security (or benchmark constituent) on each valuation date from its first
 -- price on: the last price on or before the date, and how many valuation dates old it is.
 insert into derived_aligned_prices
 with valuation_dates as (
@@ -6,10 +6,15 @@ with valuation_dates as (
   from derived_valuation_dates
 ),
 
+-- benchmark constituents too: tracking error needs their returns (they make no valuation date)
 held_securities as (
-  select distinct security_id
+  select security_id
   from clean_positions
   where quantity <> 0 and security_id not like 'CASH:%'
+  union
+  select security_id
+  from clean_benchmarks
+  where weight <> 0 and security_id not like 'CASH:%'
 ),
 
 held_prices as (

@@ -6,7 +6,7 @@ import { z } from 'zod';
  * come from here.
  */
 
-export const FILE_KINDS = ['prices', 'positions', 'fx', 'securities'] as const;
+export const FILE_KINDS = ['prices', 'positions', 'fx', 'securities', 'benchmarks'] as const;
 export type FileKind = (typeof FILE_KINDS)[number];
 
 export const CANONICAL_COLUMNS: Record<FileKind, { required: string[]; optional: string[] }> = {
@@ -14,6 +14,7 @@ export const CANONICAL_COLUMNS: Record<FileKind, { required: string[]; optional:
   positions: { required: ['date', 'portfolio_id', 'security_id', 'quantity'], optional: [] },
   fx: { required: ['date', 'currency', 'rate'], optional: [] },
   securities: { required: ['security_id'], optional: ['name', 'asset_class', 'currency'] },
+  benchmarks: { required: ['date', 'benchmark_id', 'security_id', 'weight'], optional: [] },
 };
 
 const currencyCode = z.string().regex(/^[A-Z]{3}$/, 'an ISO 4217 code: three capital letters');
@@ -42,9 +43,10 @@ export const DEFAULT_SOURCES: z.input<typeof sourceSchema>[] = [
   { name: 'positions', kind: 'positions', pattern: 'positions*.csv*' },
   { name: 'fx', kind: 'fx', pattern: 'fx*.csv*' },
   { name: 'securities', kind: 'securities', pattern: 'securities*.csv*' },
+  { name: 'benchmarks', kind: 'benchmarks', pattern: 'benchmarks*.csv*' },
 ];
 
-export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d'] as const;
+export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d', 'tracking_error_ex_ante'] as const;
 export const ESTIMATORS = ['sample', 'ewma'] as const;
 export type Estimator = (typeof ESTIMATORS)[number];
 
@@ -60,7 +62,7 @@ export const limitSchema = z
     metric: z
       .enum(LIMIT_METRICS)
       .default('vol_ex_ante')
-      .describe('Figure of risk_daily to watch; var_99_1d is taken as a fraction of portfolio value.'),
+      .describe('Figure of risk_daily to watch; var_99_1d is taken as a fraction of portfolio value; tracking_error_ex_ante needs a benchmark.'),
     window: z.number().int().min(0).describe('Window in trading days (0 with estimator "ewma").'),
     estimator: z.enum(ESTIMATORS).default('sample').describe('Which estimate of risk_daily the limit reads.'),
     limit: levelSchema.describe('Mandate limit, a fraction (0.15 = 15%).'),
@@ -226,7 +228,7 @@ export const configSchema = z
       .array(sourceSchema)
       .default([])
       .describe(
-        'How file names map to kinds and how each sender\'s columns map to the canonical layout. These come before the default sources (prices*.csv*, positions*.csv*, fx*.csv*, securities*.csv*), so they win where patterns overlap.',
+        'How file names map to kinds and how each sender\'s columns map to the canonical layout. These come before the default sources (prices*.csv*, positions*.csv*, fx*.csv*, securities*.csv*, benchmarks*.csv*), so they win where patterns overlap.',
       ),
     replaceDefaultSources: z
       .boolean()
@@ -254,6 +256,12 @@ export const configSchema = z
       .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, maxBatchWaitMs: 30_000 }),
     ingest: ingestSchema.default(ingestSchema.parse({})),
     risk: riskSchema.default(riskSchema.parse({})),
+    benchmarks: z
+      .record(z.string().min(1), z.string().min(1))
+      .default({})
+      .describe(
+        'Portfolio id (or "*" for every portfolio) -> the benchmark_id of the benchmarks files it is measured against; a specific id overrides "*". Without one a portfolio has no tracking error.',
+      ),
     limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),
     alerts: alertsSchema.default({ maxAgeDays: 5 }),
     schedule: scheduleSchema.default(scheduleSchema.parse({})),

@@ -21,6 +21,7 @@ export const METRIC_SQL: Record<ResolvedLimit['metric'], string> = {
   vol_ex_ante: 'vol_ex_ante',
   vol_realized: 'vol_realized',
   var_99_1d: 'var_99_1d / nullif(portfolio_value, 0)',
+  tracking_error_ex_ante: 'tracking_error_ex_ante',
 };
 
 /** `portfolio|metric|window|estimator`: one limit's series of one portfolio. */

@@ -118,11 +118,12 @@ function buildAlert(
   };
 }
 
-/** "63-day volatility", "EWMA realized volatility", "63-day 99% 1-day VaR (of value)". */
+/** "63-day volatility", "EWMA realized volatility", "63-day 99% 1-day VaR (of value)", "63-day tracking error". */
 export function metricLabel(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>): string {
   const span = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day`;
   if (limit.metric === 'vol_realized') return `${span} realized volatility`;
   if (limit.metric === 'var_99_1d') return `${span} 99% 1-day VaR (of value)`;
+  if (limit.metric === 'tracking_error_ex_ante') return `${span} tracking error`;
   return `${span} volatility`;
 }
 

@@ -4,9 +4,9 @@ import { readColumns, streamColumns } from '../storage/columnar.ts';
 /**
  * The risk stage's inputs, read from the views in bulk into typed arrays. Dates are
  * addressed by row d = date_index - 1 of align_valuation_dates; securities (cash
- * included) by their position j in the sorted list of every id that has a return or a
- * position. Cash and a security without returns have all-NaN columns, so they never
- * have a full window.
+ * included) by their position j in the sorted list of every id that has a return, a
+ * position or a benchmark weight. Cash and a security without returns have all-NaN
+ * columns, so they never have a full window.
  */
 
 export interface ReturnPanel {
@@ -50,7 +50,7 @@ export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
   await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities');
   await db.run(`create or replace temp table risk_in_securities as
     select security_id, (row_number() over (order by security_id) - 1)::integer as k
-    from (select security_id from risk_in_returns union select security_id from clean_positions)`);
+    from (select security_id from risk_in_returns union select security_id from clean_positions union select security_id from clean_benchmarks)`);
   const dateRows = await readColumns(db, 'select date::varchar, date_index from risk_in_dates order by date_index', undefined, {
     date: 'text',
     date_index: 'int',
@@ -196,12 +196,12 @@ type SharedTyped = Uint8Array | Int32Array | Float64Array;
  * A zero-filled typed array on a SharedArrayBuffer: the big panels are read by the
  * estimate worker threads in place, never copied to them.
  */
-function shared<A extends SharedTyped>(kind: { new (buffer: SharedArrayBuffer): A; BYTES_PER_ELEMENT: number }, length: number): A {
+export function shared<A extends SharedTyped>(kind: { new (buffer: SharedArrayBuffer): A; BYTES_PER_ELEMENT: number }, length: number): A {
   return new kind(new SharedArrayBuffer(length * kind.BYTES_PER_ELEMENT));
 }
 
 /** A copy of a[0 .. used - 1] in a shared array of at least `need` (doubling, so appends stay amortized O(1)). */
-function grown<A extends Int32Array | Float64Array>(a: A, used: number, need: number): A {
+export function grown<A extends Int32Array | Float64Array>(a: A, used: number, need: number): A {
   let size = a.length;
   while (size < need) size *= 2;
   const next = shared(a.constructor as { new (buffer: SharedArrayBuffer): A; BYTES_PER_ELEMENT: number }, size);

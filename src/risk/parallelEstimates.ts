@@ -2,6 +2,7 @@ import { Worker } from 'node:worker_threads';
 import type { EwmaState } from './ewmaEstimate.ts';
 import type { ComputeInputs, EstimateTask, WalkSettings } from './estimateWalk.ts';
 import { WORKER_ROLE, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
+import type { BenchmarkPanel } from './benchmarkInputs.ts';
 import type { PortfolioPanel, ReturnPanel } from './inputs.ts';
 import type { ResultBatch } from './resultColumns.ts';
 
@@ -100,7 +101,16 @@ function shareInputs(input: ComputeInputs): ComputeInputs {
     security: shared(p.security),
     weight: shared(p.weight),
   };
-  return { ...input, returns, portfolios };
+  const b = input.benchmarks;
+  const benchmarks: BenchmarkPanel = {
+    ...b,
+    ofPortfolio: shared(b.ofPortfolio),
+    logReturn: shared(b.logReturn),
+    offsets: shared(b.offsets),
+    security: shared(b.security),
+    weight: shared(b.weight),
+  };
+  return { ...input, returns, portfolios, benchmarks };
 }
 
 type Typed = Uint8Array | Int32Array | Float64Array;

@@ -16,7 +16,8 @@ const FINGERPRINT_SQL = `
   select concat_ws('|',
     (select count(*) || ':' || coalesce(max(file_id), 0) from prices),
     (select count(*) || ':' || coalesce(max(file_id), 0) from positions),
-    (select count(*) || ':' || coalesce(max(file_id), 0) from fx_rates)) as fingerprint`;
+    (select count(*) || ':' || coalesce(max(file_id), 0) from fx_rates),
+    (select count(*) || ':' || coalesce(max(file_id), 0) from benchmarks)) as fingerprint`;
 
 export interface DerivedRefresh {
   rebuilt: boolean;
