@@ -5,12 +5,16 @@ import type { Episode, Transition } from './episodes.ts';
 
 export interface Contributor {
   security_id: string;
+  /** In the portfolio; the active weight (portfolio minus benchmark) for a tracking error limit. */
   weight: number | null;
-  /** Share of ex-ante volatility (Euler: ccr / vol_ex_ante). */
+  /** Share of ex-ante volatility (Euler: ccr / vol_ex_ante), or of the tracking error. */
   pct: number;
 }
 
-/** The holdings with the largest share of risk on that date; empty when contributions were not kept for it. */
+/**
+ * The holdings with the largest share of risk on that date (of the tracking error, on
+ * active weights, for a tracking error limit); empty when contributions were not kept for it.
+ */
 export async function topContributors(
   db: Database,
   portfolioId: string,
@@ -18,8 +22,9 @@ export async function topContributors(
   date: string,
   count = 3,
 ): Promise<Contributor[]> {
+  const [table, weight] = limit.metric === 'tracking_error_ex_ante' ? ['risk_active_contributions', 'active_weight'] : ['risk_contributions', 'weight'];
   return db.all<Contributor>(
-    `select security_id, weight, pct from risk_contributions
+    `select security_id, ${weight} as weight, pct from ${table}
      where portfolio_id = $1 and window_days = $2 and estimator = $3 and date = $4::date and pct is not null
      order by pct desc, security_id limit ${count}`,
     [portfolioId, limit.window, limit.estimator, date],
