@@ -1,10 +1,10 @@
 import type { ConfigInput } from '../config/schema.ts';
-import { ACCOUNTS, BASE_CURRENCY } from './universe.ts';
+import { ACCOUNTS, BASE_CURRENCY, BENCHMARKS } from './universe.ts';
 
 /** The 63-day limit each account's mandate sets (on vol_ex_ante, sample estimator). */
 export const DEMO_LIMIT_WINDOW = 63;
 
-/** pipeline.config.json of the demo folder: the minimal layout plus three windows and one limit per account. */
+/** pipeline.config.json of the demo folder: the minimal layout plus three windows, one limit per account and the benchmarks. */
 export function demoConfig(): ConfigInput {
   return {
     inbox: 'inbox',
@@ -13,6 +13,7 @@ export function demoConfig(): ConfigInput {
     database: 'riskfold.duckdb',
     baseCurrency: BASE_CURRENCY,
     risk: { windows: [21, DEMO_LIMIT_WINDOW, 252], tradingDaysPerYear: 252 },
+    benchmarks: Object.fromEntries(BENCHMARKS.map((b) => [b.portfolioId, b.id])),
     limits: ACCOUNTS.map((a) => ({ portfolio: a.id, metric: 'vol_ex_ante' as const, window: DEMO_LIMIT_WINDOW, limit: a.volLimit })),
     alerts: { file: 'alerts.jsonl' },
   };

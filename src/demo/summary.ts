@@ -146,6 +146,8 @@ export function formatSummary(summary: DemoSummary, places: SummaryPlaces): stri
     `  npx riskfold sql --config ${cfg} "select portfolio_id, level, opened_on, closed_on, peak_value from limit_breaches"`,
     `  npx riskfold sql --config ${cfg} "select security_id, weight, pct from risk_contributions where portfolio_id = '${summary.accounts[0].portfolioId}' order by pct desc"`,
     `  npx riskfold sql --config ${cfg} "select * from check_data_quality where problem = 'stale_price'"`,
+    `  npx riskfold sql --config ${cfg} "select portfolio_id, dimension, bucket, weight from exposure_daily where date = (select max(date) from exposure_daily) order by all"`,
+    `  npx riskfold sql --config ${cfg} "select portfolio_id, benchmark_id, date, tracking_error_ex_ante, tracking_error_realized, beta_to_benchmark from risk_daily where benchmark_id is not null and window_days = ${DEMO_LIMIT_WINDOW} order by date desc limit 3"`,
     `  npx riskfold status --config ${cfg}`,
     `  npx riskfold report --config ${cfg} --portfolio ${summary.accounts[0].portfolioId}`,
     '',
