@@ -1,4 +1,5 @@
 import { contributionsSection, correlationSection, realizedSection, volatilitySection } from './chartSections.ts';
+import { benchmarkSection, exposureSection } from './exposureSections.ts';
 import { escapeHtml } from './format.ts';
 import type { ReportData } from './reportData.ts';
 import { STYLESHEET } from './style.ts';
@@ -30,6 +31,8 @@ ${volatilitySection(data)}
 ${realizedSection(data)}
 ${contributionsSection(data)}
 ${correlationSection(data)}
+${exposureSection(data)}
+${benchmarkSection(data)}
 ${breachTable(data)}
 ${latestTable(data)}
 ${qualitySection(data)}

@@ -5,6 +5,7 @@ import { RiskfoldError } from '../errors.ts';
 import { applicableLimits } from '../limits/applicableLimits.ts';
 import { sqlString, type Database } from '../storage/database.ts';
 import { correlationOfReturns, type CorrelationResult, type ReturnObservation } from './correlation.ts';
+import { loadExposure, type ExposureData } from './exposureData.ts';
 
 export interface RiskPoint {
   date: string;
@@ -75,6 +76,7 @@ export interface ReportData {
   latest: LatestRisk[];
   contributions: { date: string | null; rows: Contribution[] };
   correlation: (CorrelationResult & { names: string[]; window: number }) | { error: string };
+  exposure: ExposureData;
   breaches: Breach[];
   quality: QualityFlag[];
   provenance: { runId: number | null; runFinishedAt: string | null; trigger: string | null; configHash: string; database: string };
@@ -138,6 +140,7 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
     latest,
     contributions: await loadContributions(db, portfolioId, focusWindow),
     correlation: await loadCorrelation(db, portfolioId, asOf),
+    exposure: await loadExposure(db, portfolioId, asOf, focusWindow),
     breaches: await db.all<Breach>('select * from limit_breaches where portfolio_id = $1 order by opened_on, breach_id', [portfolioId]),
     quality: await loadQuality(db, portfolioId),
     provenance: await loadProvenance(db, config, latest, database),

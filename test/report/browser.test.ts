@@ -41,7 +41,17 @@ describe('the report in a real browser', () => {
 
   it('draws every chart with data, loads nothing from outside, and prints on white over several pages', async () => {
     ws = await tempWorkspace(FIXTURE_CONFIG);
-    await fillReportFixture(ws.db);
+    const fixture = await fillReportFixture(ws.db);
+    // a benchmark, so the page shows its section too
+    await ws.db.run(
+      `update risk_daily set benchmark_id = 'bm-policy', tracking_error_ex_ante = 0.02, beta_to_benchmark = 0.95 where portfolio_id = $1`,
+      [FIXTURE_PORTFOLIO],
+    );
+    await ws.db.run(
+      `insert into risk_active_contributions (portfolio_id, date, window_days, estimator, benchmark_id, security_id, weight, benchmark_weight, active_weight, mcr, ccr, pct, run_id)
+       values ($1, $2::date, 63, 'sample', 'bm-policy', 'EQ-VELLANCE', 0.24, 0.1, 0.14, 0.14, 0.02, 1, 7)`,
+      [FIXTURE_PORTFOLIO, fixture.asOf],
+    );
     const { html } = await reportHtml(ws.db, ws.config, FIXTURE_PORTFOLIO, new Date('2026-12-01T12:00:00Z'));
     const file = path.join(ws.dir, 'report.html');
     writeFileSync(file, html);
@@ -90,6 +100,19 @@ describe('the report in a real browser', () => {
     expect(cells).toHaveLength(FIXTURE_SECURITIES.length ** 2);
     expect(cells.every((c) => c.width > 20 && c.height > 20)).toBe(true);
     expect(new Set(cells.map((c) => c.fill)).size).toBeGreaterThan(5);
+
+    // the exposures (4 asset classes, 2 currencies) and the benchmark's windows and contributor, laid out as tables
+    const tables = await page.evaluate(() =>
+      ['exposures', 'benchmark'].map((id) =>
+        [...document.querySelectorAll(`section[data-section="${id}"] table`)].map((t) => ({
+          rows: t.querySelectorAll('tbody tr').length,
+          width: t.getBoundingClientRect().width,
+        })),
+      ),
+    );
+    expect(tables[0].map((t) => t.rows)).toEqual([4, 2]);
+    expect(tables[1].map((t) => t.rows)).toEqual([4, 1]);
+    expect(tables.flat().every((t) => t.width > 200)).toBe(true);
 
     await page.emulateMedia({ media: 'print' });
     expect(await page.evaluate(() => getComputedStyle(document.body).backgroundColor)).toBe('rgb(255, 255, 255)');
