@@ -1,7 +1,7 @@
 import type { Config } from '../config/load.ts';
-import { readColumns, streamColumns } from '../storage/columnar.ts';
+import { streamColumns } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';
-import { grown, shared } from './inputs.ts';
+import { readSlotSeries, shared, WeightRows } from './inputs.ts';
 
 /**
  * The benchmarks the portfolios in scope are measured against (config `benchmarks`),
@@ -59,21 +59,18 @@ export async function readBenchmarkPanel(
   );
 
   const slots = ids.length * dateCount;
-  const logReturn = shared(Float64Array, slots).fill(Number.NaN);
-  const returns = await readColumns(
+  const logReturn = await readSlotSeries(
     db,
     `select b.k, r.date_index, r.log_return::double
      from ret_benchmarks r join risk_in_benchmarks b using (benchmark_id)
      where r.date_index > $1`,
-    [firstRow],
-    { k: 'int', date_index: 'int', log_return: 'double' },
+    firstRow,
+    slots,
+    dateCount,
   );
-  for (let i = 0; i < returns.rows; i++) logReturn[returns.columns.k[i] * dateCount + returns.columns.date_index[i] - 1] = returns.columns.log_return[i];
 
-  let security = shared(Int32Array, 1 << 12);
-  let weight = shared(Float64Array, 1 << 12);
+  const constituents = new WeightRows(1 << 12);
   const offsets = shared(Int32Array, slots + 1);
-  let rows = 0;
   await streamColumns(
     db,
     `select b.k, w.date_index, s.k as j, w.weight::double
@@ -85,16 +82,10 @@ export async function readBenchmarkPanel(
     [firstRow],
     { k: 'int', date_index: 'int', j: 'int', weight: 'double' },
     (c, n) => {
-      if (rows + n > security.length) {
-        security = grown(security, rows, rows + n);
-        weight = grown(weight, rows, rows + n);
-      }
-      security.set(c.j.subarray(0, n), rows);
-      weight.set(c.weight.subarray(0, n), rows);
+      constituents.append(c.j, c.weight, n);
       for (let i = 0; i < n; i++) offsets[c.k[i] * dateCount + c.date_index[i]]++;
-      rows += n;
     },
   );
   for (let slot = 0; slot < slots; slot++) offsets[slot + 1] += offsets[slot];
-  return { ids, ofPortfolio, logReturn, offsets, security: security.subarray(0, rows), weight: weight.subarray(0, rows) };
+  return { ids, ofPortfolio, logReturn, offsets, ...constituents.taken() };
 }
