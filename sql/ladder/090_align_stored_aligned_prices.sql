@@ -1,5 +1,6 @@
--- Backs align_prices. Each ever-held security (or benchmark constituent) on each valuation date from its first
--- price on: the last price on or before the date, and how many valuation dates old it is.
+-- Backs align_prices. Each ever-held security (or benchmark constituent) on each valuation
+-- date from its first price on: the last price on or before the date, and how many
+-- valuation dates old it is.
 insert into derived_aligned_prices
 with valuation_dates as (
   select date, date_index
@@ -17,10 +18,19 @@ held_securities as (
   where weight <> 0 and security_id not like 'CASH:%'
 ),
 
+-- a suspect price held out of risk (checks.suspectPrices.mode hold) is skipped here, so
+-- the previous price is carried over its date, stale, until a delivery repeats or corrects it
+held_out as (
+  select security_id, date
+  from price_checks
+  where held and cleared_at is null
+),
+
 held_prices as (
   select p.date, p.security_id, p.price, p.currency
   from clean_prices p
   semi join held_securities h on h.security_id = p.security_id
+  anti join held_out o on o.security_id = p.security_id and o.date = p.date
 ),
 
 -- how many valuation dates had passed when the price was observed: staleness is

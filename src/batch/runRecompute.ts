@@ -1,4 +1,5 @@
 import type { Logger } from 'pino';
+import { checkPrices } from '../checks/checkPrices.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { phaseClock } from '../log/phaseClock.ts';
@@ -56,6 +57,8 @@ export async function runRecompute(
   rlog.info({ trigger: request.trigger, from, portfolios }, 'recompute started');
   const phases = phaseClock();
   try {
+    // before the prices are read: a suspect one is flagged (or held out) in this very run
+    await phases.time('check_prices', () => checkPrices(db, config, log, { from }));
     // an explicit step: the readers of the views never rebuild what they read
     await phases.time('refresh_derived', () => refreshDerived(db, log));
     const risk = await computeRun(db, config, log, { runId, from, portfolios, settings }, phases);

@@ -1,4 +1,6 @@
 import type { Logger } from 'pino';
+import { markSuspectWindows } from '../checks/suspectStatus.ts';
+import { alertUnvaluedPortfolios } from '../checks/unvaluedPortfolios.ts';
 import type { Config } from '../config/load.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
 import type { ComputedRisk, RiskScope } from '../risk/computeRun.ts';
@@ -30,8 +32,9 @@ export interface RunWriter {
 }
 
 /**
- * The write step of every run: risk rows, then the estimator state, then limits (which
- * read the new rows) and their alerts, then the close of a failure episode.
+ * The write step of every run: risk rows and their suspect_price status, then the
+ * estimator state, then limits (which read the new rows) and their alerts, the
+ * portfolio_unvalued alerts, then the close of a failure episode.
  */
 export const RUN_WRITERS: readonly RunWriter[] = [
   {
@@ -39,6 +42,7 @@ export const RUN_WRITERS: readonly RunWriter[] = [
     write: (tx, run) =>
       replaceResults(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, contributions: run.config.risk.contributions }),
   },
+  { name: 'suspect_status', write: async (tx, run) => void (await markSuspectWindows(tx, run.runId)) },
   {
     name: 'save_ewma_state',
     write: (tx, run) => saveEwmaState(tx, run.config.risk.ewma, run.risk.dates, run.risk.ewmaStates, run.runId, run.settings),
@@ -48,6 +52,12 @@ export const RUN_WRITERS: readonly RunWriter[] = [
     write: async (tx, run) => {
       const outcome = await checkLimits(tx, run.config, run.log, { runId: run.runId, from: run.from, portfolios: run.portfolios });
       run.alertsRaised += outcome.alertsRaised;
+    },
+  },
+  {
+    name: 'unvalued',
+    write: async (tx, run) => {
+      run.alertsRaised += await alertUnvaluedPortfolios(tx, run.log, { runId: run.runId, portfolios: run.portfolios });
     },
   },
   closeRunFailure,

@@ -153,6 +153,37 @@ const alertsSchema = z
   })
   .strict();
 
+const suspectPricesSchema = z
+  .object({
+    mode: z
+      .enum(['flag', 'hold'])
+      .default('flag')
+      .describe('flag: a suspect price is used and flagged; hold: it is left out (the previous price carried forward as stale) until a later delivery repeats or corrects it.'),
+    sigmaMultiple: z.number().positive().default(8).describe('A log move beyond this many EWMA daily sigmas (and beyond minLogMove) is suspect.'),
+    minLogMove: z.number().positive().default(0.25).describe('Absolute floor: a log move of at most this (0.25: +28% / -22%) is never a jump.'),
+    lambda: z.number().gt(0).lt(1).default(0.94).describe('Decay of the EWMA daily sigma each price is checked against.'),
+    seedReturns: z.number().int().min(1).default(20).describe('Accepted returns that seed the EWMA sigma; before, only minLogMove applies.'),
+    powerOfTenTolerance: z
+      .number()
+      .min(0)
+      .lt(0.5)
+      .default(0.02)
+      .describe('A move within this many log10 units of a factor 10, 100, 0.1, ... is a unit or separator slip.'),
+    unchangedDates: z
+      .number()
+      .int()
+      .min(2)
+      .default(10)
+      .describe('A price unchanged for this many valuation dates while its market (same currency) moved on most of them is suspect.'),
+  })
+  .strict();
+
+const checksSchema = z
+  .object({
+    suspectPrices: suspectPricesSchema.default(suspectPricesSchema.parse({})),
+  })
+  .strict();
+
 const scheduleSchema = z
   .object({
     timezone: z.string().default('UTC').describe('IANA time zone the cron expressions run in.'),
@@ -264,6 +295,7 @@ export const configSchema = z
       ),
     limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),
     alerts: alertsSchema.default({ maxAgeDays: 5 }),
+    checks: checksSchema.default(checksSchema.parse({})).describe('Checks of delivered data before it enters risk.'),
     schedule: scheduleSchema.default(scheduleSchema.parse({})),
   })
   .strict()

@@ -156,6 +156,7 @@ function figures(w: Map<string, number> | null, value: number | null, stale: boo
   const none = { volExAnte: null, var99_1d: null, es975_1d: null, var99_10d: null, es975_10d: null, diversification: null };
   const staleTag = stale ? ['stale_prices'] : [];
   if (w === null || value === null) return { ...none, coverage: null, status: ['unpriced', ...staleTag].join(',') };
+  if (value <= 0) return { ...none, coverage: null, status: ['value_not_positive', ...staleTag].join(',') };
   let gross = 0;
   let covered = 0;
   const inCov: string[] = [];
