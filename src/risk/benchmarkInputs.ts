@@ -58,6 +58,10 @@ export async function readBenchmarkPanel(
     [JSON.stringify(ids)],
   );
 
+  // no benchmark in use: nothing to read (the views would still be planned and scanned)
+  if (ids.length === 0) {
+    return { ids, ofPortfolio, logReturn: new Float64Array(0), offsets: new Int32Array(1), security: new Int32Array(0), weight: new Float64Array(0) };
+  }
   const slots = ids.length * dateCount;
   const logReturn = await readSlotSeries(
     db,
