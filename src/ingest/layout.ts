@@ -1,7 +1,7 @@
 import { CANONICAL_COLUMNS, type FileKind } from '../config/schema.ts';
 
 /** How a canonical column is read and checked. */
-export type FieldType = 'date' | 'id' | 'positive' | 'finite' | 'currency' | 'text';
+export type FieldType = 'date' | 'id' | 'positive' | 'finite' | 'fraction' | 'currency' | 'text';
 
 export interface FieldSpec {
   name: string;
@@ -27,7 +27,7 @@ const FIELD_TYPES: Record<string, FieldType> = {
   price: 'positive',
   rate: 'positive',
   quantity: 'finite',
-  weight: 'finite',
+  weight: 'fraction',
   currency: 'currency',
   name: 'text',
   asset_class: 'text',
