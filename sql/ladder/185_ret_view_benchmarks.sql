@@ -2,15 +2,21 @@
 -- weights in place of the portfolio's:
 --   R_b,t = sum_i b_i,t-1 * (P_base_i,t / P_base_i,t-1 - 1) over the weights in force at t-1,
 --   log_return = ln(1 + R_b,t).
--- A cash constituent earns 0. If any constituent at t-1 has no return the return is null.
+-- Cash in the base currency earns 0; cash in another currency earns its fx return, as in
+-- ret_portfolios. If any constituent at t-1 has no return the return is null.
 create or replace view ret_benchmarks as
-with valuation_dates as (
+with settings as (
+  select base_currency
+  from pipeline_settings
+),
+
+valuation_dates as (
   select date, date_index
   from align_valuation_dates
 ),
 
 weights_before as (
-  select benchmark_id, date_index + 1 as date_index, security_id, is_cash, weight
+  select benchmark_id, date_index + 1 as date_index, security_id, weight
   from hold_benchmark_weights
 ),
 
@@ -24,8 +30,9 @@ constituent_returns as (
     w.benchmark_id,
     w.date_index,
     w.weight,
-    case when w.is_cash then 0.0::double else r.simple_return end as asset_return
+    case when w.security_id = 'CASH:' || settings.base_currency then 0.0::double else r.simple_return end as asset_return
   from weights_before w
+  cross join settings
   left join security_returns r on r.security_id = w.security_id and r.date_index = w.date_index
 ),
 

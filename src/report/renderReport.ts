@@ -1,9 +1,10 @@
 import { contributionsSection, correlationSection, realizedSection, volatilitySection } from './chartSections.ts';
 import { benchmarkSection, exposureSection } from './exposureSections.ts';
 import { escapeHtml } from './format.ts';
+import { lossSection } from './lossSections.ts';
 import type { ReportData } from './reportData.ts';
 import { STYLESHEET } from './style.ts';
-import { breachTable, cautionsSection, keyFigures, latestTable, provenanceFooter, qualitySection } from './tableSections.ts';
+import { breachTable, cautionsSection, currencyTable, keyFigures, latestTable, provenanceFooter, qualitySection } from './tableSections.ts';
 
 /**
  * The whole report as one HTML page: inline CSS and SVG, no script and no external
@@ -29,10 +30,12 @@ export function renderReport(data: ReportData, generatedAt: Date): string {
 ${keyFigures(data)}
 ${volatilitySection(data)}
 ${realizedSection(data)}
+${currencyTable(data)}
 ${contributionsSection(data)}
 ${correlationSection(data)}
 ${exposureSection(data)}
 ${benchmarkSection(data)}
+${lossSection(data)}
 ${breachTable(data)}
 ${latestTable(data)}
 ${qualitySection(data)}

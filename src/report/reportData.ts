@@ -5,6 +5,8 @@ import { RiskfoldError } from '../errors.ts';
 import { applicableLimits } from '../limits/applicableLimits.ts';
 import { sqlString, type Database } from '../storage/database.ts';
 import { correlationOfReturns, type CorrelationResult, type ReturnObservation } from './correlation.ts';
+import { loadCurrencySplits, type CurrencySplit } from './currencySplit.ts';
+import { loadLossData, type LossData } from './lossData.ts';
 import { loadExposure, type ExposureData } from './exposureData.ts';
 
 export interface RiskPoint {
@@ -79,6 +81,9 @@ export interface ReportData {
   exposure: ExposureData;
   breaches: Breach[];
   quality: QualityFlag[];
+  losses: LossData;
+  /** Per sample window: volatility with and without the fx returns. */
+  currency: CurrencySplit[];
   provenance: { runId: number | null; runFinishedAt: string | null; trigger: string | null; configHash: string; database: string };
 }
 
@@ -143,6 +148,8 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
     exposure: await loadExposure(db, portfolioId, asOf, focusWindow),
     breaches: await db.all<Breach>('select * from limit_breaches where portfolio_id = $1 order by opened_on, breach_id', [portfolioId]),
     quality: await loadQuality(db, portfolioId),
+    losses: await loadLossData(db, portfolioId, asOf, focusWindow, chartFrom),
+    currency: await loadCurrencySplits(db, portfolioId, asOf, windows, config.risk.tradingDaysPerYear),
     provenance: await loadProvenance(db, config, latest, database),
   };
 }

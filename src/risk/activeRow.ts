@@ -6,9 +6,9 @@ import type { CovarianceView, Exposure } from './portfolioRow.ts';
  * One portfolio against its benchmark on one date under one covariance estimate: the
  * ex-ante tracking error sqrt(A a'Sa) on the active weights a = w - b, its Euler
  * contributions, and the beta w'Sb / b'Sb. The holdings and the benchmark's constituents
- * are merged by security; cash has no covariance (as in assessRow). Every other security
- * of either side must be covered by the estimate, else the figures are unknown (NaN):
- * a tracking error that leaves out a constituent would understate it.
+ * are merged by security; base-currency cash has no covariance (as in assessRow). Every
+ * other security of either side must be covered by the estimate, else the figures are
+ * unknown (NaN): a tracking error that leaves out a constituent would understate it.
  */
 
 /** A benchmark's weights on a date: security indices (sorted) and weights. */
