@@ -1,5 +1,5 @@
 import { afterEach, describe, expect, it } from 'vitest';
-import { expectRowsClose, insertBenchmarks, insertPositions, insertPrices } from '../helpers/rawRows.ts';
+import { expectRowsClose, insertBenchmarks, insertFx, insertPositions, insertPrices } from '../helpers/rawRows.ts';
 import { defaultsWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
 let ws: TempWorkspace;
@@ -61,6 +61,27 @@ describe('ret_benchmarks', () => {
     expectRowsClose(rows, [
       { date: '2024-05-07', simple_return: 0.052, log_return: Math.log(1.052), n_uncovered: 0 },
       { date: '2024-05-08', simple_return: 0.0075, log_return: Math.log(1.0075), n_uncovered: 0 },
+    ]);
+  });
+
+  it('gives base-currency cash 0 and euro cash its fx return, as ret_portfolios does (hand-worked; common practice, no source)', async () => {
+    ws = await defaultsWorkspace();
+    await market();
+    await insertFx(ws.db, 4, [
+      ['2024-05-06', 'EUR', 1.1],
+      ['2024-05-07', 'EUR', 1.122],
+      ['2024-05-08', 'EUR', 1.122],
+    ]);
+    await insertBenchmarks(ws.db, 3, [
+      ['2024-05-06', 'bm-cash', 'EQ-ALDER', 0.5],
+      ['2024-05-06', 'bm-cash', 'CASH:USD', 0.25],
+      ['2024-05-06', 'bm-cash', 'CASH:EUR', 0.25],
+    ]);
+    const rows = await ws.db.all('select date::varchar as date, simple_return from ret_benchmarks order by date');
+    // 05-07: 0.5 x 0.1 + 0.25 x 0 + 0.25 x (1.122/1.1 - 1) = 0.05 + 0.005 = 0.055; 05-08: 0.5 x (99/110 - 1) = -0.05
+    expectRowsClose(rows, [
+      { date: '2024-05-07', simple_return: 0.055 },
+      { date: '2024-05-08', simple_return: -0.05 },
     ]);
   });
 
