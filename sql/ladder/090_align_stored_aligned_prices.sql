@@ -1,5 +1,6 @@
--- Backs align_prices. Each ever-held security on each valuation date from its first
--- price on: the last price on or before the date, and how many valuation dates old it is.
+-- Backs align_prices. Each ever-held security (or benchmark constituent) on each valuation
+-- date from its first price on: the last price on or before the date, and how many
+-- valuation dates old it is.
 -- Refilled from the date in the variable derived_from (src/storage/derived.ts sets it,
 -- with derived_carry_from, the last valuation date before it; '-infinity' rebuilds all).
 -- A security first held before derived_from keeps its rows before it and carries in the
@@ -16,6 +17,7 @@ with valuation_dates as (
   from derived_valuation_dates
 ),
 
+-- benchmark constituents too (step 066): tracking error needs their returns
 held_securities as (
   select security_id, first_held_on < getvariable('derived_from') as keeps_earlier_rows
   from derived_held_securities

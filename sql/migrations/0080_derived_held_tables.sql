@@ -1,7 +1,7 @@
--- Every security ever held (non-zero quantity in a snapshot in force, cash aside), with
--- the first snapshot date that holds it: the carried prices cover exactly these, and a
--- refresh from a date keeps the rows of those first held before it. Written only by
--- src/storage/derived.ts (sql/ladder/065_clean_stored_held_securities.sql).
+-- Every security ever held (non-zero quantity in a snapshot in force, cash aside) or in a
+-- benchmark, with the first snapshot date that holds it: the carried prices cover exactly
+-- these, and a refresh from a date keeps the rows of those first held before it. Written
+-- only by src/storage/derived.ts (sql/ladder/066_clean_stored_held_securities.sql).
 create table derived_held_securities (
   security_id   varchar not null,
   first_held_on date not null

@@ -5,6 +5,7 @@ import type { PhaseClock } from '../log/phaseClock.ts';
 import { computeRisk, progressUnits } from './computeRisk.ts';
 import type { EwmaState } from './ewmaEstimate.ts';
 import { loadEwmaState } from './ewmaState.ts';
+import { readBenchmarkPanel } from './benchmarkInputs.ts';
 import { readPortfolioPanel, readReturnPanel, readValuationDates, type PortfolioPanel, type ReturnPanel } from './inputs.ts';
 import { startProgress } from './progress.ts';
 import { ResultStage } from './staging.ts';
@@ -48,13 +49,14 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   const { ewma } = config.risk;
   const ewmaState = ewma.enabled ? await phases.time('load_ewma_state', () => loadEwmaState(db, ewma, dates, fromRow, scope.settings)) : null;
   const longest = Math.max(...config.risk.windows);
-  // holdings and portfolio returns from the longest window before the first output row
-  // (realized figures, averaged weights; the loss stage's backtest and worst windows);
-  // security returns from the first date: the loss stage's EWMA-filtered scenarios and
-  // stress ranges reach back that far
-  const windowStart = Math.max(0, fromRow - longest + 1);
-  const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, windowStart));
-  const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, windowStart, scope.portfolios));
+  // holdings, benchmarks and portfolio returns from the longest window before the first
+  // output row (realized figures, averaged weights; the loss stage's backtest and worst
+  // windows); security returns from the first date: the loss stage's EWMA-filtered
+  // scenarios and stress ranges reach back that far
+  const firstRow = Math.max(0, fromRow - longest + 1);
+  const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, firstRow));
+  const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, firstRow, scope.portfolios));
+  const benchmarks = await phases.time('read_benchmarks', () => readBenchmarkPanel(db, config, portfolios.ids, dates.length, firstRow));
   for (const id of scope.portfolios ?? []) {
     if (!portfolios.ids.includes(id)) rlog.warn({ portfolio: id }, 'no positions for this portfolio: nothing to compute');
   }
@@ -65,7 +67,7 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   let ewmaStates: EwmaState[] = [];
   const computeStarted = performance.now();
   try {
-    ewmaStates = await computeRisk({ returns, portfolios, fromRow, ewmaState }, config, (batch) => stage.append(batch), progress, rlog);
+    ewmaStates = await computeRisk({ returns, portfolios, benchmarks, fromRow, ewmaState }, config, (batch) => stage.append(batch), progress, rlog);
   } finally {
     progress.finish();
     phases.add('compute', computeStarted);

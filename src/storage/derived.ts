@@ -13,7 +13,7 @@ import { LADDER_DIR, listLadder } from './sqlFiles.ts';
  */
 
 /** The raw tables the derived layers read, each with a `date` and the `file_id` of its delivery. */
-const RAW_TABLES = ['prices', 'positions', 'fx_rates'] as const;
+const RAW_TABLES = ['prices', 'positions', 'fx_rates', 'benchmarks'] as const;
 
 /** The suspect prices held out of risk (open, held): the carried prices skip them. */
 const HELD_OUT_SQL = 'select distinct security_id, date from price_checks where held and cleared_at is null';

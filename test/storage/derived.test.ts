@@ -45,6 +45,23 @@ async function correctSnapshot(db: Database, fileId: number, date: string, portf
   await insertRows(db, 'positions', ['date', 'portfolio_id', 'security_id', 'quantity'], rows);
 }
 
+/** EQ-HALYARD priced from the first day but held by nobody (yet): refreshed, it has no carried prices. */
+async function loadWithUnheldNewcomer(db: Database, s: Scenario): Promise<void> {
+  await loadDays(db, s, 0, s.dates.length - 1);
+  const newcomer = s.dates.map((date, d) => [300000, d + 1, date, 'EQ-HALYARD', 50 + d / 10, 'USD']);
+  await insertRows(db, 'prices', ['date', 'security_id', 'price', 'currency'], newcomer);
+  await refreshDerived(db);
+  expect((await newcomerRows(db)).n).toBe(0);
+}
+
+/** How many carried prices EQ-HALYARD has, and from when. */
+async function newcomerRows(db: Database): Promise<{ n: number; first: string | null }> {
+  const [row] = await db.all<{ n: number; first: string | null }>(
+    `select count(*)::integer as n, min(date)::varchar as first from derived_aligned_prices where security_id = 'EQ-HALYARD'`,
+  );
+  return row;
+}
+
 describe('refreshDerived from the earliest delivered date', () => {
   let ws: TempWorkspace | null = null;
   afterEach(() => {
@@ -81,30 +98,37 @@ describe('refreshDerived from the earliest delivered date', () => {
   it('redoes from a corrected snapshot: a security first held there gets its whole price history, and loses it when a later correction drops it', async () => {
     ws = await tempWorkspace();
     const s = buildScenario();
-    await loadDays(ws.db, s, 0, s.dates.length - 1);
-    // priced from day 0 but held by nobody: no carried prices yet
-    const newcomer = s.dates.map((date, d) => [300000, d + 1, date, 'EQ-HALYARD', 50 + d / 10, 'USD']);
-    await insertRows(ws.db, 'prices', ['date', 'security_id', 'price', 'currency'], newcomer);
-    await refreshDerived(ws.db);
-    expect(await ws.db.all(`select count(*)::integer as n from derived_aligned_prices where security_id = 'EQ-HALYARD'`)).toEqual([{ n: 0 }]);
+    await loadWithUnheldNewcomer(ws.db, s);
 
     const growth90 = { 'EQ-NORDWIND': 1100, 'EQ-SALTMARSH': 1000, 'EQ-QUILLON': 1700, 'CASH:USD': 9000 };
     await correctSnapshot(ws.db, 200001, s.dates[90], 'acct-growth', { ...growth90, 'EQ-HALYARD': 300 });
     await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[90]);
-    const halyard = () =>
-      ws!.db.all<{ n: number; first: string | null }>(
-        `select count(*)::integer as n, min(date)::varchar as first from derived_aligned_prices where security_id = 'EQ-HALYARD'`,
-      );
-    expect((await halyard())[0].first).toBe(s.dates[0]);
+    expect((await newcomerRows(ws.db)).first).toBe(s.dates[0]);
 
     await correctSnapshot(ws.db, 200002, s.dates[90], 'acct-growth', growth90);
     await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[90]);
-    expect((await halyard())[0].n).toBe(0);
+    expect((await newcomerRows(ws.db)).n).toBe(0);
 
     // a delivery taken out again is no append: a full rebuild
     await ws.db.run('delete from positions where file_id = 200002');
     await expectRefreshEqualsRebuild(ws.db, 'full');
-    expect((await halyard())[0].first).toBe(s.dates[0]);
+    expect((await newcomerRows(ws.db)).first).toBe(s.dates[0]);
+  });
+
+  it('redoes from a benchmark snapshot: a constituent nobody holds gets its whole price history, and loses it when a correction drops it', async () => {
+    ws = await tempWorkspace();
+    const s = buildScenario();
+    await loadWithUnheldNewcomer(ws.db, s);
+    const columns = ['date', 'benchmark_id', 'security_id', 'weight'];
+    await insertRows(ws.db, 'benchmarks', columns, [
+      [400001, 1, s.dates[90], 'bm-policy', 'EQ-HALYARD', 0.4],
+      [400001, 2, s.dates[90], 'bm-policy', 'EQ-QUILLON', 0.6],
+    ]);
+    await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[90]);
+    expect((await newcomerRows(ws.db)).first).toBe(s.dates[0]);
+    await insertRows(ws.db, 'benchmarks', columns, [[400002, 1, s.dates[90], 'bm-policy', 'EQ-QUILLON', 1]]);
+    await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[90]);
+    expect((await newcomerRows(ws.db)).n).toBe(0);
   });
 
   it('redoes from a suspect price held out of risk, and again when the hold is lifted or the mode switched', async () => {

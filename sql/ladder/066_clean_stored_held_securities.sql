@@ -1,5 +1,6 @@
 -- Backs the carried prices (step 090): every security with a non-zero quantity in a
--- snapshot in force, cash aside, and the first snapshot date that holds it.
+-- snapshot in force or a non-zero weight in a benchmark snapshot in force (tracking
+-- error needs the constituents' returns), cash aside, and the first such snapshot date.
 -- Refilled from the date in the variable derived_from (src/storage/derived.ts sets it;
 -- '-infinity' rebuilds all): a security first held before it keeps its row, since the
 -- snapshots before that date did not change; the others are derived from the snapshots
@@ -12,6 +13,10 @@ with held_rows as (
   select security_id, date
   from clean_positions
   where quantity <> 0 and security_id not like 'CASH:%' and date >= getvariable('derived_from')
+  union all
+  select security_id, date
+  from clean_benchmarks
+  where weight <> 0 and security_id not like 'CASH:%' and date >= getvariable('derived_from')
 ),
 
 first_held as (
