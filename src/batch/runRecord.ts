@@ -68,7 +68,7 @@ export async function markInterruptedRuns(db: Database): Promise<number[]> {
 }
 
 /** The error's message (and its cause's) on one line: it goes into a table cell, an alert and a status line. */
-function oneLine(err: unknown): string {
+export function oneLine(err: unknown): string {
   const message = err instanceof Error ? err.message : String(err);
   const cause = err instanceof Error && err.cause instanceof Error ? `: ${err.cause.message}` : '';
   return `${message}${cause}`.replace(/\s*[\r\n]+\s*/g, ' ').trim();

@@ -7,6 +7,7 @@ import type { ComputedRisk, RiskScope } from '../risk/computeRun.ts';
 import { saveEwmaState } from '../risk/ewmaState.ts';
 import { replaceResults } from '../risk/staging.ts';
 import type { Database } from '../storage/database.ts';
+import { portfolioIncidents } from './portfolioIncident.ts';
 import { closeRunFailure } from './runIncident.ts';
 
 /** What a writer knows about the run whose results it commits. */
@@ -32,15 +33,22 @@ export interface RunWriter {
 }
 
 /**
- * The write step of every run: risk rows and their suspect_price status, then the
- * estimator state, then limits (which read the new rows) and their alerts, the
- * portfolio_unvalued alerts, then the close of a failure episode.
+ * The write step of every run: risk rows (none for a portfolio whose compute failed: it
+ * keeps its earlier ones) and their suspect_price status, then the estimator state,
+ * then limits (which read the new rows) and their alerts, the portfolio_unvalued
+ * alerts, the failed portfolios' episodes, then the close of a run failure episode.
  */
 export const RUN_WRITERS: readonly RunWriter[] = [
   {
     name: 'write',
     write: (tx, run) =>
-      replaceResults(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, contributions: run.config.risk.contributions }),
+      replaceResults(tx, {
+        runId: run.runId,
+        from: run.from,
+        portfolios: run.portfolios,
+        contributions: run.config.risk.contributions,
+        failed: run.risk.failures.map((f) => f.portfolioId),
+      }),
   },
   { name: 'suspect_status', write: async (tx, run) => void (await markSuspectWindows(tx, run.runId)) },
   {
@@ -60,5 +68,6 @@ export const RUN_WRITERS: readonly RunWriter[] = [
       run.alertsRaised += await alertUnvaluedPortfolios(tx, run.log, { runId: run.runId, portfolios: run.portfolios });
     },
   },
+  portfolioIncidents,
   closeRunFailure,
 ];

@@ -1,4 +1,5 @@
 import type { DuckDBValue } from '@duckdb/node-api';
+import { FAILING_PORTFOLIOS_SQL } from '../batch/portfolioIncident.ts';
 import type { Config } from '../config/load.ts';
 import { readDeliveryStatus } from './deliveryStatus.ts';
 import { readPortfolioStatus } from './portfolioStatus.ts';
@@ -30,7 +31,8 @@ const SHOWN = 20;
 
 /**
  * What operations look at first: a failed or interrupted last run (first, since the
- * figures below are then behind the data), each portfolio against its limits, whether
+ * figures below are then behind the data), portfolios whose risk the runs could not
+ * compute (which, since which run, the error), each portfolio against its limits, whether
  * the day's files arrived, the last run, then the alerts the channels have not all taken
  * and the data problems on the latest valuation date, counted by kind. `details` adds
  * the rows.
@@ -42,10 +44,15 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
     select run_id, trigger, status, started_at, finished_at, error
     from (select * from risk_runs order by run_id desc limit 1)
     where status in ('failed', 'interrupted')`, [], 1);
+  const failing = await section(db, 'portfoliosFailing', 'PORTFOLIOS NOT UPDATED: their risk could not be computed, figures are those of their last good run', `
+    select f.portfolio_id, f.since_run, r.started_at as failing_since, f.last_run, f.failed_on, f.error
+    from (${FAILING_PORTFOLIOS_SQL}) f join risk_runs r on r.run_id = f.since_run
+    order by f.portfolio_id`, [portfolio]);
   const portfolios = await readPortfolioStatus(db, config, portfolio);
   const files = await readDeliveryStatus(db, config, options.now);
   const sections: StatusSection[] = [
     ...(failed.total > 0 ? [failed] : []),
+    ...(failing.total > 0 ? [failing] : []),
     { key: 'portfolios', title: 'portfolios', result: portfolios, total: portfolios.rows.length },
     { key: 'files', title: 'files by kind', result: files, total: files.rows.length },
     await section(db, 'lastRun', 'last run', `

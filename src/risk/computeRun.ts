@@ -30,6 +30,15 @@ export interface ComputedRisk {
   riskRows: number;
   /** EWMA states at the last two dates, oldest first (none without EWMA or dates). */
   ewmaStates: EwmaState[];
+  /** Portfolios whose risk could not be computed, by id: nothing of theirs is staged. */
+  failures: PortfolioRiskFailure[];
+}
+
+export interface PortfolioRiskFailure {
+  portfolioId: string;
+  /** The valuation date of the first row that failed. */
+  date: string;
+  error: string;
 }
 
 /**
@@ -37,6 +46,8 @@ export interface ComputedRisk {
  * derived tables must be current: the batch refreshes them first), computes every
  * estimate from `from` on and stages the rows. Writing them is the batch's write step
  * (staging.ts `replaceResults`, ewmaState.ts `saveEwmaState`); `dropStaging` cleans up.
+ * A portfolio whose compute fails is returned in `failures` with none of its rows
+ * staged; the others are unaffected.
  */
 export async function computeRun(db: Database, config: Config, log: Logger, scope: RiskScope, phases: PhaseClock): Promise<ComputedRisk> {
   const rlog = log.child({ stage: 'risk', runId: scope.runId });
@@ -65,7 +76,12 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
     stage.close();
     phases.add('stage_flush', flushStarted);
   }
-  return { dates, portfolios: portfolios.ids.length, riskRows: stage.dailyRows, ewmaStates };
+  const riskRows = await stage.dropFailed(db);
+  const failures = [...stage.failures.values()]
+    .map((f) => ({ portfolioId: portfolios.ids[f.portfolio], date: dates[f.row], error: f.message }))
+    .sort((a, b) => (a.portfolioId < b.portfolioId ? -1 : 1));
+  for (const f of failures) rlog.error({ portfolio: f.portfolioId, date: f.date, error: f.error }, 'risk of this portfolio not computed; the others go on');
+  return { dates, portfolios: portfolios.ids.length, riskRows, ewmaStates, failures };
 }
 
 /** First date row on or after `from` (dates ascending, ISO strings compare as dates); dates.length if none. */

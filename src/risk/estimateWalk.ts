@@ -1,10 +1,11 @@
 import type { Config } from '../config/load.ts';
+import { portfolioFault } from '../faults.ts';
 import { annualizedReturn, annualizedVolatility } from './math/annualize.ts';
 import { mean, sampleVariance } from './math/moments.ts';
 import { EwmaEstimate, type EwmaState } from './ewmaEstimate.ts';
 import type { PortfolioPanel, ReturnPanel } from './inputs.ts';
 import { assessRow, RowScratch, type CovarianceView, type Exposure, type RiskSettings } from './portfolioRow.ts';
-import { DAILY_FIGURE_COUNT, ResultCollector, type ResultBatch } from './resultColumns.ts';
+import { DAILY_FIGURE_COUNT, DAILY_FIGURES, ResultCollector, type ResultBatch } from './resultColumns.ts';
 import { SampleEstimate, type SamplePath } from './sampleEstimate.ts';
 
 /**
@@ -12,6 +13,8 @@ import { SampleEstimate, type SamplePath } from './sampleEstimate.ts';
  * output date (row >= fromRow), collect the per-security stats and one row per
  * portfolio present that day. Nothing here touches the database or the clock, so the
  * same walk runs on the main thread or in a worker and gives the same numbers.
+ * A portfolio whose row throws or comes out infinite is reported as a failure and left
+ * out from then on; the other portfolios go on.
  */
 
 export interface ComputeInputs {
@@ -84,6 +87,8 @@ function walk(
   const scratch = new RowScratch();
   const figures = new Float64Array(DAILY_FIGURE_COUNT);
   const out = new ResultCollector(estimate.windowDays, estimate.estimator);
+  // a portfolio that failed once is left out for the rest of the walk: its rows are not written
+  const failed = new Uint8Array(portfolios.ids.length);
   const addSecurity = (j: number, r: number, v: number) => out.addSecurity(currentRow, j, r, v);
   let currentRow = -1;
   for (let d = estimate.startRow; d < dateCount; d++) {
@@ -94,33 +99,60 @@ function walk(
     estimate.forEachSecurity(addSecurity, settings.periodsPerYear);
     for (let p = 0; p < portfolios.ids.length; p++) {
       const slot = p * dateCount + d;
-      if (portfolios.present[slot] !== 1) continue;
-      const exposure = average
-        ? averageExposure(portfolios, returns, p, d, estimate.windowDays, accumulator)
-        : currentExposure(portfolios, returns, slot);
-      const flags = { value: portfolios.value[slot], unpriced: portfolios.unpriced[slot] === 1, stale: portfolios.stale[slot] === 1 };
-      const withContributions = settings.contributions === 'all' || d === lastRow[p];
-      const row = assessRow(exposure, flags, estimate, settings, withContributions, scratch);
-      const realized = estimate.estimator === 'sample' ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
-      figures[0] = flags.value;
-      figures[1] = row.volExAnte;
-      figures[2] = realized?.vol ?? Number.NaN;
-      figures[3] = realized?.annReturn ?? Number.NaN;
-      figures[4] = row.var99_1d;
-      figures[5] = row.es975_1d;
-      figures[6] = row.var99_10d;
-      figures[7] = row.es975_10d;
-      figures[8] = row.diversification;
-      figures[9] = row.coverage;
-      out.addDaily(p, d, figures, row.status, row.nHoldings, row.nCovered);
-      if (row.contributions) {
-        const { mcr, ccr, pct } = row.contributions;
-        for (let a = 0; a < exposure.j.length; a++) out.addContribution(p, d, exposure.j[a], exposure.w[a], mcr[a], ccr[a], pct[a]);
+      if (portfolios.present[slot] !== 1 || failed[p] === 1) continue;
+      try {
+        portfolioFault(portfolios.ids[p]);
+        const exposure = average
+          ? averageExposure(portfolios, returns, p, d, estimate.windowDays, accumulator)
+          : currentExposure(portfolios, returns, slot);
+        const flags = { value: portfolios.value[slot], unpriced: portfolios.unpriced[slot] === 1, stale: portfolios.stale[slot] === 1 };
+        const withContributions = settings.contributions === 'all' || d === lastRow[p];
+        const row = assessRow(exposure, flags, estimate, settings, withContributions, scratch);
+        const realized = estimate.estimator === 'sample' ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
+        figures[0] = flags.value;
+        figures[1] = row.volExAnte;
+        figures[2] = realized?.vol ?? Number.NaN;
+        figures[3] = realized?.annReturn ?? Number.NaN;
+        figures[4] = row.var99_1d;
+        figures[5] = row.es975_1d;
+        figures[6] = row.var99_10d;
+        figures[7] = row.es975_10d;
+        figures[8] = row.diversification;
+        figures[9] = row.coverage;
+        const infinite = infiniteFigure(figures, row.contributions);
+        if (infinite) throw new Error(`${infinite} is not finite`);
+        out.addDaily(p, d, figures, row.status, row.nHoldings, row.nCovered);
+        if (row.contributions) {
+          const { mcr, ccr, pct } = row.contributions;
+          for (let a = 0; a < exposure.j.length; a++) out.addContribution(p, d, exposure.j[a], exposure.w[a], mcr[a], ccr[a], pct[a]);
+        }
+      } catch (err) {
+        failed[p] = 1;
+        const label = estimate.estimator === 'ewma' ? 'ewma' : `${estimate.windowDays}-day sample`;
+        out.addFailure(p, d, `${label} estimate: ${err instanceof Error ? err.message : String(err)}`);
       }
     }
     out.endDate();
     if (out.pendingRows >= BATCH_ROWS || d === dateCount - 1) emit(out.take());
   }
+}
+
+/**
+ * The first figure that is +-Infinity (NaN stands for a missing figure and is fine):
+ * an overflow in a value or an estimate, which must never reach risk_daily as a number.
+ */
+function infiniteFigure(figures: Float64Array, contributions: { mcr: Float64Array; ccr: Float64Array; pct: Float64Array } | null): string | null {
+  for (let c = 0; c < figures.length; c++) if (isInfinite(figures[c])) return `${DAILY_FIGURES[c]} (${figures[c]})`;
+  if (!contributions) return null;
+  const { mcr, ccr, pct } = contributions;
+  for (let a = 0; a < mcr.length; a++) {
+    if (isInfinite(mcr[a]) || isInfinite(ccr[a]) || isInfinite(pct[a])) return `a contribution (mcr ${mcr[a]}, ccr ${ccr[a]}, pct ${pct[a]})`;
+  }
+  return null;
+}
+
+function isInfinite(v: number): boolean {
+  return v === Number.POSITIVE_INFINITY || v === Number.NEGATIVE_INFINITY;
 }
 
 function currentExposure(portfolios: PortfolioPanel, returns: ReturnPanel, slot: number): Exposure {

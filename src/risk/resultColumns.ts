@@ -8,8 +8,20 @@
 
 import type { Estimator } from '../config/schema.ts';
 
-/** Figures of a risk_daily row, in staging's DAILY_FIGURES order. */
-export const DAILY_FIGURE_COUNT = 10;
+/** The figures of a risk_daily row, in the order of a batch's `daily.figures` columns. */
+export const DAILY_FIGURES = [
+  'portfolio_value',
+  'vol_ex_ante',
+  'vol_realized',
+  'ann_return',
+  'var_99_1d',
+  'es_975_1d',
+  'var_99_10d',
+  'es_975_10d',
+  'diversification_ratio',
+  'coverage',
+] as const;
+export const DAILY_FIGURE_COUNT = DAILY_FIGURES.length;
 /** weight, mcr, ccr, pct of a risk_contributions row. */
 export const CONTRIBUTION_VALUE_COUNT = 4;
 
@@ -32,6 +44,14 @@ export interface ResultBatch {
   /** values: weight, mcr, ccr, pct columns. */
   contributions: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
   securities: { rows: number; row: Int32Array; security: Int32Array; annReturn: Float64Array; annVol: Float64Array };
+  /** Portfolios whose row could not be computed (p, the date row, why): the walk dropped them from then on. */
+  failures: PortfolioFailure[];
+}
+
+export interface PortfolioFailure {
+  portfolio: number;
+  row: number;
+  message: string;
 }
 
 /** The buffers a batch owns, for postMessage's transfer list. */
@@ -105,6 +125,7 @@ export class ResultCollector {
   };
   private readonly contributions = { portfolio: ints(), row: ints(), security: ints(), values: Array.from({ length: CONTRIBUTION_VALUE_COUNT }, doubles) };
   private readonly securities = { row: ints(), security: ints(), annReturn: doubles(), annVol: doubles() };
+  private failures: PortfolioFailure[] = [];
   private dates = 0;
 
   constructor(
@@ -146,6 +167,10 @@ export class ResultCollector {
     s.annVol.push(annVol);
   }
 
+  addFailure(portfolio: number, row: number, message: string): void {
+    this.failures.push({ portfolio, row, message });
+  }
+
   /** One output date done. */
   endDate(): void {
     this.dates++;
@@ -175,7 +200,9 @@ export class ResultCollector {
       },
       contributions: { rows: c.row.length, portfolio: c.portfolio.take(), row: c.row.take(), security: c.security.take(), values: c.values.map((v) => v.take()) },
       securities: { rows: s.row.length, row: s.row.take(), security: s.security.take(), annReturn: s.annReturn.take(), annVol: s.annVol.take() },
+      failures: this.failures,
     };
+    this.failures = [];
     this.dates = 0;
     return batch;
   }
