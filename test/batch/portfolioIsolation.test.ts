@@ -61,7 +61,8 @@ describe('one portfolio whose risk cannot be computed', () => {
     };
 
     // run 1: the delivery, with acct-b failing
-    cli(['ingest'], FAULT);
+    const ingest = cli(['ingest'], FAULT);
+    expect(ingest.stdout).toMatch(/^run 1: 3 portfolios, .*\nportfolio acct-b not computed \(from 2020-01-01\), its figures are those of its last good run: 63-day sample estimate: injected fault for portfolio acct-b$/m);
     const delivered = readFileSync(ws.config.alerts.file!, 'utf8').trim().split('\n').map((l) => JSON.parse(l) as Record<string, unknown>);
     const limitAlerted = new Set(delivered.filter((a) => String(a.kind).startsWith('limit_')).map((a) => a.portfolio_id));
     expect([...limitAlerted].sort()).toEqual(['acct-a', 'acct-c']);
