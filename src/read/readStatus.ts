@@ -44,7 +44,9 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
     select run_id, trigger, status, started_at, finished_at, error
     from (select * from risk_runs order by run_id desc limit 1)
     where status in ('failed', 'interrupted')`, [], 1);
-  const failing = await section(db, 'portfoliosFailing', 'PORTFOLIOS NOT UPDATED: their risk could not be computed, figures are those of their last good run', `
+  // a database from before portfolio_failures, not yet opened by a writer, has none to show
+  const [{ known }] = await db.all<{ known: boolean }>("select count(*) > 0 as known from duckdb_tables() where table_name = 'portfolio_failures'");
+  const failing = !known ? null : await section(db, 'portfoliosFailing', 'PORTFOLIOS NOT UPDATED: their risk could not be computed, figures are those of their last good run', `
     select f.portfolio_id, f.since_run, r.started_at as failing_since, f.last_run, f.failed_on, f.error
     from (${FAILING_PORTFOLIOS_SQL}) f join risk_runs r on r.run_id = f.since_run
     order by f.portfolio_id`, [portfolio]);
@@ -52,7 +54,7 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
   const files = await readDeliveryStatus(db, config, options.now);
   const sections: StatusSection[] = [
     ...(failed.total > 0 ? [failed] : []),
-    ...(failing.total > 0 ? [failing] : []),
+    ...(failing && failing.total > 0 ? [failing] : []),
     { key: 'portfolios', title: 'portfolios', result: portfolios, total: portfolios.rows.length },
     { key: 'files', title: 'files by kind', result: files, total: files.rows.length },
     await section(db, 'lastRun', 'last run', `
