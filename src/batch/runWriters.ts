@@ -3,6 +3,7 @@ import { markSuspectWindows } from '../checks/suspectStatus.ts';
 import { alertUnvaluedPortfolios } from '../checks/unvaluedPortfolios.ts';
 import type { Config } from '../config/load.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
+import { writeLosses } from '../loss/lossStage.ts';
 import type { ComputedRisk, RiskScope } from '../risk/computeRun.ts';
 import { saveEwmaState } from '../risk/ewmaState.ts';
 import { replaceResults } from '../risk/staging.ts';
@@ -15,8 +16,8 @@ export interface RunContext extends RiskScope {
   trigger: string;
   config: Config;
   log: Logger;
-  /** The computed run: staged rows, dates, EWMA states. */
-  risk: ComputedRisk;
+  /** The computed run: staged rows, dates, EWMA states (its input panels are let go before the write step). */
+  risk: Omit<ComputedRisk, 'inputs'>;
   /** Alerts written to the outbox so far in this transaction; a writer that raises alerts adds its count. */
   alertsRaised: number;
 }
@@ -34,9 +35,10 @@ export interface RunWriter {
 
 /**
  * The write step of every run: risk rows (none for a portfolio whose compute failed: it
- * keeps its earlier ones) and their suspect_price status, then the estimator state,
- * then limits (which read the new rows) and their alerts, the portfolio_unvalued
- * alerts, the failed portfolios' episodes, then the close of a run failure episode.
+ * keeps its earlier ones) and their suspect_price status, the loss rows (the same
+ * exception), then the estimator state, then limits (which read the new rows) and their
+ * alerts, the portfolio_unvalued alerts, the failed portfolios' episodes, then the close
+ * of a run failure episode.
  */
 export const RUN_WRITERS: readonly RunWriter[] = [
   {
@@ -51,6 +53,12 @@ export const RUN_WRITERS: readonly RunWriter[] = [
       }),
   },
   { name: 'suspect_status', write: async (tx, run) => void (await markSuspectWindows(tx, run.runId)) },
+  {
+    // after the risk rows: var_daily copies the normal figures from risk_daily; before the limits, which read var_backtest
+    name: 'write_losses',
+    write: (tx, run) =>
+      writeLosses(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, failed: run.risk.failures.map((f) => f.portfolioId) }),
+  },
   {
     name: 'save_ewma_state',
     write: (tx, run) => saveEwmaState(tx, run.config.risk.ewma, run.risk.dates, run.risk.ewmaStates, run.runId, run.settings),

@@ -42,18 +42,20 @@ export interface LimitAlertInput {
 /** An alert for a dated transition (opened, escalated, closed) of an episode. */
 export function transitionAlert(input: LimitAlertInput, t: Transition): NewAlert {
   const { portfolioId, limit, episode } = input;
-  const label = `${portfolioId}: ${metricLabel(limit)} ${pct(t.value)}`;
-  const peak = `peak ${pct(episode.peakValue)} on ${episode.peakOn}`;
+  const label = `${portfolioId}: ${metricLabel(limit)} ${fmt(limit, t.value)}`;
+  const peak = `peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn}`;
   let text: string;
-  if (t.kind === 'limit_opened') {
+  if (limit.metric === 'backtest_zone') {
+    text = zoneText(portfolioId, limit, t);
+  } else if (t.kind === 'limit_opened') {
     text =
       episode.openLevel === 'breach'
-        ? `${label} reached its ${pct(limit.limit)} limit on ${t.date}`
-        : `${label} reached its ${pct(limit.warning)} warning level (limit ${pct(limit.limit)}) on ${t.date}`;
+        ? `${label} reached its ${fmt(limit, limit.limit)} limit on ${t.date}`
+        : `${label} reached its ${fmt(limit, limit.warning)} warning level (limit ${fmt(limit, limit.limit)}) on ${t.date}`;
   } else if (t.kind === 'limit_escalated') {
-    text = `${label} reached its ${pct(limit.limit)} limit on ${t.date} (warning since ${episode.openedOn}, ${peak})`;
+    text = `${label} reached its ${fmt(limit, limit.limit)} limit on ${t.date} (warning since ${episode.openedOn}, ${peak})`;
   } else {
-    text = `${label} is back below ${pct(limit.clear)} on ${t.date}; the episode since ${episode.openedOn} is closed (${peak})`;
+    text = `${label} is back below ${fmt(limit, limit.clear)} on ${t.date}; the episode since ${episode.openedOn} is closed (${peak})`;
   }
   return buildAlert(input, t.kind, t.date, `${t.kind}-${t.date}`, stateAfter(episode, t), { value: t.value, value_on: t.date }, text);
 }
@@ -77,12 +79,12 @@ export interface StateChange {
 export function stateAlert(input: LimitAlertInput, change: StateChange): NewAlert {
   const { portfolioId, limit, episode } = input;
   const { now, told, last } = change;
-  const value = last.value === null ? '' : ` ${pct(last.value)} on ${last.date}`;
+  const value = last.value === null ? '' : ` ${fmt(limit, last.value)} on ${last.date}`;
   const state =
     now.episodeState === 'closed'
-      ? `closed on ${episode.closedOn} (episode since ${now.openedOn}, peak ${pct(episode.peakValue)} on ${episode.peakOn})`
+      ? `closed on ${episode.closedOn} (episode since ${now.openedOn}, peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn})`
       : `${now.level} since ${now.level === 'breach' ? (episode.escalatedOn ?? now.openedOn) : now.openedOn} (episode opened ${now.openedOn}, ` +
-        `peak ${pct(episode.peakValue)} on ${episode.peakOn})`;
+        `peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn})`;
   const before = told === null ? 'not alerted before' : `last told: ${describe(told)}`;
   const text = `${portfolioId}: ${metricLabel(limit)}${value}: ${state}; ${before}; caught up from a delivery covering ${change.datesCovered} business days`;
   const facts = {
@@ -133,6 +135,7 @@ function buildAlert(
       estimator: limit.estimator,
       level: state.level,
       episode_state: state.episodeState,
+      ...(limit.metric === 'backtest_zone' ? { zone: zoneOf(state) } : {}),
       ...facts,
       limit: limit.limit,
       warning: limit.warning,
@@ -153,7 +156,27 @@ export function metricLabel(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'es
   const span = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day`;
   if (limit.metric === 'vol_realized') return `${span} realized volatility`;
   if (limit.metric === 'var_99_1d') return `${span} 99% 1-day VaR (of value)`;
+  if (limit.metric === 'backtest_zone') return `${span} normal 99% VaR backtest`;
   return `${span} volatility`;
+}
+
+/** A limit's figure as text: a fraction as a percentage, a backtest's exceptions as a count. */
+function fmt(limit: Pick<ResolvedLimit, 'metric'>, value: number): string {
+  return limit.metric === 'backtest_zone' ? `${value} exceptions in 250 days` : pct(value);
+}
+
+/** "acct: the 63-day normal 99% VaR had 5 exceptions in its last 250 tested days on <date>: yellow zone (red from 10)". */
+function zoneText(portfolioId: string, limit: ResolvedLimit, t: Transition): string {
+  const zone = t.kind === 'limit_closed' ? 'green' : t.value >= limit.limit ? 'red' : 'yellow';
+  const model = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day`;
+  const bounds = zone === 'red' ? `red from ${limit.limit}` : zone === 'yellow' ? `yellow from ${limit.warning}, red from ${limit.limit}` : `green below ${limit.warning}`;
+  return `${portfolioId}: the ${model} normal 99% VaR had ${t.value} exceptions in its last 250 tested days on ${t.date}: ${zone} zone (${bounds})`;
+}
+
+/** The Basel zone a backtest_zone episode's state stands for: open at warning = yellow, at breach = red, else green. */
+function zoneOf(state: EpisodeState): string {
+  if (state.episodeState !== 'open') return 'green';
+  return state.level === 'warning' ? 'yellow' : 'red';
 }
 
 function pct(fraction: number, digits = 1): string {

@@ -5,7 +5,7 @@ import type { PhaseClock } from '../log/phaseClock.ts';
 import { computeRisk, progressUnits } from './computeRisk.ts';
 import type { EwmaState } from './ewmaEstimate.ts';
 import { loadEwmaState } from './ewmaState.ts';
-import { readPortfolioPanel, readReturnPanel } from './inputs.ts';
+import { readPortfolioPanel, readReturnPanel, type PortfolioPanel, type ReturnPanel } from './inputs.ts';
 import { startProgress } from './progress.ts';
 import { ResultStage } from './staging.ts';
 
@@ -30,6 +30,8 @@ export interface ComputedRisk {
   riskRows: number;
   /** EWMA states at the last two dates, oldest first (none without EWMA or dates). */
   ewmaStates: EwmaState[];
+  /** The panels the run computed from, for the loss stage (src/loss) that revalues the same holdings. */
+  inputs: { returns: ReturnPanel; portfolios: PortfolioPanel; fromRow: number };
   /** Portfolios whose risk could not be computed, by id: nothing of theirs is staged. */
   failures: PortfolioRiskFailure[];
 }
@@ -81,7 +83,7 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
     .map((f) => ({ portfolioId: portfolios.ids[f.portfolio], date: dates[f.row], error: f.message }))
     .sort((a, b) => (a.portfolioId < b.portfolioId ? -1 : 1));
   for (const f of failures) rlog.error({ portfolio: f.portfolioId, date: f.date, error: f.error }, 'risk of this portfolio not computed; the others go on');
-  return { dates, portfolios: portfolios.ids.length, riskRows, ewmaStates, failures };
+  return { dates, portfolios: portfolios.ids.length, riskRows, ewmaStates, inputs: { returns, portfolios, fromRow }, failures };
 }
 
 /** First date row on or after `from` (dates ascending, ISO strings compare as dates); dates.length if none. */

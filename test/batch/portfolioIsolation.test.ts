@@ -87,6 +87,11 @@ describe('one portfolio whose risk cannot be computed', () => {
       [70, '2020-03-10'],
     ]);
     expect(await db.all(`select run_id, status from risk_runs`)).toEqual([{ run_id: 1, status: 'done' }]);
+    // the loss figures leave it out the same way
+    const lossPortfolios = await db.all<{ portfolio_id: string }>(
+      `select distinct portfolio_id from (select portfolio_id from var_daily union all select portfolio_id from stress_results) order by 1`,
+    );
+    expect(lossPortfolios.map((r) => r.portfolio_id)).toEqual(['acct-a', 'acct-c']);
 
     // run 2 computes only acct-a: a good run of another portfolio leaves acct-b's episode open
     await runRecompute(db, ws.config, ws.log, { trigger: 'recompute', portfolios: ['acct-a'] });
