@@ -7,6 +7,7 @@ import { sqlString, type Database } from '../storage/database.ts';
 import { correlationOfReturns, type CorrelationResult, type ReturnObservation } from './correlation.ts';
 import { loadCurrencySplits, type CurrencySplit } from './currencySplit.ts';
 import { loadLossData, type LossData } from './lossData.ts';
+import { loadExposure, type ExposureData } from './exposureData.ts';
 
 export interface RiskPoint {
   date: string;
@@ -77,6 +78,7 @@ export interface ReportData {
   latest: LatestRisk[];
   contributions: { date: string | null; rows: Contribution[] };
   correlation: (CorrelationResult & { names: string[]; window: number }) | { error: string };
+  exposure: ExposureData;
   breaches: Breach[];
   quality: QualityFlag[];
   losses: LossData;
@@ -143,6 +145,7 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
     latest,
     contributions: await loadContributions(db, portfolioId, focusWindow),
     correlation: await loadCorrelation(db, portfolioId, asOf),
+    exposure: await loadExposure(db, portfolioId, asOf, focusWindow),
     breaches: await db.all<Breach>('select * from limit_breaches where portfolio_id = $1 order by opened_on, breach_id', [portfolioId]),
     quality: await loadQuality(db, portfolioId),
     losses: await loadLossData(db, portfolioId, asOf, focusWindow, chartFrom),

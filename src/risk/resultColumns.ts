@@ -20,10 +20,15 @@ export const DAILY_FIGURES = [
   'es_975_10d',
   'diversification_ratio',
   'coverage',
+  'tracking_error_ex_ante',
+  'tracking_error_realized',
+  'beta_to_benchmark',
 ] as const;
 export const DAILY_FIGURE_COUNT = DAILY_FIGURES.length;
 /** weight, mcr, ccr, pct of a risk_contributions row. */
 export const CONTRIBUTION_VALUE_COUNT = 4;
+/** weight, benchmark_weight, mcr, ccr, pct of a risk_active_contributions row. */
+export const ACTIVE_VALUE_COUNT = 5;
 
 export interface ResultBatch {
   /** Output dates the walk finished since the previous batch (for progress). */
@@ -43,6 +48,8 @@ export interface ResultBatch {
   };
   /** values: weight, mcr, ccr, pct columns. */
   contributions: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
+  /** values: weight, benchmark_weight, mcr, ccr, pct columns. */
+  active: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
   securities: { rows: number; row: Int32Array; security: Int32Array; annReturn: Float64Array; annVol: Float64Array };
   /** Portfolios whose row could not be computed (p, the date row, why): the walk dropped them from then on. */
   failures: PortfolioFailure[];
@@ -56,7 +63,7 @@ export interface PortfolioFailure {
 
 /** The buffers a batch owns, for postMessage's transfer list. */
 export function batchBuffers(batch: ResultBatch): ArrayBuffer[] {
-  const { daily, contributions, securities } = batch;
+  const { daily, contributions, active, securities } = batch;
   const arrays = [
     daily.portfolio,
     daily.row,
@@ -68,6 +75,10 @@ export function batchBuffers(batch: ResultBatch): ArrayBuffer[] {
     contributions.row,
     contributions.security,
     ...contributions.values,
+    active.portfolio,
+    active.row,
+    active.security,
+    ...active.values,
     securities.row,
     securities.security,
     securities.annReturn,
@@ -124,6 +135,7 @@ export class ResultCollector {
     nCovered: ints(),
   };
   private readonly contributions = { portfolio: ints(), row: ints(), security: ints(), values: Array.from({ length: CONTRIBUTION_VALUE_COUNT }, doubles) };
+  private readonly active = { portfolio: ints(), row: ints(), security: ints(), values: Array.from({ length: ACTIVE_VALUE_COUNT }, doubles) };
   private readonly securities = { row: ints(), security: ints(), annReturn: doubles(), annVol: doubles() };
   private failures: PortfolioFailure[] = [];
   private dates = 0;
@@ -159,6 +171,14 @@ export class ResultCollector {
     c.values[3].push(pct);
   }
 
+  addActiveContribution(portfolio: number, row: number, security: number, values: readonly number[]): void {
+    const a = this.active;
+    a.portfolio.push(portfolio);
+    a.row.push(row);
+    a.security.push(security);
+    for (let c = 0; c < ACTIVE_VALUE_COUNT; c++) a.values[c].push(values[c]);
+  }
+
   addSecurity(row: number, security: number, annReturn: number, annVol: number): void {
     const s = this.securities;
     s.row.push(row);
@@ -178,11 +198,11 @@ export class ResultCollector {
 
   /** Rows held, all tables together: the walk hands a batch over past a size. */
   get pendingRows(): number {
-    return this.daily.row.length + this.contributions.row.length + this.securities.row.length;
+    return this.daily.row.length + this.contributions.row.length + this.active.row.length + this.securities.row.length;
   }
 
   take(): ResultBatch {
-    const { daily: d, contributions: c, securities: s } = this;
+    const { daily: d, contributions: c, active: a, securities: s } = this;
     const batch: ResultBatch = {
       dates: this.dates,
       windowDays: this.windowDays,
@@ -199,6 +219,7 @@ export class ResultCollector {
         nCovered: d.nCovered.take(),
       },
       contributions: { rows: c.row.length, portfolio: c.portfolio.take(), row: c.row.take(), security: c.security.take(), values: c.values.map((v) => v.take()) },
+      active: { rows: a.row.length, portfolio: a.portfolio.take(), row: a.row.take(), security: a.security.take(), values: a.values.map((v) => v.take()) },
       securities: { rows: s.row.length, row: s.row.take(), security: s.security.take(), annReturn: s.annReturn.take(), annVol: s.annVol.take() },
       failures: this.failures,
     };

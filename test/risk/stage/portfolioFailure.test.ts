@@ -30,6 +30,8 @@ function inputs(birchValue: (d: number) => number): ComputeInputs {
       security: Int32Array.from({ length: 5 * slots }, (_, h) => h % 5),
       weight: new Float64Array(5 * slots).fill(0.2),
     },
+    // no benchmark: tracking error is not what this test is about
+    benchmarks: { ids: [], ofPortfolio: new Int32Array(IDS.length).fill(-1), logReturn: new Float64Array(0), offsets: new Int32Array(1), security: new Int32Array(0), weight: new Float64Array(0) },
     fromRow: 0,
     ewmaState: null,
   };
