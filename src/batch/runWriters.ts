@@ -1,5 +1,6 @@
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
+import { HOLD_BEFORE, KEEP_REPLACED } from '../history/historyWriters.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
 import type { ComputedRisk, RiskScope } from '../risk/computeRun.ts';
 import { saveEwmaState } from '../risk/ewmaState.ts';
@@ -30,10 +31,12 @@ export interface RunWriter {
 }
 
 /**
- * The write step of every run: risk rows, then the estimator state, then limits (which
- * read the new rows) and their alerts, then the close of a failure episode.
+ * The write step of every run: the rows it may replace held aside, risk rows, then the
+ * estimator state, then limits (which read the new rows) and their alerts, then the
+ * replaced rows kept as history, then the close of a failure episode.
  */
 export const RUN_WRITERS: readonly RunWriter[] = [
+  HOLD_BEFORE,
   {
     name: 'write',
     write: (tx, run) =>
@@ -50,5 +53,6 @@ export const RUN_WRITERS: readonly RunWriter[] = [
       run.alertsRaised += outcome.alertsRaised;
     },
   },
+  KEEP_REPLACED,
   closeRunFailure,
 ];
