@@ -1,6 +1,6 @@
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
-import { HOLD_BEFORE, KEEP_REPLACED } from '../history/historyWriters.ts';
+import { HOLD_BEFORE, KEEP_REPLACED, PRUNE_HISTORY } from '../history/historyWriters.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
 import type { ComputedRisk, RiskScope } from '../risk/computeRun.ts';
 import { saveEwmaState } from '../risk/ewmaState.ts';
@@ -33,7 +33,7 @@ export interface RunWriter {
 /**
  * The write step of every run: the rows it may replace held aside, risk rows, then the
  * estimator state, then limits (which read the new rows) and their alerts, then the
- * replaced rows kept as history, then the close of a failure episode.
+ * replaced rows kept as history (and old history pruned), then the close of a failure episode.
  */
 export const RUN_WRITERS: readonly RunWriter[] = [
   HOLD_BEFORE,
@@ -54,5 +54,6 @@ export const RUN_WRITERS: readonly RunWriter[] = [
     },
   },
   KEEP_REPLACED,
+  PRUNE_HISTORY,
   closeRunFailure,
 ];

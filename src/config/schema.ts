@@ -166,6 +166,18 @@ const scheduleSchema = z
   })
   .strict();
 
+const historySchema = z
+  .object({
+    keepDays: z
+      .number()
+      .int()
+      .positive()
+      .nullable()
+      .default(null)
+      .describe('Superseded result rows replaced more than this many days ago are pruned (each pruning recorded in history_prunes); null keeps everything.'),
+  })
+  .strict();
+
 const isoDate = z.string().regex(/^\d{4}-\d\d-\d\d$/, 'a date written YYYY-MM-DD');
 
 const ingestSchema = z
@@ -257,6 +269,7 @@ export const configSchema = z
     limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),
     alerts: alertsSchema.default({ maxAgeDays: 5 }),
     schedule: scheduleSchema.default(scheduleSchema.parse({})),
+    history: historySchema.default({ keepDays: null }),
   })
   .strict()
   .superRefine((cfg, ctx) => {

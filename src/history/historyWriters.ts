@@ -56,3 +56,28 @@ export const KEEP_REPLACED: RunWriter = {
     faultPoint('kept');
   },
 };
+
+/**
+ * With `history.keepDays`, history rows replaced longer ago than that are deleted, in the
+ * run's transaction, and each deletion recorded in history_prunes (so an as-of query for
+ * an earlier time can be known to be incomplete).
+ */
+export const PRUNE_HISTORY: RunWriter = {
+  name: 'history_prune',
+  async write(tx, run) {
+    const keepDays = run.config.history.keepDays;
+    if (keepDays === null) return;
+    for (const { table } of await presentTables(tx)) {
+      const [{ n }] = await tx.all<{ n: number }>(
+        `select count(*)::integer as n from ${table}_history where valid_to < now() - to_days($1::integer)`,
+        [keepDays],
+      );
+      if (n === 0) continue;
+      await tx.run(`delete from ${table}_history where valid_to < now() - to_days($1::integer)`, [keepDays]);
+      await tx.run(
+        `insert into history_prunes (table_name, cutoff, rows, run_id) values ($1, now() - to_days($2::integer), $3, $4)`,
+        [`${table}_history`, keepDays, n, run.runId],
+      );
+    }
+  },
+};
