@@ -6,6 +6,7 @@ import { registerRecompute } from './recompute.ts';
 import { registerSql } from './sql.ts';
 import { registerStatus } from './status.ts';
 import { registerReport } from './report.ts';
+import { registerExplain } from './explain.ts';
 import { registerDemo } from './demo.ts';
 
 /** Every command of `riskfold`, in the order --help lists them. */
@@ -17,5 +18,6 @@ export const COMMANDS: ((program: Command) => void)[] = [
   registerSql,
   registerStatus,
   registerReport,
+  registerExplain,
   registerDemo,
 ];
