@@ -7,7 +7,7 @@ import type { Database } from '../../src/storage/database.ts';
 import { pricesCsv, writeCsv } from '../helpers/files.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
-// Invented data for the history suites: 90 days of two securities held by one portfolio,
+// Invented data for the history suites: 100 days of two securities held by one portfolio,
 // then a price correction dated 2020-03-10.
 
 export const KEPT = ['risk_daily', 'risk_contributions', 'limit_breaches'] as const;
@@ -25,7 +25,7 @@ export async function loadedWorkspace(overrides: Partial<ConfigInput> = {}): Pro
   const limits = [{ portfolio: '*', window: 21, limit: 0.01 }];
   const ws = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252 }, limits, ...overrides });
   const prices = path.join(ws.config.inbox, 'prices_first.csv');
-  writeFileSync(prices, pricesCsv(90, 2, '2020-01-01'));
+  writeFileSync(prices, pricesCsv(100, 2, '2020-01-01'));
   const positions = writeCsv(ws.config.inbox, 'positions_first.csv', [
     ['date', 'portfolio_id', 'security_id', 'quantity'],
     ['2020-01-01', 'acct-harbour', 'EQ-NORDWIND', 100],
