@@ -41,7 +41,8 @@ export async function readExplanation(db: Database, request: ExplainRequest): Pr
   );
   if (figure.total === 0) {
     const which = window === null ? '' : ` for window ${window}`;
-    throw new RiskfoldError('not_found', `no figure of ${portfolio} on ${date}${which} in risk_daily (not a valuation date, or not computed yet)`);
+    const why = 'not a valuation date, or not computed yet';
+    throw new RiskfoldError('not_found', `no figure of ${portfolio} on ${date}${which} in risk_daily (${why})`);
   }
   const windows = (
     await db.all<{ w: number }>(
@@ -89,7 +90,8 @@ export async function readExplanation(db: Database, request: ExplainRequest): Pr
       'versions',
       'every version of the figure: made by a run, current until a run replaced it',
       `with versions as (
-         select window_days, estimator, vol_ex_ante, status, run_id as made_by_run, null::integer as replaced_by_run, null::timestamptz as replaced_at
+         select window_days, estimator, vol_ex_ante, status,
+                run_id as made_by_run, null::integer as replaced_by_run, null::timestamptz as replaced_at
          from risk_daily where portfolio_id = $1 and date = $2::date and ${inWindow}
          union all
          select window_days, estimator, vol_ex_ante, status, written_by_run, replaced_by_run, valid_to

@@ -132,7 +132,8 @@ describe('runBench at the tiny size', () => {
     // date, one per estimate, and they are kept
     const growth = get('history_growth_mib');
     expect(growth.details).toMatchObject({ corrections: 3, risk_daily_history_rows: 3 * result.scenario.portfolios * estimates });
-    close(growth.value!, (details('history_growth_mib', 'database_mib_after') - details('history_growth_mib', 'database_mib_before')), 'growth');
+    const grown = details('history_growth_mib', 'database_mib_after') - details('history_growth_mib', 'database_mib_before');
+    close(growth.value!, grown, 'growth');
 
     expect(result.scenario).toMatchObject({ securities: 12, portfolios: 2, historyDays: 70, newDays: 2, firstDate: '2016-01-04' });
     expect(result.scenario.historyRows).toEqual({ securities: 12, fx: 140, prices: 840, positions: 980 });
