@@ -5,6 +5,7 @@ import { CAUTIONS } from '../report/cautions.ts';
 import { formatMoney, formatPercent } from '../report/format.ts';
 import type { Breach } from '../report/reportData.ts';
 import type { Database } from '../storage/database.ts';
+import { readCorrectionBothWays, type CorrectionBothWays } from './correctionBothWays.ts';
 import { DEMO_LIMIT_WINDOW } from './demoConfig.ts';
 import { ACCOUNTS, FIRM_NAME, SECURITIES } from './universe.ts';
 
@@ -31,6 +32,8 @@ export interface DemoSummary {
   quarantined: { name: string; error: string; archived_path: string | null }[];
   /** Files that re-delivered prices an earlier file had sent (the later delivery wins). */
   corrections: { name: string; prices: number }[];
+  /** The first correction's figures as reported before it arrived and as known now. */
+  bothWays: CorrectionBothWays | null;
 }
 
 /** Reads the demo's outcome back from the database, so what is printed is what was stored. */
@@ -83,6 +86,7 @@ export async function readDemoSummary(db: Database, config: Config): Promise<Dem
     files: { ingested: count('ingested'), duplicate: count('duplicate'), rejected: count('rejected') },
     quarantined,
     corrections,
+    bothWays: await readCorrectionBothWays(db, corrections[0]?.name),
   };
 }
 
@@ -131,6 +135,7 @@ export function formatSummary(summary: DemoSummary, places: SummaryPlaces): stri
   if (summary.corrections.length === 0) lines.push('  none');
   for (const c of summary.corrections) lines.push(`  ${c.name}: ${c.prices} price${c.prices === 1 ? '' : 's'}`);
   const cfg = config.configPath;
+  lines.push(...bothWaysLines(summary.bothWays, cfg));
   lines.push(
     '',
     'Where things are:',
@@ -148,9 +153,34 @@ export function formatSummary(summary: DemoSummary, places: SummaryPlaces): stri
     `  npx riskfold sql --config ${cfg} "select * from check_data_quality where problem = 'stale_price'"`,
     `  npx riskfold status --config ${cfg}`,
     `  npx riskfold report --config ${cfg} --portfolio ${summary.accounts[0].portfolioId}`,
+    ...explainLine(summary, cfg),
     '',
     'Cautions:',
     ...CAUTIONS.map((c) => `  - ${c}`),
   );
   return `${lines.join('\n')}\n`;
+}
+
+/** The correction as reported before it arrived and as known now, each with the one query that shows it. */
+function bothWaysLines(both: CorrectionBothWays | null, cfg: string): string[] {
+  if (both === null) return [];
+  const lines = [
+    '',
+    `The correction both ways: ${DEMO_LIMIT_WINDOW}-day volatility on ${both.date}, as reported before ${both.file} arrived and as known now`,
+    `  ${pad('account', 14)} ${padLeft('as reported', 12)} ${padLeft('as known now', 13)}`,
+  ];
+  for (const r of both.rows) {
+    lines.push(`  ${pad(r.portfolio_id, 14)} ${padLeft(formatPercent(r.as_reported), 12)} ${padLeft(formatPercent(r.as_known), 13)}`);
+  }
+  lines.push(
+    `  as reported: npx riskfold sql --config ${cfg} "${both.asReported}"`,
+    `  as known:    npx riskfold sql --config ${cfg} "${both.asKnown}"`,
+  );
+  return lines;
+}
+
+function explainLine(summary: DemoSummary, cfg: string): string[] {
+  if (summary.bothWays === null) return [];
+  const args = `--portfolio ${summary.accounts[0].portfolioId} --date ${summary.bothWays.date} --window ${DEMO_LIMIT_WINDOW}`;
+  return [`  npx riskfold explain --config ${cfg} ${args}`];
 }

@@ -90,6 +90,30 @@ describe('riskfold demo, end to end', () => {
     expect(text).toMatch(/prices_\d{8}_correction\.csv: 1 price/);
   });
 
+  it('shows the correction both ways, one query each: as reported before it arrived, and as known now', async () => {
+    const { correction } = scenario.incidents;
+    const t = scenario.historyDays + correction.drop;
+    const both = result.summary.bothWays!;
+    expect(both.date).toBe(scenario.market.dates[t]);
+    expect(both.file).toMatch(/^prices_\d{8}_correction\.csv$/);
+    // each printed query, run by the read-only sql command, gives the printed figures at full precision
+    for (const [query, column] of [[both.asReported, 'as_reported'], [both.asKnown, 'as_known']] as const) {
+      const { stdout } = await run(process.execPath, [CLI, 'sql', '--config', result.config.configPath, '--format', 'json', query]);
+      expect(JSON.parse(stdout)).toEqual(both.rows.map((r) => ({ portfolio_id: r.portfolio_id, vol_ex_ante: r[column] })));
+      expect(text).toContain(`"${query}"`);
+    }
+    // the wrong price moved the figures of the accounts that held the security (the scenario's
+    // holdings) and only theirs; a recompute from another start may differ in the last bits
+    for (const r of both.rows) {
+      const held = holdingsOn(scenario.snapshots, r.portfolio_id, both.date).has(correction.securityId);
+      const moved = Math.abs(r.as_reported! - r.as_known!);
+      if (held) expect(moved, r.portfolio_id).toBeGreaterThan(1e-4);
+      else expect(moved, r.portfolio_id).toBeLessThan(1e-12);
+      expect(text).toMatch(new RegExp(`${r.portfolio_id}\\s+${formatPercent(r.as_reported)}\\s+${formatPercent(r.as_known)}`));
+    }
+    expect(both.rows.filter((r) => holdingsOn(scenario.snapshots, r.portfolio_id, both.date).has(correction.securityId))).not.toEqual([]);
+  });
+
   it('computes the return of the withdrawal day from holdings, not from the fall in value (SPEC 4, recomputed from the scenario)', async () => {
     const flow = scenario.incidents.cashFlows.find((f) => f.amount < 0)!;
     const { dates } = scenario.market;
