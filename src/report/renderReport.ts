@@ -1,8 +1,9 @@
 import { contributionsSection, correlationSection, realizedSection, volatilitySection } from './chartSections.ts';
 import { escapeHtml } from './format.ts';
+import { lossSection } from './lossSections.ts';
 import type { ReportData } from './reportData.ts';
 import { STYLESHEET } from './style.ts';
-import { breachTable, cautionsSection, keyFigures, latestTable, provenanceFooter, qualitySection } from './tableSections.ts';
+import { breachTable, cautionsSection, currencyTable, keyFigures, latestTable, provenanceFooter, qualitySection } from './tableSections.ts';
 
 /**
  * The whole report as one HTML page: inline CSS and SVG, no script and no external
@@ -28,8 +29,10 @@ export function renderReport(data: ReportData, generatedAt: Date): string {
 ${keyFigures(data)}
 ${volatilitySection(data)}
 ${realizedSection(data)}
+${currencyTable(data)}
 ${contributionsSection(data)}
 ${correlationSection(data)}
+${lossSection(data)}
 ${breachTable(data)}
 ${latestTable(data)}
 ${qualitySection(data)}

@@ -5,6 +5,7 @@ import { registerIngest } from './ingest.ts';
 import { registerRecompute } from './recompute.ts';
 import { registerSql } from './sql.ts';
 import { registerStatus } from './status.ts';
+import { registerAlerts } from './alerts.ts';
 import { registerReport } from './report.ts';
 import { registerExplain } from './explain.ts';
 import { registerDemo } from './demo.ts';
@@ -17,6 +18,7 @@ export const COMMANDS: ((program: Command) => void)[] = [
   registerRecompute,
   registerSql,
   registerStatus,
+  registerAlerts,
   registerReport,
   registerExplain,
   registerDemo,

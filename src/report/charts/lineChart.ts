@@ -46,8 +46,8 @@ const LABEL_GAP = 13;
 
 /**
  * A dated line chart as inline SVG. A null value breaks the line (a gap in the data is
- * shown as a gap, not bridged); the y axis starts at zero because every figure drawn
- * here is a non-negative risk number.
+ * shown as a gap, not bridged); the y axis starts at zero, or below it when a series
+ * goes negative (a day's loss in the backtest is negative on a day with a gain).
  */
 export function lineChart(spec: LineChartSpec): string {
   const width = spec.width ?? 880;
@@ -60,10 +60,10 @@ export function lineChart(spec: LineChartSpec): string {
     ...spec.series.flatMap((s) => s.points.map((p) => p.value).filter((v): v is number => v !== null && Number.isFinite(v))),
     ...(spec.references ?? []).map((r) => r.value),
   ];
-  const yTicks = niceTicks(0, Math.max(...values, 1e-9), 5);
+  const yTicks = niceTicks(Math.min(0, ...values), Math.max(...values, 1e-9), 5);
   const yMax = yTicks[yTicks.length - 1];
   const x = linearScale([dayTime(first), dayTime(last)], [MARGIN.left, width - MARGIN.right]);
-  const y = linearScale([0, yMax], [height - MARGIN.bottom, MARGIN.top]);
+  const y = linearScale([yTicks[0], yMax], [height - MARGIN.bottom, MARGIN.top]);
   const xOf = (date: string) => x(dayTime(date)).toFixed(1);
   const yOf = (v: number) => y(v).toFixed(1);
 
