@@ -10,7 +10,7 @@ import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 // Invented data for the history suites: 100 days of two securities held by one portfolio,
 // then a price correction dated 2020-03-10.
 
-export const KEPT = ['risk_daily', 'risk_contributions', 'limit_breaches'] as const;
+export const KEPT = ['risk_daily', 'risk_contributions', 'limit_breaches', 'var_daily'] as const;
 export type Kept = (typeof KEPT)[number];
 
 /** Each kept table's key, to read it (or its as-of) in one order. */
@@ -18,6 +18,7 @@ export const ORDER: Record<Kept, string> = {
   risk_daily: 'portfolio_id, date, window_days, estimator',
   risk_contributions: 'portfolio_id, date, window_days, estimator, security_id',
   limit_breaches: 'breach_id',
+  var_daily: 'portfolio_id, date, method, window_days, estimator',
 };
 
 /** A workspace after a first load; a low limit, so the load opens an episode that the correction then changes. */
