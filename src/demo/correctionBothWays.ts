@@ -10,7 +10,13 @@ export interface CorrectionBothWays {
   asReported: string;
   /** The query of the figures as known now (risk_daily). */
   asKnown: string;
-  rows: { portfolio_id: string; as_reported: number | null; as_known: number | null }[];
+  rows: {
+    portfolio_id: string;
+    as_reported: number | null;
+    reported_status: string | null;
+    as_known: number | null;
+    known_status: string | null;
+  }[];
 }
 
 const FIGURE = `window_days = ${DEMO_LIMIT_WINDOW} and estimator = 'sample'`;
@@ -19,8 +25,8 @@ const FIGURE = `window_days = ${DEMO_LIMIT_WINDOW} and estimator = 'sample'`;
 export function correctionQueries(file: string, date: string): Pick<CorrectionBothWays, 'asReported' | 'asKnown'> {
   const arrival = `(select received_at from ingested_files where name = '${file}')`;
   return {
-    asReported: `select portfolio_id, vol_ex_ante from risk_daily_asof(${arrival}) where date = '${date}' and ${FIGURE} order by portfolio_id`,
-    asKnown: `select portfolio_id, vol_ex_ante from risk_daily where date = '${date}' and ${FIGURE} order by portfolio_id`,
+    asReported: `select portfolio_id, vol_ex_ante, status from risk_daily_asof(${arrival}) where date = '${date}' and ${FIGURE} order by portfolio_id`,
+    asKnown: `select portfolio_id, vol_ex_ante, status from risk_daily where date = '${date}' and ${FIGURE} order by portfolio_id`,
   };
 }
 
@@ -32,13 +38,19 @@ export async function readCorrectionBothWays(db: Database, file: string | undefi
     [file],
   );
   const queries = correctionQueries(file, date);
-  const before = await db.all<{ portfolio_id: string; vol_ex_ante: number | null }>(queries.asReported);
-  const now = await db.all<{ portfolio_id: string; vol_ex_ante: number | null }>(queries.asKnown);
+  type Figure = { portfolio_id: string; vol_ex_ante: number | null; status: string };
+  const before = await db.all<Figure>(queries.asReported);
+  const now = await db.all<Figure>(queries.asKnown);
   const ids = [...new Set([...before, ...now].map((r) => r.portfolio_id))].sort();
-  const rows = ids.map((id) => ({
-    portfolio_id: id,
-    as_reported: before.find((r) => r.portfolio_id === id)?.vol_ex_ante ?? null,
-    as_known: now.find((r) => r.portfolio_id === id)?.vol_ex_ante ?? null,
-  }));
+  const rows = ids.map((id) => {
+    const [b, n] = [before.find((r) => r.portfolio_id === id), now.find((r) => r.portfolio_id === id)];
+    return {
+      portfolio_id: id,
+      as_reported: b?.vol_ex_ante ?? null,
+      reported_status: b?.status ?? null,
+      as_known: n?.vol_ex_ante ?? null,
+      known_status: n?.status ?? null,
+    };
+  });
   return { file, date, ...queries, rows };
 }

@@ -167,10 +167,11 @@ function bothWaysLines(both: CorrectionBothWays | null, cfg: string): string[] {
   const lines = [
     '',
     `The correction both ways: ${DEMO_LIMIT_WINDOW}-day volatility on ${both.date}, as reported before ${both.file} arrived and as known now`,
-    `  ${pad('account', 14)} ${padLeft('as reported', 12)} ${padLeft('as known now', 13)}`,
+    `  ${pad('account', 14)} ${padLeft('as reported', 12)} ${pad('status', 14)} ${padLeft('as known now', 13)} status`,
   ];
   for (const r of both.rows) {
-    lines.push(`  ${pad(r.portfolio_id, 14)} ${padLeft(formatPercent(r.as_reported), 12)} ${padLeft(formatPercent(r.as_known), 13)}`);
+    const [before, now] = [formatPercent(r.as_reported, 3), formatPercent(r.as_known, 3)];
+    lines.push(`  ${pad(r.portfolio_id, 14)} ${padLeft(before, 12)} ${pad(r.reported_status ?? '', 14)} ${padLeft(now, 13)} ${r.known_status ?? ''}`);
   }
   lines.push(
     `  as reported: npx riskfold sql --config ${cfg} "${both.asReported}"`,
