@@ -20,7 +20,8 @@ const AMOUNT = new Set(['portfolio_value', 'var_99_1d', 'es_975_1d', 'value_base
 
 /**
  * Where one of risk_daily's figures came from, as sections to print: the figure with its
- * statuses and covariance coverage, the largest holdings (weight and volatility), the data
+ * statuses and covariance coverage, the largest holdings (weight and volatility), the
+ * holdings' pairwise correlations over each sample window (a summary of the covariance), the data
  * problems of the date, the files behind it (trace_result_files) with their arrival, and
  * every version of the figure with the runs that made and replaced it (risk_daily_history).
  */
@@ -64,6 +65,35 @@ export async function readExplanation(db: Database, request: ExplainRequest): Pr
        where w.portfolio_id = $1 and w.date = $2::date
        group by all order by abs(any_value(w.weight)) desc, w.security_id limit ${HOLDINGS_SHOWN}`,
       [portfolio, date],
+    ),
+    await section(
+      db,
+      'covariance',
+      'covariance summary: pairwise correlation of the holdings\' daily log returns over each sample window',
+      `with held as (
+         select security_id, date_index from value_weights
+         where portfolio_id = $1 and date = $2::date and not is_cash and weight <> 0
+       ),
+       windows as (
+         select distinct window_days from risk_daily
+         where portfolio_id = $1 and date = $2::date and estimator = 'sample' and ${inWindow}
+       ),
+       returns as (
+         select w.window_days, r.security_id, r.date_index, r.log_return
+         from windows w cross join held h
+         join ret_securities r on r.security_id = h.security_id
+           and r.date_index between h.date_index - w.window_days + 1 and h.date_index
+       ),
+       pairs as (
+         select a.window_days, a.security_id as first_id, b.security_id as second_id, corr(a.log_return, b.log_return) as correlation
+         from returns a join returns b
+           on a.window_days = b.window_days and a.date_index = b.date_index and a.security_id < b.security_id
+         group by all
+       )
+       select window_days, count(*) as pairs, avg(correlation) as mean_correlation,
+              min(correlation) as lowest, max(correlation) as highest
+       from pairs group by window_days order by window_days`,
+      key,
     ),
     await section(
       db,

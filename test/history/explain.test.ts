@@ -1,3 +1,4 @@
+import * as ss from 'simple-statistics';
 import { afterEach, describe, expect, it } from 'vitest';
 import { runBatch } from '../../src/batch/runBatch.ts';
 import { runCli } from '../cli/cliProcess.ts';
@@ -35,6 +36,18 @@ describe('riskfold explain', () => {
     const [earlier] = await ws.db.all<{ vol_ex_ante: number }>(
       `select vol_ex_ante from risk_daily_history where portfolio_id = 'acct-harbour' and date = '2020-03-31' and window_days = 21`,
     );
+    // the covariance summary's one pair: the correlation of the two holdings' 21 log returns
+    // ending 2020-03-31, checked with simple-statistics' sampleCorrelation
+    const prices = await ws.db.all<{ security_id: string; price: number }>(
+      `select security_id, price from clean_prices where date between '2020-03-10' and '2020-03-31' order by security_id, date`,
+    );
+    const logReturns = (id: string) => {
+      const p = prices.filter((r) => r.security_id === id).map((r) => r.price);
+      return p.slice(1).map((x, i) => Math.log(x / p[i]));
+    };
+    const [first, second] = [logReturns('EQ-NORDWIND'), logReturns('EQ-SALTMARSH')];
+    expect(first).toHaveLength(21);
+    const correlation = ss.sampleCorrelation(first, second);
     ws.closeDb();
 
     // 2020-03-31: the window starts on 2020-03-10, the corrected date
@@ -43,6 +56,8 @@ describe('riskfold explain', () => {
     // 100 units near 100 outweigh 50 units near 101
     expect(last.holdings.rows.map((r) => r.security_id)).toEqual(['EQ-NORDWIND', 'EQ-SALTMARSH']);
     expect(last.holdings.rows.every((r) => typeof r.ann_vol_21 === 'number')).toBe(true);
+    expect(last.covariance.rows).toMatchObject([{ window_days: 21, pairs: 1 }]);
+    expect(Math.abs((last.covariance.rows[0].mean_correlation as number) - correlation)).toBeLessThan(1e-12);
     expect(fileNames(last)).toEqual([
       ['prices', 'prices_first.csv'],
       ['positions', 'positions_first.csv'],
