@@ -16,6 +16,7 @@ import {
 } from './breachStore.ts';
 import { replayEpisodes, transitionsOf, type Episode, type MetricPoint } from './episodes.ts';
 import { lateOpenAlert, retractionAlert, topContributors, transitionAlert } from './limitAlerts.ts';
+import { volChangeOn } from './volChangeText.ts';
 import { matchEpisodes } from './matchEpisodes.ts';
 
 export interface LimitScope {
@@ -134,12 +135,14 @@ async function alertEpisode(
   let raised = 0;
   for (const t of due) {
     const contributors = await topContributors(db, portfolioId, limit, t.date);
-    if (await insertAlert(db, transitionAlert({ portfolioId, limit, breachId, runId, episode, contributors }, t))) raised++;
+    const volChange = await volChangeOn(db, portfolioId, limit, t.date);
+    if (await insertAlert(db, transitionAlert({ portfolioId, limit, breachId, runId, episode, contributors, volChange }, t))) raised++;
   }
   if (episode.closedOn === null && already.size === 0 && due.length === 0) {
     const asOf = points[points.length - 1].date;
     const contributors = await topContributors(db, portfolioId, limit, asOf);
-    if (await insertAlert(db, lateOpenAlert({ portfolioId, limit, breachId, runId, episode, contributors }, asOf, lastValue(points)))) raised++;
+    const volChange = await volChangeOn(db, portfolioId, limit, asOf);
+    if (await insertAlert(db, lateOpenAlert({ portfolioId, limit, breachId, runId, episode, contributors, volChange }, asOf, lastValue(points)))) raised++;
   }
   return raised;
 }

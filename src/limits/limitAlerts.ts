@@ -2,6 +2,7 @@ import type { ResolvedLimit } from '../config/load.ts';
 import type { NewAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
 import type { Episode, Transition } from './episodes.ts';
+import { volChangeSentence, type VolChangeFacts } from './volChangeText.ts';
 
 export interface Contributor {
   security_id: string;
@@ -36,6 +37,8 @@ export interface LimitAlertInput {
   runId: number;
   episode: EpisodeFacts;
   contributors: Contributor[];
+  /** Why the volatility moved since the previous valuation date (vol_ex_ante limits); absent: not said. */
+  volChange?: VolChangeFacts | null;
 }
 
 /** An alert for a dated transition (opened, escalated, closed) of an episode. */
@@ -91,6 +94,8 @@ function buildAlert(
   const { portfolioId, limit, episode, contributors } = input;
   const named = withContributors && contributors.length > 0;
   const drivers = named ? `; largest contributors ${contributors.map((c) => `${c.security_id} ${pct(c.pct, 0)}`).join(', ')}` : '';
+  const change = withContributors && input.volChange ? input.volChange : null;
+  const moved = change ? `. ${volChangeSentence(metricLabel(limit), change)}` : '';
   return {
     alertId: `breach-${input.breachId}-${kind}-${asOf}`,
     kind,
@@ -113,7 +118,8 @@ function buildAlert(
       peak_value: episode.peakValue,
       peak_on: episode.peakOn,
       contributors: withContributors ? contributors : [],
-      text: `${text}${drivers}`,
+      vol_change: change,
+      text: `${text}${drivers}${moved}`,
     },
   };
 }

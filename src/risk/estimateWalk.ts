@@ -4,8 +4,9 @@ import { mean, sampleVariance } from './math/moments.ts';
 import { EwmaEstimate, type EwmaState } from './ewmaEstimate.ts';
 import type { PortfolioPanel, ReturnPanel } from './inputs.ts';
 import { assessRow, RowScratch, type CovarianceView, type Exposure, type RiskSettings } from './portfolioRow.ts';
-import { DAILY_FIGURE_COUNT, ResultCollector, type ResultBatch } from './resultColumns.ts';
+import { DAILY_FIGURE_COUNT, ResultCollector, VOL_CHANGE_FIGURE_COUNT, type ResultBatch } from './resultColumns.ts';
 import { SampleEstimate, type SamplePath } from './sampleEstimate.ts';
+import { VolChangeTracker, type VolChangeRow } from './volChangeTracker.ts';
 
 /**
  * One estimate's walk over the dates: advance the estimate date by date and, at each
@@ -49,7 +50,8 @@ const BATCH_ROWS = 1 << 16;
 export function walkEstimate(task: EstimateTask, input: ComputeInputs, settings: WalkSettings, emit: (batch: ResultBatch) => void): EwmaState[] {
   const { returns, fromRow } = input;
   if (task.kind === 'sample') {
-    const estimate = new SampleEstimate(returns, task.windowDays, task.path, fromRow);
+    // from the date before the first output date: the first change since then needs its covariance
+    const estimate = new SampleEstimate(returns, task.windowDays, task.path, Math.max(0, fromRow - 1));
     walk(estimate, (d, output) => estimate.advance(d, output), input, settings, emit);
     return [];
   }
@@ -81,24 +83,45 @@ function walk(
   const lastRow = lastPresentRows(portfolios, dateCount);
   const average = estimate.estimator === 'sample' && settings.weights === 'window_average';
   const accumulator = new Float64Array(returns.securityIds.length);
+  const exposureAt = (p: number, d: number): Exposure =>
+    average ? averageExposure(portfolios, returns, p, d, estimate.windowDays, accumulator) : currentExposure(portfolios, returns, p * dateCount + d);
+  const flagsAt = (slot: number) => ({ value: portfolios.value[slot], unpriced: portfolios.unpriced[slot] === 1, stale: portfolios.stale[slot] === 1 });
+  const changes = new VolChangeTracker(portfolios.ids.length, settings.periodsPerYear);
+  /** Keeps date d's products for the split on d + 1 (or forgets p when d's row has no volatility). */
+  const carry = (p: number, d: number, exposure: Exposure, volExAnte: number) => {
+    const next = d + 1 < dateCount && portfolios.present[p * dateCount + d + 1] === 1;
+    if (Number.isFinite(volExAnte) && next) changes.carry(p, d, estimate, exposure, exposureAt(p, d + 1));
+    else changes.forget(p);
+  };
   const scratch = new RowScratch();
   const figures = new Float64Array(DAILY_FIGURE_COUNT);
+  const changeFigures = new Float64Array(VOL_CHANGE_FIGURE_COUNT);
   const out = new ResultCollector(estimate.windowDays, estimate.estimator);
   const addSecurity = (j: number, r: number, v: number) => out.addSecurity(currentRow, j, r, v);
+  /** The date before the first output date, for the first split: its products only. */
+  const prime = (d: number) => {
+    for (let p = 0; p < portfolios.ids.length; p++) {
+      const slot = p * dateCount + d;
+      if (portfolios.present[slot] !== 1) continue;
+      const exposure = exposureAt(p, d);
+      carry(p, d, exposure, assessRow(exposure, flagsAt(slot), estimate, settings, false, scratch).volExAnte);
+    }
+  };
   let currentRow = -1;
+  // an estimate restored at fromRow - 1 (the stored EWMA) holds that date before the first advance
+  if (estimate.startRow === fromRow && fromRow > 0) prime(fromRow - 1);
   for (let d = estimate.startRow; d < dateCount; d++) {
     const output = d >= fromRow;
-    advance(d, output);
+    advance(d, output || d === fromRow - 1);
+    if (d === fromRow - 1) prime(d);
     if (!output) continue;
     currentRow = d;
     estimate.forEachSecurity(addSecurity, settings.periodsPerYear);
     for (let p = 0; p < portfolios.ids.length; p++) {
       const slot = p * dateCount + d;
       if (portfolios.present[slot] !== 1) continue;
-      const exposure = average
-        ? averageExposure(portfolios, returns, p, d, estimate.windowDays, accumulator)
-        : currentExposure(portfolios, returns, slot);
-      const flags = { value: portfolios.value[slot], unpriced: portfolios.unpriced[slot] === 1, stale: portfolios.stale[slot] === 1 };
+      const exposure = exposureAt(p, d);
+      const flags = flagsAt(slot);
       const withContributions = settings.contributions === 'all' || d === lastRow[p];
       const row = assessRow(exposure, flags, estimate, settings, withContributions, scratch);
       const realized = estimate.estimator === 'sample' ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
@@ -117,9 +140,30 @@ function walk(
         const { mcr, ccr, pct } = row.contributions;
         for (let a = 0; a < exposure.j.length; a++) out.addContribution(p, d, exposure.j[a], exposure.w[a], mcr[a], ccr[a], pct[a]);
       }
+      const change = Number.isFinite(row.volExAnte) ? changes.split(p, d, estimate) : null;
+      if (change) addChange(out, p, d, change, withContributions, changeFigures);
+      carry(p, d, exposure, row.volExAnte);
     }
     out.endDate();
     if (out.pendingRows >= BATCH_ROWS || d === dateCount - 1) emit(out.take());
+  }
+}
+
+/** A vol_change row, its driver (the largest weights part by size) and, when asked for, its rows per security. */
+function addChange(out: ResultCollector, p: number, d: number, change: VolChangeRow, perSecurity: boolean, figures: Float64Array): void {
+  let driver = -1;
+  for (let a = 0; a < change.securities.length; a++) {
+    if (driver === -1 || Math.abs(change.fromWeightsBySecurity[a]) > Math.abs(change.fromWeightsBySecurity[driver])) driver = a;
+  }
+  figures[0] = change.volPrev;
+  figures[1] = change.volNow;
+  figures[2] = change.fromWeights;
+  figures[3] = change.fromMarket;
+  figures[4] = driver === -1 ? Number.NaN : change.fromWeightsBySecurity[driver];
+  out.addVolChange(p, d, figures, change.status, driver === -1 ? -1 : change.securities[driver]);
+  if (!perSecurity) return;
+  for (let a = 0; a < change.securities.length; a++) {
+    out.addVolChangeSecurity(p, d, change.securities[a], change.weightPrev[a], change.weightNow[a], change.fromWeightsBySecurity[a]);
   }
 }
 

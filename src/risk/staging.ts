@@ -25,11 +25,15 @@ const DAILY_FIGURES = [
   'coverage',
 ] as const;
 
+const VOL_CHANGE_FIGURES = ['vol_prev', 'vol_now', 'from_weights', 'from_market', 'weights_driver_change'] as const;
+
 export class ResultStage {
   private constructor(
     private readonly daily: ChunkAppender,
     private readonly contributions: ChunkAppender,
     private readonly securities: ChunkAppender,
+    private readonly volChange: ChunkAppender,
+    private readonly volChangeSecurities: ChunkAppender,
   ) {}
 
   static async open(db: Database): Promise<ResultStage> {
@@ -42,17 +46,25 @@ export class ResultStage {
       weight double, mcr double, ccr double, pct double)`);
     await db.run(`create or replace temp table risk_stage_securities (
       date_index integer, window_days integer, j integer, ann_return double, ann_vol double)`);
+    await db.run(`create or replace temp table risk_stage_vol_change (
+      p integer, date_index integer, window_days integer, estimator varchar,
+      ${VOL_CHANGE_FIGURES.map((c) => `${c} double`).join(', ')}, status varchar, driver integer)`);
+    await db.run(`create or replace temp table risk_stage_vol_change_securities (
+      p integer, date_index integer, window_days integer, estimator varchar, j integer,
+      weight_prev double, weight_now double, from_weights double)`);
     const figures = DAILY_FIGURES.map(() => DOUBLE);
     return new ResultStage(
       await ChunkAppender.open(db, 'risk_stage_daily', [INTEGER, INTEGER, INTEGER, VARCHAR, ...figures, VARCHAR, INTEGER, INTEGER]),
       await ChunkAppender.open(db, 'risk_stage_contributions', [INTEGER, INTEGER, INTEGER, VARCHAR, INTEGER, DOUBLE, DOUBLE, DOUBLE, DOUBLE]),
       await ChunkAppender.open(db, 'risk_stage_securities', [INTEGER, INTEGER, INTEGER, DOUBLE, DOUBLE]),
+      await ChunkAppender.open(db, 'risk_stage_vol_change', [INTEGER, INTEGER, INTEGER, VARCHAR, ...VOL_CHANGE_FIGURES.map(() => DOUBLE), VARCHAR, INTEGER]),
+      await ChunkAppender.open(db, 'risk_stage_vol_change_securities', [INTEGER, INTEGER, INTEGER, VARCHAR, INTEGER, DOUBLE, DOUBLE, DOUBLE]),
     );
   }
 
   /** Appends a batch of an estimate's rows (from the main thread's walk or a worker's). */
   append(batch: ResultBatch): void {
-    const { windowDays, estimator, statuses, daily, contributions: c, securities: s } = batch;
+    const { windowDays, estimator, statuses, daily, contributions: c, securities: s, volChange: v, volChangeSecurities: vs } = batch;
     const window = { constant: windowDays };
     const kind = { constant: estimator };
     this.daily.appendColumns(daily.rows, [
@@ -67,6 +79,16 @@ export class ResultStage {
     ]);
     this.contributions.appendColumns(c.rows, [c.portfolio, dateIndexOf(c.row, c.rows), window, kind, c.security, ...c.values]);
     this.securities.appendColumns(s.rows, [dateIndexOf(s.row, s.rows), window, s.security, s.annReturn, s.annVol]);
+    this.volChange.appendColumns(v.rows, [
+      v.portfolio,
+      dateIndexOf(v.row, v.rows),
+      window,
+      kind,
+      ...v.figures,
+      { codes: v.status, texts: statuses },
+      v.driver,
+    ]);
+    this.volChangeSecurities.appendColumns(vs.rows, [vs.portfolio, dateIndexOf(vs.row, vs.rows), window, kind, vs.security, ...vs.values]);
   }
 
   get dailyRows(): number {
@@ -77,6 +99,8 @@ export class ResultStage {
   close(): number {
     this.contributions.close();
     this.securities.close();
+    this.volChange.close();
+    this.volChangeSecurities.close();
     return this.daily.close();
   }
 }
@@ -126,11 +150,43 @@ export async function replaceResults(db: Database, scope: ReplaceScope): Promise
      join risk_in_securities sec on sec.k = s.j`,
     [scope.runId],
   );
+  await replaceVolChange(db, scope, inScope, params);
   await db.run('delete from security_stats where ($1::date is null or date >= $1::date)', [scope.from]);
   await db.run(
     `insert into security_stats (date, window_days, security_id, ann_return, ann_vol, run_id)
      select d.date, s.window_days, sec.security_id, s.ann_return, s.ann_vol, $1
      from risk_stage_securities s
+     join risk_in_dates d on d.date_index = s.date_index
+     join risk_in_securities sec on sec.k = s.j`,
+    [scope.runId],
+  );
+}
+
+/** vol_change in the scope; vol_change_securities, like risk_contributions, for the dates it keeps. */
+async function replaceVolChange(db: Database, scope: ReplaceScope, inScope: string, params: (string | null)[]): Promise<void> {
+  await db.run(`delete from vol_change where ${inScope}`, params);
+  await db.run(
+    `insert into vol_change (portfolio_id, date, window_days, estimator, prev_date, ${VOL_CHANGE_FIGURES.join(', ')}, status, weights_driver_security_id, run_id)
+     select p.portfolio_id, d.date, s.window_days, s.estimator, prev.date, ${VOL_CHANGE_FIGURES.map((c) => `s.${c}`).join(', ')},
+            s.status, sec.security_id, $1
+     from risk_stage_vol_change s
+     join risk_in_portfolios p on p.k = s.p
+     join risk_in_dates d on d.date_index = s.date_index
+     join risk_in_dates prev on prev.date_index = s.date_index - 1
+     left join risk_in_securities sec on sec.k = s.driver`,
+    [scope.runId],
+  );
+  if (scope.contributions === 'all') {
+    await db.run(`delete from vol_change_securities where ${inScope}`, params);
+  } else {
+    await db.run(`delete from vol_change_securities where portfolio_id in (
+      select p.portfolio_id from risk_stage_daily s join risk_in_portfolios p on p.k = s.p)`);
+  }
+  await db.run(
+    `insert into vol_change_securities (portfolio_id, date, window_days, estimator, security_id, weight_prev, weight_now, from_weights, run_id)
+     select p.portfolio_id, d.date, s.window_days, s.estimator, sec.security_id, s.weight_prev, s.weight_now, s.from_weights, $1
+     from risk_stage_vol_change_securities s
+     join risk_in_portfolios p on p.k = s.p
      join risk_in_dates d on d.date_index = s.date_index
      join risk_in_securities sec on sec.k = s.j`,
     [scope.runId],
@@ -143,6 +199,8 @@ export async function dropStaging(db: Database): Promise<void> {
     'risk_stage_daily',
     'risk_stage_contributions',
     'risk_stage_securities',
+    'risk_stage_vol_change',
+    'risk_stage_vol_change_securities',
     'risk_in_dates',
     'risk_in_returns',
     'risk_in_securities',

@@ -16,7 +16,7 @@ function rowsOf(batches: ResultBatch[]): string[] {
   const rows: string[] = [];
   for (const b of batches) {
     const tag = `${b.estimator}|${b.windowDays}`;
-    const { daily: d, contributions: c, securities: s } = b;
+    const { daily: d, contributions: c, securities: s, volChange: v, volChangeSecurities: vs } = b;
     for (let i = 0; i < d.rows; i++) {
       const figures = d.figures.map((f) => String(f[i]));
       expect(figures.length).toBe(DAILY_FIGURE_COUNT);
@@ -24,6 +24,10 @@ function rowsOf(batches: ResultBatch[]): string[] {
     }
     for (let i = 0; i < c.rows; i++) rows.push(`contribution|${tag}|${c.portfolio[i]}|${c.row[i]}|${c.security[i]}|${c.values.map((v) => String(v[i]))}`);
     for (let i = 0; i < s.rows; i++) rows.push(`security|${tag}|${s.row[i]}|${s.security[i]}|${s.annReturn[i]}|${s.annVol[i]}`);
+    for (let i = 0; i < v.rows; i++) {
+      rows.push(`vol_change|${tag}|${v.portfolio[i]}|${v.row[i]}|${v.figures.map((f) => String(f[i]))}|${b.statuses[v.status[i]]}|${v.driver[i]}`);
+    }
+    for (let i = 0; i < vs.rows; i++) rows.push(`vol_change_security|${tag}|${vs.portfolio[i]}|${vs.row[i]}|${vs.security[i]}|${vs.values.map((x) => String(x[i]))}`);
   }
   return rows.sort();
 }
