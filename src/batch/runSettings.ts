@@ -22,6 +22,7 @@ export function resultSettings(config: Config): ResultSettings {
     'risk.ewma.enabled': risk.ewma.enabled,
     'risk.ewma.lambda': risk.ewma.lambda,
     'risk.ewma.seedDays': risk.ewma.seedDays,
+    'risk.shrunk.windows': [...new Set(risk.shrunk.windows)].sort((a, b) => a - b),
   };
 }
 

@@ -45,7 +45,7 @@ export const DEFAULT_SOURCES: z.input<typeof sourceSchema>[] = [
 ];
 
 export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d'] as const;
-export const ESTIMATORS = ['sample', 'ewma'] as const;
+export const ESTIMATORS = ['sample', 'ewma', 'shrunk'] as const;
 export type Estimator = (typeof ESTIMATORS)[number];
 
 /** A limit level: a fraction, so 15 meant as 15% is refused with the likely fix. */
@@ -106,6 +106,17 @@ const riskSchema = z
       .enum(['latest', 'all'])
       .default('latest')
       .describe('Keep risk contributions for the latest date of each portfolio only, or for every date.'),
+    shrunk: z
+      .object({
+        windows: z
+          .array(z.number().int().min(2))
+          .default([])
+          .describe(
+            'Windows (each one of risk.windows) that also get the shrunk estimator: Ledoit-Wolf shrinkage toward constant correlation, for books with more holdings than the window has days.',
+          ),
+      })
+      .strict()
+      .default({ windows: [] }),
   })
   .strict();
 
@@ -283,14 +294,24 @@ export const configSchema = z
           message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${limit.limit}`,
         });
       }
-      if (limit.estimator === 'ewma' ? limit.window !== 0 : !cfg.risk.windows.includes(limit.window)) {
+      const watched = limit.estimator === 'shrunk' ? { list: cfg.risk.shrunk.windows, name: 'risk.shrunk.windows' } : { list: cfg.risk.windows, name: 'risk.windows' };
+      if (limit.estimator === 'ewma' ? limit.window !== 0 : !watched.list.includes(limit.window)) {
         ctx.addIssue({
           code: 'custom',
           path: ['limits', i, 'window'],
           message:
             limit.estimator === 'ewma'
               ? 'an ewma limit has window 0'
-              : `window ${limit.window} is not in risk.windows (${cfg.risk.windows.join(', ')})`,
+              : `window ${limit.window} is not in ${watched.name} (${watched.list.join(', ') || 'none'})`,
+        });
+      }
+    });
+    cfg.risk.shrunk.windows.forEach((w, i) => {
+      if (!cfg.risk.windows.includes(w)) {
+        ctx.addIssue({
+          code: 'custom',
+          path: ['risk', 'shrunk', 'windows', i],
+          message: `window ${w} is not in risk.windows (${cfg.risk.windows.join(', ')}): the shrunk estimate shrinks a window's sample covariance`,
         });
       }
     });

@@ -2,6 +2,7 @@ import { barChart } from './charts/barChart.ts';
 import { correlationColor, heatmap } from './charts/heatmap.ts';
 import { legend, lineChart, type DateBand, type LineSeries, type ReferenceLine } from './charts/lineChart.ts';
 import { escapeHtml, formatPercent } from './format.ts';
+import type { Estimator } from '../config/schema.ts';
 import type { ReportData } from './reportData.ts';
 import { PALETTE } from './style.ts';
 
@@ -35,7 +36,7 @@ function episodeBands(data: ReportData, metric: string): DateBand[] {
     }));
 }
 
-function seriesOf(data: ReportData, estimator: 'sample' | 'ewma', window: number, field: 'vol_ex_ante' | 'vol_realized') {
+function seriesOf(data: ReportData, estimator: Estimator, window: number, field: 'vol_ex_ante' | 'vol_realized') {
   return data.series
     .filter((p) => p.estimator === estimator && p.window_days === window)
     .map((p) => ({ date: p.date, value: p[field] }));

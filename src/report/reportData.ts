@@ -1,6 +1,7 @@
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import type { Config, ResolvedLimit } from '../config/load.ts';
+import type { Estimator } from '../config/schema.ts';
 import { RiskfoldError } from '../errors.ts';
 import { applicableLimits } from '../limits/applicableLimits.ts';
 import { sqlString, type Database } from '../storage/database.ts';
@@ -9,7 +10,7 @@ import { correlationOfReturns, type CorrelationResult, type ReturnObservation } 
 export interface RiskPoint {
   date: string;
   window_days: number;
-  estimator: 'sample' | 'ewma';
+  estimator: Estimator;
   vol_ex_ante: number | null;
   vol_realized: number | null;
 }

@@ -1,4 +1,5 @@
 import type { Config } from '../config/load.ts';
+import type { Estimator } from '../config/schema.ts';
 import { annualizedReturn, annualizedVolatility } from './math/annualize.ts';
 import { mean, sampleVariance } from './math/moments.ts';
 import { EwmaEstimate, type EwmaState } from './ewmaEstimate.ts';
@@ -6,6 +7,7 @@ import type { PortfolioPanel, ReturnPanel } from './inputs.ts';
 import { assessRow, RowScratch, type CovarianceView, type Exposure, type RiskSettings } from './portfolioRow.ts';
 import { DAILY_FIGURE_COUNT, ResultCollector, VOL_CHANGE_FIGURE_COUNT, type ResultBatch } from './resultColumns.ts';
 import { SampleEstimate, type SamplePath } from './sampleEstimate.ts';
+import { ShrunkEstimate } from './shrunkEstimate.ts';
 import { VolChangeTracker, type VolChangeRow } from './volChangeTracker.ts';
 
 /**
@@ -25,6 +27,7 @@ export interface ComputeInputs {
 
 export type EstimateTask =
   | { kind: 'sample'; windowDays: number; path: SamplePath }
+  | { kind: 'shrunk'; windowDays: number }
   | { kind: 'ewma'; lambda: number; seedDays: number };
 
 export interface WalkSettings extends RiskSettings {
@@ -33,10 +36,12 @@ export interface WalkSettings extends RiskSettings {
 }
 
 interface DateEstimate extends CovarianceView {
-  readonly estimator: 'sample' | 'ewma';
+  readonly estimator: Estimator;
   readonly windowDays: number;
   readonly startRow: number;
   forEachSecurity(emit: (j: number, annReturn: number, annVol: number) => void, periodsPerYear: number): void;
+  /** A shrinkage estimate: the intensity of its last product (NaN for none), forgotten once taken. */
+  takeIntensity?(): number;
 }
 
 /** Rows (all tables) collected before a batch is handed over; bounds memory in a long backfill. */
@@ -52,6 +57,11 @@ export function walkEstimate(task: EstimateTask, input: ComputeInputs, settings:
   if (task.kind === 'sample') {
     // from the date before the first output date: the first change since then needs its covariance
     const estimate = new SampleEstimate(returns, task.windowDays, task.path, Math.max(0, fromRow - 1));
+    walk(estimate, (d, output) => estimate.advance(d, output), input, settings, emit);
+    return [];
+  }
+  if (task.kind === 'shrunk') {
+    const estimate = new ShrunkEstimate(returns, task.windowDays, Math.max(0, fromRow - 1));
     walk(estimate, (d, output) => estimate.advance(d, output), input, settings, emit);
     return [];
   }
@@ -81,7 +91,8 @@ function walk(
   const { returns, portfolios, fromRow } = input;
   const dateCount = returns.dates.length;
   const lastRow = lastPresentRows(portfolios, dateCount);
-  const average = estimate.estimator === 'sample' && settings.weights === 'window_average';
+  const windowed = estimate.estimator !== 'ewma';
+  const average = windowed && settings.weights === 'window_average';
   const accumulator = new Float64Array(returns.securityIds.length);
   const exposureAt = (p: number, d: number): Exposure =>
     average ? averageExposure(portfolios, returns, p, d, estimate.windowDays, accumulator) : currentExposure(portfolios, returns, p * dateCount + d);
@@ -123,8 +134,10 @@ function walk(
       const exposure = exposureAt(p, d);
       const flags = flagsAt(slot);
       const withContributions = settings.contributions === 'all' || d === lastRow[p];
+      estimate.takeIntensity?.();
       const row = assessRow(exposure, flags, estimate, settings, withContributions, scratch);
-      const realized = estimate.estimator === 'sample' ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
+      const intensity = estimate.takeIntensity?.() ?? Number.NaN;
+      const realized = windowed ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
       figures[0] = flags.value;
       figures[1] = row.volExAnte;
       figures[2] = realized?.vol ?? Number.NaN;
@@ -135,6 +148,7 @@ function walk(
       figures[7] = row.es975_10d;
       figures[8] = row.diversification;
       figures[9] = row.coverage;
+      figures[10] = Number.isFinite(row.volExAnte) ? intensity : Number.NaN;
       out.addDaily(p, d, figures, row.status, row.nHoldings, row.nCovered);
       if (row.contributions) {
         const { mcr, ccr, pct } = row.contributions;

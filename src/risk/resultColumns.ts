@@ -9,7 +9,7 @@
 import type { Estimator } from '../config/schema.ts';
 
 /** Figures of a risk_daily row, in staging's DAILY_FIGURES order. */
-export const DAILY_FIGURE_COUNT = 10;
+export const DAILY_FIGURE_COUNT = 11;
 /** weight, mcr, ccr, pct of a risk_contributions row. */
 export const CONTRIBUTION_VALUE_COUNT = 4;
 /** Figures of a vol_change row, in staging's VOL_CHANGE_FIGURES order. */

@@ -23,6 +23,7 @@ const DAILY_FIGURES = [
   'es_975_10d',
   'diversification_ratio',
   'coverage',
+  'shrinkage_intensity',
 ] as const;
 
 const VOL_CHANGE_FIGURES = ['vol_prev', 'vol_now', 'from_weights', 'from_market', 'weights_driver_change'] as const;

@@ -102,8 +102,8 @@ describe('computeRisk in worker threads', () => {
     return { rows: rowsOf(batches), ewma };
   }
 
-  it('gives the same rows bit for bit as the main thread: both sample paths, the EWMA and every contribution', async () => {
-    ws = await tempWorkspace({ risk: { ...RISK, windows: [21, 63, 150], contributions: 'all' } });
+  it('gives the same rows bit for bit as the main thread: both sample paths, the shrunk estimate, the EWMA and every contribution', async () => {
+    ws = await tempWorkspace({ risk: { ...RISK, windows: [21, 63, 150], contributions: 'all', shrunk: { windows: [21] } } });
     const input = wideInputs();
     const one = await run(input, 1);
     const two = await run(input, 2);
@@ -111,6 +111,7 @@ describe('computeRisk in worker threads', () => {
     expect(paths).toContain('21:window');
     expect(paths).toContain('150:sliding');
     expect(one.rows.length).toBeGreaterThan(20_000);
+    expect(one.rows.some((r) => r.startsWith('daily|shrunk|21|'))).toBe(true);
     expect(two.rows).toEqual(one.rows);
     // the states of the last two dates
     expect(one.ewma.map((s) => s.row)).toEqual([418, 419]);
