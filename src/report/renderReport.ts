@@ -2,6 +2,7 @@ import { contributionsSection, correlationSection, realizedSection, volatilitySe
 import { escapeHtml } from './format.ts';
 import type { ReportData } from './reportData.ts';
 import { STYLESHEET } from './style.ts';
+import { volChangeSection } from './volChangeSection.ts';
 import { breachTable, cautionsSection, keyFigures, latestTable, provenanceFooter, qualitySection } from './tableSections.ts';
 
 /**
@@ -27,6 +28,7 @@ export function renderReport(data: ReportData, generatedAt: Date): string {
 </header>
 ${keyFigures(data)}
 ${volatilitySection(data)}
+${volChangeSection(data)}
 ${realizedSection(data)}
 ${contributionsSection(data)}
 ${correlationSection(data)}

@@ -6,6 +6,7 @@ import { RiskfoldError } from '../errors.ts';
 import { applicableLimits } from '../limits/applicableLimits.ts';
 import { sqlString, type Database } from '../storage/database.ts';
 import { correlationOfReturns, type CorrelationResult, type ReturnObservation } from './correlation.ts';
+import { loadVolChange, type VolChangeReport } from './volChangeData.ts';
 
 export interface RiskPoint {
   date: string;
@@ -75,6 +76,8 @@ export interface ReportData {
   series: RiskPoint[];
   latest: LatestRisk[];
   contributions: { date: string | null; rows: Contribution[] };
+  /** Why the focus window's volatility moved, day by day over the charts' dates. */
+  volChange: VolChangeReport;
   correlation: (CorrelationResult & { names: string[]; window: number }) | { error: string };
   breaches: Breach[];
   quality: QualityFlag[];
@@ -138,6 +141,7 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
     series,
     latest,
     contributions: await loadContributions(db, portfolioId, focusWindow),
+    volChange: await loadVolChange(db, portfolioId, focusWindow, chartFrom, asOf),
     correlation: await loadCorrelation(db, portfolioId, asOf),
     breaches: await db.all<Breach>('select * from limit_breaches where portfolio_id = $1 order by opened_on, breach_id', [portfolioId]),
     quality: await loadQuality(db, portfolioId),
