@@ -6,7 +6,11 @@ import type { ReportData } from './reportData.ts';
 import { PALETTE } from './style.ts';
 
 const HOLDINGS_SHOWN = 10;
-const points = (v: number) => `${v > 0 ? '+' : ''}${(v * 100).toFixed(2)} pt`;
+/** Signed percentage points, 2 decimals; a rounding-level value reads 0.00, never -0.00. */
+const points = (v: number) => {
+  const text = (v * 100).toFixed(2);
+  return `${v > 0 && text !== '0.00' ? '+' : ''}${text === '-0.00' ? '0.00' : text} pt`;
+};
 
 /**
  * Why the focus window's ex-ante volatility moved: the daily split (vol_change) summed
