@@ -4,11 +4,11 @@ import { annualizedReturn, annualizedVolatility } from './math/annualize.ts';
 import { mean, sampleVariance } from './math/moments.ts';
 import { EwmaEstimate, type EwmaState } from './ewmaEstimate.ts';
 import type { PortfolioPanel, ReturnPanel } from './inputs.ts';
-import { assessRow, RowScratch, type CovarianceView, type Exposure, type RiskSettings } from './portfolioRow.ts';
+import { assessRow, RowScratch, type CovarianceView, type Exposure, type RiskSettings, type RowFigures } from './portfolioRow.ts';
 import { DAILY_FIGURE_COUNT, ResultCollector, VOL_CHANGE_FIGURE_COUNT, type ResultBatch } from './resultColumns.ts';
 import { SampleEstimate, type SamplePath } from './sampleEstimate.ts';
 import { ShrunkEstimate } from './shrunkEstimate.ts';
-import { VolChangeTracker, type VolChangeRow } from './volChangeTracker.ts';
+import { VolChangeTracker, type KnownProduct, type VolChangeRow } from './volChangeTracker.ts';
 
 /**
  * One estimate's walk over the dates: advance the estimate date by date and, at each
@@ -99,11 +99,14 @@ function walk(
   const flagsAt = (slot: number) => ({ value: portfolios.value[slot], unpriced: portfolios.unpriced[slot] === 1, stale: portfolios.stale[slot] === 1 });
   const changes = new VolChangeTracker(portfolios.ids.length, settings.periodsPerYear);
   /** Keeps date d's products for the split on d + 1 (or forgets p when d's row has no volatility). */
-  const carry = (p: number, d: number, exposure: Exposure, volExAnte: number) => {
+  const carry = (p: number, d: number, exposure: Exposure, row: RowFigures) => {
     const next = d + 1 < dateCount && portfolios.present[p * dateCount + d + 1] === 1;
-    if (Number.isFinite(volExAnte) && next) changes.carry(p, d, estimate, exposure, exposureAt(p, d + 1));
+    if (Number.isFinite(row.volExAnte) && next) changes.carry(p, d, estimate, exposure, exposureAt(p, d + 1), knownProduct(row));
     else changes.forget(p);
   };
+  /** The row's own S w over its covered holdings (in the scratch, valid until the next row). */
+  const knownProduct = (row: RowFigures): KnownProduct | null =>
+    Number.isFinite(row.volExAnte) ? { idx: scratch.idx.subarray(0, row.nCovered), sw: scratch.sw.subarray(0, row.nCovered) } : null;
   const scratch = new RowScratch();
   const figures = new Float64Array(DAILY_FIGURE_COUNT);
   const changeFigures = new Float64Array(VOL_CHANGE_FIGURE_COUNT);
@@ -115,7 +118,7 @@ function walk(
       const slot = p * dateCount + d;
       if (portfolios.present[slot] !== 1) continue;
       const exposure = exposureAt(p, d);
-      carry(p, d, exposure, assessRow(exposure, flagsAt(slot), estimate, settings, false, scratch).volExAnte);
+      carry(p, d, exposure, assessRow(exposure, flagsAt(slot), estimate, settings, false, scratch));
     }
   };
   let currentRow = -1;
@@ -154,9 +157,9 @@ function walk(
         const { mcr, ccr, pct } = row.contributions;
         for (let a = 0; a < exposure.j.length; a++) out.addContribution(p, d, exposure.j[a], exposure.w[a], mcr[a], ccr[a], pct[a]);
       }
-      const change = Number.isFinite(row.volExAnte) ? changes.split(p, d, estimate) : null;
+      const change = Number.isFinite(row.volExAnte) ? changes.split(p, d, estimate, knownProduct(row)) : null;
       if (change) addChange(out, p, d, change, withContributions, changeFigures);
-      carry(p, d, exposure, row.volExAnte);
+      carry(p, d, exposure, row);
     }
     out.endDate();
     if (out.pendingRows >= BATCH_ROWS || d === dateCount - 1) emit(out.take());

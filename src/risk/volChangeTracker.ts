@@ -44,6 +44,12 @@ interface Carried {
 
 const EMPTY = new Float64Array(0);
 
+/** S w of today's book over some securities, as the risk row already computed it (reused when the securities match). */
+export interface KnownProduct {
+  idx: Int32Array;
+  sw: Float64Array;
+}
+
 export class VolChangeTracker {
   private readonly carried: (Carried | null)[];
 
@@ -58,9 +64,14 @@ export class VolChangeTracker {
    * Under the estimate at row d (whose risk row has a volatility): keeps S_d w_d and
    * S_d w_d+1 for portfolio p, for the split on d + 1; `next` null forgets p.
    */
-  carry(p: number, d: number, cov: CovarianceView, now: Exposure, next: Exposure | null): void {
+  carry(p: number, d: number, cov: CovarianceView, now: Exposure, next: Exposure | null, known: KnownProduct | null): void {
     const pair = next ? commonBooks(now, next, cov) : null;
-    this.carried[p] = pair && { row: d, ...pair, sw0: cov.product(pair.idx, pair.w0), sw1: cov.product(pair.idx, pair.w1) };
+    if (!pair) {
+      this.carried[p] = null;
+      return;
+    }
+    const sw0 = known && sameSecurities(known.idx, pair.idx) ? Float64Array.from(known.sw) : cov.product(pair.idx, pair.w0);
+    this.carried[p] = { row: d, ...pair, sw0, sw1: cov.product(pair.idx, pair.w1) };
   }
 
   /** Forgets p: its risk row at the current date has no volatility. */
@@ -72,13 +83,14 @@ export class VolChangeTracker {
    * The split of the change from row d - 1 to d for portfolio p under the estimate at
    * row d (whose risk row has a volatility), or null when d - 1 was not carried.
    */
-  split(p: number, d: number, cov: CovarianceView): VolChangeRow | null {
+  split(p: number, d: number, cov: CovarianceView, known: KnownProduct | null): VolChangeRow | null {
     const c = this.carried[p];
     if (!c || c.row !== d - 1) return null;
     for (let a = 0; a < c.idx.length; a++) {
       if (!cov.covered(c.idx[a])) return brokenRow();
     }
-    const today = { sw0: cov.product(c.idx, c.w0), sw1: cov.product(c.idx, c.w1) };
+    const sw1 = known && sameSecurities(known.idx, c.idx) ? known.sw : cov.product(c.idx, c.w1);
+    const today = { sw0: cov.product(c.idx, c.w0), sw1 };
     const result = volatilityChangeFromProducts({ sw0: c.sw0, sw1: c.sw1 }, today, c.w0, c.w1, this.periodsPerYear);
     return {
       status: c.complete ? 'ok' : 'partial_history',
@@ -92,6 +104,12 @@ export class VolChangeTracker {
       fromWeightsBySecurity: result.fromWeightsBySecurity,
     };
   }
+}
+
+function sameSecurities(a: Int32Array, b: Int32Array): boolean {
+  if (a.length !== b.length) return false;
+  for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) return false;
+  return true;
 }
 
 function brokenRow(): VolChangeRow {
