@@ -12,10 +12,19 @@ held_securities as (
   where quantity <> 0 and security_id not like 'CASH:%'
 ),
 
+-- a suspect price held out of risk (checks.suspectPrices.mode hold) is skipped here, so
+-- the previous price is carried over its date, stale, until a delivery repeats or corrects it
+held_out as (
+  select security_id, date
+  from price_checks
+  where held and cleared_at is null
+),
+
 held_prices as (
   select p.date, p.security_id, p.price, p.currency
   from clean_prices p
   semi join held_securities h on h.security_id = p.security_id
+  anti join held_out o on o.security_id = p.security_id and o.date = p.date
 ),
 
 -- how many valuation dates had passed when the price was observed: staleness is

@@ -1,9 +1,17 @@
 -- Daily log return of each ever-held security between consecutive valuation dates:
 -- log_return = ln(P_base_t / P_base_t-1) with P_base = price_local * fx_rate (base
 -- currency), log_return_local the same in the security's own currency. Null when either
--- side is missing. Cash has no rows: its return is zero by definition.
+-- side is missing. Cash in the base currency has no rows: its return is zero by
+-- definition. Cash in another currency (CASH:<code>) is a balance at price 1 in that
+-- currency: its base-currency return is the fx log return ln(fx_t / fx_t-1), its local
+-- return zero (SPEC section 3, round 2).
 create or replace view ret_securities as
-with prices as (
+with settings as (
+  select base_currency
+  from pipeline_settings
+),
+
+prices as (
   select a.security_id, a.date, a.date_index, a.price_local, a.is_stale as price_is_stale, f.rate as fx_rate, f.is_stale as fx_is_stale
   from align_prices a
   left join align_fx f on f.currency = a.currency and f.date = a.date
@@ -40,6 +48,49 @@ returns as (
     prev_price_base
   from paired
   where prev_date_index is not null
+),
+
+foreign_cash as (
+  select distinct p.security_id, substr(p.security_id, 6) as currency
+  from clean_positions p
+  cross join settings
+  where p.quantity <> 0 and p.security_id like 'CASH:%' and substr(p.security_id, 6) <> settings.base_currency
+),
+
+-- align_fx has a row for every valuation date from a currency's first rate on
+cash_paired as (
+  select
+    c.security_id,
+    f.date,
+    f.date_index,
+    f.rate,
+    lag(f.rate) over by_date as prev_rate,
+    lag(f.date_index) over by_date as prev_date_index,
+    f.is_stale
+  from foreign_cash c
+  join align_fx f on f.currency = c.currency
+  window by_date as (partition by c.security_id order by f.date_index)
+),
+
+cash_returns as (
+  select
+    security_id,
+    date,
+    date_index,
+    case when rate > 0 and prev_rate > 0 then ln(rate / prev_rate) end as log_return,
+    case when rate > 0 and prev_rate > 0 then 0.0::double end as log_return_local,
+    is_stale,
+    rate / prev_rate - 1 as simple_return,
+    rate as price_base,
+    prev_rate as prev_price_base
+  from cash_paired
+  where prev_date_index is not null
+),
+
+all_returns as (
+  select * from returns
+  union all
+  select * from cash_returns
 )
 
-select * from returns;
+select * from all_returns;

@@ -2,10 +2,16 @@
 -- trades move the value but are no return):
 --   R_t = sum_i w_i,t-1 * (P_base_i,t / P_base_i,t-1 - 1) over the positions at t-1,
 --   log_return = ln(1 + R_t).
--- Cash earns 0 but keeps its weight. If any position at t-1 has no return (or no weight)
+-- Cash in the base currency earns 0 but keeps its weight; cash in another currency earns
+-- its fx return (a row of ret_securities). If any position at t-1 has no return (or no weight)
 -- R_t would rest on made-up data, so it is null; covered_weight shows how much was known.
 create or replace view ret_portfolios as
-with valuation_dates as (
+with settings as (
+  select base_currency
+  from pipeline_settings
+),
+
+valuation_dates as (
   select date, date_index
   from align_valuation_dates
 ),
@@ -26,8 +32,9 @@ position_returns as (
     p.portfolio_id,
     p.date_index,
     p.weight,
-    case when p.is_cash then 0.0::double else r.simple_return end as asset_return
+    case when p.security_id = 'CASH:' || settings.base_currency then 0.0::double else r.simple_return end as asset_return
   from positions_before p
+  cross join settings
   left join security_returns r on r.security_id = p.security_id and r.date_index = p.date_index
 ),
 

@@ -104,6 +104,16 @@ nonpositive_value as (
   where v.value_base <= 0
 ),
 
+-- a price found suspect (src/checks), on its date, for every portfolio holding the security
+suspect_price as (
+  select
+    p.portfolio_id, p.date, p.security_id, 'suspect_price' as problem,
+    c.reason || case when c.held then '; held out of risk, the previous price carried forward' else '; used in risk' end as reason
+  from positions p
+  join price_checks c on c.security_id = p.security_id and c.date = p.date
+  where c.cleared_at is null
+),
+
 problems as (
   select * from stale_past_limit
   union all select * from stale_price
@@ -112,6 +122,7 @@ problems as (
   union all select * from missing_fx
   union all select * from short_history
   union all select * from nonpositive_value
+  union all select * from suspect_price
 )
 
 select * from problems;

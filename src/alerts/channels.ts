@@ -2,6 +2,7 @@ import { appendFile, mkdir, open } from 'node:fs/promises';
 import path from 'node:path';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
+import { isBearerToken } from './redact.ts';
 
 /** What every channel receives: the alert row, payload parsed. */
 export interface AlertMessage {
@@ -18,6 +19,12 @@ export interface Channel {
   name: 'log' | 'file' | 'webhook';
   /** Resolves once the channel has the alert; rejects with a one-line reason (never a secret). */
   send(message: AlertMessage): Promise<void>;
+}
+
+/** The secrets a channel may hold right now (the webhook token): no message may show them. */
+export function channelSecrets(config: Config): (string | undefined)[] {
+  const env = config.alerts.webhook?.tokenEnv;
+  return env === undefined ? [] : [process.env[env]];
 }
 
 /** The log always, then the alerts file and the webhook if configured. */
@@ -103,6 +110,9 @@ export function webhookChannel(webhook: WebhookConfig): Channel {
       if (webhook.tokenEnv !== undefined) {
         const token = process.env[webhook.tokenEnv];
         if (!token) throw new Error(`environment variable ${webhook.tokenEnv} (the webhook token) is not set`);
+        if (!isBearerToken(token)) {
+          throw new Error(`environment variable ${webhook.tokenEnv} holds characters a bearer token cannot have (RFC 6750 section 2.1); not sent`);
+        }
         headers.authorization = `Bearer ${token}`;
       }
       const controller = new AbortController();

@@ -2,7 +2,8 @@ import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { ALERT_RETRY_DEFAULTS } from '../config/schema.ts';
 import type { Database } from '../storage/database.ts';
-import { configuredChannels, type AlertMessage, type Channel } from './channels.ts';
+import { channelSecrets, configuredChannels, type AlertMessage, type Channel } from './channels.ts';
+import { redactSecrets } from './redact.ts';
 
 export interface DeliverySummary {
   /** Alerts every channel now has (this call). */
@@ -11,6 +12,8 @@ export interface DeliverySummary {
   failed: number;
   /** Alerts still undelivered after this call, including those past maxAttempts. */
   pending: number;
+  /** When the earliest alert still to be retried is due (ISO 8601); null: none waits for a retry. */
+  nextAttemptAt: string | null;
 }
 
 interface RetrySchedule {
@@ -33,7 +36,7 @@ const lanes = new WeakMap<Database, Lane>();
  * transaction there. A failed channel is recorded on the alert (attempts, last_error,
  * next_attempt_at) and the call still resolves; only a database fault rejects.
  */
-export function deliverAlerts(db: Database, config: Config, log: Logger, options: { now?: Date } = {}): Promise<DeliverySummary> {
+export function deliverAlerts(db: Database, config: Config, log: Logger, options: { clock?: () => Date } = {}): Promise<DeliverySummary> {
   let lane = lanes.get(db);
   if (lane === undefined) {
     lane = { tail: Promise.resolve(), waiting: null };
@@ -43,7 +46,7 @@ export function deliverAlerts(db: Database, config: Config, log: Logger, options
   const current = lane;
   const pass = current.tail.then(() => {
     current.waiting = null;
-    return deliverDue(db, config, log.child({ stage: 'alerts' }), options.now ?? new Date());
+    return deliverDue(db, config, log.child({ stage: 'alerts' }), options.clock ?? (() => new Date()));
   });
   current.waiting = pass;
   current.tail = pass.catch(() => undefined);
@@ -65,7 +68,8 @@ interface DueAlert {
   attempts: number;
 }
 
-async function deliverDue(db: Database, config: Config, log: Logger, now: Date): Promise<DeliverySummary> {
+async function deliverDue(db: Database, config: Config, log: Logger, clock: () => Date): Promise<DeliverySummary> {
+  const now = clock();
   const retry: RetrySchedule = config.alerts.webhook ?? ALERT_RETRY_DEFAULTS;
   const channels = configuredChannels(config, log);
   const session = await db.openSession();
@@ -77,13 +81,18 @@ async function deliverDue(db: Database, config: Config, log: Logger, now: Date):
        order by created_at, alert_id`,
       [retry.maxAttempts, now.toISOString()],
     );
-    const summary: DeliverySummary = { delivered: 0, failed: 0, pending: 0 };
+    const summary: DeliverySummary = { delivered: 0, failed: 0, pending: 0, nextAttemptAt: null };
     for (const alert of due) {
-      if (await deliverOne(session, channels, alert, now, retry, log)) summary.delivered++;
+      if (await deliverOne(session, channels, alert, clock, retry, channelSecrets(config), log)) summary.delivered++;
       else summary.failed++;
     }
-    const [{ pending }] = await session.all<{ pending: number }>('select count(*)::integer as pending from alerts where delivered_at is null');
+    const [{ pending, next_ms }] = await session.all<{ pending: number; next_ms: string | null }>(
+      `select count(*)::integer as pending, epoch_ms(min(coalesce(next_attempt_at, now())) filter (where attempts < $1))::varchar as next_ms
+       from alerts where delivered_at is null`,
+      [retry.maxAttempts],
+    );
     summary.pending = pending;
+    summary.nextAttemptAt = next_ms === null ? null : new Date(Number(next_ms)).toISOString();
     if (due.length > 0) log.info(summary, 'alerts delivered');
     return summary;
   } finally {
@@ -95,8 +104,9 @@ async function deliverOne(
   db: Database,
   channels: Channel[],
   alert: DueAlert,
-  now: Date,
+  clock: () => Date,
   retry: RetrySchedule,
+  secrets: (string | undefined)[],
   log: Logger,
 ): Promise<boolean> {
   const done = await db.all<{ channel: string }>('select channel from alert_deliveries where alert_id = $1', [alert.alert_id]);
@@ -115,12 +125,15 @@ async function deliverOne(
     try {
       await channel.send(message);
     } catch (err) {
-      errors.push(`${channel.name}: ${(err as Error).message}`);
+      // whatever a channel's error quotes, a secret never reaches last_error, the log or status
+      errors.push(`${channel.name}: ${redactSecrets((err as Error).message, secrets)}`);
       continue;
     }
-    await db.run('insert into alert_deliveries values ($1, $2, $3::timestamptz)', [alert.alert_id, channel.name, now.toISOString()]);
+    await db.run('insert into alert_deliveries values ($1, $2, $3::timestamptz)', [alert.alert_id, channel.name, clock().toISOString()]);
   }
   const attempts = alert.attempts + 1;
+  // read after the sends: the backoff counts from this alert's failure, not from the round's start
+  const now = clock();
   if (errors.length === 0) {
     await db.run('update alerts set delivered_at = $1::timestamptz, attempts = $2, last_error = null, next_attempt_at = null where alert_id = $3', [
       now.toISOString(),

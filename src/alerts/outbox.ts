@@ -5,7 +5,10 @@ export type AlertKind =
   | 'limit_escalated'
   | 'limit_closed'
   | 'limit_retracted'
+  | 'limit_state'
   | 'data_missing'
+  | 'portfolio_unvalued'
+  | 'price_suspect'
   | 'run_failed'
   | 'file_held';
 
@@ -16,7 +19,8 @@ export interface NewAlert {
   portfolioId: string | null;
   /** 'YYYY-MM-DD', the valuation date the alert is about. */
   asOf: string | null;
-  payload: Record<string, unknown> & { text: string };
+  /** Every alert says the state it describes: `level` and whether its episode is `open` or `closed`. */
+  payload: Record<string, unknown> & { text: string; level: string; episode_state: 'open' | 'closed' };
   breachId?: number | null;
   runId?: number | null;
 }

@@ -1,7 +1,10 @@
 import type { Logger } from 'pino';
+import { checkPrices } from '../checks/checkPrices.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { phaseClock } from '../log/phaseClock.ts';
+import { computeLosses } from '../loss/computeLosses.ts';
+import { dropLossStage } from '../loss/lossStage.ts';
 import { computeRun } from '../risk/computeRun.ts';
 import { dropStaging } from '../risk/staging.ts';
 import type { Database } from '../storage/database.ts';
@@ -33,8 +36,8 @@ export interface RunSummary {
 
 /**
  * One run, from `from` on (earlier rows stay as they are) for the given portfolios:
- * records a risk_runs row (with the settings that shape its results), refreshes the derived tables, computes risk into staging
- * tables, then in ONE transaction runs every writer (risk rows, estimator state, limits
+ * records a risk_runs row (with the settings that shape its results), refreshes the derived tables, computes risk and
+ * the losses (src/loss) into staging tables, then in ONE transaction runs every writer (risk rows, estimator state, limits
  * and their alerts in the outbox) and marks the run done. A failure marks the run
  * failed, raises a `run_failed` alert and rethrows; none of its results are visible. Delivering and publishing are the
  * batch's, after this returns.
@@ -56,9 +59,13 @@ export async function runRecompute(
   rlog.info({ trigger: request.trigger, from, portfolios }, 'recompute started');
   const phases = phaseClock();
   try {
+    // before the prices are read: a suspect one is flagged (or held out) in this very run
+    await phases.time('check_prices', () => checkPrices(db, config, log, { from }));
     // an explicit step: the readers of the views never rebuild what they read
     await phases.time('refresh_derived', () => refreshDerived(db, log));
-    const risk = await computeRun(db, config, log, { runId, from, portfolios, settings }, phases);
+    // the panels are let go once the loss stage has staged its rows: the write step does not need them
+    const { inputs, ...risk } = await computeRun(db, config, log, { runId, from, portfolios, settings }, phases);
+    await phases.time('losses', () => computeLosses(db, config, log, inputs));
     const run: RunContext = { runId, from, portfolios, settings, trigger: request.trigger, config, log, risk, alertsRaised: 0 };
     await db.transaction(async () => {
       for (const writer of writers) await phases.time(writer.name, () => writer.write(db, run));
@@ -84,6 +91,7 @@ export async function runRecompute(
     throw err;
   } finally {
     await dropStaging(db).catch(() => undefined);
+    await dropLossStage(db).catch(() => undefined);
   }
 }
 

@@ -1,6 +1,9 @@
 import type { Logger } from 'pino';
+import { markSuspectWindows } from '../checks/suspectStatus.ts';
+import { alertUnvaluedPortfolios } from '../checks/unvaluedPortfolios.ts';
 import type { Config } from '../config/load.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
+import { writeLosses } from '../loss/lossStage.ts';
 import type { ComputedRisk, RiskScope } from '../risk/computeRun.ts';
 import { saveEwmaState } from '../risk/ewmaState.ts';
 import { replaceResults } from '../risk/staging.ts';
@@ -12,8 +15,8 @@ export interface RunContext extends RiskScope {
   trigger: string;
   config: Config;
   log: Logger;
-  /** The computed run: staged rows, dates, EWMA states. */
-  risk: ComputedRisk;
+  /** The computed run: staged rows, dates, EWMA states (its input panels are let go before the write step). */
+  risk: Omit<ComputedRisk, 'inputs'>;
   /** Alerts written to the outbox so far in this transaction; a writer that raises alerts adds its count. */
   alertsRaised: number;
 }
@@ -30,14 +33,21 @@ export interface RunWriter {
 }
 
 /**
- * The write step of every run: risk rows, then the estimator state, then limits (which
- * read the new rows) and their alerts, then the close of a failure episode.
+ * The write step of every run: risk rows and their suspect_price status, the loss rows,
+ * then the estimator state, then limits (which read the new rows) and their alerts, the
+ * portfolio_unvalued alerts, then the close of a failure episode.
  */
 export const RUN_WRITERS: readonly RunWriter[] = [
   {
     name: 'write',
     write: (tx, run) =>
       replaceResults(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, contributions: run.config.risk.contributions }),
+  },
+  { name: 'suspect_status', write: async (tx, run) => void (await markSuspectWindows(tx, run.runId)) },
+  {
+    // after the risk rows: var_daily copies the normal figures from risk_daily; before the limits, which read var_backtest
+    name: 'write_losses',
+    write: (tx, run) => writeLosses(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios }),
   },
   {
     name: 'save_ewma_state',
@@ -48,6 +58,12 @@ export const RUN_WRITERS: readonly RunWriter[] = [
     write: async (tx, run) => {
       const outcome = await checkLimits(tx, run.config, run.log, { runId: run.runId, from: run.from, portfolios: run.portfolios });
       run.alertsRaised += outcome.alertsRaised;
+    },
+  },
+  {
+    name: 'unvalued',
+    write: async (tx, run) => {
+      run.alertsRaised += await alertUnvaluedPortfolios(tx, run.log, { runId: run.runId, portfolios: run.portfolios });
     },
   },
   closeRunFailure,

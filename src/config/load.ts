@@ -1,7 +1,7 @@
 import { existsSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import { z } from 'zod';
-import { configSchema, DEFAULT_SOURCES, sourceSchema, type LimitConfig, type ParsedConfig, type SourceConfig } from './schema.ts';
+import { configSchema, DEFAULT_SOURCES, limitLevels, sourceSchema, type LimitConfig, type ParsedConfig, type SourceConfig } from './schema.ts';
 import { RiskfoldError } from '../errors.ts';
 import { jsonErrorOffset, knownKeysAt, lineAndColumn, nearestKey } from './explain.ts';
 
@@ -45,11 +45,7 @@ export function resolveConfig(raw: unknown, configPath: string): Config {
     database,
     readCopy: cfg.readCopy === undefined ? database.replace(/(\.duckdb)?$/, '.read.duckdb') : at(cfg.readCopy),
     alerts,
-    limits: cfg.limits.map((l) => ({
-      ...l,
-      warning: l.warning ?? 0.9 * l.limit,
-      clear: l.clear ?? 0.85 * l.limit,
-    })),
+    limits: cfg.limits.map((l) => ({ ...l, ...limitLevels(l) })),
   });
 }
 

@@ -1,4 +1,6 @@
 import { z } from 'zod';
+import { currencyCode } from './codes.ts';
+import { checkStressScenarios, stressSchema } from './stressSchema.ts';
 
 /**
  * The single source of truth for pipeline.config.json: types, defaults, the JSON
@@ -16,7 +18,6 @@ export const CANONICAL_COLUMNS: Record<FileKind, { required: string[]; optional:
   securities: { required: ['security_id'], optional: ['name', 'asset_class', 'currency'] },
 };
 
-const currencyCode = z.string().regex(/^[A-Z]{3}$/, 'an ISO 4217 code: three capital letters');
 
 export const sourceSchema = z
   .object({
@@ -44,15 +45,18 @@ export const DEFAULT_SOURCES: z.input<typeof sourceSchema>[] = [
   { name: 'securities', kind: 'securities', pattern: 'securities*.csv*' },
 ];
 
-export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d'] as const;
+export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d', 'backtest_zone'] as const;
+
+/**
+ * The Basel zones as limit levels on the exceptions in 250 tested days (Basel Committee
+ * 1996): yellow (warning) from 5, red (breach) from 10, green again below 5.
+ */
+export const BACKTEST_ZONE_LEVELS = { limit: 10, warning: 5, clear: 4.5 } as const;
 export const ESTIMATORS = ['sample', 'ewma', 'shrunk'] as const;
 export type Estimator = (typeof ESTIMATORS)[number];
 
-/** A limit level: a fraction, so 15 meant as 15% is refused with the likely fix. */
-const levelSchema = z
-  .number()
-  .positive()
-  .max(1, { error: (issue) => `${String(issue.input)} is above 1, but levels are fractions (0.15 = 15%); did you mean ${Number(issue.input) / 100}?` });
+/** A limit level: positive; above 1 only for backtest_zone, whose levels count exceptions (checked with the metric below). */
+const levelSchema = z.number().positive();
 
 export const limitSchema = z
   .object({
@@ -60,12 +64,18 @@ export const limitSchema = z
     metric: z
       .enum(LIMIT_METRICS)
       .default('vol_ex_ante')
-      .describe('Figure of risk_daily to watch; var_99_1d is taken as a fraction of portfolio value.'),
+      .describe(
+        'Figure to watch: of risk_daily (var_99_1d as a fraction of portfolio value), or backtest_zone, the exceptions in 250 days of the normal 1-day 99% VaR backtest (var_backtest) of this window and estimator.',
+      ),
     window: z.number().int().min(0).describe('Window in trading days (0 with estimator "ewma").'),
     estimator: z.enum(ESTIMATORS).default('sample').describe('Which estimate of risk_daily the limit reads.'),
-    limit: levelSchema.describe('Mandate limit, a fraction (0.15 = 15%).'),
-    warning: levelSchema.optional().describe('Warning level; default 0.9 x limit.'),
-    clear: levelSchema.optional().describe('An episode closes on the first date below this; default 0.85 x limit.'),
+    limit: levelSchema
+      .optional()
+      .describe('Mandate limit, a fraction up to 1 (0.15 = 15%); required except for backtest_zone, whose levels count exceptions (default 10: red).'),
+    warning: levelSchema.optional().describe('Warning level; default 0.9 x limit (backtest_zone: 5 exceptions, yellow).'),
+    clear: levelSchema
+      .optional()
+      .describe('An episode closes on the first date below this; default 0.85 x limit (backtest_zone: 4.5, back to green).'),
   })
   .strict();
 
@@ -117,6 +127,16 @@ const riskSchema = z
       })
       .strict()
       .default({ windows: [] }),
+    historical: z
+      .object({
+        days: z
+          .array(z.number().int().min(10))
+          .min(1)
+          .default([250, 500])
+          .describe('Scenarios (past valuation dates) of the historical and filtered historical VaR, one var_daily row each.'),
+      })
+      .strict()
+      .default({ days: [250, 500] }),
   })
   .strict();
 
@@ -159,6 +179,37 @@ const alertsSchema = z
       .min(0)
       .default(5)
       .describe('A run over past dates alerts only transitions this many calendar days before its latest valuation date.'),
+  })
+  .strict();
+
+const suspectPricesSchema = z
+  .object({
+    mode: z
+      .enum(['flag', 'hold'])
+      .default('flag')
+      .describe('flag: a suspect price is used and flagged; hold: it is left out (the previous price carried forward as stale) until a later delivery repeats or corrects it.'),
+    sigmaMultiple: z.number().positive().default(8).describe('A log move beyond this many EWMA daily sigmas (and beyond minLogMove) is suspect.'),
+    minLogMove: z.number().positive().default(0.25).describe('Absolute floor: a log move of at most this (0.25: +28% / -22%) is never a jump.'),
+    lambda: z.number().gt(0).lt(1).default(0.94).describe('Decay of the EWMA daily sigma each price is checked against.'),
+    seedReturns: z.number().int().min(1).default(20).describe('Accepted returns that seed the EWMA sigma; before, only minLogMove applies.'),
+    powerOfTenTolerance: z
+      .number()
+      .min(0)
+      .lt(0.5)
+      .default(0.02)
+      .describe('A move within this many log10 units of a factor 10, 100, 0.1, ... is a unit or separator slip.'),
+    unchangedDates: z
+      .number()
+      .int()
+      .min(2)
+      .default(10)
+      .describe('A price unchanged for this many valuation dates while its market (same currency) moved on most of them is suspect.'),
+  })
+  .strict();
+
+const checksSchema = z
+  .object({
+    suspectPrices: suspectPricesSchema.default(suspectPricesSchema.parse({})),
   })
   .strict();
 
@@ -267,7 +318,9 @@ export const configSchema = z
     risk: riskSchema.default(riskSchema.parse({})),
     limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),
     alerts: alertsSchema.default({ maxAgeDays: 5 }),
+    checks: checksSchema.default(checksSchema.parse({})).describe('Checks of delivered data before it enters risk.'),
     schedule: scheduleSchema.default(scheduleSchema.parse({})),
+    stress: stressSchema.default({ scenarios: [] }),
   })
   .strict()
   .superRefine((cfg, ctx) => {
@@ -285,13 +338,29 @@ export const configSchema = z
         });
       }
       limitKeys.add(key);
-      const warning = limit.warning ?? 0.9 * limit.limit;
-      const clear = limit.clear ?? 0.85 * limit.limit;
-      if (!(clear < warning && warning <= limit.limit)) {
+      if (limit.limit === undefined && limit.metric !== 'backtest_zone') {
+        ctx.addIssue({ code: 'custom', path: ['limits', i, 'limit'], message: `a ${limit.metric} limit needs "limit"` });
+        return;
+      }
+      if (limit.metric !== 'backtest_zone') {
+        // a fraction, so 15 meant as 15% is refused with the likely fix
+        for (const field of ['limit', 'warning', 'clear'] as const) {
+          const value = limit[field];
+          if (value !== undefined && value > 1) {
+            ctx.addIssue({
+              code: 'custom',
+              path: ['limits', i, field],
+              message: `${value} is above 1, but levels are fractions (0.15 = 15%); did you mean ${value / 100}?`,
+            });
+          }
+        }
+      }
+      const { limit: level, warning, clear } = limitLevels(limit);
+      if (!(clear < warning && warning <= level)) {
         ctx.addIssue({
           code: 'custom',
           path: ['limits', i],
-          message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${limit.limit}`,
+          message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${level}`,
         });
       }
       const watched = limit.estimator === 'shrunk' ? { list: cfg.risk.shrunk.windows, name: 'risk.shrunk.windows' } : { list: cfg.risk.windows, name: 'risk.windows' };
@@ -315,7 +384,21 @@ export const configSchema = z
         });
       }
     });
+    checkStressScenarios(cfg.stress.scenarios, cfg.baseCurrency, ctx);
   });
+
+/** A limit's levels with their defaults (backtest_zone: the Basel zone boundaries). */
+export function limitLevels(limit: Pick<LimitConfig, 'metric' | 'limit' | 'warning' | 'clear'>): { limit: number; warning: number; clear: number } {
+  if (limit.metric === 'backtest_zone') {
+    return {
+      limit: limit.limit ?? BACKTEST_ZONE_LEVELS.limit,
+      warning: limit.warning ?? BACKTEST_ZONE_LEVELS.warning,
+      clear: limit.clear ?? BACKTEST_ZONE_LEVELS.clear,
+    };
+  }
+  const level = limit.limit as number;
+  return { limit: level, warning: limit.warning ?? 0.9 * level, clear: limit.clear ?? 0.85 * level };
+}
 
 export type ConfigInput = z.input<typeof configSchema>;
 export type ParsedConfig = z.infer<typeof configSchema>;

@@ -23,7 +23,7 @@ const GROWTH_DEFENSIVE_TARGETS: Readonly<Record<string, number>> = {
 export interface Incidents {
   /** A bond goes unpriced for one day: its price is carried forward, flagged stale. */
   stale: { drop: number; securityId: string };
-  /** A wrong price, re-delivered right by a correction file with the next drop. */
+  /** A price ten times too high (a unit slip, flagged suspect), re-delivered right by a correction file with the next drop. */
   correction: { drop: number; securityId: string; wrongFactor: number };
   /** A prices file with a negative price (quarantined), re-sent clean with the next drop. */
   malformed: { drop: number; securityId: string };
@@ -68,7 +68,7 @@ export function buildScenario(seed: number = DEFAULT_SEED): Scenario {
     snapshots: simulateHoldings(market, ACCOUNTS, cashFlows, [derisk]),
     incidents: {
       stale: { drop: 0, securityId: 'BD-OSPREYVALE-31' },
-      correction: { drop: 1, securityId: 'EQ-VELLANCE', wrongFactor: 1.09 },
+      correction: { drop: 1, securityId: 'EQ-VELLANCE', wrongFactor: 10 },
       malformed: { drop: 10, securityId: 'EQ-OKENSHAW' },
       cashFlows,
       derisk,

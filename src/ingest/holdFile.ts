@@ -31,7 +31,7 @@ export async function holdFile(
         kind: 'file_held',
         portfolioId: null,
         asOf: null,
-        payload: { file: name, code: hold.code, text: `${name} held: ${hold.reason}` },
+        payload: { level: 'held', episode_state: 'open', file: name, code: hold.code, text: `${name} held: ${hold.reason}` },
       });
     }
   } else {

@@ -14,6 +14,7 @@ import { findIngested } from './ledger.ts';
 import { layoutOf, type KindLayout } from './layout.ts';
 import { loadFile } from './load.ts';
 import { archiveDir, freePath } from './moves.ts';
+import { neverPricedSecurities } from './neverPriced.ts';
 import { plausibilityFor, type Plausibility } from './plausibility.ts';
 import { alreadyLoaded, recordRejected, settle } from './recordOutcome.ts';
 import { matchSource } from './sourceMatch.ts';
@@ -38,6 +39,8 @@ export interface IngestOutcome {
   duplicateOf?: number;
   /** Status held: why the file stays in the inbox. */
   hold?: HoldReason;
+  /** Positions files: held securities that have never had a price (their portfolios cannot be valued). */
+  neverPriced?: string[];
 }
 
 /**
@@ -86,7 +89,11 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
         { fileId: attempt.fileId, kind: base.kind, source: base.source, rows, minDate, maxDate, movedTo, seconds, rowsPerSecond: Math.round(rows / seconds) },
         'file ingested',
       );
-      return { status: 'ingested', fileId: attempt.fileId, name, kind: base.kind, rows, minDate, portfolios, movedTo };
+      const neverPriced = base.kind === 'positions' ? await neverPricedSecurities(db, attempt.fileId) : [];
+      if (neverPriced.length > 0) {
+        flog.warn({ fileId: attempt.fileId, securities: neverPriced }, 'positions name securities that have never had a price; their portfolios have no value until one arrives');
+      }
+      return { status: 'ingested', fileId: attempt.fileId, name, kind: base.kind, rows, minDate, portfolios, movedTo, ...(neverPriced.length > 0 ? { neverPriced } : {}) };
     }
     sha256 = attempt.sha256;
     const earlier = await findIngested(db, sha256);

@@ -16,11 +16,19 @@ import type { StoredEpisode } from './matchEpisodes.ts';
 
 type Limit = Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>;
 
-/** The figure a limit watches, per row of risk_daily; VaR is compared as a fraction of value. */
-export const METRIC_SQL: Record<ResolvedLimit['metric'], string> = {
-  vol_ex_ante: 'vol_ex_ante',
-  vol_realized: 'vol_realized',
-  var_99_1d: 'var_99_1d / nullif(portfolio_value, 0)',
+/**
+ * The figure a limit watches and the rows it is read from: risk_daily (VaR compared as a
+ * fraction of value), or for backtest_zone the exceptions in 250 tested days of the
+ * normal VaR's backtest, null until 250 days have been tested (no zone yet).
+ */
+export const METRIC_SQL: Record<ResolvedLimit['metric'], { value: string; rows: string }> = {
+  vol_ex_ante: { value: 'vol_ex_ante', rows: 'risk_daily' },
+  vol_realized: { value: 'vol_realized', rows: 'risk_daily' },
+  var_99_1d: { value: 'var_99_1d / nullif(portfolio_value, 0)', rows: 'risk_daily' },
+  backtest_zone: {
+    value: 'case when zone is not null then exceptions_250 end',
+    rows: `(select * from var_backtest where method = 'normal')`,
+  },
 };
 
 /** `portfolio|metric|window|estimator`: one limit's series of one portfolio. */
@@ -44,7 +52,7 @@ export async function loadMetricSeries(
 ): Promise<Map<string, MetricPoint[]>> {
   const { rows, columns } = await readColumns(
     db,
-    `select portfolio_id, date::varchar, ${METRIC_SQL[limit.metric]} as value from risk_daily
+    `select portfolio_id, date::varchar, ${METRIC_SQL[limit.metric].value} as value from ${METRIC_SQL[limit.metric].rows}
      where ${IN_SCOPE} and window_days = $2 and estimator = $3 and ($4::date is null or date >= $4::date)
      order by portfolio_id, date`,
     [scopeParam(portfolios), limit.window, limit.estimator, fromDate],

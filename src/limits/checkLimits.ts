@@ -15,9 +15,10 @@ import {
   type RecordedEpisode,
 } from './breachStore.ts';
 import { replayEpisodes, transitionsOf, type Episode, type MetricPoint } from './episodes.ts';
-import { lateOpenAlert, retractionAlert, topContributors, transitionAlert } from './limitAlerts.ts';
-import { volChangeOn } from './volChangeText.ts';
+import { retractionAlert, stateAlert, topContributors, transitionAlert } from './limitAlerts.ts';
 import { matchEpisodes } from './matchEpisodes.ts';
+import { currentState, loadToldStates, retractedState, sameState, saveToldStates, stateAfter, type ToldState } from './toldState.ts';
+import { volChangeOn } from './volChangeText.ts';
 
 export interface LimitScope {
   runId: number;
@@ -43,7 +44,8 @@ interface Replayed {
 
 /**
  * Replays the limit episodes over risk_daily for the run's scope and reconciles them
- * with limit_breaches; new transitions go to the alerts outbox. Runs inside the risk
+ * with limit_breaches; new transitions go to the alerts outbox, and every episode whose
+ * current state differs from what operations were last told gets one limit_state alert. Runs inside the risk
  * stage's transaction (it begins and commits nothing itself), after the run's
  * risk_daily rows are written, so episodes and alerts commit together with the risk.
  * Reads in bulk (one query per watched series for all portfolios), replays in memory,
@@ -100,58 +102,95 @@ export async function checkLimits(db: Database, config: Config, log: Logger, sco
   const alerted = await alertedKinds(db, scope.portfolios);
   const writes: EpisodeWrite[] = replayed.flatMap((r) => r.matches.map((m) => ({ breachId: m.stored?.breachId ?? null, portfolioId: r.portfolioId, limit: r.limit, episode: m.derived })));
   const breachIds = await saveEpisodes(db, writes, scope.runId);
-  await retractEpisodes(db, replayed.flatMap((r) => r.retracted.map((e) => e.breachId)), scope.runId);
+  const retractedIds = replayed.flatMap((r) => r.retracted.map((e) => e.breachId));
+  await retractEpisodes(db, retractedIds, scope.runId);
+  const toldBefore = await loadToldStates(db, [...breachIds, ...retractedIds]);
+  const toldNow = new Map<number, ToldState>();
 
   let written = 0;
   for (const r of replayed) {
     for (const { derived: episode } of r.matches) {
       const breachId = breachIds[written++];
-      outcome.alertsRaised += await alertEpisode(db, r, episode, breachId, alerted.get(breachId) ?? new Set(), alertFrom, scope.runId);
+      const told = toldBefore.get(breachId) ?? null;
+      const after = await alertEpisode(db, r, episode, breachId, alerted.get(breachId) ?? new Set(), told, alertFrom, scope);
+      if (after !== null) {
+        toldNow.set(breachId, after.told);
+        outcome.alertsRaised += after.raised;
+      }
     }
     for (const episode of r.retracted) {
       stageLog.info({ portfolioId: r.portfolioId, breachId: episode.breachId, openedOn: episode.openedOn }, 'limit episode retracted');
       // tell operations only if they had been told of it
-      if ((alerted.get(episode.breachId)?.size ?? 0) === 0) continue;
-      const input = { portfolioId: r.portfolioId, limit: r.limit, breachId: episode.breachId, runId: scope.runId, episode, contributors: [] };
-      if (await insertAlert(db, retractionAlert(input))) outcome.alertsRaised++;
+      const told = toldBefore.get(episode.breachId);
+      const state = retractedState(episode.openedOn);
+      if (told === undefined || sameState(told, state)) continue;
+      const alert = retractionAlert({ portfolioId: r.portfolioId, limit: r.limit, breachId: episode.breachId, runId: scope.runId, episode, contributors: [] }, state);
+      if (!(await insertAlert(db, alert))) continue;
+      toldNow.set(episode.breachId, { ...state, alertId: alert.alertId, stateAlerts: told.stateAlerts });
+      outcome.alertsRaised++;
     }
   }
+  await saveToldStates(db, toldNow);
   stageLog.info(outcome, 'limits checked');
   return outcome;
 }
 
-/** Alerts the episode's transitions not alerted before and recent enough; or, once, a late opening. */
+/**
+ * Alerts the episode's transitions not alerted before and recent enough (older ones are
+ * superseded history), then, if what operations were told still differs from the
+ * episode's current state, one limit_state alert with the current state. An episode
+ * never alerted and already closed stays quiet: it is history, not a state to act on.
+ * Returns what operations now know and how many alerts said it; null: nothing raised.
+ */
 async function alertEpisode(
   db: Database,
   r: Replayed,
   episode: Episode,
   breachId: number,
   already: Set<string>,
+  toldBefore: ToldState | null,
   alertFrom: string,
-  runId: number,
-): Promise<number> {
+  scope: LimitScope,
+): Promise<{ told: ToldState; raised: number } | null> {
   const { portfolioId, limit, points } = r;
-  const due = transitionsOf(episode).filter((t) => !already.has(t.kind) && t.date >= alertFrom);
+  // what the alert of a date tells: the largest contributors and why the figure moved since the date before
+  const input = async (date: string) => ({
+    portfolioId,
+    limit,
+    breachId,
+    runId: scope.runId,
+    episode,
+    contributors: await topContributors(db, portfolioId, limit, date),
+    volChange: await volChangeOn(db, portfolioId, limit, date),
+  });
+  let told = toldBefore;
   let raised = 0;
-  for (const t of due) {
-    const contributors = await topContributors(db, portfolioId, limit, t.date);
-    const volChange = await volChangeOn(db, portfolioId, limit, t.date);
-    if (await insertAlert(db, transitionAlert({ portfolioId, limit, breachId, runId, episode, contributors, volChange }, t))) raised++;
+  for (const t of transitionsOf(episode).filter((t) => !already.has(t.kind) && t.date >= alertFrom)) {
+    const alert = transitionAlert(await input(t.date), t);
+    if (!(await insertAlert(db, alert))) continue;
+    told = { ...stateAfter(episode, t), alertId: alert.alertId, stateAlerts: told?.stateAlerts ?? 0 };
+    raised++;
   }
-  if (episode.closedOn === null && already.size === 0 && due.length === 0) {
-    const asOf = points[points.length - 1].date;
-    const contributors = await topContributors(db, portfolioId, limit, asOf);
-    const volChange = await volChangeOn(db, portfolioId, limit, asOf);
-    if (await insertAlert(db, lateOpenAlert({ portfolioId, limit, breachId, runId, episode, contributors, volChange }, asOf, lastValue(points)))) raised++;
+  const now = currentState(episode);
+  const outdated = told === null ? now.episodeState === 'open' : !sameState(told, now);
+  if (outdated) {
+    const last = lastValue(points);
+    const sequence = (told?.stateAlerts ?? 0) + 1;
+    const datesCovered = points.filter((p) => scope.from === null || p.date >= scope.from).length;
+    const alert = stateAlert(await input(last.date), { now, told, sequence, last, datesCovered });
+    if (await insertAlert(db, alert)) {
+      told = { ...now, alertId: alert.alertId, stateAlerts: sequence };
+      raised++;
+    }
   }
-  return raised;
+  return raised === 0 || told === null ? null : { told, raised };
 }
 
-/** The latest date with a value: an open episode has at least its opening value. */
+/** The latest date with a value: an episode has at least its opening value. */
 function lastValue(points: MetricPoint[]): { date: string; value: number } {
   for (let i = points.length - 1; i >= 0; i--) {
     const { date, value } = points[i];
     if (value !== null && Number.isFinite(value)) return { date, value };
   }
-  throw new Error('an open episode without any value');
+  throw new Error('an episode without any value');
 }

@@ -2,6 +2,7 @@ import type { ResolvedLimit } from '../config/load.ts';
 import type { NewAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
 import type { Episode, Transition } from './episodes.ts';
+import { stateAfter, type EpisodeState } from './toldState.ts';
 import { volChangeSentence, type VolChangeFacts } from './volChangeText.ts';
 
 export interface Contributor {
@@ -44,50 +45,79 @@ export interface LimitAlertInput {
 /** An alert for a dated transition (opened, escalated, closed) of an episode. */
 export function transitionAlert(input: LimitAlertInput, t: Transition): NewAlert {
   const { portfolioId, limit, episode } = input;
-  const label = `${portfolioId}: ${metricLabel(limit)} ${pct(t.value)}`;
-  const peak = `peak ${pct(episode.peakValue)} on ${episode.peakOn}`;
+  const label = `${portfolioId}: ${metricLabel(limit)} ${fmt(limit, t.value)}`;
+  const peak = `peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn}`;
   let text: string;
-  let level = episode.level;
-  if (t.kind === 'limit_opened') {
-    level = episode.openLevel;
+  if (limit.metric === 'backtest_zone') {
+    text = zoneText(portfolioId, limit, t);
+  } else if (t.kind === 'limit_opened') {
     text =
-      level === 'breach'
-        ? `${label} reached its ${pct(limit.limit)} limit on ${t.date}`
-        : `${label} reached its ${pct(limit.warning)} warning level (limit ${pct(limit.limit)}) on ${t.date}`;
+      episode.openLevel === 'breach'
+        ? `${label} reached its ${fmt(limit, limit.limit)} limit on ${t.date}`
+        : `${label} reached its ${fmt(limit, limit.warning)} warning level (limit ${fmt(limit, limit.limit)}) on ${t.date}`;
   } else if (t.kind === 'limit_escalated') {
-    level = 'breach';
-    text = `${label} reached its ${pct(limit.limit)} limit on ${t.date} (warning since ${episode.openedOn}, ${peak})`;
+    text = `${label} reached its ${fmt(limit, limit.limit)} limit on ${t.date} (warning since ${episode.openedOn}, ${peak})`;
   } else {
-    text = `${label} is back below ${pct(limit.clear)} on ${t.date}; the episode since ${episode.openedOn} is closed (${peak})`;
+    text = `${label} is back below ${fmt(limit, limit.clear)} on ${t.date}; the episode since ${episode.openedOn} is closed (${peak})`;
   }
-  return buildAlert(input, t.kind, t.date, { level, value: t.value, value_on: t.date }, text);
+  return buildAlert(input, t.kind, t.date, `${t.kind}-${t.date}`, stateAfter(episode, t), { value: t.value, value_on: t.date }, text);
+}
+
+export interface StateChange {
+  now: EpisodeState;
+  /** What operations were told before, or null: nothing about this episode. */
+  told: EpisodeState | null;
+  /** Numbers the episode's limit_state alerts, so a state told again after a change gets its own id. */
+  sequence: number;
+  last: { date: string; value: number | null };
+  /** Valuation dates the run covered: how large the catch-up or correction was. */
+  datesCovered: number;
 }
 
 /**
- * The one alert for an episode still open at the end of a run over past dates whose
- * transitions were all too old to alert: kind limit_opened, flagged late.
+ * The one alert that brings operations up to date when an episode's current state differs
+ * from the last one they were told (a catch-up past a transition, a correction), e.g.
+ * "breach since 2026-12-09, caught up from a delivery covering 21 business days".
  */
-export function lateOpenAlert(input: LimitAlertInput, asOf: string, last: { date: string; value: number }): NewAlert {
+export function stateAlert(input: LimitAlertInput, change: StateChange): NewAlert {
   const { portfolioId, limit, episode } = input;
-  const level = episode.level === 'breach' ? `its ${pct(limit.limit)} limit` : `its ${pct(limit.warning)} warning level`;
-  const text =
-    `${portfolioId}: ${metricLabel(limit)} ${pct(last.value)} has been at or above ${level} since ${episode.openedOn} ` +
-    `(peak ${pct(episode.peakValue)} on ${episode.peakOn}); found by a run over past dates`;
-  return buildAlert(input, 'limit_opened', asOf, { level: episode.level, value: last.value, value_on: last.date, late: true }, text);
+  const { now, told, last } = change;
+  const value = last.value === null ? '' : ` ${fmt(limit, last.value)} on ${last.date}`;
+  const state =
+    now.episodeState === 'closed'
+      ? `closed on ${episode.closedOn} (episode since ${now.openedOn}, peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn})`
+      : `${now.level} since ${now.level === 'breach' ? (episode.escalatedOn ?? now.openedOn) : now.openedOn} (episode opened ${now.openedOn}, ` +
+        `peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn})`;
+  const before = told === null ? 'not alerted before' : `last told: ${describe(told)}`;
+  const text = `${portfolioId}: ${metricLabel(limit)}${value}: ${state}; ${before}; caught up from a delivery covering ${change.datesCovered} business days`;
+  const facts = {
+    value: last.value,
+    value_on: last.date,
+    told_before: told === null ? null : { level: told.level, episode_state: told.episodeState, opened_on: told.openedOn },
+    dates_covered: change.datesCovered,
+  };
+  return buildAlert(input, 'limit_state', last.date, `limit_state-${change.sequence}`, now, facts, text);
 }
 
 /** A recorded episode that corrected data no longer show; `episode` is the recorded one. */
-export function retractionAlert(input: LimitAlertInput): NewAlert {
+export function retractionAlert(input: LimitAlertInput, state: EpisodeState): NewAlert {
   const { portfolioId, limit, episode } = input;
   const text = `${portfolioId}: the ${metricLabel(limit)} episode recorded from ${episode.openedOn} is withdrawn; corrected data no longer show it`;
-  return buildAlert(input, 'limit_retracted', episode.openedOn, { level: episode.level, value: null, value_on: null }, text, false);
+  return buildAlert(input, 'limit_retracted', episode.openedOn, `limit_retracted-${episode.openedOn}`, state, { value: null, value_on: null }, text, false);
 }
 
+function describe(s: EpisodeState): string {
+  return s.episodeState === 'open' ? `${s.level} since ${s.openedOn}` : `episode from ${s.openedOn} ${s.level}`;
+}
+
+/** Every limit alert: id `breach-<breach_id>-<what>`, payload with `level` and `episode_state`. */
 function buildAlert(
   input: LimitAlertInput,
   kind: NewAlert['kind'],
   asOf: string,
-  facts: { level: string; value: number | null; value_on: string | null; late?: boolean },
+  what: string,
+  state: EpisodeState,
+  facts: { value: number | null; value_on: string | null } & Record<string, unknown>,
   text: string,
   withContributors = true,
 ): NewAlert {
@@ -97,7 +127,7 @@ function buildAlert(
   const change = withContributors && input.volChange ? input.volChange : null;
   const moved = change ? `. ${volChangeSentence(metricLabel(limit), change)}` : '';
   return {
-    alertId: `breach-${input.breachId}-${kind}-${asOf}`,
+    alertId: `breach-${input.breachId}-${what}`,
     kind,
     portfolioId,
     asOf,
@@ -108,6 +138,9 @@ function buildAlert(
       metric: limit.metric,
       window_days: limit.window,
       estimator: limit.estimator,
+      level: state.level,
+      episode_state: state.episodeState,
+      ...(limit.metric === 'backtest_zone' ? { zone: zoneOf(state) } : {}),
       ...facts,
       limit: limit.limit,
       warning: limit.warning,
@@ -126,10 +159,30 @@ function buildAlert(
 
 /** "63-day volatility", "EWMA realized volatility", "63-day 99% 1-day VaR (of value)". */
 export function metricLabel(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>): string {
-  const span = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day`;
+  const span = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day${limit.estimator === 'shrunk' ? ' shrunk' : ''}`;
   if (limit.metric === 'vol_realized') return `${span} realized volatility`;
   if (limit.metric === 'var_99_1d') return `${span} 99% 1-day VaR (of value)`;
+  if (limit.metric === 'backtest_zone') return `${span} normal 99% VaR backtest`;
   return `${span} volatility`;
+}
+
+/** A limit's figure as text: a fraction as a percentage, a backtest's exceptions as a count. */
+function fmt(limit: Pick<ResolvedLimit, 'metric'>, value: number): string {
+  return limit.metric === 'backtest_zone' ? `${value} exceptions in 250 days` : pct(value);
+}
+
+/** "acct: the 63-day normal 99% VaR had 5 exceptions in its last 250 tested days on <date>: yellow zone (red from 10)". */
+function zoneText(portfolioId: string, limit: ResolvedLimit, t: Transition): string {
+  const zone = t.kind === 'limit_closed' ? 'green' : t.value >= limit.limit ? 'red' : 'yellow';
+  const model = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day`;
+  const bounds = zone === 'red' ? `red from ${limit.limit}` : zone === 'yellow' ? `yellow from ${limit.warning}, red from ${limit.limit}` : `green below ${limit.warning}`;
+  return `${portfolioId}: the ${model} normal 99% VaR had ${t.value} exceptions in its last 250 tested days on ${t.date}: ${zone} zone (${bounds})`;
+}
+
+/** The Basel zone a backtest_zone episode's state stands for: open at warning = yellow, at breach = red, else green. */
+function zoneOf(state: EpisodeState): string {
+  if (state.episodeState !== 'open') return 'green';
+  return state.level === 'warning' ? 'yellow' : 'red';
 }
 
 function pct(fraction: number, digits = 1): string {

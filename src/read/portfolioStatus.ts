@@ -48,7 +48,9 @@ export async function readPortfolioStatus(db: Database, config: Config, portfoli
   for (const s of series) {
     const name = seriesName(s);
     columns.push(name, `${name}_limit`, `${name}_headroom`, `${name}_episode`, `${name}_since`);
-    units.push('percent', 'percent', 'percent', null, null);
+    // a backtest zone watches a count of exceptions, every other figure a fraction
+    const unit = s.metric === 'backtest_zone' ? null : 'percent';
+    units.push(unit, unit, unit, null, null);
   }
   columns.push('coverage', 'status');
   units.push('percent', null);
@@ -104,10 +106,13 @@ async function latestDates(db: Database, portfolio: string | null): Promise<Map<
 /** Per portfolio, the latest risk_daily row of one estimate and the watched figure on it. */
 async function latestRows(db: Database, s: Series, portfolio: string | null): Promise<LatestRow[]> {
   return db.all<LatestRow>(
-    `select portfolio_id, date, portfolio_value, coverage, status, ${METRIC_SQL[s.metric]} as value
-     from risk_daily
-     where window_days = $1 and estimator = $2 and ($3::varchar is null or portfolio_id = $3)
-     qualify row_number() over (partition by portfolio_id order by date desc) = 1`,
+    // the watched figure comes from its own rows (risk_daily, or var_backtest for backtest_zone)
+    `select d.portfolio_id, d.date, d.portfolio_value, d.coverage, d.status, m.value
+     from risk_daily d
+     left join (select portfolio_id, date, window_days, estimator, ${METRIC_SQL[s.metric].value} as value from ${METRIC_SQL[s.metric].rows}) m
+       using (portfolio_id, date, window_days, estimator)
+     where d.window_days = $1 and d.estimator = $2 and ($3::varchar is null or d.portfolio_id = $3)
+     qualify row_number() over (partition by d.portfolio_id order by d.date desc) = 1`,
     [s.window, s.estimator, portfolio],
   );
 }

@@ -1,9 +1,10 @@
 import { contributionsSection, correlationSection, realizedSection, volatilitySection } from './chartSections.ts';
 import { escapeHtml } from './format.ts';
+import { lossSection } from './lossSections.ts';
 import type { ReportData } from './reportData.ts';
 import { STYLESHEET } from './style.ts';
 import { volChangeSection } from './volChangeSection.ts';
-import { breachTable, cautionsSection, keyFigures, latestTable, provenanceFooter, qualitySection } from './tableSections.ts';
+import { breachTable, cautionsSection, currencyTable, keyFigures, latestTable, provenanceFooter, qualitySection } from './tableSections.ts';
 
 /**
  * The whole report as one HTML page: inline CSS and SVG, no script and no external
@@ -30,8 +31,10 @@ ${keyFigures(data)}
 ${volatilitySection(data)}
 ${volChangeSection(data)}
 ${realizedSection(data)}
+${currencyTable(data)}
 ${contributionsSection(data)}
 ${correlationSection(data)}
+${lossSection(data)}
 ${breachTable(data)}
 ${latestTable(data)}
 ${qualitySection(data)}

@@ -6,6 +6,8 @@ import { RiskfoldError } from '../errors.ts';
 import { applicableLimits } from '../limits/applicableLimits.ts';
 import { sqlString, type Database } from '../storage/database.ts';
 import { correlationOfReturns, type CorrelationResult, type ReturnObservation } from './correlation.ts';
+import { loadCurrencySplits, type CurrencySplit } from './currencySplit.ts';
+import { loadLossData, type LossData } from './lossData.ts';
 import { loadVolChange, type VolChangeReport } from './volChangeData.ts';
 
 export interface RiskPoint {
@@ -81,6 +83,9 @@ export interface ReportData {
   correlation: (CorrelationResult & { names: string[]; window: number }) | { error: string };
   breaches: Breach[];
   quality: QualityFlag[];
+  losses: LossData;
+  /** Per sample window: volatility with and without the fx returns. */
+  currency: CurrencySplit[];
   provenance: { runId: number | null; runFinishedAt: string | null; trigger: string | null; configHash: string; database: string };
 }
 
@@ -145,6 +150,8 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
     correlation: await loadCorrelation(db, portfolioId, asOf),
     breaches: await db.all<Breach>('select * from limit_breaches where portfolio_id = $1 order by opened_on, breach_id', [portfolioId]),
     quality: await loadQuality(db, portfolioId),
+    losses: await loadLossData(db, portfolioId, asOf, focusWindow, chartFrom),
+    currency: await loadCurrencySplits(db, portfolioId, asOf, windows, config.risk.tradingDaysPerYear),
     provenance: await loadProvenance(db, config, latest, database),
   };
 }

@@ -56,6 +56,24 @@ export function latestTable(data: ReportData): string {
   )}<tbody>${rows.map((r) => `<tr>${r}</tr>`).join('')}</tbody></table></section>`;
 }
 
+export function currencyTable(data: ReportData): string {
+  const rows = data.currency.map((c) =>
+    [
+      cell(`${c.window}-day`),
+      cell(formatPercent(c.full), true),
+      cell(formatPercent(c.withoutFx), true),
+      cell(formatPercent(c.full === null || c.withoutFx === null ? null : c.full - c.withoutFx), true),
+      cell(formatPercent(c.coverage, 1), true),
+    ].join(''),
+  );
+  return `<section><h2>How much of the volatility is currency</h2><p class="lede">Ex-ante volatility of the weights on ${escapeHtml(data.asOf)} from each window's covariance of ${escapeHtml(
+    data.baseCurrency,
+  )} returns, and the same with every exchange-rate move set to zero (local-currency returns; cash in another currency then does not move). The difference is what currency adds (it can be negative when currencies offset the markets). Holdings without a full window are left out of both.</p><table>${head(
+    ['window', `volatility in ${data.baseCurrency}`, 'without fx moves', 'from currency', 'coverage'],
+    new Set([1, 2, 3, 4]),
+  )}<tbody>${rows.map((r) => `<tr>${r}</tr>`).join('')}</tbody></table></section>`;
+}
+
 export function breachTable(data: ReportData): string {
   if (data.breaches.length === 0) {
     return '<section><h2>Limit episodes</h2><p class="lede">No limit episode has been recorded for this portfolio.</p></section>';

@@ -5,7 +5,7 @@ import type { PhaseClock } from '../log/phaseClock.ts';
 import { computeRisk, progressUnits } from './computeRisk.ts';
 import type { EwmaState } from './ewmaEstimate.ts';
 import { loadEwmaState } from './ewmaState.ts';
-import { readPortfolioPanel, readReturnPanel } from './inputs.ts';
+import { readPortfolioPanel, readReturnPanel, type PortfolioPanel, type ReturnPanel } from './inputs.ts';
 import { startProgress } from './progress.ts';
 import { ResultStage } from './staging.ts';
 
@@ -30,6 +30,8 @@ export interface ComputedRisk {
   riskRows: number;
   /** EWMA states at the last two dates, oldest first (none without EWMA or dates). */
   ewmaStates: EwmaState[];
+  /** The panels the run computed from, for the loss stage (src/loss) that revalues the same holdings. */
+  inputs: { returns: ReturnPanel; portfolios: PortfolioPanel; fromRow: number };
 }
 
 /**
@@ -65,7 +67,7 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
     stage.close();
     phases.add('stage_flush', flushStarted);
   }
-  return { dates, portfolios: portfolios.ids.length, riskRows: stage.dailyRows, ewmaStates };
+  return { dates, portfolios: portfolios.ids.length, riskRows: stage.dailyRows, ewmaStates, inputs: { returns, portfolios, fromRow } };
 }
 
 /** First date row on or after `from` (dates ascending, ISO strings compare as dates); dates.length if none. */

@@ -5,15 +5,18 @@ import { readColumns, streamColumns } from '../storage/columnar.ts';
  * The risk stage's inputs, read from the views in bulk into typed arrays. Dates are
  * addressed by row d = date_index - 1 of align_valuation_dates; securities (cash
  * included) by their position j in the sorted list of every id that has a return or a
- * position. Cash and a security without returns have all-NaN columns, so they never
- * have a full window.
+ * position. Base-currency cash and a security without returns have all-NaN columns, so
+ * they never have a full window; cash in another currency has its fx returns.
  */
 
 export interface ReturnPanel {
   /** 'YYYY-MM-DD' of every valuation date, d = date_index - 1. */
   dates: string[];
   securityIds: string[];
-  /** 1 where security j is a cash balance (CASH:<ISO 4217>). */
+  /**
+   * 1 where security j is a balance in the base currency (CASH:<base>): zero return and
+   * zero covariance. Cash in another currency has its fx returns and counts as a holding.
+   */
   isCash: Uint8Array;
   /** T x N row-major log returns in base currency, NaN = missing (row 0 has none). */
   returns: Float64Array;
@@ -62,7 +65,7 @@ export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
   const dates = dateRows.columns.date as string[];
   const ids = await readColumns(
     db,
-    `select security_id, security_id like 'CASH:%' from risk_in_securities order by k`,
+    `select security_id, security_id = 'CASH:' || (select base_currency from pipeline_settings) from risk_in_securities order by k`,
     undefined,
     { security_id: 'text', is_cash: 'bool' },
   );

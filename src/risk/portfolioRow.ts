@@ -113,10 +113,14 @@ export function assessRow(
       coveredAt[covered++] = a;
     }
   }
-  const priced = !flags.unpriced && Number.isFinite(flags.value) && flags.value !== 0 && Number.isFinite(gross);
-  const coverage = priced && gross > 0 ? coveredGross / gross : NOTHING;
+  const priced = !flags.unpriced && Number.isFinite(flags.value) && Number.isFinite(gross);
+  // at a value <= 0 weights (value / portfolio value) lose their meaning, and so do the
+  // volatility, VaR and ES built on them: report none rather than a number like 51,506%
+  const valued = priced && flags.value > 0;
+  const coverage = valued && gross > 0 ? coveredGross / gross : NOTHING;
   const reasons: string[] = [];
-  if (!priced) reasons.push(flags.unpriced || !Number.isFinite(flags.value) ? 'unpriced' : 'zero_value');
+  if (!priced) reasons.push('unpriced');
+  else if (!valued) reasons.push('value_not_positive');
   else if (coverage < settings.minCoverage) reasons.push('insufficient_history');
   else if (coverage < 1) reasons.push('partial_history');
   if (flags.stale) reasons.push('stale_prices');
@@ -134,7 +138,7 @@ export function assessRow(
     nCovered: covered,
     contributions: null,
   };
-  if (!priced || !(coverage >= settings.minCoverage)) return empty;
+  if (!valued || !(coverage >= settings.minCoverage)) return empty;
 
   const idx = scratch.idx.subarray(0, covered);
   const w = scratch.w.subarray(0, covered);

@@ -32,6 +32,9 @@ export async function checkMissingData(db: Database, config: Config, log: Logger
       portfolioId: null,
       asOf: expectedDate,
       payload: {
+        level: 'missing',
+        // a missing file is not cleared by an alert: the next file ends it
+        episode_state: 'open',
         file_kind: kind,
         expected_date: expectedDate,
         latest_date: latest,

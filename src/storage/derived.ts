@@ -11,12 +11,14 @@ import { LADDER_DIR, listLadder } from './sqlFiles.ts';
  * half way) the views never read a layer older than its inputs once this has run.
  */
 
-/** Rows and highest file_id of each raw table the derived layers read; count(*) comes from metadata. */
+/** Rows and highest file_id of each raw table the derived layers read (count(*) comes from metadata), and the held suspect prices. */
 const FINGERPRINT_SQL = `
   select concat_ws('|',
     (select count(*) || ':' || coalesce(max(file_id), 0) from prices),
     (select count(*) || ':' || coalesce(max(file_id), 0) from positions),
-    (select count(*) || ':' || coalesce(max(file_id), 0) from fx_rates)) as fingerprint`;
+    (select count(*) || ':' || coalesce(max(file_id), 0) from fx_rates),
+    -- prices held out of risk: a flag raised, cleared or switched to hold changes the carried prices
+    (select count(*) || ':' || count(*) filter (where held and cleared_at is null) from price_checks)) as fingerprint`;
 
 export interface DerivedRefresh {
   rebuilt: boolean;

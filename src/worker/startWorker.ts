@@ -2,6 +2,8 @@ import path from 'node:path';
 import type { FSWatcher } from 'chokidar';
 import type { Logger } from 'pino';
 import { deliverAlerts } from '../alerts/deliverAlerts.ts';
+import { rearmAlerts } from '../alerts/rearm.ts';
+import { watchRetryRequests } from '../alerts/retryRequests.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { runBatch } from '../batch/runBatch.ts';
@@ -87,6 +89,12 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
   };
   // deliverAlerts works on a session of its own, so it may run while a batch holds a transaction
   const delivery = new DeliveryLoop(() => deliverAlerts(db, config, log), republish, log);
+  // `riskfold alerts retry` while this worker owns the database
+  const retryRequests = watchRetryRequests(config, log, async (ids) => {
+    const outcome = await queue.exclusive(() => rearmAlerts(db, config, ids));
+    delivery.kick();
+    return outcome;
+  });
 
   let watcher: FSWatcher | null = null;
   let schedules: { stop(): void | Promise<void> } | null = null;
@@ -98,6 +106,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       await watcher?.close();
       arrivals.close();
       await schedules?.stop();
+      retryRequests.stop();
       await queue.stop();
       await delivery.stop();
       if (publishWanted && !fault) await publishReadCopy(db, config, log).catch((err) => wlog.error({ err }, 'final publish failed'));

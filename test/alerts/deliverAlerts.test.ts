@@ -23,7 +23,7 @@ async function raise(db: Database, n: number): Promise<string[]> {
       portfolioId: 'acct-growth',
       asOf: `2026-03-0${i + 1}`,
       breachId: i,
-      payload: { portfolio: 'acct-growth', level: 'warning', text: `acct-growth: test alert ${i}` },
+      payload: { portfolio: 'acct-growth', level: 'warning', episode_state: 'open', text: `acct-growth: test alert ${i}` },
     });
     ids.push(alertId);
   }
@@ -65,9 +65,9 @@ describe('deliverAlerts', () => {
   it('sends each alert to the log, the JSON Lines file and the webhook with a bearer token (RFC 6750) that no log line shows', async () => {
     const { ws, receiver, file } = await setup();
     const ids = await raise(ws.db, 2);
-    const summary = await deliverAlerts(ws.db, ws.config, ws.log, { now: NOW });
+    const summary = await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW });
 
-    expect(summary).toEqual({ delivered: 2, failed: 0, pending: 0 });
+    expect(summary).toEqual({ delivered: 2, failed: 0, pending: 0, nextAttemptAt: null });
     expect(receiver.received.map((r) => r.body.alert_id)).toEqual(ids);
     expect(receiver.received.map((r) => r.headers.authorization)).toEqual([`Bearer ${TOKEN}`, `Bearer ${TOKEN}`]);
     expect(receiver.received[0].headers['content-type']).toBe('application/json');
@@ -84,7 +84,7 @@ describe('deliverAlerts', () => {
 
     const rows = await ws.db.all<{ delivered_at: string | null; attempts: number }>('select delivered_at, attempts from alerts');
     expect(rows.every((r) => r.delivered_at !== null && r.attempts === 1)).toBe(true);
-    expect(await deliverAlerts(ws.db, ws.config, ws.log, { now: at(1000) })).toEqual({ delivered: 0, failed: 0, pending: 0 });
+    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(1000) })).toEqual({ delivered: 0, failed: 0, pending: 0, nextAttemptAt: null });
     expect(receiver.received).toHaveLength(2);
   });
 
@@ -97,18 +97,18 @@ describe('deliverAlerts', () => {
         'select attempts, last_error, epoch_ms(next_attempt_at) as next_ms, delivered_at from alerts',
       );
 
-    expect(await deliverAlerts(ws.db, ws.config, ws.log, { now: NOW })).toEqual({ delivered: 0, failed: 1, pending: 1 });
+    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW })).toEqual({ delivered: 0, failed: 1, pending: 1, nextAttemptAt: at(60_000).toISOString() });
     expect((await state())[0]).toMatchObject({ attempts: 1, last_error: 'webhook: webhook answered HTTP 500', delivered_at: null });
     expect(Number((await state())[0].next_ms)).toBe(at(60_000).getTime());
 
     // not due yet: nothing is sent
-    await deliverAlerts(ws.db, ws.config, ws.log, { now: at(59_999) });
+    await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(59_999) });
     expect(receiver.received).toHaveLength(1);
 
-    expect((await deliverAlerts(ws.db, ws.config, ws.log, { now: at(60_000) })).failed).toBe(1);
+    expect((await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(60_000) })).failed).toBe(1);
     expect(Number((await state())[0].next_ms)).toBe(at(60_000 + 120_000).getTime());
 
-    expect(await deliverAlerts(ws.db, ws.config, ws.log, { now: at(180_000) })).toEqual({ delivered: 1, failed: 0, pending: 0 });
+    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(180_000) })).toEqual({ delivered: 1, failed: 0, pending: 0, nextAttemptAt: null });
     expect((await state())[0]).toMatchObject({ attempts: 3, last_error: null });
     // at least once: three POSTs of the same alert; the receiver de-duplicates by alert_id
     expect(receiver.received.map((r) => r.body.alert_id)).toEqual([id, id, id]);
@@ -122,20 +122,20 @@ describe('deliverAlerts', () => {
     await raise(ws.db, 1);
     receiver.answers.push('hang');
     const started = Date.now();
-    expect((await deliverAlerts(ws.db, ws.config, ws.log, { now: NOW })).failed).toBe(1);
+    expect((await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW })).failed).toBe(1);
     expect(Date.now() - started).toBeLessThan(2000);
     const [row] = await ws.db.all<{ last_error: string }>('select last_error from alerts');
     expect(row.last_error).toBe('webhook: no answer from the webhook within 200 ms');
-    expect((await deliverAlerts(ws.db, ws.config, ws.log, { now: at(60_000) })).delivered).toBe(1);
+    expect((await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(60_000) })).delivered).toBe(1);
   });
 
   it('stops retrying after maxAttempts but keeps the alert visible as undelivered', async () => {
     const { ws, receiver } = await setup({ maxAttempts: 2 });
     await raise(ws.db, 1);
     receiver.answers.push(500, 500, 500);
-    await deliverAlerts(ws.db, ws.config, ws.log, { now: NOW });
-    await deliverAlerts(ws.db, ws.config, ws.log, { now: at(60_000) });
-    expect(await deliverAlerts(ws.db, ws.config, ws.log, { now: at(10_000_000) })).toEqual({ delivered: 0, failed: 0, pending: 1 });
+    await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW });
+    await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(60_000) });
+    expect(await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => at(10_000_000) })).toEqual({ delivered: 0, failed: 0, pending: 1, nextAttemptAt: null });
     expect(receiver.received).toHaveLength(2);
     expect(ws.logLines().some((l) => l.level === 50 && /given up/.test(String(l.msg)))).toBe(true);
   });
@@ -144,7 +144,7 @@ describe('deliverAlerts', () => {
     const { ws, receiver } = await setup();
     delete process.env[TOKEN_ENV];
     await raise(ws.db, 1);
-    await deliverAlerts(ws.db, ws.config, ws.log, { now: NOW });
+    await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW });
     const [row] = await ws.db.all<{ last_error: string }>('select last_error from alerts');
     expect(row.last_error).toBe(`webhook: environment variable ${TOKEN_ENV} (the webhook token) is not set`);
     expect(receiver.received).toHaveLength(0);
@@ -153,18 +153,18 @@ describe('deliverAlerts', () => {
   it('runs calls made at the same time one after another, so nothing is sent twice', async () => {
     const { ws, receiver, file } = await setup();
     const ids = await raise(ws.db, 3);
-    const first = deliverAlerts(ws.db, ws.config, ws.log, { now: NOW });
+    const first = deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW });
     // made before the first pass started: they join it and share its summary
-    const joined = [deliverAlerts(ws.db, ws.config, ws.log, { now: NOW }), deliverAlerts(ws.db, ws.config, ws.log, { now: NOW })];
+    const joined = [deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW }), deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW })];
     await waitFor(() => receiver.received.length > 0, 5000, 'the first POST');
     // made while the first pass runs: it waits for it and finds nothing left to send
-    const later = deliverAlerts(ws.db, ws.config, ws.log, { now: NOW });
+    const later = deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW });
     const results = await Promise.all([first, ...joined, later]);
     expect(results).toEqual([
-      { delivered: 3, failed: 0, pending: 0 },
-      { delivered: 3, failed: 0, pending: 0 },
-      { delivered: 3, failed: 0, pending: 0 },
-      { delivered: 0, failed: 0, pending: 0 },
+      { delivered: 3, failed: 0, pending: 0, nextAttemptAt: null },
+      { delivered: 3, failed: 0, pending: 0, nextAttemptAt: null },
+      { delivered: 3, failed: 0, pending: 0, nextAttemptAt: null },
+      { delivered: 0, failed: 0, pending: 0, nextAttemptAt: null },
     ]);
     expect(receiver.received.map((r) => r.body.alert_id)).toEqual(ids);
     expect(fileLines(file)).toHaveLength(3);
@@ -174,10 +174,33 @@ describe('deliverAlerts', () => {
     const { ws, receiver } = await setup();
     await receiver.close();
     await raise(ws.db, 1);
-    const summary = await deliverAlerts(ws.db, ws.config, ws.log, { now: NOW });
-    expect(summary).toEqual({ delivered: 0, failed: 1, pending: 1 });
+    const summary = await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW });
+    expect(summary).toEqual({ delivered: 0, failed: 1, pending: 1, nextAttemptAt: at(60_000).toISOString() });
     const [row] = await ws.db.all<{ last_error: string }>('select last_error from alerts');
     expect(row.last_error).toMatch(/^webhook: webhook not reached \(fetch failed: .*ECONNREFUSED/);
+  });
+  it('counts the backoff from the failure, not from the start of the delivery round', async () => {
+    const { ws, receiver } = await setup();
+    await raise(ws.db, 1);
+    receiver.answers.push(500);
+    // the round starts at NOW; the failing send takes 5 s on this clock
+    let calls = 0;
+    await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => (calls++ === 0 ? NOW : at(5000)) });
+    const [row] = await ws.db.all<{ next_ms: string }>('select epoch_ms(next_attempt_at) as next_ms from alerts');
+    expect(Number(row.next_ms)).toBe(at(5000 + 60_000).getTime());
+  });
+
+  it('keeps a token with CR/LF out of the request, last_error and the log', async () => {
+    const { ws, receiver } = await setup();
+    const token = 'abcd1234secret\r\nX-Injected: tail5678part';
+    process.env[TOKEN_ENV] = token;
+    await raise(ws.db, 1);
+    expect((await deliverAlerts(ws.db, ws.config, ws.log, { clock: () => NOW })).failed).toBe(1);
+    expect(receiver.received).toHaveLength(0);
+    const [row] = await ws.db.all<{ last_error: string }>('select last_error from alerts');
+    expect(row.last_error).toBe(`webhook: environment variable ${TOKEN_ENV} holds characters a bearer token cannot have (RFC 6750 section 2.1); not sent`);
+    const logged = JSON.stringify(ws.logLines());
+    for (const piece of ['abcd1234secret', 'X-Injected', 'tail5678part']) expect(logged).not.toContain(piece);
   });
 });
 

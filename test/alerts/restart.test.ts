@@ -20,7 +20,7 @@ function alert(n: number) {
     portfolioId: 'acct-income',
     asOf: '2026-03-06',
     breachId: n,
-    payload: { text: `acct-income: test alert ${n}` },
+    payload: { level: 'warning', episode_state: 'open' as const, text: `acct-income: test alert ${n}` },
   };
 }
 
@@ -63,9 +63,9 @@ describe('alert delivery across restarts and crashes', () => {
     await db!.transaction(() => insertAlert(db!, alert(1)));
     const { config, log } = await restart();
 
-    expect(await deliverAlerts(db!, config, log, { now: NOW })).toEqual({ delivered: 1, failed: 0, pending: 0 });
+    expect(await deliverAlerts(db!, config, log, { clock: () => NOW })).toEqual({ delivered: 1, failed: 0, pending: 0, nextAttemptAt: null });
     const again = await restart();
-    expect(await deliverAlerts(db!, again.config, again.log, { now: NOW })).toEqual({ delivered: 0, failed: 0, pending: 0 });
+    expect(await deliverAlerts(db!, again.config, again.log, { clock: () => NOW })).toEqual({ delivered: 0, failed: 0, pending: 0, nextAttemptAt: null });
     expect(receiver!.received.map((r) => r.body.alert_id)).toEqual([alert(1).alertId]);
     expect(lines(config)).toHaveLength(1);
   });
@@ -74,12 +74,12 @@ describe('alert delivery across restarts and crashes', () => {
     const { config, log } = await open();
     await insertAlert(db!, alert(1));
     receiver!.answers.push(500);
-    await deliverAlerts(db!, config, log, { now: NOW });
+    await deliverAlerts(db!, config, log, { clock: () => NOW });
     // the crash: the line is in the file, its record in alert_deliveries is not
     await db!.run("delete from alert_deliveries where channel = 'file'");
     const after = await restart();
 
-    expect((await deliverAlerts(db!, after.config, after.log, { now: new Date(NOW.getTime() + 1000) })).delivered).toBe(1);
+    expect((await deliverAlerts(db!, after.config, after.log, { clock: () => new Date(NOW.getTime() + 1000) })).delivered).toBe(1);
     expect(lines(config).map((l) => JSON.parse(l).alert_id)).toEqual([alert(1).alertId]);
   });
 
@@ -87,7 +87,7 @@ describe('alert delivery across restarts and crashes', () => {
     const { config, log } = await open();
     appendFileSync(config.alerts.file!, '{"alert_id":"breach-9-limit_opened-2026-03-0');
     await insertAlert(db!, alert(2));
-    await deliverAlerts(db!, config, log, { now: NOW });
+    await deliverAlerts(db!, config, log, { clock: () => NOW });
     const [torn, next] = lines(config);
     expect(torn).toBe('{"alert_id":"breach-9-limit_opened-2026-03-0');
     expect(JSON.parse(next).alert_id).toBe(alert(2).alertId);

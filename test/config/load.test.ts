@@ -45,6 +45,17 @@ describe('loadConfig', () => {
     );
   });
 
+  it('refuses stress scenarios that cannot mean anything, naming the place', () => {
+    const stress = (scenarios: unknown[]) => () => resolveConfig({ stress: { scenarios } }, 'c.json');
+    expect(stress([{ id: 'usd-down', kind: 'hypothetical', shocks: [{ currency: 'USD', return: -0.1 }] }])).toThrow(
+      /base currency USD cannot move against itself[\s\S]*stress\.scenarios\[0\]\.shocks\[0\]/,
+    );
+    expect(stress([{ id: 'two', kind: 'hypothetical', shocks: [{ all: true, return: -0.1 }, { all: true, return: -0.2 }] }])).toThrow(/a second shock on all/);
+    expect(stress([{ id: 'worst_1d', kind: 'historical', from: '2024-01-02', to: '2024-02-01' }])).toThrow(/"worst_1d" is taken/);
+    expect(stress([{ id: 'back', kind: 'historical', from: '2024-02-01', to: '2024-01-02' }])).toThrow(/needs from < to/);
+    expect(stress([{ id: 'deep', kind: 'hypothetical', shocks: [{ all: true, return: -1.5 }] }])).toThrow(/return/);
+  });
+
   it('says which file could not be read', () => {
     expect(() => loadConfig('/nonexistent/pipeline.config.json')).toThrow(/\/nonexistent\/pipeline\.config\.json/);
   });

@@ -90,6 +90,19 @@ describe('riskfold demo, end to end', () => {
     expect(text).toMatch(/prices_\d{8}_correction\.csv: 1 price/);
   });
 
+  it('flags the 10x price as suspect, holds it out of risk, and clears the flag when the correction arrives', async () => {
+    const { correction } = scenario.incidents;
+    const date = scenario.market.dates[scenario.historyDays + correction.drop];
+    const checks = await db.all<{ security_id: string; date: string; rules: string; cleared_reason: string }>(
+      'select security_id, date::varchar as date, rules, cleared_reason from price_checks',
+    );
+    expect(checks).toEqual([
+      { security_id: correction.securityId, date, rules: 'jump,power_of_ten', cleared_reason: expect.stringMatching(/^corrected to /) },
+    ]);
+    const alerts = await db.all<{ level: string }>("select payload->>'level' as level from alerts where kind = 'price_suspect' order by created_at");
+    expect(alerts.map((a) => a.level)).toEqual(['suspect', 'cleared']);
+  });
+
   it('computes the return of the withdrawal day from holdings, not from the fall in value (SPEC 4, recomputed from the scenario)', async () => {
     const flow = scenario.incidents.cashFlows.find((f) => f.amount < 0)!;
     const { dates } = scenario.market;

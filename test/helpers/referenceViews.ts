@@ -101,10 +101,13 @@ export function referenceViews(raw: Deliveries, baseCurrency: string, maxStaleDa
     portfolioReturns: new Map(),
   };
 
+  // cash in another currency has the fx return as its base-currency return (SPEC §3, round 2)
+  const isBaseCash = (id: string) => isCash(id) && currencyOf(id) === baseCurrency;
   const everHeld = new Set<string>();
-  for (const byDate of snapshots.values()) for (const snap of byDate.values()) for (const [s, q] of snap.rows) if (q !== 0 && !isCash(s)) everHeld.add(s);
+  for (const byDate of snapshots.values()) for (const snap of byDate.values()) for (const [s, q] of snap.rows) if (q !== 0 && !isBaseCash(s)) everHeld.add(s);
   for (const security of everHeld) {
-    const firstPrice = prices.filter((p) => p.securityId === security).map((p) => p.date).sort()[0];
+    const observed = isCash(security) ? fx.filter((r) => r.currency === currencyOf(security)) : prices.filter((p) => p.securityId === security);
+    const firstPrice = observed.map((p) => p.date).sort()[0];
     for (let k = 1; k < valuationDates.length; k++) {
       if (firstPrice === undefined || firstPrice > valuationDates[k - 1]) continue;
       const now = priceBase(security, k);
@@ -138,7 +141,7 @@ export function referenceViews(raw: Deliveries, baseCurrency: string, maxStaleDa
         let covered: number | null = null;
         let complete = true;
         for (const [s, w] of previous.weights) {
-          const r = isCash(s) ? 0 : (() => {
+          const r = isBaseCash(s) ? 0 : (() => {
             const now = priceBase(s, k);
             const before = priceBase(s, k - 1);
             return now === null || before === null ? null : now / before - 1;

@@ -89,7 +89,7 @@ describe('checkLimits over corrections and history loads', () => {
     const outcome = await run([today], today[0], 2);
     expect((await breachRows(ws.db)).map((b) => [b.opened_on, b.closed_on, b.peak_value])).toEqual([[history[1][0], null, 0.17]]);
     expect(outcome).toEqual({ alertsRaised: 1, openEpisodes: 1 });
-    expect((await alertRows(ws.db)).map((a) => [a.kind, a.as_of, a.data.late])).toEqual([['limit_opened', today[0], true]]);
+    expect((await alertRows(ws.db)).map((a) => [a.kind, a.as_of, a.data.level, a.data.episode_state])).toEqual([['limit_state', today[0], 'breach', 'open']]);
   });
 
   it('records every episode of a history load but alerts only recent transitions and a still-open episode, once', async () => {
@@ -110,10 +110,11 @@ describe('checkLimits over corrections and history loads', () => {
       [history[24][0], null],
     ]);
     const alerts = await alertRows(ws.db);
-    expect(alerts.map((a) => [a.kind, a.as_of, a.data.late])).toEqual([['limit_opened', last, true]]);
-    expect(alerts[0].data).toMatchObject({ level: 'breach', opened_on: history[24][0], value: 0.155, peak_value: 0.16 });
+    expect(alerts.map((a) => [a.kind, a.as_of])).toEqual([['limit_state', last]]);
+    expect(alerts[0].data).toMatchObject({ level: 'breach', episode_state: 'open', opened_on: history[24][0], value: 0.155, peak_value: 0.16 });
     expect(alerts[0].data.text).toBe(
-      `acct-growth: 63-day volatility 15.5% has been at or above its 15.0% limit since ${history[24][0]} (peak 16.0% on ${history[26][0]}); found by a run over past dates`,
+      `acct-growth: 63-day volatility 15.5% on ${last}: breach since ${history[25][0]} (episode opened ${history[24][0]}, peak 16.0% on ${history[26][0]}); ` +
+        `not alerted before; caught up from a delivery covering ${history.length} business days`,
     );
     expect(outcome).toEqual({ alertsRaised: 1, openEpisodes: 1 });
 
@@ -121,7 +122,7 @@ describe('checkLimits over corrections and history loads', () => {
     expect((await run(history, null, 2)).alertsRaised).toBe(0);
     const next: [string, number] = [businessDays(last, 2)[1], 0.12];
     expect((await run([next], next[0], 3)).alertsRaised).toBe(1);
-    expect((await alertRows(ws.db)).map((a) => a.kind)).toEqual(['limit_opened', 'limit_closed']);
+    expect((await alertRows(ws.db)).map((a) => a.kind)).toEqual(['limit_state', 'limit_closed']);
   });
 
   it('alerts a transition inside maxAgeDays of a history load, and then no late opening', async () => {
@@ -129,7 +130,7 @@ describe('checkLimits over corrections and history loads', () => {
     const history = path([...Array(10).fill(0.1), 0.16, 0.16, 0.16]);
     await run(history, null, 1);
     // Mon 2026-03-16 opening, last date Wed 03-18: within 3 calendar days
-    expect((await alertRows(ws.db)).map((a) => [a.kind, a.as_of, a.data.late])).toEqual([['limit_opened', history[10][0], undefined]]);
+    expect((await alertRows(ws.db)).map((a) => [a.kind, a.as_of])).toEqual([['limit_opened', history[10][0]]]);
   });
 
   it('retracts quietly an episode that was never alerted', async () => {
@@ -140,5 +141,41 @@ describe('checkLimits over corrections and history loads', () => {
     await run([[history[0][0], 0.1]], null, 2);
     expect((await breachRows(ws.db)).map((b) => b.retracted)).toEqual([true]);
     expect(await alertRows(ws.db)).toEqual([]);
+  });
+
+  it('brings operations up to date once when a catch-up of 21 business days hides an escalation past maxAgeDays', async () => {
+    ws = await tempWorkspace();
+    const [first] = path([0.14]);
+    await run([first], first[0], 1);
+    // 21 dates at once: the escalation on the 2nd of them is weeks before the last one
+    const burst = path([0.14, ...Array(20).fill(0.16)], businessDays(first[0], 2)[1]);
+    const outcome = await run(burst, burst[0][0], 2);
+    const alerts = await alertRows(ws.db);
+    expect(alerts.map((a) => [a.kind, a.as_of, a.data.level, a.data.episode_state])).toEqual([
+      ['limit_opened', first[0], 'warning', 'open'],
+      ['limit_state', burst[20][0], 'breach', 'open'],
+    ]);
+    expect(alerts[1].data.text).toBe(
+      `acct-growth: 63-day volatility 16.0% on ${burst[20][0]}: breach since ${burst[1][0]} (episode opened ${first[0]}, peak 16.0% on ${burst[1][0]}); ` +
+        `last told: warning since ${first[0]}; caught up from a delivery covering 21 business days`,
+    );
+    expect(outcome.alertsRaised).toBe(1);
+    // told once: the same delivery again raises nothing
+    expect((await run(burst, burst[0][0], 3)).alertsRaised).toBe(0);
+  });
+
+  it('alerts a correction that moves an alerted opening, and one that reopens a closed episode', async () => {
+    ws = await tempWorkspace({ alerts: { file: 'alerts.jsonl', maxAgeDays: 0 } });
+    const days = path([0.1, 0.1, 0.14, 0.1]);
+    for (const [i, p] of days.entries()) await run([p], p[0], i + 1);
+    expect((await alertRows(ws.db)).map((a) => a.kind)).toEqual(['limit_opened', 'limit_closed']);
+    // the second date is corrected up (opening moves a day earlier) and the last one too (no closing)
+    await run([[days[1][0], 0.14], [days[3][0], 0.14]], days[1][0], 10);
+    const alerts = await alertRows(ws.db);
+    expect(alerts.map((a) => [a.kind, a.data.level, a.data.episode_state, a.data.opened_on])).toEqual([
+      ['limit_opened', 'warning', 'open', days[2][0]],
+      ['limit_closed', 'closed', 'closed', days[2][0]],
+      ['limit_state', 'warning', 'open', days[1][0]],
+    ]);
   });
 });

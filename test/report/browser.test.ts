@@ -5,7 +5,7 @@ import { chromium, type Browser } from 'playwright-core';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { reportHtml } from '../../src/report/writeReport.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
-import { FIXTURE_CONFIG, FIXTURE_PORTFOLIO, FIXTURE_SECURITIES, fillReportFixture } from './fixture.ts';
+import { FIXTURE_CONFIG, FIXTURE_EXCEPTION_DAYS, FIXTURE_PORTFOLIO, FIXTURE_SECURITIES, fillReportFixture } from './fixture.ts';
 
 // Debian's chromium (CI installs it with apt); playwright drives it, it downloads nothing.
 const CHROMIUM = '/usr/bin/chromium';
@@ -87,6 +87,7 @@ describe('the report in a real browser', () => {
       'vol-realized',
       'contributions',
       'correlation',
+      'backtest',
     ]);
     for (const c of charts) {
       expect(c.width, c.id).toBeGreaterThan(300);
@@ -111,6 +112,20 @@ describe('the report in a real browser', () => {
     expect(cells).toHaveLength(FIXTURE_SECURITIES.length ** 2);
     expect(cells.every((c) => c.width > 20 && c.height > 20)).toBe(true);
     expect(new Set(cells.map((c) => c.fill)).size).toBeGreaterThan(5);
+    // the backtest: loss and predicted VaR over the chart's 126 dates, each exception day marked
+    const backtest = byId.get('backtest')!;
+    expect(backtest.polylines).toEqual([126, 126]);
+    expect(backtest.bands).toHaveLength(FIXTURE_EXCEPTION_DAYS.length);
+    expect(backtest.bands.every((b) => b.width > 0 && b.height > 50)).toBe(true);
+    const lossTables = await page.evaluate(() =>
+      [...document.querySelectorAll('section')]
+        .filter((s) => /Losses beyond|backtest|Stress scenarios/.test(s.querySelector('h2')?.textContent ?? ''))
+        .map((s) => [...s.querySelectorAll('tbody tr')].map((tr) => [...tr.querySelectorAll('td')].map((td) => td.textContent))),
+    );
+    expect(lossTables.map((rows) => rows.length)).toEqual([3, 1, 3]);
+    expect(lossTables[0].map((r) => r[0])).toEqual(['normal, 63-day', 'historical, 250 scenarios', 'filtered historical, 250 scenarios']);
+    expect(lossTables[1][0]).toEqual(['normal, 63-day', '250', String(FIXTURE_EXCEPTION_DAYS.length), '0.50', '0.480', '0.750', 'green']);
+    expect(lossTables[2].find((r) => r[0] === 'spring-slide')?.[6]).toBe('CM-EMBERSTONE');
 
     await page.emulateMedia({ media: 'print' });
     expect(await page.evaluate(() => getComputedStyle(document.body).backgroundColor)).toBe('rgb(255, 255, 255)');

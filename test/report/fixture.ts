@@ -84,6 +84,7 @@ export async function fillReportFixture(db: Database): Promise<Fixture> {
      values ('${FIXTURE_PORTFOLIO}', 'vol_ex_ante', 63, 'sample', ${FIXTURE_LIMIT}, ${0.9 * FIXTURE_LIMIT}, ${0.85 * FIXTURE_LIMIT}, 'breach', '${breach.opened_on}', '${breach.escalated_on}', '${breach.closed_on}', ${fixtureVol(200, 63)}, '${dates[200]}', 7)`,
   );
   await insertVolChange(db, dates, weights);
+  await fillLossRows(db, dates);
   return { dates, asOf, breach };
 }
 
@@ -107,5 +108,42 @@ async function insertVolChange(db: Database, dates: string[], weights: number[])
   );
   await db.run(
     `insert into vol_change_securities (portfolio_id, date, window_days, estimator, security_id, weight_prev, weight_now, from_weights, run_id) values ${holdings.join(',')}`,
+  );
+}
+
+/** Days of the fixture whose loss exceeds the predicted VaR: three exceptions in the chart's range. */
+export const FIXTURE_EXCEPTION_DAYS = [230, 251, 290];
+
+/**
+ * var_daily, var_backtest and stress_results rows as the loss stage writes them: the
+ * normal 63-day VaR of the fixture's path, a loss of a third of it on ordinary days and
+ * 1.2 times it on the exception days.
+ */
+async function fillLossRows(db: Database, dates: string[]): Promise<void> {
+  const asOf = dates[dates.length - 1];
+  const varOn = (t: number) => 2.326 * (fixtureVol(t, 63) / Math.sqrt(252)) * 2.5e6;
+  const methods = [
+    `('${FIXTURE_PORTFOLIO}', '${asOf}', 'normal', 63, 'sample', ${varOn(dates.length - 1)}, ${varOn(dates.length - 1) * 1.15}, 1, 'ok', [], 7)`,
+    `('${FIXTURE_PORTFOLIO}', '${asOf}', 'historical', 250, null, 61000, 78000, 1, 'ok', [], 7)`,
+    `('${FIXTURE_PORTFOLIO}', '${asOf}', 'filtered_historical', 250, null, 52000, 66000, 0.94, 'partial_history', ['CM-EMBERSTONE'], 7)`,
+  ];
+  await db.run(`insert into var_daily (portfolio_id, date, method, window_days, estimator, var_99_1d, es_975_1d, coverage, status, missing, run_id) values ${methods.join(',')}`);
+  const tests: string[] = [];
+  let exceptions = 0;
+  for (let t = 64; t < dates.length; t++) {
+    const exception = FIXTURE_EXCEPTION_DAYS.includes(t);
+    if (exception) exceptions++;
+    const pnl = -(exception ? 1.2 : (t % 2 === 0 ? 1 : -1) / 3) * varOn(t - 1);
+    tests.push(`('${FIXTURE_PORTFOLIO}', '${dates[t]}', 'normal', 63, 'sample', ${varOn(t - 1)}, ${pnl}, ${exception}, ${Math.min(250, t - 63)}, ${exceptions}, 0.5, 0.48, 0.1, 0.75, ${t - 63 >= 250 ? "'green'" : 'null'}, 7)`);
+  }
+  await db.run(
+    `insert into var_backtest (portfolio_id, date, method, window_days, estimator, var_99_1d, pnl, exception, tested_days, exceptions_250,
+       kupiec_lr, kupiec_p, christoffersen_lr, christoffersen_p, zone, run_id) values ${tests.join(',')}`,
+  );
+  await db.run(
+    `insert into stress_results (portfolio_id, date, scenario_id, kind, pnl_base, pnl_pct, coverage, missing, range_from, range_to, run_id) values
+     ('${FIXTURE_PORTFOLIO}', '${asOf}', 'equities-25', 'hypothetical', -420000, -0.168, 1, [], null, null, 7),
+     ('${FIXTURE_PORTFOLIO}', '${asOf}', 'spring-slide', 'historical', -160000, -0.064, 0.94, ['CM-EMBERSTONE'], '${dates[180]}', '${dates[200]}', 7),
+     ('${FIXTURE_PORTFOLIO}', '${asOf}', 'worst_1d', 'historical', -61000, -0.0244, 1, [], '${dates[199]}', '${dates[200]}', 7)`,
   );
 }

@@ -32,7 +32,7 @@ describe('ret_securities', () => {
     ]);
   });
 
-  it('has no return where either price is missing, and no rows for cash', async () => {
+  it('has no return where either price is missing, and no rows for base-currency cash', async () => {
     ws = await defaultsWorkspace({ risk: { maxStaleDays: 0 } });
     await insertPositions(ws.db, 1, [
       ['2024-03-04', 'acct-growth', 'EQ-NORDWIND', 10],
@@ -122,7 +122,11 @@ describe('ret_portfolios', () => {
     ]);
     const rows = await ws.db.all("select date, simple_return from ret_portfolios where portfolio_id = 'acct-euro'");
     // Tuesday: 10 * 20 * 1.1 = 220 and 200 * 1.1 = 220, weights 0.5 each;
-    // R = 0.5 * (21 * 1.12 / (20 * 1.1) - 1) + 0.5 * 0 (cash earns nothing by definition)
-    expectRowsClose(rows, [{ date: '2024-03-06', simple_return: 0.5 * (23.52 / 22 - 1) }]);
+    // R = 0.5 * (21 * 1.12 / (20 * 1.1) - 1) + 0.5 * (1.12 / 1.1 - 1): EUR cash earns the
+    // EUR/USD move in base terms (SPEC §3, round 2)
+    expectRowsClose(rows, [{ date: '2024-03-06', simple_return: 0.5 * (23.52 / 22 - 1) + 0.5 * (1.12 / 1.1 - 1) }]);
+    const cash = await ws.db.all("select date, log_return, log_return_local from ret_securities where security_id = 'CASH:EUR'");
+    // ln(1.12 / 1.1), zero in its own currency
+    expectRowsClose(cash, [{ date: '2024-03-06', log_return: Math.log(1.12 / 1.1), log_return_local: 0 }]);
   });
 });

@@ -5,6 +5,7 @@ import { registerIngest } from './ingest.ts';
 import { registerRecompute } from './recompute.ts';
 import { registerSql } from './sql.ts';
 import { registerStatus } from './status.ts';
+import { registerAlerts } from './alerts.ts';
 import { registerReport } from './report.ts';
 import { registerDemo } from './demo.ts';
 
@@ -16,6 +17,7 @@ export const COMMANDS: ((program: Command) => void)[] = [
   registerRecompute,
   registerSql,
   registerStatus,
+  registerAlerts,
   registerReport,
   registerDemo,
 ];

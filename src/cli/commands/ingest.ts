@@ -65,13 +65,20 @@ function requirePlainFile(file: string): void {
 export function describeOutcome(o: IngestOutcome): string {
   const what =
     o.status === 'ingested'
-      ? `${o.name}: ${o.rows.toLocaleString('en-US')} row${o.rows === 1 ? '' : 's'} of ${o.kind}`
+      ? `${o.name}: ${o.rows.toLocaleString('en-US')} row${o.rows === 1 ? '' : 's'} of ${o.kind}${neverPricedNote(o.neverPriced)}`
       : o.status === 'duplicate'
         ? `${o.name}: same bytes as file ${o.duplicateOf}, nothing added`
         : o.status === 'held'
           ? `${o.name}: ${o.hold!.reason}`
           : formatRejection(o.rejection!); // starts with the file name
   return forTerminal(`${o.status.padEnd(10)} ${what} ${o.status === 'held' ? 'stays in' : '->'} ${shown(o.movedTo)}`);
+}
+
+/** "; never priced: EQ-X, EQ-Y (no value until a price arrives)" */
+function neverPricedNote(ids: string[] | undefined): string {
+  if (ids === undefined || ids.length === 0) return '';
+  const listed = ids.length > 5 ? `${ids.slice(0, 5).join(', ')} and ${ids.length - 5} more` : ids.join(', ');
+  return `; never priced: ${listed} (their portfolios have no value until a price arrives)`;
 }
 
 function shown(p: string): string {

@@ -35,10 +35,20 @@ export interface ScenarioPnl {
  * A holding whose value is zero is never missing (it cannot gain or lose).
  */
 export function scenarioPnl(values: Float64Array, returns: Float64Array, scenarios: number): ScenarioPnl {
+  requireLength('scenarioPnl', 'returns', returns.length, scenarios * values.length);
+  return scenarioPnlSimple(values, returns.map(Math.expm1), scenarios);
+}
+
+/**
+ * As `scenarioPnl`, from simple returns R_i,s = exp(r_i,s) - 1 already taken:
+ * pnl_s = sum_i V_i R_i,s. A caller that revalues many portfolios under the same
+ * scenarios converts each return once. NaN (or +Infinity) marks a missing return.
+ */
+export function scenarioPnlSimple(values: Float64Array, simpleReturns: Float64Array, scenarios: number): ScenarioPnl {
   const fn = 'scenarioPnl';
   const n = values.length;
   requireInteger(fn, 'scenarios', scenarios, 1);
-  requireLength(fn, 'returns', returns.length, scenarios * n);
+  requireLength(fn, 'returns', simpleReturns.length, scenarios * n);
   const complete = new Uint8Array(n);
   let gross = 0;
   let coveredGross = 0;
@@ -46,7 +56,7 @@ export function scenarioPnl(values: Float64Array, returns: Float64Array, scenari
   for (let i = 0; i < n; i++) {
     if (!Number.isFinite(values[i])) throw new Error(`${fn}: values[${i}] must be finite, got ${values[i]}`);
     let full = true;
-    for (let s = 0; s < scenarios && full; s++) full = isReturn(returns[s * n + i]);
+    for (let s = 0; s < scenarios && full; s++) full = isReturn(simpleReturns[s * n + i]);
     gross += Math.abs(values[i]);
     if (full || values[i] === 0) {
       complete[i] = 1;
@@ -58,7 +68,7 @@ export function scenarioPnl(values: Float64Array, returns: Float64Array, scenari
   const pnl = new Float64Array(scenarios);
   for (let s = 0; s < scenarios; s++) {
     let sum = 0;
-    for (let i = 0; i < n; i++) if (complete[i] === 1 && values[i] !== 0) sum += values[i] * Math.expm1(returns[s * n + i]);
+    for (let i = 0; i < n; i++) if (complete[i] === 1 && values[i] !== 0) sum += values[i] * simpleReturns[s * n + i];
     pnl[s] = sum;
   }
   return { pnl, coverage: gross > 0 ? coveredGross / gross : Number.NaN, missing: Int32Array.from(missing) };
@@ -115,21 +125,23 @@ export function historicalLoss(pnl: Float64Array, varLevel: number, esLevel: num
  *
  * A missing return (NaN) stays missing. A past sigma of zero (a series that had never
  * moved) scales a zero return to zero and leaves any other return missing (NaN), since
- * the ratio is undefined; the coverage of `scenarioPnl` then reports it.
+ * the ratio is undefined; the coverage of `scenarioPnl` then reports it. `out`, when
+ * given, receives the result (a caller walking many dates reuses one buffer).
  */
 export function filteredReturns(
   returns: Float64Array,
   scenarios: number,
   sigmaPast: Float64Array,
   sigmaToday: Float64Array,
+  out: Float64Array = new Float64Array(returns.length),
 ): Float64Array {
   const fn = 'filteredReturns';
   const n = sigmaToday.length;
   requireInteger(fn, 'scenarios', scenarios, 1);
   requireLength(fn, 'returns', returns.length, scenarios * n);
   requireLength(fn, 'sigmaPast', sigmaPast.length, scenarios * n);
+  requireLength(fn, 'out', out.length, scenarios * n);
   for (let i = 0; i < n; i++) requireSigma(fn, `sigmaToday[${i}]`, sigmaToday[i]);
-  const out = new Float64Array(returns.length);
   for (let s = 0; s < scenarios; s++) {
     for (let i = 0; i < n; i++) {
       const at = s * n + i;

@@ -89,7 +89,7 @@ describe('recompute: a full backfill', () => {
     expect(rows.length).toBe(expected);
   });
 
-  it('keeps contributions for the latest date only; the ccr add up to vol_ex_ante and cash adds nothing (Euler)', async () => {
+  it('keeps contributions for the latest date only; the ccr add up to vol_ex_ante, base cash adds nothing and foreign cash its currency risk (Euler)', async () => {
     const s = await backfill();
     const last = s.dates[s.dates.length - 1];
     const dates = await ws!.db.all<{ date: string }>('select distinct date from risk_contributions');
@@ -104,8 +104,12 @@ describe('recompute: a full backfill', () => {
       expect(r.ccr / r.vol).toBeCloseTo(1, 12);
       expect(r.pct).toBeCloseTo(1, 12);
     }
-    const cash = await ws!.db.all<{ mcr: number; weight: number }>(`select mcr, weight from risk_contributions where security_id like 'CASH:%'`);
-    expect(cash.length).toBe(2 * 3);
+    const cash = await ws!.db.all<{ mcr: number }>(`select mcr from risk_contributions where security_id = 'CASH:USD'`);
+    expect(cash.length).toBe(3);
     for (const c of cash) expect(c).toMatchObject({ mcr: 0 });
+    // CASH:EUR moves with EUR/USD (SPEC §3, round 2): a marginal risk like any holding's
+    const euro = await ws!.db.all<{ mcr: number }>(`select mcr from risk_contributions where security_id = 'CASH:EUR'`);
+    expect(euro.length).toBe(3);
+    for (const c of euro) expect(Math.abs(c.mcr)).toBeGreaterThan(0);
   });
 });

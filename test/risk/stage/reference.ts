@@ -43,7 +43,8 @@ const Z99 = 2.3263478740408408;
 const Z975 = 1.959963984540054;
 const phi = (z: number) => Math.exp((-z * z) / 2) / Math.sqrt(2 * Math.PI);
 
-const isCash = (id: string) => id.startsWith('CASH:');
+// only cash in the base currency (USD here) is riskless; CASH:EUR has the EUR/USD returns (SPEC §3, round 2)
+const isCash = (id: string) => id === 'CASH:USD';
 
 export function referenceRisk(s: Scenario, o: ReferenceOptions): ReferenceRow[] {
   const T = s.dates.length;
@@ -156,6 +157,7 @@ function figures(w: Map<string, number> | null, value: number | null, stale: boo
   const none = { volExAnte: null, var99_1d: null, es975_1d: null, var99_10d: null, es975_10d: null, diversification: null };
   const staleTag = stale ? ['stale_prices'] : [];
   if (w === null || value === null) return { ...none, coverage: null, status: ['unpriced', ...staleTag].join(',') };
+  if (value <= 0) return { ...none, coverage: null, status: ['value_not_positive', ...staleTag].join(',') };
   let gross = 0;
   let covered = 0;
   const inCov: string[] = [];
@@ -203,7 +205,9 @@ export function ewmaReference(
   lambda: number,
   seedDays: number,
 ): Map<string, Map<string, number>>[] {
-  const ids = s.securities.map((x) => x.id);
+  // cash in another currency is a member like any security: its returns are the fx returns
+  const foreignCash = [...new Set(s.snapshots.flatMap((x) => Object.keys(x.quantities)))].filter((id) => id.startsWith('CASH:') && !isCash(id));
+  const ids = [...s.securities.map((x) => x.id), ...foreignCash.sort()];
   let S = new Map<string, Map<string, number>>();
   const out: Map<string, Map<string, number>>[] = [];
   for (let d = 0; d < s.dates.length; d++) {

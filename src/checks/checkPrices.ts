@@ -1,0 +1,134 @@
+import type { Logger } from 'pino';
+import { insertAlert } from '../alerts/outbox.ts';
+import type { Config } from '../config/load.ts';
+import type { Database } from '../storage/database.ts';
+import { readColumns } from '../storage/columnar.ts';
+import { priceSuspectAlert } from './priceAlerts.ts';
+import { findSuspectPrices, marketMoves, type PricePoint, type SuspectPrice } from './suspectPrices.ts';
+
+/**
+ * EWMA with lambda 0.94 gives a return 250 dates old a weight of 0.94^250 (about 2e-7):
+ * reading this much history before the first date to check makes the sigma the same as
+ * from the very first price, at a fraction of the cost.
+ */
+const LOOKBACK_DAYS = 400;
+
+export interface PriceCheckOutcome {
+  flagged: number;
+  cleared: number;
+}
+
+interface OpenCheck {
+  check_id: number;
+  security_id: string;
+  date: string;
+  price: number;
+  reason: string;
+}
+
+/**
+ * Checks every delivered price dated from `from` (null: all) of the securities ever held
+ * (only they enter risk; a file of prices nobody holds costs nothing) against its security's own
+ * history, records the suspect ones in price_checks, clears those a later delivery
+ * repeated or corrected, and raises one price_suspect alert when a flag is raised and
+ * one when it clears. Runs before the risk stage reads the prices, in its own transaction.
+ */
+export async function checkPrices(db: Database, config: Config, log: Logger, scope: { from: string | null }): Promise<PriceCheckOutcome> {
+  const rules = config.checks.suspectPrices;
+  const clog = log.child({ stage: 'checks' });
+  const { rows, columns: c } = await readColumns(
+    db,
+    // the raw positions (superseded snapshots too): a superset of what was ever held, read
+    // without rebuilding the snapshots in force
+    `with held as (
+       select distinct security_id from positions where quantity <> 0 and security_id not like 'CASH:%'
+     ),
+     latest as (
+       select security_id, date, price, coalesce(currency, '') as market, file_id
+       from clean_prices semi join held using (security_id)
+       where $1::date is null or date >= $1::date - ${LOOKBACK_DAYS}
+     ),
+     repeated as (
+       select p.security_id, p.date from prices p join latest l using (security_id, date)
+       where p.price = l.price and p.file_id <> l.file_id
+       group by all
+     )
+     select l.security_id, l.date::varchar as date, l.price, l.market, r.security_id is not null as confirmed
+     from latest l left join repeated r using (security_id, date)
+     order by l.security_id, l.date`,
+    [scope.from],
+    { security_id: 'text', date: 'text', price: 'double', market: 'text', confirmed: 'bool' },
+  );
+  const series: { securityId: string; currency: string; dates: string[]; prices: number[]; confirmed: boolean[] }[] = [];
+  for (let i = 0; i < rows; i++) {
+    const id = c.security_id[i] as string;
+    if (series.length === 0 || series[series.length - 1].securityId !== id) {
+      series.push({ securityId: id, currency: c.market[i] as string, dates: [], prices: [], confirmed: [] });
+    }
+    const s = series[series.length - 1];
+    s.dates.push(c.date[i] as string);
+    s.prices.push(c.price[i]);
+    s.confirmed.push(c.confirmed[i] === 1);
+  }
+  const moves = marketMoves(series);
+  const found = new Map<string, { securityId: string; price: number; flag: SuspectPrice }>();
+  const current = new Map<string, { price: number; confirmed: boolean }>();
+  for (const s of series) {
+    const movers = moves.get(s.currency)!;
+    const points: PricePoint[] = s.dates.map((date, i) => {
+      const self = i > 0 && s.prices[i] !== s.prices[i - 1] ? 1 : 0;
+      return { date, price: s.prices[i], confirmed: s.confirmed[i], marketMoved: (movers.get(date) ?? 0) - self > 0 };
+    });
+    points.forEach((p) => current.set(key(s.securityId, p.date), { price: p.price, confirmed: p.confirmed }));
+    for (const flag of findSuspectPrices(points, rules)) {
+      if (scope.from !== null && flag.date < scope.from) continue;
+      found.set(key(s.securityId, flag.date), { securityId: s.securityId, price: points[flag.index].price, flag });
+    }
+  }
+
+  const held = rules.mode === 'hold';
+  return db.transaction(async () => {
+    const open = await db.all<OpenCheck>(
+      `select check_id, security_id, date::varchar as date, price, reason from price_checks
+       where cleared_at is null and ($1::date is null or date >= $1::date)`,
+      [scope.from],
+    );
+    const outcome: PriceCheckOutcome = { flagged: 0, cleared: 0 };
+    const stillOpen = new Set<string>();
+    for (const o of open) {
+      const k = key(o.security_id, o.date);
+      const now = found.get(k);
+      if (now !== undefined && now.price === o.price) {
+        stillOpen.add(k);
+        continue;
+      }
+      const delivered = current.get(k);
+      const why =
+        delivered === undefined
+          ? 'the price is no longer delivered'
+          : delivered.confirmed && delivered.price === o.price
+            ? 'confirmed by a repeated delivery'
+            : delivered.price !== o.price
+              ? `corrected to ${delivered.price}`
+              : 'no longer suspect after a recheck';
+      await db.run('update price_checks set cleared_at = now(), cleared_reason = $2 where check_id = $1', [o.check_id, why]);
+      await insertAlert(db, priceSuspectAlert({ checkId: o.check_id, securityId: o.security_id, date: o.date, price: o.price, reason: o.reason, held }, why));
+      outcome.cleared++;
+    }
+    for (const [k, f] of found) {
+      if (stillOpen.has(k)) continue;
+      const [{ check_id: checkId }] = await db.all<{ check_id: number }>(
+        `insert into price_checks (security_id, date, price, rules, reason, held) values ($1, $2::date, $3, $4, $5, $6) returning check_id`,
+        [f.securityId, f.flag.date, f.price, f.flag.rules.join(','), f.flag.reason, held],
+      );
+      await insertAlert(db, priceSuspectAlert({ checkId, securityId: f.securityId, date: f.flag.date, price: f.price, reason: f.flag.reason, held }, null));
+      outcome.flagged++;
+    }
+    // a change of mode applies to the flags still open
+    await db.run('update price_checks set held = $1 where cleared_at is null and held <> $1', [held]);
+    if (outcome.flagged + outcome.cleared > 0) clog.warn({ ...outcome, mode: rules.mode }, 'suspect prices checked');
+    return outcome;
+  });
+}
+
+const key = (securityId: string, date: string) => `${securityId}|${date}`;

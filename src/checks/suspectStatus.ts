@@ -1,0 +1,36 @@
+import type { Database } from '../storage/database.ts';
+
+/**
+ * Adds `suspect_price` to the status of the run's risk_daily rows whose window uses a
+ * price flagged suspect and used (mode flag): a window of W returns ending at t reads the
+ * prices of the valuation dates t-W .. t; an EWMA row (window 0) counts the longest
+ * window. Runs in the risk stage's transaction, after its rows are written; set-based,
+ * and nothing at all while no flag is open.
+ */
+export async function markSuspectWindows(db: Database, runId: number): Promise<number> {
+  const [{ open }] = await db.all<{ open: number }>('select count(*)::integer as open from price_checks where cleared_at is null and not held');
+  if (open === 0) return 0;
+  const rows = await db.all<{ n: number }>(
+    `with suspects as (
+       select c.security_id, v.date_index
+       from price_checks c join align_valuation_dates v on v.date = c.date
+       where c.cleared_at is null and not c.held
+     ),
+     longest as (select list_max(windows) as days from pipeline_settings),
+     touched as (
+       select distinct r.portfolio_id, r.date, r.window_days, r.estimator
+       from suspects s
+       cross join longest
+       join hold_daily_positions p on p.security_id = s.security_id and p.date_index between s.date_index and s.date_index + longest.days
+       join risk_daily r on r.portfolio_id = p.portfolio_id and r.date = p.date and r.run_id = $1
+       where p.date_index - s.date_index <= case when r.window_days = 0 then longest.days else r.window_days end
+     )
+     update risk_daily set status = case when risk_daily.status = 'ok' then 'suspect_price' else risk_daily.status || ',suspect_price' end
+     from touched t
+     where risk_daily.portfolio_id = t.portfolio_id and risk_daily.date = t.date and risk_daily.window_days = t.window_days
+       and risk_daily.estimator = t.estimator and risk_daily.run_id = $1
+     returning 1 as n`,
+    [runId],
+  );
+  return rows.length;
+}

@@ -1,0 +1,179 @@
+import { filteredReturns, historicalLoss, scenarioPnlSimple, type ScenarioPnl } from '../risk/math/historicalSimulation.ts';
+import type { PortfolioPanel, ReturnPanel } from '../risk/inputs.ts';
+import type { VarRow } from './lossStage.ts';
+
+/**
+ * var_daily rows of the historical and filtered historical simulation (SPEC section 9,
+ * formulas in src/risk/math/historicalSimulation.ts) for every portfolio and date of the
+ * run. The holdings at the close of d are revalued under the returns of the N valuation
+ * dates d-N+1 .. d; the filtered method first rescales each past return to today's EWMA
+ * sigma. A holding without a return on all N dates is left out and named, and the row's
+ * coverage and status say so; below `minCoverage` the figures are null.
+ */
+
+export interface HistoricalSettings {
+  days: readonly number[];
+  minCoverage: number;
+}
+
+export interface HistoricalInputs {
+  returns: ReturnPanel;
+  portfolios: PortfolioPanel;
+  /** First date row of the run. */
+  fromRow: number;
+  /** securitySigmas(): EWMA sigma after each row, T x N. */
+  sigmaAfter: Float64Array;
+}
+
+export const VAR_LEVEL = 0.99;
+export const ES_LEVEL = 0.975;
+
+/** Walks the run's dates; `emit` receives each row, and the VaR by (portfolio, method, N) for the backtest. */
+export function historicalVarRows(inputs: HistoricalInputs, settings: HistoricalSettings, emit: (row: VarRow, p: number, d: number) => void): void {
+  const { returns, portfolios, fromRow } = inputs;
+  const t = returns.dates.length;
+  const days = [...settings.days].sort((a, b) => b - a);
+  const longest = days[0];
+  // each return the run's scenarios use converted once, by security: every portfolio and date revalues under them
+  const firstDate = Math.max(fromRow, portfolios.firstRow);
+  const simple = new Float64Array(t * returns.securityIds.length);
+  for (let j = 0; j < returns.securityIds.length; j++) {
+    for (let row = Math.max(0, firstDate - longest + 1); row < t; row++) simple[j * t + row] = Math.expm1(returns.returnsBySecurity[j * t + row]);
+  }
+  const filtered = new FilteredScenarios(inputs, longest);
+  let matrix = new Float64Array(0);
+  for (let d = firstDate; d < t; d++) {
+    filtered.moveTo(d);
+    for (let p = 0; p < portfolios.ids.length; p++) {
+      const slot = p * t + d;
+      if (portfolios.present[slot] === 0) continue;
+      const value = portfolios.value[slot];
+      const start = portfolios.offsets[slot];
+      const held = portfolios.security.subarray(start, portfolios.offsets[slot + 1]);
+      const h = held.length;
+      const values = portfolios.weight.subarray(start, start + h).map((w) => w * value);
+      const stale = portfolios.stale[slot] === 1;
+      const reason = portfolios.unpriced[slot] === 1 || !Number.isFinite(value) ? 'unpriced' : value <= 0 ? 'value_not_positive' : null;
+      // row 0 has no return: N scenarios need N + 1 dates
+      const usable = reason === null ? days.filter((n) => d - n + 1 >= 1) : [];
+      if (matrix.length < longest * h) matrix = new Float64Array(longest * h);
+      for (const method of ['historical', 'filtered_historical'] as const) {
+        if (usable.length > 0) {
+          // the longest lookback's scenarios, oldest first; a shorter one is its last rows
+          const n = usable[0];
+          for (let a = 0; a < h; a++) {
+            const j = held[a];
+            if (returns.isCash[j] === 1) {
+              for (let s = 0; s < n; s++) matrix[s * h + a] = 0;
+              continue;
+            }
+            // indices into one flat buffer, so no view is made per holding
+            const source = method === 'historical' ? simple : filtered.scenarios;
+            const first = method === 'historical' ? j * t + d - n + 1 : filtered.columnStart(j) + longest - n;
+            for (let s = 0; s < n; s++) matrix[s * h + a] = source[first + s];
+          }
+        }
+        let widest: ScenarioPnl | null = null;
+        for (const n of days) {
+          const base = { portfolioId: portfolios.ids[p], date: returns.dates[d], method, windowDays: n };
+          if (reason !== null || !usable.includes(n)) {
+            emit({ ...base, ...empty(reason ?? 'insufficient_history', stale) }, p, d);
+            continue;
+          }
+          const offset = (usable[0] - n) * h;
+          // with nothing missing over the longest lookback, a shorter one is the tail of its P&L
+          const result: ScenarioPnl =
+            widest !== null && widest.missing.length === 0
+              ? { ...widest, pnl: widest.pnl.subarray(usable[0] - n) }
+              : scenarioPnlSimple(values, matrix.subarray(offset, offset + n * h), n);
+          widest ??= result;
+          emit({ ...base, ...figures(result, held, returns.securityIds, settings.minCoverage, stale) }, p, d);
+        }
+      }
+    }
+  }
+}
+
+function figures(
+  { pnl, coverage, missing }: ScenarioPnl,
+  held: Int32Array,
+  ids: readonly string[],
+  minCoverage: number,
+  stale: boolean,
+): Omit<VarRow, 'portfolioId' | 'date' | 'method' | 'windowDays'> {
+  const names = Array.from(missing, (a) => ids[held[a]]);
+  if (!(coverage >= minCoverage)) return { ...empty('insufficient_history', stale), coverage, missing: names };
+  const loss = historicalLoss(pnl, VAR_LEVEL, ES_LEVEL);
+  return { var99: loss.var, es975: loss.es, coverage, status: withStale(coverage < 1 ? 'partial_history' : 'ok', stale), missing: names };
+}
+
+function empty(reason: string, stale: boolean): Omit<VarRow, 'portfolioId' | 'date' | 'method' | 'windowDays'> {
+  return { var99: Number.NaN, es975: Number.NaN, coverage: Number.NaN, status: withStale(reason, stale), missing: [] };
+}
+
+function withStale(reason: string, stale: boolean): string {
+  if (!stale) return reason;
+  return reason === 'ok' ? 'stale_prices' : `${reason},stale_prices`;
+}
+
+/**
+ * The filtered simple returns of one date's scenarios, per security, computed once per
+ * date and shared by every portfolio that holds it: r*_s = r_s sigma_today / sigma_s,
+ * then exp(r*) - 1. A past date without a sigma (before the security's EWMA entry) is a
+ * gap; a security without a sigma today has no filtered scenario at all. Buffers are
+ * reused from date to date.
+ */
+class FilteredScenarios {
+  private d = -1;
+  private readonly done: Int32Array;
+  private readonly out: Float64Array;
+  private readonly r: Float64Array;
+  private readonly past: Float64Array;
+  private readonly today = new Float64Array(1);
+
+  constructor(
+    private readonly inputs: HistoricalInputs,
+    private readonly longest: number,
+  ) {
+    const n = inputs.returns.securityIds.length;
+    this.done = new Int32Array(n).fill(-1);
+    this.out = new Float64Array(n * longest);
+    this.r = new Float64Array(longest);
+    this.past = new Float64Array(longest);
+  }
+
+  moveTo(d: number): void {
+    this.d = d;
+  }
+
+  /** Every security's filtered simple returns of the current date: `longest` per security, oldest first. */
+  get scenarios(): Float64Array {
+    return this.out;
+  }
+
+  /** Where security j's scenarios of the current date start in `scenarios`, computing them on first use. */
+  columnStart(j: number): number {
+    const { longest, d } = this;
+    const start = j * longest;
+    if (this.done[j] !== d) {
+      const { returns, sigmaAfter } = this.inputs;
+      const n = returns.securityIds.length;
+      const t = returns.dates.length;
+      const today = sigmaAfter[d * n + j];
+      for (let s = 0; s < longest; s++) {
+        const row = d - longest + 1 + s;
+        const sigma = row >= 1 ? sigmaAfter[(row - 1) * n + j] : Number.NaN;
+        const known = Number.isFinite(sigma) && Number.isFinite(today);
+        // an unknown sigma is a gap: a NaN return over a unit sigma stays NaN
+        this.past[s] = known ? sigma : 1;
+        this.r[s] = known ? returns.returnsBySecurity[j * t + row] : Number.NaN;
+      }
+      this.today[0] = Number.isFinite(today) ? today : 0;
+      const column = this.out.subarray(start, start + longest);
+      filteredReturns(this.r, longest, this.past, this.today, column);
+      for (let s = 0; s < longest; s++) column[s] = Math.expm1(column[s]);
+      this.done[j] = d;
+    }
+    return start;
+  }
+}

@@ -1,0 +1,36 @@
+import { ewmaVarianceUpdate } from '../risk/math/ewma.ts';
+import type { ReturnPanel } from '../risk/inputs.ts';
+
+/**
+ * Each security's EWMA daily sigma after each date, for the filtered historical
+ * simulation: sigmaAfter[d * n + j] is the forecast for the date after row d, from the
+ * returns up to and including d. It is the diagonal of the risk stage's EWMA matrix
+ * (src/risk/ewmaEstimate.ts), with the same lambda and the same entry rule: a security
+ * enters once it has seedDays consecutive returns, its variance the EWMA-weighted mean of
+ * their squares, sum_u (1 - lambda) lambda^k r_u^2 / (1 - lambda^seedDays); a missing
+ * return takes it out until it has seedDays consecutive returns again. NaN while out.
+ */
+export function securitySigmas(panel: ReturnPanel, lambda: number, seedDays: number): Float64Array {
+  const t = panel.dates.length;
+  const n = panel.securityIds.length;
+  const out = new Float64Array(t * n).fill(Number.NaN);
+  const norm = 1 - lambda ** seedDays;
+  for (let j = 0; j < n; j++) {
+    const series = panel.returnsBySecurity.subarray(j * t, (j + 1) * t);
+    let variance = Number.NaN;
+    for (let d = 0; d < t; d++) {
+      const r = series[d];
+      if (!Number.isFinite(r)) {
+        variance = Number.NaN;
+      } else if (Number.isFinite(variance)) {
+        variance = ewmaVarianceUpdate(variance, r, lambda);
+      } else if (panel.runLength[d * n + j] >= seedDays) {
+        let sum = 0;
+        for (let k = 0; k < seedDays; k++) sum += (1 - lambda) * lambda ** k * series[d - k] * series[d - k];
+        variance = sum / norm;
+      }
+      out[d * n + j] = Math.sqrt(variance);
+    }
+  }
+  return out;
+}

@@ -1,0 +1,88 @@
+import { afterEach, describe, expect, it } from 'vitest';
+import { runBatch } from '../../src/batch/runBatch.ts';
+import { writeCsv } from '../helpers/files.ts';
+import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
+import { SP500_CLOSES, SP500_DATES } from '../risk/math/data/sp500Closes2008.ts';
+
+/**
+ * The suspect-price check through the whole pipeline, on a real open series: the S&P 500
+ * closes of 2008 (vega-datasets 3.2.1, data/sp500-2000.csv; see the data file), delivered
+ * as the price of one invented holding. The portfolio and its second holding are invented.
+ */
+const SLIP_DAY = SP500_DATES.indexOf('2008-10-14');
+const HISTORY = SP500_DATES.slice(0, SLIP_DAY).map((date, i) => [date, 'EQ-BROAD', SP500_CLOSES[i]] as (string | number)[]);
+
+describe('checkPrices in the pipeline', () => {
+  let ws: TempWorkspace | undefined;
+  afterEach(() => ws?.cleanup());
+
+  async function deliver(name: string, rows: (string | number)[][]) {
+    const { db, config, log } = ws!;
+    const file = writeCsv(config.inbox, name, rows);
+    const summary = await runBatch(db, config, log, [file]);
+    expect(summary.runError).toBeNull();
+  }
+  const prices = (rows: (string | number)[][]) => [['date', 'security_id', 'price'], ...rows];
+  const alerts = () => ws!.db.all<{ alert_id: string; level: string; text: string }>(
+    "select alert_id, payload->>'level' as level, payload->>'text' as text from alerts where kind = 'price_suspect' order by created_at, alert_id",
+  );
+  const statusOn = (date: string) =>
+    ws!.db.all<{ window_days: number; status: string }>(
+      "select window_days, status from risk_daily where portfolio_id = 'acct-broad' and date = $1::date and estimator = 'sample' order by window_days",
+      [date],
+    );
+
+  async function loaded(mode: 'flag' | 'hold') {
+    ws = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252 }, limits: [], checks: { suspectPrices: { mode } } });
+    await deliver('positions_2008.csv', [['date', 'portfolio_id', 'security_id', 'quantity'], ['2008-01-04', 'acct-broad', 'EQ-BROAD', 100], ['2008-01-04', 'acct-broad', 'CASH:USD', 50_000]]);
+    await deliver('prices_2008.csv', prices(HISTORY));
+    // the whole of 2008 up to the slip, the crash of October included, raises nothing
+    expect(await ws!.db.all('select * from price_checks')).toEqual([]);
+    expect(await alerts()).toEqual([]);
+  }
+
+  it('flags a 10x price (flag mode: used, flagged in data quality and risk status, alerted), then clears it on a correction', async () => {
+    await loaded('flag');
+    const slip = SP500_CLOSES[SLIP_DAY] * 10;
+    await deliver('prices_20081014.csv', prices([[SP500_DATES[SLIP_DAY], 'EQ-BROAD', slip]]));
+
+    const [flag] = await ws!.db.all<{ rules: string; held: boolean; cleared_at: string | null }>('select rules, held, cleared_at from price_checks');
+    expect(flag).toEqual({ rules: 'jump,power_of_ten', held: false, cleared_at: null });
+    const problems = await ws!.db.all<{ security_id: string; reason: string }>(
+      "select security_id, reason from check_data_quality where problem = 'suspect_price'",
+    );
+    expect(problems.map((p) => p.security_id)).toEqual(['EQ-BROAD']);
+    expect(problems[0].reason).toMatch(/close to 10: a unit or decimal-separator slip\?; used in risk$/);
+    expect((await statusOn('2008-10-14')).map((r) => r.status)).toEqual(['suspect_price']);
+    expect((await alerts()).map((a) => a.level)).toEqual(['suspect']);
+
+    // the custodian corrects the price: the flag clears, once, and so does the status
+    await deliver('prices_20081014_fix.csv', prices([[SP500_DATES[SLIP_DAY], 'EQ-BROAD', SP500_CLOSES[SLIP_DAY]]]));
+    const after = await alerts();
+    expect(after.map((a) => a.level)).toEqual(['suspect', 'cleared']);
+    expect(after[1].text).toBe(`EQ-BROAD: the suspect price ${slip} on 2008-10-14 is cleared: corrected to ${SP500_CLOSES[SLIP_DAY]}`);
+    expect((await statusOn('2008-10-14')).map((r) => r.status)).toEqual(['ok']);
+  });
+
+  it('holds a decimal-separator slip out of risk (hold mode: previous price carried, stale) until a repeated delivery confirms it', async () => {
+    await loaded('hold');
+    // 1.066,10 read for 66,10: the price 16 times too high
+    const slip = Number((SP500_CLOSES[SLIP_DAY] * (1066.1 / 66.1)).toFixed(2));
+    await deliver('prices_20081014.csv', prices([[SP500_DATES[SLIP_DAY], 'EQ-BROAD', slip]]));
+    const price = () =>
+      ws!.db.all<{ price_local: number; price_status: string }>(
+        "select price_local, price_status from value_positions where security_id = 'EQ-BROAD' and date = '2008-10-14'",
+      );
+    expect(await price()).toEqual([{ price_local: SP500_CLOSES[SLIP_DAY - 1], price_status: 'stale' }]);
+    expect((await statusOn('2008-10-14')).map((r) => r.status)).toEqual(['stale_prices']);
+    expect((await alerts())[0].text).toMatch(/held out of risk: the previous price is carried forward as stale until a later delivery repeats or corrects it$/);
+
+    // the same value again, written with two decimals (identical bytes would be a duplicate file, not a repeat)
+    await deliver('prices_20081014_again.csv', prices([[SP500_DATES[SLIP_DAY], 'EQ-BROAD', slip.toFixed(2)]]));
+    expect(await price()).toEqual([{ price_local: slip, price_status: 'ok' }]);
+    expect((await alerts()).map((a) => [a.level, a.text.split(': ').pop()])).toEqual([
+      ['suspect', expect.any(String)],
+      ['cleared', 'confirmed by a repeated delivery'],
+    ]);
+  });
+});
