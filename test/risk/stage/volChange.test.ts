@@ -52,7 +52,8 @@ describe('vol_change: why ex-ante volatility moved since the previous valuation 
       if (r.log_return !== null) (returns.get(r.security_id) ?? returns.set(r.security_id, new Map()).get(r.security_id)!).set(r.date, r.log_return);
     }
     for (const r of await ws.db.all<{ portfolio_id: string; date: string; security_id: string; weight: number }>(
-      `select portfolio_id, date, security_id, weight from value_weights where security_id not like 'CASH:%'`,
+      // base-currency cash is riskless; cash in another currency carries its fx returns like a security
+      `select portfolio_id, date, security_id, weight from value_weights where security_id <> 'CASH:' || (select base_currency from pipeline_settings)`,
     )) {
       const key = `${r.portfolio_id}|${r.date}`;
       (weights.get(key) ?? weights.set(key, new Map()).get(key)!).set(r.security_id, r.weight);
