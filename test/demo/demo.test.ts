@@ -138,14 +138,19 @@ describe('riskfold demo, end to end', () => {
       await page.goto(`file://${result.reportFile}`);
       await page.screenshot({ path: path.join(parent, 'demo-report.png'), fullPage: true });
       const drawn = await page.evaluate(() => ({
-        points: [...document.querySelectorAll('svg[data-chart="vol-ex-ante"] polyline')].map((p) => (p.getAttribute('points') ?? '').split(' ').length),
-        bands: [...document.querySelectorAll('svg[data-chart="vol-ex-ante"] rect.band')].map((r) => r.getBoundingClientRect().width),
+        points: [...document.querySelectorAll('svg[data-chart^="vol-ex-ante-"] polyline')].map((p) => (p.getAttribute('points') ?? '').split(' ').length),
+        shrunk: document.querySelectorAll('svg[data-chart="vol-ex-ante-63"] polyline[data-series="63-day shrunk"]').length,
+        bands: [...document.querySelectorAll('svg[data-chart="vol-ex-ante-63"] rect.band')].map((r) => r.getBoundingClientRect().width),
+        changes: [...document.querySelectorAll('svg[data-chart="vol-change"] polyline')].map((p) => (p.getAttribute('points') ?? '').split(' ').length),
         bars: document.querySelectorAll('svg[data-chart="contributions"] rect.bar').length,
         cells: document.querySelectorAll('svg[data-chart="correlation"] rect.cell').length,
       }));
       // the charts cover the latest 126 valuation dates, all with figures in the demo
       expect(drawn.points.every((n) => n === 126)).toBe(true);
+      expect(drawn.shrunk).toBe(1);
       expect(drawn.bands.length).toBeGreaterThanOrEqual(1);
+      // why the 63-day volatility moved: market, weights and total over the same dates
+      expect(drawn.changes).toEqual([126, 126, 126]);
       expect(drawn.bars).toBeGreaterThan(5);
       expect(drawn.cells).toBe(100);
     } finally {
