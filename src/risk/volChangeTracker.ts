@@ -132,27 +132,29 @@ function brokenRow(): VolChangeRow {
  * covers, with each book's weight (0 where not held); null if a weight is not finite.
  */
 function commonBooks(a: Exposure, b: Exposure, cov: CovarianceView) {
-  const idx: number[] = [];
-  const w0: number[] = [];
-  const w1: number[] = [];
+  const most = a.j.length + b.j.length;
+  const idx = new Int32Array(most);
+  const w0 = new Float64Array(most);
+  const w1 = new Float64Array(most);
+  let k = 0;
   let complete = true;
   let i = 0;
-  let k = 0;
-  while (i < a.j.length || k < b.j.length) {
+  let m = 0;
+  while (i < a.j.length || m < b.j.length) {
     const ja = i < a.j.length ? a.j[i] : Number.MAX_SAFE_INTEGER;
-    const jb = k < b.j.length ? b.j[k] : Number.MAX_SAFE_INTEGER;
+    const jb = m < b.j.length ? b.j[m] : Number.MAX_SAFE_INTEGER;
     const j = Math.min(ja, jb);
     const x = ja === j ? a.w[i++] : 0;
-    const y = jb === j ? b.w[k++] : 0;
+    const y = jb === j ? b.w[m++] : 0;
     if (!Number.isFinite(x) || !Number.isFinite(y)) return null;
     if (a.isCash[j] === 1) continue;
     if (!cov.covered(j)) {
       complete &&= x === 0 && y === 0;
       continue;
     }
-    idx.push(j);
-    w0.push(x);
-    w1.push(y);
+    idx[k] = j;
+    w0[k] = x;
+    w1[k++] = y;
   }
-  return { complete, idx: Int32Array.from(idx), w0: Float64Array.from(w0), w1: Float64Array.from(w1) };
+  return { complete, idx: idx.slice(0, k), w0: w0.slice(0, k), w1: w1.slice(0, k) };
 }
