@@ -164,6 +164,8 @@ export function formatSummary(summary: DemoSummary, places: SummaryPlaces): stri
     `  npx riskfold sql --config ${cfg} "select * from check_data_quality where problem = 'stale_price'"`,
     `  npx riskfold sql --config ${cfg} "select method, window_days, estimator, var_99_1d, es_975_1d from var_daily where portfolio_id = 'fpw-growth' and date = (select max(date) from var_daily) order by all"`,
     `  npx riskfold sql --config ${cfg} "select scenario_id, kind, pnl_base, pnl_pct from stress_results where portfolio_id = 'fpw-growth' and date = (select max(date) from stress_results) order by pnl_base"`,
+    `  npx riskfold sql --config ${cfg} "select portfolio_id, dimension, bucket, weight from exposure_daily where date = (select max(date) from exposure_daily) order by all"`,
+    `  npx riskfold sql --config ${cfg} "select portfolio_id, benchmark_id, date, tracking_error_ex_ante, tracking_error_realized, beta_to_benchmark from risk_daily where benchmark_id is not null and window_days = ${DEMO_LIMIT_WINDOW} order by date desc limit 3"`,
     `  npx riskfold sql --config ${cfg} "select portfolio_id, date, vol_now - vol_prev as change, from_market, from_weights, weights_driver_security_id from vol_change where window_days = ${DEMO_LIMIT_WINDOW} and estimator = 'sample' order by date desc limit 6"`,
     `  npx riskfold sql --config ${cfg} "select portfolio_id, date, vol_ex_ante, shrinkage_intensity from risk_daily where estimator = 'shrunk' order by date desc limit 6"`,
     `  npx riskfold status --config ${cfg}`,

@@ -7,12 +7,16 @@ import { volChangeSentence, type VolChangeFacts } from './volChangeText.ts';
 
 export interface Contributor {
   security_id: string;
+  /** In the portfolio; the active weight (portfolio minus benchmark) for a tracking error limit. */
   weight: number | null;
-  /** Share of ex-ante volatility (Euler: ccr / vol_ex_ante). */
+  /** Share of ex-ante volatility (Euler: ccr / vol_ex_ante), or of the tracking error. */
   pct: number;
 }
 
-/** The holdings with the largest share of risk on that date; empty when contributions were not kept for it. */
+/**
+ * The holdings with the largest share of risk on that date (of the tracking error, on
+ * active weights, for a tracking error limit); empty when contributions were not kept for it.
+ */
 export async function topContributors(
   db: Database,
   portfolioId: string,
@@ -20,8 +24,9 @@ export async function topContributors(
   date: string,
   count = 3,
 ): Promise<Contributor[]> {
+  const [table, weight] = limit.metric === 'tracking_error_ex_ante' ? ['risk_active_contributions', 'active_weight'] : ['risk_contributions', 'weight'];
   return db.all<Contributor>(
-    `select security_id, weight, pct from risk_contributions
+    `select security_id, ${weight} as weight, pct from ${table}
      where portfolio_id = $1 and window_days = $2 and estimator = $3 and date = $4::date and pct is not null
      order by pct desc, security_id limit ${count}`,
     [portfolioId, limit.window, limit.estimator, date],
@@ -157,12 +162,13 @@ function buildAlert(
   };
 }
 
-/** "63-day volatility", "EWMA realized volatility", "63-day 99% 1-day VaR (of value)". */
+/** "63-day volatility", "EWMA realized volatility", "63-day 99% 1-day VaR (of value)", "63-day tracking error". */
 export function metricLabel(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>): string {
   const span = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day${limit.estimator === 'shrunk' ? ' shrunk' : ''}`;
   if (limit.metric === 'vol_realized') return `${span} realized volatility`;
   if (limit.metric === 'var_99_1d') return `${span} 99% 1-day VaR (of value)`;
   if (limit.metric === 'backtest_zone') return `${span} normal 99% VaR backtest`;
+  if (limit.metric === 'tracking_error_ex_ante') return `${span} tracking error`;
   return `${span} volatility`;
 }
 

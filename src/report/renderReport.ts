@@ -1,4 +1,5 @@
 import { contributionsSection, correlationSection, realizedSection, volatilitySection } from './chartSections.ts';
+import { benchmarkSection, exposureSection } from './exposureSections.ts';
 import { escapeHtml } from './format.ts';
 import { lossSection } from './lossSections.ts';
 import type { ReportData } from './reportData.ts';
@@ -34,6 +35,8 @@ ${realizedSection(data)}
 ${currencyTable(data)}
 ${contributionsSection(data)}
 ${correlationSection(data)}
+${exposureSection(data)}
+${benchmarkSection(data)}
 ${lossSection(data)}
 ${breachTable(data)}
 ${latestTable(data)}

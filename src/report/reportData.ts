@@ -8,6 +8,7 @@ import { sqlString, type Database } from '../storage/database.ts';
 import { correlationOfReturns, type CorrelationResult, type ReturnObservation } from './correlation.ts';
 import { loadCurrencySplits, type CurrencySplit } from './currencySplit.ts';
 import { loadLossData, type LossData } from './lossData.ts';
+import { loadExposure, type ExposureData } from './exposureData.ts';
 import { loadVolChange, type VolChangeReport } from './volChangeData.ts';
 
 export interface RiskPoint {
@@ -81,6 +82,7 @@ export interface ReportData {
   /** Why the focus window's volatility moved, day by day over the charts' dates. */
   volChange: VolChangeReport;
   correlation: (CorrelationResult & { names: string[]; window: number }) | { error: string };
+  exposure: ExposureData;
   breaches: Breach[];
   quality: QualityFlag[];
   losses: LossData;
@@ -148,6 +150,7 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
     contributions: await loadContributions(db, portfolioId, focusWindow),
     volChange: await loadVolChange(db, portfolioId, focusWindow, chartFrom, asOf),
     correlation: await loadCorrelation(db, portfolioId, asOf),
+    exposure: await loadExposure(db, portfolioId, asOf, focusWindow),
     breaches: await db.all<Breach>('select * from limit_breaches where portfolio_id = $1 order by opened_on, breach_id', [portfolioId]),
     quality: await loadQuality(db, portfolioId),
     losses: await loadLossData(db, portfolioId, asOf, focusWindow, chartFrom),

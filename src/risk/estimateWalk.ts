@@ -1,5 +1,8 @@
 import type { Config } from '../config/load.ts';
 import type { Estimator } from '../config/schema.ts';
+import { assessActive, type ActiveFigures } from './activeRow.ts';
+import type { BenchmarkPanel } from './benchmarkInputs.ts';
+import { realizedTrackingError } from './math/activeRisk.ts';
 import { annualizedReturn, annualizedVolatility } from './math/annualize.ts';
 import { mean, sampleVariance } from './math/moments.ts';
 import { EwmaEstimate, type EwmaState } from './ewmaEstimate.ts';
@@ -20,6 +23,8 @@ import { VolChangeTracker, type KnownProduct, type VolChangeRow } from './volCha
 export interface ComputeInputs {
   returns: ReturnPanel;
   portfolios: PortfolioPanel;
+  /** The portfolios' benchmarks (none mapped: every ofPortfolio is -1). */
+  benchmarks: BenchmarkPanel;
   fromRow: number;
   /** Stored EWMA state at fromRow - 1, or null to replay from the first date. */
   ewmaState: EwmaState | null;
@@ -88,7 +93,7 @@ function walk(
   settings: WalkSettings,
   emit: (batch: ResultBatch) => void,
 ): void {
-  const { returns, portfolios, fromRow } = input;
+  const { returns, portfolios, benchmarks, fromRow } = input;
   const dateCount = returns.dates.length;
   const lastRow = lastPresentRows(portfolios, dateCount);
   const windowed = estimate.estimator !== 'ewma';
@@ -151,12 +156,23 @@ function walk(
       figures[7] = row.es975_10d;
       figures[8] = row.diversification;
       figures[9] = row.coverage;
-      figures[10] = Number.isFinite(row.volExAnte) ? intensity : Number.NaN;
+      const k = benchmarks.ofPortfolio[p];
+      const weights = k >= 0 ? benchmarkAt(benchmarks, k, d, dateCount) : null;
+      // nothing to measure against before the benchmark's first snapshot, nor with unknown weights (coverage null)
+      const active =
+        weights !== null && weights.j.length > 0 && !Number.isNaN(row.coverage)
+          ? assessActive(exposure, weights, estimate, settings.periodsPerYear, withContributions)
+          : null;
+      figures[10] = active?.trackingError ?? Number.NaN;
+      figures[11] = k >= 0 && estimate.estimator === 'sample' ? realizedActive(portfolios, benchmarks, p, k, d, estimate.windowDays, dateCount, settings) : Number.NaN;
+      figures[12] = active?.beta ?? Number.NaN;
+      figures[13] = Number.isFinite(row.volExAnte) ? intensity : Number.NaN;
       out.addDaily(p, d, figures, row.status, row.nHoldings, row.nCovered);
       if (row.contributions) {
         const { mcr, ccr, pct } = row.contributions;
         for (let a = 0; a < exposure.j.length; a++) out.addContribution(p, d, exposure.j[a], exposure.w[a], mcr[a], ccr[a], pct[a]);
       }
+      if (active?.contributions) addActive(out, p, d, active.contributions);
       const change = Number.isFinite(row.volExAnte) ? changes.split(p, d, estimate, knownProduct(row)) : null;
       if (change) addChange(out, p, d, change, withContributions, changeFigures);
       carry(p, d, exposure, row);
@@ -233,6 +249,37 @@ function realizedFigures(portfolios: PortfolioPanel, p: number, d: number, windo
     vol: annualizedVolatility(sampleVariance(series), settings.periodsPerYear),
     annReturn: annualizedReturn(mean(series), settings.periodsPerYear),
   };
+}
+
+/** The benchmark's weights in force at date row d (an empty list before its first snapshot). */
+function benchmarkAt(benchmarks: BenchmarkPanel, k: number, d: number, dateCount: number) {
+  const slot = k * dateCount + d;
+  const start = benchmarks.offsets[slot];
+  const end = benchmarks.offsets[slot + 1];
+  return { j: benchmarks.security.subarray(start, end), w: benchmarks.weight.subarray(start, end) };
+}
+
+function addActive(out: ResultCollector, p: number, d: number, c: NonNullable<ActiveFigures['contributions']>): void {
+  for (let m = 0; m < c.j.length; m++) out.addActiveContribution(p, d, c.j[m], [c.w[m], c.b[m], c.mcr[m], c.ccr[m], c.pct[m]]);
+}
+
+/** tracking_error_realized from the W active log returns r_p - r_b ending at d; NaN unless all W of both exist. */
+function realizedActive(
+  portfolios: PortfolioPanel,
+  benchmarks: BenchmarkPanel,
+  p: number,
+  k: number,
+  d: number,
+  windowDays: number,
+  dateCount: number,
+  settings: RiskSettings,
+): number {
+  const first = d - windowDays + 1;
+  if (first < 0) return Number.NaN;
+  const portfolio = portfolios.logReturn.subarray(p * dateCount + first, p * dateCount + d + 1);
+  const benchmark = benchmarks.logReturn.subarray(k * dateCount + first, k * dateCount + d + 1);
+  for (let u = 0; u < windowDays; u++) if (!Number.isFinite(portfolio[u]) || !Number.isFinite(benchmark[u])) return Number.NaN;
+  return realizedTrackingError(portfolio, benchmark, settings.periodsPerYear);
 }
 
 function lastPresentRows(portfolios: PortfolioPanel, dateCount: number): Int32Array {

@@ -9,9 +9,11 @@
 import type { Estimator } from '../config/schema.ts';
 
 /** Figures of a risk_daily row, in staging's DAILY_FIGURES order. */
-export const DAILY_FIGURE_COUNT = 11;
+export const DAILY_FIGURE_COUNT = 14;
 /** weight, mcr, ccr, pct of a risk_contributions row. */
 export const CONTRIBUTION_VALUE_COUNT = 4;
+/** weight, benchmark_weight, mcr, ccr, pct of a risk_active_contributions row. */
+export const ACTIVE_VALUE_COUNT = 5;
 /** Figures of a vol_change row, in staging's VOL_CHANGE_FIGURES order. */
 export const VOL_CHANGE_FIGURE_COUNT = 5;
 /** weight_prev, weight_now, from_weights of a vol_change_securities row. */
@@ -35,6 +37,8 @@ export interface ResultBatch {
   };
   /** values: weight, mcr, ccr, pct columns. */
   contributions: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
+  /** values: weight, benchmark_weight, mcr, ccr, pct columns. */
+  active: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
   securities: { rows: number; row: Int32Array; security: Int32Array; annReturn: Float64Array; annVol: Float64Array };
   /** figures: VOL_CHANGE_FIGURE_COUNT columns (NaN = NULL); driver: the security with the largest weights part, -1 for none. */
   volChange: { rows: number; portfolio: Int32Array; row: Int32Array; figures: Float64Array[]; status: Int32Array; driver: Int32Array };
@@ -44,7 +48,7 @@ export interface ResultBatch {
 
 /** The buffers a batch owns, for postMessage's transfer list. */
 export function batchBuffers(batch: ResultBatch): ArrayBuffer[] {
-  const { daily, contributions, securities, volChange, volChangeSecurities } = batch;
+  const { daily, contributions, active, securities, volChange, volChangeSecurities } = batch;
   const arrays = [
     daily.portfolio,
     daily.row,
@@ -56,6 +60,10 @@ export function batchBuffers(batch: ResultBatch): ArrayBuffer[] {
     contributions.row,
     contributions.security,
     ...contributions.values,
+    active.portfolio,
+    active.row,
+    active.security,
+    ...active.values,
     securities.row,
     securities.security,
     securities.annReturn,
@@ -121,6 +129,7 @@ export class ResultCollector {
     nCovered: ints(),
   };
   private readonly contributions = { portfolio: ints(), row: ints(), security: ints(), values: Array.from({ length: CONTRIBUTION_VALUE_COUNT }, doubles) };
+  private readonly active = { portfolio: ints(), row: ints(), security: ints(), values: Array.from({ length: ACTIVE_VALUE_COUNT }, doubles) };
   private readonly securities = { row: ints(), security: ints(), annReturn: doubles(), annVol: doubles() };
   private readonly volChange = {
     portfolio: ints(),
@@ -163,6 +172,14 @@ export class ResultCollector {
     c.values[3].push(pct);
   }
 
+  addActiveContribution(portfolio: number, row: number, security: number, values: readonly number[]): void {
+    const a = this.active;
+    a.portfolio.push(portfolio);
+    a.row.push(row);
+    a.security.push(security);
+    for (let c = 0; c < ACTIVE_VALUE_COUNT; c++) a.values[c].push(values[c]);
+  }
+
   addSecurity(row: number, security: number, annReturn: number, annVol: number): void {
     const s = this.securities;
     s.row.push(row);
@@ -201,6 +218,7 @@ export class ResultCollector {
     return (
       this.daily.row.length +
       this.contributions.row.length +
+      this.active.row.length +
       this.securities.row.length +
       this.volChange.row.length +
       this.volChangeSecurities.row.length
@@ -217,7 +235,7 @@ export class ResultCollector {
   }
 
   take(): ResultBatch {
-    const { daily: d, contributions: c, securities: s, volChange: v, volChangeSecurities: vs } = this;
+    const { daily: d, contributions: c, active: a, securities: s, volChange: v, volChangeSecurities: vs } = this;
     const batch: ResultBatch = {
       dates: this.dates,
       windowDays: this.windowDays,
@@ -234,6 +252,7 @@ export class ResultCollector {
         nCovered: d.nCovered.take(),
       },
       contributions: { rows: c.row.length, portfolio: c.portfolio.take(), row: c.row.take(), security: c.security.take(), values: c.values.map((v) => v.take()) },
+      active: { rows: a.row.length, portfolio: a.portfolio.take(), row: a.row.take(), security: a.security.take(), values: a.values.map((v) => v.take()) },
       securities: { rows: s.row.length, row: s.row.take(), security: s.security.take(), annReturn: s.annReturn.take(), annVol: s.annVol.take() },
       volChange: {
         rows: v.row.length,

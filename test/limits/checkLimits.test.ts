@@ -170,6 +170,35 @@ describe('checkLimits', () => {
     expect(b.peak_value).toBeCloseTo(z * 0.009, 12);
   });
 
+  it('watches the ex-ante tracking error, naming the largest contributors to it', async () => {
+    ws = await tempWorkspace({ benchmarks: { '*': 'bm-core' }, limits: [{ portfolio: '*', metric: 'tracking_error_ex_ante', window: 63, limit: 0.04 }] });
+    const { db, config, log } = ws;
+    const days = businessDays('2026-03-02', 3);
+    // limit 4%: warning 3.6%, clear 3.4% (SPEC section 6 defaults); the vol itself stays low
+    const te = [0.03, 0.037, 0.041];
+    await db.transaction(async () => {
+      await writeRiskSeries(db, { portfolioId: 'acct-growth', points: days.map((d) => [d, 0.05] as [string, number]) });
+      for (let i = 0; i < days.length; i++) {
+        await db.run(`update risk_daily set benchmark_id = 'bm-core', tracking_error_ex_ante = $1 where date = $2::date`, [te[i], days[i]]);
+      }
+      await db.run(
+        `insert into risk_active_contributions (portfolio_id, date, window_days, estimator, benchmark_id, security_id,
+           weight, benchmark_weight, active_weight, mcr, ccr, pct, run_id) values
+         ('acct-growth', $1::date, 63, 'sample', 'bm-core', 'EQ-NORDWIND', 0.5, 0.2, 0.3, 0.1, 0.03, 0.73, 1),
+         ('acct-growth', $1::date, 63, 'sample', 'bm-core', 'EQ-SOLSTICE', 0, 0.3, -0.3, -0.037, 0.011, 0.27, 1)`,
+        [days[1]],
+      );
+      await checkLimits(db, config, log, { runId: 1, from: null, portfolios: null });
+    });
+    const [b] = await breachRows(db);
+    expect(b).toMatchObject({ opened_on: days[1], level: 'breach', escalated_on: days[2], peak_value: 0.041 });
+    expect(await db.all('select metric from limit_breaches')).toEqual([{ metric: 'tracking_error_ex_ante' }]);
+    const [opened] = await alertRows(db);
+    expect(opened.data.text).toBe(
+      'acct-growth: 63-day tracking error 3.7% reached its 3.6% warning level (limit 4.0%) on 2026-03-03; largest contributors EQ-NORDWIND 73%, EQ-SOLSTICE 27%',
+    );
+  });
+
   it('only looks at the portfolios of the run', async () => {
     ws = await tempWorkspace();
     const { db, config, log } = ws;

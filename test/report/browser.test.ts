@@ -43,7 +43,17 @@ describe('the report in a real browser', () => {
 
   it('draws every chart with data, loads nothing from outside, and prints on white over several pages', async () => {
     ws = await tempWorkspace(FIXTURE_CONFIG);
-    await fillReportFixture(ws.db);
+    const fixture = await fillReportFixture(ws.db);
+    // a benchmark, so the page shows its section too
+    await ws.db.run(
+      `update risk_daily set benchmark_id = 'bm-policy', tracking_error_ex_ante = 0.02, beta_to_benchmark = 0.95 where portfolio_id = $1`,
+      [FIXTURE_PORTFOLIO],
+    );
+    await ws.db.run(
+      `insert into risk_active_contributions (portfolio_id, date, window_days, estimator, benchmark_id, security_id, weight, benchmark_weight, active_weight, mcr, ccr, pct, run_id)
+       values ($1, $2::date, 63, 'sample', 'bm-policy', 'EQ-VELLANCE', 0.24, 0.1, 0.14, 0.14, 0.02, 1, 7)`,
+      [FIXTURE_PORTFOLIO, fixture.asOf],
+    );
     const { html } = await reportHtml(ws.db, ws.config, FIXTURE_PORTFOLIO, new Date('2026-12-01T12:00:00Z'));
     const file = path.join(ws.dir, 'report.html');
     writeFileSync(file, html);
@@ -126,6 +136,19 @@ describe('the report in a real browser', () => {
     expect(lossTables[0].map((r) => r[0])).toEqual(['normal, 63-day', 'historical, 250 scenarios', 'filtered historical, 250 scenarios']);
     expect(lossTables[1][0]).toEqual(['normal, 63-day', '250', String(FIXTURE_EXCEPTION_DAYS.length), '0.50', '0.480', '0.750', 'green']);
     expect(lossTables[2].find((r) => r[0] === 'spring-slide')?.[6]).toBe('CM-EMBERSTONE');
+
+    // the exposures (4 asset classes, 2 currencies) and the benchmark's windows and contributor, laid out as tables
+    const tables = await page.evaluate(() =>
+      ['exposures', 'benchmark'].map((id) =>
+        [...document.querySelectorAll(`section[data-section="${id}"] table`)].map((t) => ({
+          rows: t.querySelectorAll('tbody tr').length,
+          width: t.getBoundingClientRect().width,
+        })),
+      ),
+    );
+    expect(tables[0].map((t) => t.rows)).toEqual([4, 2]);
+    expect(tables[1].map((t) => t.rows)).toEqual([4, 1]);
+    expect(tables.flat().every((t) => t.width > 200)).toBe(true);
 
     await page.emulateMedia({ media: 'print' });
     expect(await page.evaluate(() => getComputedStyle(document.body).backgroundColor)).toBe('rgb(255, 255, 255)');
