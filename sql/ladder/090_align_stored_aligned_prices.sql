@@ -1,15 +1,21 @@
--- Backs align_prices. Each ever-held security on each valuation date from its first
--- price on: the last price on or before the date, and how many valuation dates old it is.
+-- Backs align_prices. Each ever-held security (or benchmark constituent) on each valuation
+-- date from its first price on: the last price on or before the date, and how many
+-- valuation dates old it is.
 insert into derived_aligned_prices
 with valuation_dates as (
   select date, date_index
   from derived_valuation_dates
 ),
 
+-- benchmark constituents too: tracking error needs their returns (they make no valuation date)
 held_securities as (
-  select distinct security_id
+  select security_id
   from clean_positions
   where quantity <> 0 and security_id not like 'CASH:%'
+  union
+  select security_id
+  from clean_benchmarks
+  where weight <> 0 and security_id not like 'CASH:%'
 ),
 
 -- a suspect price held out of risk (checks.suspectPrices.mode hold) is skipped here, so

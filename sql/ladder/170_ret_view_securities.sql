@@ -50,11 +50,16 @@ returns as (
   where prev_date_index is not null
 ),
 
+-- held, or a benchmark's constituent (its return enters the benchmark's)
 foreign_cash as (
-  select distinct p.security_id, substr(p.security_id, 6) as currency
-  from clean_positions p
+  select security_id, substr(security_id, 6) as currency
+  from (
+    select security_id from clean_positions where quantity <> 0
+    union
+    select security_id from clean_benchmarks where weight <> 0
+  )
   cross join settings
-  where p.quantity <> 0 and p.security_id like 'CASH:%' and substr(p.security_id, 6) <> settings.base_currency
+  where security_id like 'CASH:%' and substr(security_id, 6) <> settings.base_currency
 ),
 
 -- align_fx has a row for every valuation date from a currency's first rate on

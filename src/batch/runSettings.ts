@@ -10,6 +10,9 @@ export type ResultSettings = Record<string, string | number | boolean | number[]
 
 export function resultSettings(config: Config): ResultSettings {
   const { risk } = config;
+  // recorded only when set, so results made before benchmarks existed stay current
+  const mapped = Object.entries(config.benchmarks).sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
+  const benchmarks: ResultSettings = mapped.length > 0 ? { benchmarks: mapped.map(([portfolio, benchmark]) => `${portfolio}=${benchmark}`).join(',') } : {};
   return {
     baseCurrency: config.baseCurrency,
     // as the risk stage uses them: each window once, ascending
@@ -22,8 +25,10 @@ export function resultSettings(config: Config): ResultSettings {
     'risk.ewma.enabled': risk.ewma.enabled,
     'risk.ewma.lambda': risk.ewma.lambda,
     'risk.ewma.seedDays': risk.ewma.seedDays,
+    'risk.shrunk.windows': [...new Set(risk.shrunk.windows)].sort((a, b) => a - b),
     // the loss stage's lookbacks shape var_daily and var_backtest (the stress rows are rewritten by every run)
     'risk.historical.days': [...new Set(risk.historical.days)].sort((a, b) => a - b),
+    ...benchmarks,
   };
 }
 

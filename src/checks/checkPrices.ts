@@ -27,9 +27,9 @@ interface OpenCheck {
 }
 
 /**
- * Checks every delivered price dated from `from` (null: all) of the securities ever held
- * (only they enter risk; a file of prices nobody holds costs nothing) against its security's own
- * history, records the suspect ones in price_checks, clears those a later delivery
+ * Checks every delivered price dated from `from` (null: all) of the securities ever held or
+ * in a benchmark (only they enter risk; a file of prices nobody holds costs nothing)
+ * against its security's own history, records the suspect ones in price_checks, clears those a later delivery
  * repeated or corrected, and raises one price_suspect alert when a flag is raised and
  * one when it clears. Runs before the risk stage reads the prices, in its own transaction.
  */
@@ -38,10 +38,12 @@ export async function checkPrices(db: Database, config: Config, log: Logger, sco
   const clog = log.child({ stage: 'checks' });
   const { rows, columns: c } = await readColumns(
     db,
-    // the raw positions (superseded snapshots too): a superset of what was ever held, read
-    // without rebuilding the snapshots in force
+    // the raw positions and benchmark weights (superseded snapshots too): a superset of what
+    // was ever held or is a benchmark's constituent, read without rebuilding the snapshots in force
     `with held as (
-       select distinct security_id from positions where quantity <> 0 and security_id not like 'CASH:%'
+       select security_id from positions where quantity <> 0 and security_id not like 'CASH:%'
+       union
+       select security_id from benchmarks where weight <> 0 and security_id not like 'CASH:%'
      ),
      latest as (
        select security_id, date, price, coalesce(currency, '') as market, file_id

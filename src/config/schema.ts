@@ -8,7 +8,7 @@ import { checkStressScenarios, stressSchema } from './stressSchema.ts';
  * come from here.
  */
 
-export const FILE_KINDS = ['prices', 'positions', 'fx', 'securities'] as const;
+export const FILE_KINDS = ['prices', 'positions', 'fx', 'securities', 'benchmarks'] as const;
 export type FileKind = (typeof FILE_KINDS)[number];
 
 export const CANONICAL_COLUMNS: Record<FileKind, { required: string[]; optional: string[] }> = {
@@ -16,6 +16,7 @@ export const CANONICAL_COLUMNS: Record<FileKind, { required: string[]; optional:
   positions: { required: ['date', 'portfolio_id', 'security_id', 'quantity'], optional: [] },
   fx: { required: ['date', 'currency', 'rate'], optional: [] },
   securities: { required: ['security_id'], optional: ['name', 'asset_class', 'currency'] },
+  benchmarks: { required: ['date', 'benchmark_id', 'security_id', 'weight'], optional: [] },
 };
 
 
@@ -43,16 +44,17 @@ export const DEFAULT_SOURCES: z.input<typeof sourceSchema>[] = [
   { name: 'positions', kind: 'positions', pattern: 'positions*.csv*' },
   { name: 'fx', kind: 'fx', pattern: 'fx*.csv*' },
   { name: 'securities', kind: 'securities', pattern: 'securities*.csv*' },
+  { name: 'benchmarks', kind: 'benchmarks', pattern: 'benchmarks*.csv*' },
 ];
 
-export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d', 'backtest_zone'] as const;
+export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d', 'backtest_zone', 'tracking_error_ex_ante'] as const;
 
 /**
  * The Basel zones as limit levels on the exceptions in 250 tested days (Basel Committee
  * 1996): yellow (warning) from 5, red (breach) from 10, green again below 5.
  */
 export const BACKTEST_ZONE_LEVELS = { limit: 10, warning: 5, clear: 4.5 } as const;
-export const ESTIMATORS = ['sample', 'ewma'] as const;
+export const ESTIMATORS = ['sample', 'ewma', 'shrunk'] as const;
 export type Estimator = (typeof ESTIMATORS)[number];
 
 /** A limit level: positive; above 1 only for backtest_zone, whose levels count exceptions (checked with the metric below). */
@@ -65,7 +67,7 @@ export const limitSchema = z
       .enum(LIMIT_METRICS)
       .default('vol_ex_ante')
       .describe(
-        'Figure to watch: of risk_daily (var_99_1d as a fraction of portfolio value), or backtest_zone, the exceptions in 250 days of the normal 1-day 99% VaR backtest (var_backtest) of this window and estimator.',
+        'Figure to watch: of risk_daily (var_99_1d as a fraction of portfolio value; tracking_error_ex_ante needs a benchmark), or backtest_zone, the exceptions in 250 days of the normal 1-day 99% VaR backtest (var_backtest) of this window and estimator.',
       ),
     window: z.number().int().min(0).describe('Window in trading days (0 with estimator "ewma").'),
     estimator: z.enum(ESTIMATORS).default('sample').describe('Which estimate of risk_daily the limit reads.'),
@@ -116,6 +118,17 @@ const riskSchema = z
       .enum(['latest', 'all'])
       .default('latest')
       .describe('Keep risk contributions for the latest date of each portfolio only, or for every date.'),
+    shrunk: z
+      .object({
+        windows: z
+          .array(z.number().int().min(2))
+          .default([])
+          .describe(
+            'Windows (each one of risk.windows) that also get the shrunk estimator: Ledoit-Wolf shrinkage toward constant correlation, for books with more holdings than the window has days.',
+          ),
+      })
+      .strict()
+      .default({ windows: [] }),
     historical: z
       .object({
         days: z
@@ -289,7 +302,7 @@ export const configSchema = z
       .array(sourceSchema)
       .default([])
       .describe(
-        'How file names map to kinds and how each sender\'s columns map to the canonical layout. These come before the default sources (prices*.csv*, positions*.csv*, fx*.csv*, securities*.csv*), so they win where patterns overlap.',
+        'How file names map to kinds and how each sender\'s columns map to the canonical layout. These come before the default sources (prices*.csv*, positions*.csv*, fx*.csv*, securities*.csv*, benchmarks*.csv*), so they win where patterns overlap.',
       ),
     replaceDefaultSources: z
       .boolean()
@@ -317,6 +330,12 @@ export const configSchema = z
       .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, maxBatchWaitMs: 30_000 }),
     ingest: ingestSchema.default(ingestSchema.parse({})),
     risk: riskSchema.default(riskSchema.parse({})),
+    benchmarks: z
+      .record(z.string().min(1), z.string().min(1))
+      .default({})
+      .describe(
+        'Portfolio id (or "*" for every portfolio) -> the benchmark_id of the benchmarks files it is measured against; a specific id overrides "*". Without one a portfolio has no tracking error.',
+      ),
     limits: z.array(limitSchema).default([]).describe('Mandate limits; an episode alerts once when opened, escalated and closed.'),
     alerts: alertsSchema.default({ maxAgeDays: 5 }),
     checks: checksSchema.default(checksSchema.parse({})).describe('Checks of delivered data before it enters risk.'),
@@ -365,14 +384,24 @@ export const configSchema = z
           message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${level}`,
         });
       }
-      if (limit.estimator === 'ewma' ? limit.window !== 0 : !cfg.risk.windows.includes(limit.window)) {
+      const watched = limit.estimator === 'shrunk' ? { list: cfg.risk.shrunk.windows, name: 'risk.shrunk.windows' } : { list: cfg.risk.windows, name: 'risk.windows' };
+      if (limit.estimator === 'ewma' ? limit.window !== 0 : !watched.list.includes(limit.window)) {
         ctx.addIssue({
           code: 'custom',
           path: ['limits', i, 'window'],
           message:
             limit.estimator === 'ewma'
               ? 'an ewma limit has window 0'
-              : `window ${limit.window} is not in risk.windows (${cfg.risk.windows.join(', ')})`,
+              : `window ${limit.window} is not in ${watched.name} (${watched.list.join(', ') || 'none'})`,
+        });
+      }
+    });
+    cfg.risk.shrunk.windows.forEach((w, i) => {
+      if (!cfg.risk.windows.includes(w)) {
+        ctx.addIssue({
+          code: 'custom',
+          path: ['risk', 'shrunk', 'windows', i],
+          message: `window ${w} is not in risk.windows (${cfg.risk.windows.join(', ')}): the shrunk estimate shrinks a window's sample covariance`,
         });
       }
     });

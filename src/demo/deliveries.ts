@@ -1,7 +1,7 @@
 import { holdingsOn } from './holdings.ts';
 import { round } from './market.ts';
 import type { Scenario } from './scenario.ts';
-import { ACCOUNTS, SECURITIES } from './universe.ts';
+import { ACCOUNTS, BENCHMARKS, SECURITIES } from './universe.ts';
 
 export interface DemoFile {
   name: string;
@@ -39,6 +39,10 @@ const PRICE_HEADER = ['date', 'security_id', 'price', 'currency'];
 const POSITION_HEADER = ['date', 'portfolio_id', 'security_id', 'quantity'];
 const FX_HEADER = ['date', 'currency', 'rate'];
 
+function benchmarkRows(date: string): (string | number)[][] {
+  return BENCHMARKS.flatMap((b) => Object.entries(b.weights).map(([id, w]) => [date, b.id, id, w]));
+}
+
 /** The history load: reference data and the first years as one file per kind. */
 function historyLoad(scenario: Scenario): Delivery {
   const { dates } = scenario.market;
@@ -57,6 +61,8 @@ function historyLoad(scenario: Scenario): Delivery {
       { name: `fx_history_${span}.csv`, text: csv(FX_HEADER, fxRows(scenario, 0, end)) },
       { name: `prices_history_${span}.csv`, text: csv(PRICE_HEADER, prices) },
       { name: `positions_history_${span}.csv`, text: csv(POSITION_HEADER, positions) },
+      // the policy mix holds from the first date until a new one is sent
+      { name: 'benchmarks.csv', text: csv(['date', 'benchmark_id', 'security_id', 'weight'], benchmarkRows(dates[0])) },
     ],
   };
 }

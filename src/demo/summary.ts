@@ -20,7 +20,10 @@ export interface AccountSummary {
   vol: number | null;
   limit: number;
   status: 'within limit' | 'warning' | 'breach';
+  /** Episodes of the volatility limit (the backtest zone's are told by `backtest`). */
   episodes: EpisodeSummary[];
+  /** The latest backtest of the limit window's normal VaR: zone and exceptions in the last 250 tested days. */
+  backtest: { zone: string | null; exceptions_250: number; tested_days: number } | null;
 }
 
 export interface DemoSummary {
@@ -47,7 +50,13 @@ export async function readDemoSummary(db: Database, config: Config): Promise<Dem
     );
     const episodes = await db.all<EpisodeSummary>(
       `select level, opened_on, escalated_on, closed_on, peak_value, peak_on, retracted from limit_breaches
-       where portfolio_id = $1 and window_days = $2 order by opened_on`,
+       where portfolio_id = $1 and window_days = $2 and metric = 'vol_ex_ante' and estimator = 'sample' order by opened_on`,
+      [account.id, DEMO_LIMIT_WINDOW],
+    );
+    const [backtest] = await db.all<NonNullable<AccountSummary['backtest']>>(
+      `select zone, exceptions_250, (count(*) over ())::integer as tested_days from var_backtest
+       where portfolio_id = $1 and method = 'normal' and window_days = $2 and estimator = 'sample'
+       qualify row_number() over (order by date desc) = 1`,
       [account.id, DEMO_LIMIT_WINDOW],
     );
     const open = episodes.find((e) => e.closed_on === null && !e.retracted);
@@ -61,6 +70,7 @@ export async function readDemoSummary(db: Database, config: Config): Promise<Dem
       limit: limit?.limit ?? account.volLimit,
       status: open ? open.level : 'within limit',
       episodes,
+      backtest: backtest ?? null,
     });
   }
   const alerts = await db.all<DemoSummary['alerts'][number]>(
@@ -96,6 +106,11 @@ function episodeText(e: EpisodeSummary): string {
   return `${e.level} opened ${e.opened_on}, ${end}, peak ${formatPercent(e.peak_value)} on ${e.peak_on}`;
 }
 
+function backtestText(b: NonNullable<AccountSummary['backtest']>): string {
+  const zone = b.zone ? `${b.zone} zone` : `no zone before 250 tested days (${b.tested_days} so far)`;
+  return `${DEMO_LIMIT_WINDOW}-day normal 99% VaR, ${b.exceptions_250} exceptions in the last 250 tested days: ${zone}`;
+}
+
 const pad = (text: string, width: number) => text.padEnd(width);
 const padLeft = (text: string, width: number) => text.padStart(width);
 
@@ -125,6 +140,7 @@ export function formatSummary(summary: DemoSummary, places: SummaryPlaces): stri
       `  ${pad(a.portfolioId, 14)} ${pad(a.mandate, 9)} ${padLeft(formatMoney(a.value), 13)} ${padLeft(formatPercent(a.vol), 8)} ${padLeft(formatPercent(a.limit), 8)}  ${a.status}`,
     );
     for (const e of a.episodes) lines.push(`  ${' '.repeat(14)} episode: ${episodeText(e)}`);
+    if (a.backtest) lines.push(`  ${' '.repeat(14)} backtest: ${backtestText(a.backtest)}`);
   }
   lines.push('', `Alerts raised: ${summary.alerts.length} (${summary.alertsInFile} lines in ${config.alerts.file ?? 'no alert file'})`);
   for (const a of summary.alerts) lines.push(`  ${a.as_of ?? '----------'}  ${pad(a.kind, 16)} ${a.text ?? ''}`);
@@ -151,8 +167,15 @@ export function formatSummary(summary: DemoSummary, places: SummaryPlaces): stri
     `  npx riskfold sql --config ${cfg} "select portfolio_id, level, opened_on, closed_on, peak_value from limit_breaches"`,
     `  npx riskfold sql --config ${cfg} "select security_id, weight, pct from risk_contributions where portfolio_id = '${summary.accounts[0].portfolioId}' order by pct desc"`,
     `  npx riskfold sql --config ${cfg} "select * from check_data_quality where problem = 'stale_price'"`,
+    `  npx riskfold sql --config ${cfg} "select method, window_days, estimator, var_99_1d, es_975_1d from var_daily where portfolio_id = 'fpw-growth' and date = (select max(date) from var_daily) order by all"`,
+    `  npx riskfold sql --config ${cfg} "select scenario_id, kind, pnl_base, pnl_pct from stress_results where portfolio_id = 'fpw-growth' and date = (select max(date) from stress_results) order by pnl_base"`,
+    `  npx riskfold sql --config ${cfg} "select portfolio_id, dimension, bucket, weight from exposure_daily where date = (select max(date) from exposure_daily) order by all"`,
+    `  npx riskfold sql --config ${cfg} "select portfolio_id, benchmark_id, date, tracking_error_ex_ante, tracking_error_realized, beta_to_benchmark from risk_daily where benchmark_id is not null and window_days = ${DEMO_LIMIT_WINDOW} order by date desc limit 3"`,
+    `  npx riskfold sql --config ${cfg} "select portfolio_id, date, vol_now - vol_prev as change, from_market, from_weights, weights_driver_security_id from vol_change where window_days = ${DEMO_LIMIT_WINDOW} and estimator = 'sample' order by date desc limit 6"`,
+    `  npx riskfold sql --config ${cfg} "select portfolio_id, date, vol_ex_ante, shrinkage_intensity from risk_daily where estimator = 'shrunk' order by date desc limit 6"`,
     `  npx riskfold status --config ${cfg}`,
     `  npx riskfold report --config ${cfg} --portfolio ${summary.accounts[0].portfolioId}`,
+    `  npx riskfold report --config ${cfg} --all`,
     ...explainLine(summary, cfg),
     '',
     'Cautions:',

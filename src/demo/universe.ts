@@ -137,3 +137,29 @@ export const ACCOUNTS: readonly DemoAccount[] = [
     },
   },
 ];
+
+export interface DemoBenchmark {
+  id: string;
+  /** The account measured against it. */
+  portfolioId: string;
+  /** Policy weights by security id (cash as CASH:<CCY>); they add up to 1. */
+  weights: Readonly<Record<string, number>>;
+}
+
+/**
+ * The balanced mandate's policy mix, 55% equity, 38% bonds, 5% commodity, 2% cash. It
+ * names two securities the account does not hold (EQ-QUILLBECK, BD-GODWITFORD-29), so
+ * the tracking error also shows risk from what the account leaves out.
+ */
+export const BENCHMARKS: readonly DemoBenchmark[] = [
+  {
+    id: 'bm-balanced-policy',
+    portfolioId: 'fpw-balanced',
+    weights: {
+      'EQ-BRAMBLEFORD': 0.08, 'EQ-QUILLBECK': 0.06, 'EQ-VELLANCE': 0.08, 'EQ-HARROWDEN': 0.07, 'EQ-LINNMARSH': 0.05,
+      'EQ-TALLOWBY': 0.06, 'EQ-CALDERWYN': 0.08, 'EQ-NORDWIND': 0.07,
+      'BD-KESTREL-28': 0.1, 'BD-OSPREYVALE-31': 0.08, 'BD-PLOVERHAM-30': 0.08, 'BD-GODWITFORD-29': 0.06, 'BD-HERONMERE-27': 0.06,
+      'CM-EMBERSTONE': 0.05, 'CASH:USD': 0.02,
+    },
+  },
+];

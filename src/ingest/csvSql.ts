@@ -10,7 +10,7 @@ export function ident(name: string): string {
 }
 
 /** Types whose text is parsed (into date or double). */
-export const PARSED: ReadonlySet<FieldType> = new Set(['date', 'positive', 'finite']);
+export const PARSED: ReadonlySet<FieldType> = new Set(['date', 'positive', 'finite', 'fraction']);
 
 /** The field parsed from the text column of the same name, null where the text does not parse. */
 export function parsedSql(field: FieldSpec, source: SourceConfig): string {

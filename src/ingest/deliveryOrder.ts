@@ -5,11 +5,11 @@ import type { FileKind } from '../config/schema.ts';
 import { matchSource } from './sourceMatch.ts';
 
 /** Reference data and rates before prices, prices before the positions valued with them. */
-const KIND_RANK: Record<FileKind, number> = { securities: 0, fx: 1, prices: 2, positions: 3 };
-const UNKNOWN_RANK = 4;
+const KIND_RANK: Record<FileKind, number> = { securities: 0, fx: 1, prices: 2, positions: 3, benchmarks: 4 };
+const UNKNOWN_RANK = 5;
 
 /**
- * The order a batch's files are applied in: by kind (securities, fx, prices, positions,
+ * The order a batch's files are applied in: by kind (securities, fx, prices, positions, benchmarks,
  * then names no source matches), within a kind by arrival time (the file's mtime, when
  * its writing ended), then by name. A correction that lands after its original is
  * applied after it, so it wins. A file gone from the inbox sorts last (it is skipped).

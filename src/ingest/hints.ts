@@ -27,7 +27,7 @@ function fixFor(r: Rejection, source: SourceConfig | null): Fix {
   if (r.code !== 'bad_value' || r.column === undefined || !r.value) return { fixIn: 'file' };
   const field = layoutOf(source.kind).fields.find((f) => f.name === r.column);
   if (field?.type === 'date') return dateFix(r.value, r.row ?? 1, source);
-  if (field?.type === 'positive' || field?.type === 'finite') return numberFix(r.value, source);
+  if (field?.type === 'positive' || field?.type === 'finite' || field?.type === 'fraction') return numberFix(r.value, source);
   return { fixIn: 'file' };
 }
 

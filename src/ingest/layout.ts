@@ -1,7 +1,7 @@
 import { CANONICAL_COLUMNS, type FileKind } from '../config/schema.ts';
 
 /** How a canonical column is read and checked. */
-export type FieldType = 'date' | 'id' | 'positive' | 'finite' | 'currency' | 'text';
+export type FieldType = 'date' | 'id' | 'positive' | 'finite' | 'fraction' | 'currency' | 'text';
 
 export interface FieldSpec {
   name: string;
@@ -23,21 +23,24 @@ const FIELD_TYPES: Record<string, FieldType> = {
   date: 'date',
   security_id: 'id',
   portfolio_id: 'id',
+  benchmark_id: 'id',
   price: 'positive',
   rate: 'positive',
   quantity: 'finite',
+  weight: 'fraction',
   currency: 'currency',
   name: 'text',
   asset_class: 'text',
 };
 
-const TABLES: Record<FileKind, string> = { prices: 'prices', positions: 'positions', fx: 'fx_rates', securities: 'securities' };
+const TABLES: Record<FileKind, string> = { prices: 'prices', positions: 'positions', fx: 'fx_rates', securities: 'securities', benchmarks: 'benchmarks' };
 
 const KEYS: Record<FileKind, string[]> = {
   prices: ['date', 'security_id'],
   positions: ['date', 'portfolio_id', 'security_id'],
   fx: ['date', 'currency'],
   securities: ['security_id'],
+  benchmarks: ['date', 'benchmark_id', 'security_id'],
 };
 
 /** The layout of one kind, built from the config schema's canonical columns. */

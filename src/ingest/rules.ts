@@ -29,6 +29,9 @@ export function badSql(field: FieldSpec, bounds: Plausibility): string | null {
       return `not coalesce(${col} between ${min} and ${max}, false)`;
     case 'finite':
       return `not coalesce(${col} = 0 or abs(${col}) between ${min} and ${max}, false)`;
+    case 'fraction':
+      // a weight of 40 meant as 40% is refused, not read as 4,000%
+      return `not coalesce(${col} = 0 or abs(${col}) between ${min} and 1, false)`;
     case 'id':
       // surrounding spaces would make " EQ-A" a security of its own; prefix tests cost no copy, unlike trim()
       return (
@@ -64,6 +67,7 @@ export function explain(
     {
       date: `a date in the format ${source.dateFormat}`,
       positive: `a positive number${decimalNote}`,
+      fraction: `a fraction from -1 to 1${decimalNote} (0.4 = 40%)`,
       finite: `a number${decimalNote}`,
       id: idExpectation(raw),
       currency: 'an ISO 4217 currency code (three capital letters)',
@@ -80,6 +84,7 @@ function implausible(field: FieldSpec, parsed: unknown, bounds: Plausibility): s
   if (typeof parsed !== 'number' || !Number.isFinite(parsed)) return null;
   if (field.type === 'positive' && parsed > 0) return `a positive number ${range}`;
   if (field.type === 'finite') return `a number of zero or ${range}`;
+  if (field.type === 'fraction') return `a fraction from -1 to 1 (0.4 = 40%), zero or of magnitude ${bounds.minMagnitude} or more`;
   return null;
 }
 

@@ -29,6 +29,7 @@ export const METRIC_SQL: Record<ResolvedLimit['metric'], { value: string; rows: 
     value: 'case when zone is not null then exceptions_250 end',
     rows: `(select * from var_backtest where method = 'normal')`,
   },
+  tracking_error_ex_ante: { value: 'tracking_error_ex_ante', rows: 'risk_daily' },
 };
 
 /** `portfolio|metric|window|estimator`: one limit's series of one portfolio. */

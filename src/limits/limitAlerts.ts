@@ -3,15 +3,20 @@ import type { NewAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
 import type { Episode, Transition } from './episodes.ts';
 import { stateAfter, type EpisodeState } from './toldState.ts';
+import { volChangeSentence, type VolChangeFacts } from './volChangeText.ts';
 
 export interface Contributor {
   security_id: string;
+  /** In the portfolio; the active weight (portfolio minus benchmark) for a tracking error limit. */
   weight: number | null;
-  /** Share of ex-ante volatility (Euler: ccr / vol_ex_ante). */
+  /** Share of ex-ante volatility (Euler: ccr / vol_ex_ante), or of the tracking error. */
   pct: number;
 }
 
-/** The holdings with the largest share of risk on that date; empty when contributions were not kept for it. */
+/**
+ * The holdings with the largest share of risk on that date (of the tracking error, on
+ * active weights, for a tracking error limit); empty when contributions were not kept for it.
+ */
 export async function topContributors(
   db: Database,
   portfolioId: string,
@@ -19,8 +24,9 @@ export async function topContributors(
   date: string,
   count = 3,
 ): Promise<Contributor[]> {
+  const [table, weight] = limit.metric === 'tracking_error_ex_ante' ? ['risk_active_contributions', 'active_weight'] : ['risk_contributions', 'weight'];
   return db.all<Contributor>(
-    `select security_id, weight, pct from risk_contributions
+    `select security_id, ${weight} as weight, pct from ${table}
      where portfolio_id = $1 and window_days = $2 and estimator = $3 and date = $4::date and pct is not null
      order by pct desc, security_id limit ${count}`,
     [portfolioId, limit.window, limit.estimator, date],
@@ -37,6 +43,8 @@ export interface LimitAlertInput {
   runId: number;
   episode: EpisodeFacts;
   contributors: Contributor[];
+  /** Why the volatility moved since the previous valuation date (vol_ex_ante limits); absent: not said. */
+  volChange?: VolChangeFacts | null;
 }
 
 /** An alert for a dated transition (opened, escalated, closed) of an episode. */
@@ -121,6 +129,8 @@ function buildAlert(
   const { portfolioId, limit, episode, contributors } = input;
   const named = withContributors && contributors.length > 0;
   const drivers = named ? `; largest contributors ${contributors.map((c) => `${c.security_id} ${pct(c.pct, 0)}`).join(', ')}` : '';
+  const change = withContributors && input.volChange ? input.volChange : null;
+  const moved = change ? `. ${volChangeSentence(metricLabel(limit), change)}` : '';
   return {
     alertId: `breach-${input.breachId}-${what}`,
     kind,
@@ -146,17 +156,19 @@ function buildAlert(
       peak_value: episode.peakValue,
       peak_on: episode.peakOn,
       contributors: withContributors ? contributors : [],
-      text: `${text}${drivers}`,
+      vol_change: change,
+      text: `${text}${drivers}${moved}`,
     },
   };
 }
 
-/** "63-day volatility", "EWMA realized volatility", "63-day 99% 1-day VaR (of value)". */
+/** "63-day volatility", "EWMA realized volatility", "63-day 99% 1-day VaR (of value)", "63-day tracking error". */
 export function metricLabel(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>): string {
-  const span = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day`;
+  const span = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day${limit.estimator === 'shrunk' ? ' shrunk' : ''}`;
   if (limit.metric === 'vol_realized') return `${span} realized volatility`;
   if (limit.metric === 'var_99_1d') return `${span} 99% 1-day VaR (of value)`;
   if (limit.metric === 'backtest_zone') return `${span} normal 99% VaR backtest`;
+  if (limit.metric === 'tracking_error_ex_ante') return `${span} tracking error`;
   return `${span} volatility`;
 }
 

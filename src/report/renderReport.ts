@@ -1,8 +1,10 @@
 import { contributionsSection, correlationSection, realizedSection, volatilitySection } from './chartSections.ts';
+import { benchmarkSection, exposureSection } from './exposureSections.ts';
 import { escapeHtml } from './format.ts';
 import { lossSection } from './lossSections.ts';
 import type { ReportData } from './reportData.ts';
 import { STYLESHEET } from './style.ts';
+import { volChangeSection } from './volChangeSection.ts';
 import { breachTable, cautionsSection, currencyTable, keyFigures, latestTable, provenanceFooter, qualitySection } from './tableSections.ts';
 
 /**
@@ -28,10 +30,13 @@ export function renderReport(data: ReportData, generatedAt: Date): string {
 </header>
 ${keyFigures(data)}
 ${volatilitySection(data)}
+${volChangeSection(data)}
 ${realizedSection(data)}
 ${currencyTable(data)}
 ${contributionsSection(data)}
 ${correlationSection(data)}
+${exposureSection(data)}
+${benchmarkSection(data)}
 ${lossSection(data)}
 ${breachTable(data)}
 ${latestTable(data)}

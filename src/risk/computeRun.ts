@@ -5,6 +5,7 @@ import type { PhaseClock } from '../log/phaseClock.ts';
 import { computeRisk, progressUnits } from './computeRisk.ts';
 import type { EwmaState } from './ewmaEstimate.ts';
 import { loadEwmaState } from './ewmaState.ts';
+import { readBenchmarkPanel } from './benchmarkInputs.ts';
 import { readPortfolioPanel, readReturnPanel, type PortfolioPanel, type ReturnPanel } from './inputs.ts';
 import { startProgress } from './progress.ts';
 import { ResultStage } from './staging.ts';
@@ -46,7 +47,9 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   const dates = returns.dates;
   const fromRow = scope.from === null ? 0 : firstRowOnOrAfter(dates, scope.from);
   const longest = Math.max(...config.risk.windows);
-  const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, Math.max(0, fromRow - longest + 1), scope.portfolios));
+  const firstRow = Math.max(0, fromRow - longest + 1);
+  const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, firstRow, scope.portfolios));
+  const benchmarks = await phases.time('read_benchmarks', () => readBenchmarkPanel(db, config, portfolios.ids, dates.length, firstRow));
   for (const id of scope.portfolios ?? []) {
     if (!portfolios.ids.includes(id)) rlog.warn({ portfolio: id }, 'no positions for this portfolio: nothing to compute');
   }
@@ -59,7 +62,7 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   let ewmaStates: EwmaState[] = [];
   const computeStarted = performance.now();
   try {
-    ewmaStates = await computeRisk({ returns, portfolios, fromRow, ewmaState }, config, (batch) => stage.append(batch), progress, rlog);
+    ewmaStates = await computeRisk({ returns, portfolios, benchmarks, fromRow, ewmaState }, config, (batch) => stage.append(batch), progress, rlog);
   } finally {
     progress.finish();
     phases.add('compute', computeStarted);

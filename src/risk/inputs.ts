@@ -4,9 +4,10 @@ import { readColumns, streamColumns } from '../storage/columnar.ts';
 /**
  * The risk stage's inputs, read from the views in bulk into typed arrays. Dates are
  * addressed by row d = date_index - 1 of align_valuation_dates; securities (cash
- * included) by their position j in the sorted list of every id that has a return or a
- * position. Base-currency cash and a security without returns have all-NaN columns, so
- * they never have a full window; cash in another currency has its fx returns.
+ * included) by their position j in the sorted list of every id that has a return, a
+ * position or a benchmark weight. Base-currency cash and a security without returns have
+ * all-NaN columns, so they never have a full window; cash in another currency has its fx
+ * returns.
  */
 
 export interface ReturnPanel {
@@ -53,7 +54,7 @@ export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
   await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities');
   await db.run(`create or replace temp table risk_in_securities as
     select security_id, (row_number() over (order by security_id) - 1)::integer as k
-    from (select security_id from risk_in_returns union select security_id from clean_positions)`);
+    from (select security_id from risk_in_returns union select security_id from clean_positions union select security_id from clean_benchmarks)`);
   const dateRows = await readColumns(db, 'select date::varchar, date_index from risk_in_dates order by date_index', undefined, {
     date: 'text',
     date_index: 'int',
@@ -123,29 +124,23 @@ export async function readPortfolioPanel(
   const value = shared(Float64Array, slots);
   const unpriced = shared(Uint8Array, slots);
   const stale = shared(Uint8Array, slots);
-  const logReturn = shared(Float64Array, slots).fill(Number.NaN);
-
-  const returns = await readColumns(
+  const logReturn = await readSlotSeries(
     db,
     `select p.k, r.date_index, r.log_return::double
      from ret_portfolios r join risk_in_portfolios p using (portfolio_id)
      where r.date_index > $1`,
-    [firstRow],
-    { k: 'int', date_index: 'int', log_return: 'double' },
+    firstRow,
+    slots,
+    dateCount,
   );
-  for (let i = 0; i < returns.rows; i++) {
-    logReturn[returns.columns.k[i] * dateCount + returns.columns.date_index[i] - 1] = returns.columns.log_return[i];
-  }
 
   // One pass over value_weights gives the holdings and, per slot, the portfolio value
   // (sum of the position values, in security order so every run adds them alike),
   // whether a position has no value, and whether a price is stale. Sorted by slot
   // then security, so every sum over a portfolio's holdings runs in the same order in
   // every run (full or incremental).
-  let security = shared(Int32Array, 1 << 16);
-  let weight = shared(Float64Array, 1 << 16);
+  const holdings = new WeightRows(1 << 16);
   const offsets = shared(Int32Array, slots + 1);
-  let rows = 0;
   await streamColumns(
     db,
     `select p.k, w.date_index, s.k as j, w.weight::double, w.value_base::double, w.price_status = 'stale'
@@ -157,12 +152,7 @@ export async function readPortfolioPanel(
     [firstRow],
     { k: 'int', date_index: 'int', j: 'int', weight: 'double', value_base: 'double', is_stale: 'bool' },
     (c, n) => {
-      if (rows + n > security.length) {
-        security = grown(security, rows, rows + n);
-        weight = grown(weight, rows, rows + n);
-      }
-      security.set(c.j.subarray(0, n), rows);
-      weight.set(c.weight.subarray(0, n), rows);
+      holdings.append(c.j, c.weight, n);
       for (let i = 0; i < n; i++) {
         const slot = c.k[i] * dateCount + c.date_index[i] - 1;
         offsets[slot + 1]++;
@@ -172,7 +162,6 @@ export async function readPortfolioPanel(
         if (Number.isNaN(c.value_base[i])) unpriced[slot] = 1;
         if (c.is_stale[i] === 1) stale[slot] = 1;
       }
-      rows += n;
     },
   );
   for (let slot = 0; slot < slots; slot++) {
@@ -188,9 +177,19 @@ export async function readPortfolioPanel(
     stale,
     logReturn,
     offsets,
-    security: security.subarray(0, rows),
-    weight: weight.subarray(0, rows),
+    ...holdings.taken(),
   };
+}
+
+/**
+ * The rows (k, date_index, log_return) of `sql` (one parameter: the first row) laid out
+ * K x T in a shared array, slot k * T + date_index - 1; NaN where no row is.
+ */
+export async function readSlotSeries(db: Database, sql: string, firstRow: number, slots: number, dateCount: number): Promise<Float64Array> {
+  const series = shared(Float64Array, slots).fill(Number.NaN);
+  const rows = await readColumns(db, sql, [firstRow], { k: 'int', date_index: 'int', log_return: 'double' });
+  for (let i = 0; i < rows.rows; i++) series[rows.columns.k[i] * dateCount + rows.columns.date_index[i] - 1] = rows.columns.log_return[i];
+  return series;
 }
 
 type SharedTyped = Uint8Array | Int32Array | Float64Array;
@@ -199,8 +198,34 @@ type SharedTyped = Uint8Array | Int32Array | Float64Array;
  * A zero-filled typed array on a SharedArrayBuffer: the big panels are read by the
  * estimate worker threads in place, never copied to them.
  */
-function shared<A extends SharedTyped>(kind: { new (buffer: SharedArrayBuffer): A; BYTES_PER_ELEMENT: number }, length: number): A {
+export function shared<A extends SharedTyped>(kind: { new (buffer: SharedArrayBuffer): A; BYTES_PER_ELEMENT: number }, length: number): A {
   return new kind(new SharedArrayBuffer(length * kind.BYTES_PER_ELEMENT));
+}
+
+/** (security, weight) rows in shared arrays, appended a chunk at a time: the values of a CSR layout. */
+export class WeightRows {
+  private security: Int32Array;
+  private weight: Float64Array;
+  private rows = 0;
+
+  constructor(capacity: number) {
+    this.security = shared(Int32Array, capacity);
+    this.weight = shared(Float64Array, capacity);
+  }
+
+  append(j: Int32Array, w: Float64Array, n: number): void {
+    if (this.rows + n > this.security.length) {
+      this.security = grown(this.security, this.rows, this.rows + n);
+      this.weight = grown(this.weight, this.rows, this.rows + n);
+    }
+    this.security.set(j.subarray(0, n), this.rows);
+    this.weight.set(w.subarray(0, n), this.rows);
+    this.rows += n;
+  }
+
+  taken(): { security: Int32Array; weight: Float64Array } {
+    return { security: this.security.subarray(0, this.rows), weight: this.weight.subarray(0, this.rows) };
+  }
 }
 
 /** A copy of a[0 .. used - 1] in a shared array of at least `need` (doubling, so appends stay amortized O(1)). */

@@ -2,7 +2,6 @@ import { Worker } from 'node:worker_threads';
 import type { EwmaState } from './ewmaEstimate.ts';
 import type { ComputeInputs, EstimateTask, WalkSettings } from './estimateWalk.ts';
 import { WORKER_ROLE, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
-import type { PortfolioPanel, ReturnPanel } from './inputs.ts';
 import type { ResultBatch } from './resultColumns.ts';
 
 /**
@@ -80,27 +79,13 @@ export async function walkInWorkers(
 
 /** The inputs with every typed array on a SharedArrayBuffer (inputs.ts allocates them so; anything else is copied once). */
 function shareInputs(input: ComputeInputs): ComputeInputs {
-  const r = input.returns;
-  const p = input.portfolios;
-  const returns: ReturnPanel = {
-    ...r,
-    isCash: shared(r.isCash),
-    returns: shared(r.returns),
-    returnsBySecurity: shared(r.returnsBySecurity),
-    runLength: shared(r.runLength),
-  };
-  const portfolios: PortfolioPanel = {
-    ...p,
-    present: shared(p.present),
-    value: shared(p.value),
-    unpriced: shared(p.unpriced),
-    stale: shared(p.stale),
-    logReturn: shared(p.logReturn),
-    offsets: shared(p.offsets),
-    security: shared(p.security),
-    weight: shared(p.weight),
-  };
-  return { ...input, returns, portfolios };
+  return { ...input, returns: sharedFields(input.returns), portfolios: sharedFields(input.portfolios), benchmarks: sharedFields(input.benchmarks) };
+}
+
+/** A panel with each of its typed-array fields shared. */
+function sharedFields<T extends object>(panel: T): T {
+  const fields = Object.entries(panel).map(([key, value]) => [key, value instanceof Uint8Array || value instanceof Int32Array || value instanceof Float64Array ? shared(value) : value]);
+  return Object.fromEntries(fields) as T;
 }
 
 type Typed = Uint8Array | Int32Array | Float64Array;

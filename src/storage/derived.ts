@@ -17,6 +17,7 @@ const FINGERPRINT_SQL = `
     (select count(*) || ':' || coalesce(max(file_id), 0) from prices),
     (select count(*) || ':' || coalesce(max(file_id), 0) from positions),
     (select count(*) || ':' || coalesce(max(file_id), 0) from fx_rates),
+    (select count(*) || ':' || coalesce(max(file_id), 0) from benchmarks),
     -- prices held out of risk: a flag raised, cleared or switched to hold changes the carried prices
     (select count(*) || ':' || count(*) filter (where held and cleared_at is null) from price_checks)) as fingerprint`;
 

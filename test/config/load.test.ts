@@ -22,7 +22,9 @@ describe('loadConfig', () => {
     expect(cfg.risk.ewma.lambda).toBe(0.94);
     expect(cfg.risk.weights).toBe('current');
     expect(cfg.alerts.maxAgeDays).toBe(5);
-    expect(cfg.sources.map((s) => s.pattern)).toEqual(['prices*.csv*', 'positions*.csv*', 'fx*.csv*', 'securities*.csv*']);
+    // SPEC §3 and §9 (benchmarks)
+    expect(cfg.sources.map((s) => s.pattern)).toEqual(['prices*.csv*', 'positions*.csv*', 'fx*.csv*', 'securities*.csv*', 'benchmarks*.csv*']);
+    expect(cfg.benchmarks).toEqual({});
     // SPEC §6: warning defaults to 0.9 x limit, clear to 0.85 x limit
     expect(cfg.limits[0]).toMatchObject({ metric: 'vol_ex_ante', estimator: 'sample', limit: 0.15 });
     expect(cfg.limits[0].warning).toBeCloseTo(0.135, 12);

@@ -49,6 +49,32 @@ describe('riskfold demo, end to end', () => {
     }
   });
 
+  it('measures the balanced account against its policy benchmark and shows every account\'s exposures by asset class', async () => {
+    const [te] = await db.all<{ benchmark_id: string; te: number; realized: number; beta: number }>(
+      `select benchmark_id, tracking_error_ex_ante as te, tracking_error_realized as realized, beta_to_benchmark as beta from risk_daily
+       where portfolio_id = 'fpw-balanced' and window_days = 63 and estimator = 'sample' order by date desc limit 1`,
+    );
+    // a policy mix close to the account's own targets: a small tracking error, a beta near 1 (invented data, loose bounds)
+    expect(te.benchmark_id).toBe('bm-balanced-policy');
+    expect(te.te).toBeGreaterThan(0.001);
+    expect(te.te).toBeLessThan(0.05);
+    expect(te.realized).toBeGreaterThan(0);
+    expect(te.beta).toBeGreaterThan(0.7);
+    expect(te.beta).toBeLessThan(1.3);
+    const others = await db.all("select count(tracking_error_ex_ante)::integer as n from risk_daily where portfolio_id <> 'fpw-balanced'");
+    expect(others).toEqual([{ n: 0 }]);
+    const buckets = await db.all<{ portfolio_id: string; buckets: string[]; total: number }>(
+      `select portfolio_id, list(bucket order by bucket) as buckets, sum(weight) as total from exposure_daily
+       where dimension = 'asset_class' and date = (select max(date) from exposure_daily) group by portfolio_id order by portfolio_id`,
+    );
+    expect(buckets.map((b) => [b.portfolio_id, b.buckets])).toEqual([
+      ['fpw-balanced', ['bond', 'cash', 'commodity', 'equity']],
+      ['fpw-growth', expect.arrayContaining(['cash', 'equity'])],
+      ['fpw-income', ['bond', 'cash', 'commodity', 'equity']],
+    ]);
+    for (const b of buckets) expect(b.total).toBeCloseTo(1, 12);
+  });
+
   it('has an account that breached its 63-day limit and later recovered, and says so in alerts', async () => {
     const episodes = await db.all<{ portfolio_id: string; level: string; closed_on: string | null }>(
       "select portfolio_id, level, closed_on from limit_breaches where level = 'breach' and not retracted",
@@ -170,14 +196,19 @@ describe('riskfold demo, end to end', () => {
       await page.goto(`file://${result.reportFile}`);
       await page.screenshot({ path: path.join(parent, 'demo-report.png'), fullPage: true });
       const drawn = await page.evaluate(() => ({
-        points: [...document.querySelectorAll('svg[data-chart="vol-ex-ante"] polyline')].map((p) => (p.getAttribute('points') ?? '').split(' ').length),
-        bands: [...document.querySelectorAll('svg[data-chart="vol-ex-ante"] rect.band')].map((r) => r.getBoundingClientRect().width),
+        points: [...document.querySelectorAll('svg[data-chart^="vol-ex-ante-"] polyline')].map((p) => (p.getAttribute('points') ?? '').split(' ').length),
+        shrunk: document.querySelectorAll('svg[data-chart="vol-ex-ante-63"] polyline[data-series="63-day shrunk"]').length,
+        bands: [...document.querySelectorAll('svg[data-chart="vol-ex-ante-63"] rect.band')].map((r) => r.getBoundingClientRect().width),
+        changes: [...document.querySelectorAll('svg[data-chart="vol-change"] polyline')].map((p) => (p.getAttribute('points') ?? '').split(' ').length),
         bars: document.querySelectorAll('svg[data-chart="contributions"] rect.bar').length,
         cells: document.querySelectorAll('svg[data-chart="correlation"] rect.cell').length,
       }));
       // the charts cover the latest 126 valuation dates, all with figures in the demo
       expect(drawn.points.every((n) => n === 126)).toBe(true);
+      expect(drawn.shrunk).toBe(1);
       expect(drawn.bands.length).toBeGreaterThanOrEqual(1);
+      // why the 63-day volatility moved: market, weights and total over the same dates
+      expect(drawn.changes).toEqual([126, 126, 126]);
       expect(drawn.bars).toBeGreaterThan(5);
       expect(drawn.cells).toBe(100);
     } finally {

@@ -6,7 +6,7 @@ import { holdingsOn, valueOf } from '../../src/demo/holdings.ts';
 import { businessDays, correlationFromLoadings, simulateMarket } from '../../src/demo/market.ts';
 import { createRandom } from '../../src/demo/random.ts';
 import { buildScenario } from '../../src/demo/scenario.ts';
-import { ACCOUNTS, SECURITIES } from '../../src/demo/universe.ts';
+import { ACCOUNTS, BENCHMARKS, SECURITIES } from '../../src/demo/universe.ts';
 
 describe('createRandom', () => {
   it('draws standard normals: mean 0 and variance 1 within sampling error (simple-statistics mean/sampleVariance)', () => {
@@ -102,6 +102,15 @@ describe('buildScenario', () => {
     }
   });
 
+  it('gives the benchmark policy weights that add up to 1, with securities the account does not hold', () => {
+    for (const b of BENCHMARKS) {
+      expect(Object.values(b.weights).reduce((x, y) => x + y, 0)).toBeCloseTo(1, 12);
+      const account = ACCOUNTS.find((a) => a.id === b.portfolioId)!;
+      expect(Object.keys(b.weights).filter((id) => !(id in account.targets)).length).toBeGreaterThan(0);
+      for (const id of Object.keys(b.weights)) expect(id.startsWith('CASH:') || SECURITIES.some((s) => s.id === id)).toBe(true);
+    }
+  });
+
   it('rebalances without creating or destroying value (the rounding remainder stays in cash)', () => {
     const { dates } = scenario.market;
     const rebalances = scenario.snapshots.filter((s) => s.reason === 'rebalance' && s.date !== dates[0]);
@@ -157,7 +166,7 @@ describe('deliveriesOf', () => {
   const dropDate = (drop: number) => scenario.market.dates[scenario.historyDays + drop].replaceAll('-', '');
 
   it('starts with one history load of each kind, then one delivery per business day', () => {
-    expect(deliveries[0].files.map((f) => f.name.split('_')[0].replace('.csv', ''))).toEqual(['securities', 'fx', 'prices', 'positions']);
+    expect(deliveries[0].files.map((f) => f.name.split('_')[0].replace('.csv', ''))).toEqual(['securities', 'fx', 'prices', 'positions', 'benchmarks']);
     expect(deliveries).toHaveLength(1 + scenario.market.dates.length - scenario.historyDays);
     const historyPrices = deliveries[0].files[2].text.trim().split('\n');
     expect(historyPrices).toHaveLength(1 + scenario.historyDays * SECURITIES.length);

@@ -44,6 +44,10 @@ export const insertFx = (db: Database, fileId: number, rows: Cell[][]) =>
 export const insertSecurities = (db: Database, fileId: number, rows: Cell[][]) =>
   insertFile(db, 'securities', ['security_id', 'name', 'asset_class', 'currency'], fileId, rows);
 
+/** rows: [date, benchmark_id, security_id, weight] */
+export const insertBenchmarks = (db: Database, fileId: number, rows: Cell[][]) =>
+  insertFile(db, 'benchmarks', ['date', 'benchmark_id', 'security_id', 'weight'], fileId, rows);
+
 /** Raw rows as delivered, each with its file and line: the input of the reference model and of insertDeliveries. */
 export interface PriceRow { fileId: number; line: number; date: string; securityId: string; price: number; currency: string | null }
 export interface PositionRow { fileId: number; line: number; date: string; portfolioId: string; securityId: string; quantity: number }

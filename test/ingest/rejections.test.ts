@@ -12,7 +12,7 @@ afterEach(() => {
   ws = undefined;
 });
 
-const RAW_TABLES = ['prices', 'positions', 'fx_rates', 'securities'];
+const RAW_TABLES = ['prices', 'positions', 'fx_rates', 'securities', 'benchmarks'];
 
 async function rawCounts(): Promise<Record<string, number>> {
   const out: Record<string, number> = {};
@@ -113,6 +113,19 @@ describe('ingestFile: rejected files', () => {
     expect(ok.status).toBe('ingested');
     const r = await rejectRows('positions_bad.csv', [header, ['2026-04-10', 'acct-growth', 'EQ-NORDWIND', '12 shares']]);
     expect(formatRejection(r)).toBe('positions_bad.csv line 2, column quantity: "12 shares" is not a number');
+  });
+
+  it('checks a benchmarks file like every other: a weight that is no fraction, a repeated constituent, a missing benchmark_id', async () => {
+    const header = ['date', 'benchmark_id', 'security_id', 'weight'];
+    const weight = await rejectRows('benchmarks_a.csv', [header, ['2026-04-10', 'bm-core', 'EQ-A', '0.6'], ['2026-04-10', 'bm-core', 'EQ-B', '40%']]);
+    expect(formatRejection(weight)).toBe('benchmarks_a.csv line 3, column weight: "40%" is not a fraction from -1 to 1 (0.4 = 40%)');
+    // a weight written in percent is refused, not read as 4,000%
+    const percent = await rejectRows('benchmarks_p.csv', [header, ['2026-04-10', 'bm-core', 'EQ-A', '60'], ['2026-04-10', 'bm-core', 'EQ-B', '40']]);
+    expect(formatRejection(percent)).toBe('benchmarks_p.csv line 2, column weight: "60" is not a fraction from -1 to 1 (0.4 = 40%), zero or of magnitude 1e-12 or more');
+    const twice = await rejectRows('benchmarks_b.csv', [header, ['2026-04-10', 'bm-core', 'EQ-A', '0.6'], ['2026-04-10', 'bm-core', 'EQ-A', '0.4']]);
+    expect(twice).toMatchObject({ code: 'duplicate_key', row: 2, column: 'date+benchmark_id+security_id' });
+    const missing = await rejectRows('benchmarks_c.csv', [['date', 'index', 'security_id', 'weight'], ['2026-04-10', 'bm-core', 'EQ-A', '1']]);
+    expect(missing).toMatchObject({ code: 'missing_column', column: 'benchmark_id' });
   });
 
   it('rejects an empty portfolio id and a cash id without a valid currency code', async () => {

@@ -83,11 +83,32 @@ describe('checkLimits', () => {
     );
   });
 
+  it('says in words why the volatility moved since the previous date: the market, the weights and the security that moved them', async () => {
+    ws = await tempWorkspace();
+    const [d1, d2] = businessDays('2026-03-02', 2);
+    await runDay('acct-growth', d1, 0.131, 1);
+    // 13.1% -> 16.2%: +3.1 points, 2.4 from the market and 0.7 from the weights, 0.5 of it EQ-SOLSTICE's
+    await ws.db.run(
+      `insert into vol_change (portfolio_id, date, window_days, estimator, prev_date, vol_prev, vol_now, from_weights, from_market,
+         status, weights_driver_security_id, weights_driver_change, run_id)
+       values ('acct-growth', $1::date, 63, 'sample', $2::date, 0.131, 0.162, 0.007, 0.024, 'ok', 'EQ-SOLSTICE', 0.005, 2)`,
+      [d2, d1],
+    );
+    await runDay('acct-growth', d2, 0.162, 2);
+    const [alert] = await alertRows(ws.db);
+    expect(alert.data.text).toBe(
+      `acct-growth: 63-day volatility 16.2% reached its 15.0% limit on ${d2}. ` +
+        `63-day volatility +3.1 points since ${d1}: +2.4 points from the market, +0.7 points from the weights, mostly EQ-SOLSTICE`,
+    );
+    expect(alert.data.vol_change).toMatchObject({ prev_date: d1, from_market: 0.024, from_weights: 0.007, weights_driver_security_id: 'EQ-SOLSTICE' });
+  });
+
   it('leaves contributors out when they were not kept for the date of the transition', async () => {
     ws = await tempWorkspace();
     await runDay('acct-growth', '2026-03-02', 0.14, 1);
     const [alert] = await alertRows(ws.db);
     expect(alert.data.contributors).toEqual([]);
+    expect(alert.data.vol_change).toBeNull();
     expect(alert.data.text).toBe('acct-growth: 63-day volatility 14.0% reached its 13.5% warning level (limit 15.0%) on 2026-03-02');
   });
 
@@ -147,6 +168,35 @@ describe('checkLimits', () => {
     // 1.86% is above the 1.8% warning level: the episode opens at warning on the first date
     expect(b).toMatchObject({ opened_on: '2026-03-02', level: 'breach', escalated_on: '2026-03-03', closed_on: '2026-03-04' });
     expect(b.peak_value).toBeCloseTo(z * 0.009, 12);
+  });
+
+  it('watches the ex-ante tracking error, naming the largest contributors to it', async () => {
+    ws = await tempWorkspace({ benchmarks: { '*': 'bm-core' }, limits: [{ portfolio: '*', metric: 'tracking_error_ex_ante', window: 63, limit: 0.04 }] });
+    const { db, config, log } = ws;
+    const days = businessDays('2026-03-02', 3);
+    // limit 4%: warning 3.6%, clear 3.4% (SPEC section 6 defaults); the vol itself stays low
+    const te = [0.03, 0.037, 0.041];
+    await db.transaction(async () => {
+      await writeRiskSeries(db, { portfolioId: 'acct-growth', points: days.map((d) => [d, 0.05] as [string, number]) });
+      for (let i = 0; i < days.length; i++) {
+        await db.run(`update risk_daily set benchmark_id = 'bm-core', tracking_error_ex_ante = $1 where date = $2::date`, [te[i], days[i]]);
+      }
+      await db.run(
+        `insert into risk_active_contributions (portfolio_id, date, window_days, estimator, benchmark_id, security_id,
+           weight, benchmark_weight, active_weight, mcr, ccr, pct, run_id) values
+         ('acct-growth', $1::date, 63, 'sample', 'bm-core', 'EQ-NORDWIND', 0.5, 0.2, 0.3, 0.1, 0.03, 0.73, 1),
+         ('acct-growth', $1::date, 63, 'sample', 'bm-core', 'EQ-SOLSTICE', 0, 0.3, -0.3, -0.037, 0.011, 0.27, 1)`,
+        [days[1]],
+      );
+      await checkLimits(db, config, log, { runId: 1, from: null, portfolios: null });
+    });
+    const [b] = await breachRows(db);
+    expect(b).toMatchObject({ opened_on: days[1], level: 'breach', escalated_on: days[2], peak_value: 0.041 });
+    expect(await db.all('select metric from limit_breaches')).toEqual([{ metric: 'tracking_error_ex_ante' }]);
+    const [opened] = await alertRows(db);
+    expect(opened.data.text).toBe(
+      'acct-growth: 63-day tracking error 3.7% reached its 3.6% warning level (limit 4.0%) on 2026-03-03; largest contributors EQ-NORDWIND 73%, EQ-SOLSTICE 27%',
+    );
   });
 
   it('only looks at the portfolios of the run', async () => {

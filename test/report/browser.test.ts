@@ -28,6 +28,8 @@ interface ChartGeometry {
   bars: { width: number; height: number }[];
   bands: { width: number; height: number }[];
   cells: { width: number; height: number; fill: string }[];
+  references: number;
+  topTick: string;
 }
 
 describe('the report in a real browser', () => {
@@ -41,7 +43,17 @@ describe('the report in a real browser', () => {
 
   it('draws every chart with data, loads nothing from outside, and prints on white over several pages', async () => {
     ws = await tempWorkspace(FIXTURE_CONFIG);
-    await fillReportFixture(ws.db);
+    const fixture = await fillReportFixture(ws.db);
+    // a benchmark, so the page shows its section too
+    await ws.db.run(
+      `update risk_daily set benchmark_id = 'bm-policy', tracking_error_ex_ante = 0.02, beta_to_benchmark = 0.95 where portfolio_id = $1`,
+      [FIXTURE_PORTFOLIO],
+    );
+    await ws.db.run(
+      `insert into risk_active_contributions (portfolio_id, date, window_days, estimator, benchmark_id, security_id, weight, benchmark_weight, active_weight, mcr, ccr, pct, run_id)
+       values ($1, $2::date, 63, 'sample', 'bm-policy', 'EQ-VELLANCE', 0.24, 0.1, 0.14, 0.14, 0.02, 1, 7)`,
+      [FIXTURE_PORTFOLIO, fixture.asOf],
+    );
     const { html } = await reportHtml(ws.db, ws.config, FIXTURE_PORTFOLIO, new Date('2026-12-01T12:00:00Z'));
     const file = path.join(ws.dir, 'report.html');
     writeFileSync(file, html);
@@ -69,19 +81,39 @@ describe('the report in a real browser', () => {
         bars: [...svg.querySelectorAll('rect.bar')].map(box),
         bands: [...svg.querySelectorAll('rect.band')].map(box),
         cells: [...svg.querySelectorAll('rect.cell')].map((c) => ({ ...box(c), fill: getComputedStyle(c).fill })),
+        references: svg.querySelectorAll('line.reference').length,
+        // the tick label nearest the top of the plot
+        topTick: [...svg.querySelectorAll('text.tick')].filter((t) => t.getAttribute('text-anchor') === 'end').map((t) => t.textContent ?? '').pop() ?? '',
       }));
     });
     const byId = new Map<string, ChartGeometry>(charts.map((c) => [c.id, c]));
-    expect([...byId.keys()]).toEqual(['vol-ex-ante', 'vol-realized', 'contributions', 'correlation', 'backtest']);
+    expect([...byId.keys()]).toEqual([
+      'vol-ex-ante-21',
+      'vol-ex-ante-63',
+      'vol-ex-ante-252',
+      'vol-ex-ante-ewma',
+      'vol-change',
+      'vol-change-holdings',
+      'vol-realized',
+      'contributions',
+      'correlation',
+      'backtest',
+    ]);
     for (const c of charts) {
       expect(c.width, c.id).toBeGreaterThan(300);
       expect(c.height, c.id).toBeGreaterThan(100);
     }
     // the charts' 126 dates: a point per date for 21-day, 63-day and EWMA; the 252-day window fills only its last 68
-    const volatility = byId.get('vol-ex-ante')!;
-    expect([...volatility.polylines].sort((a, b) => a - b)).toEqual([68, 126, 126, 126]);
-    expect(volatility.bands).toHaveLength(1);
-    expect(volatility.bands[0].width).toBeGreaterThan(50);
+    expect(['21', '63', '252', 'ewma'].map((w) => byId.get(`vol-ex-ante-${w}`)!.polylines)).toEqual([[126], [126], [68], [126]]);
+    // the 63-day limit's episode and its lines only on the 63-day panel
+    expect(['21', '63', '252', 'ewma'].map((w) => byId.get(`vol-ex-ante-${w}`)!.bands.length)).toEqual([0, 1, 0, 0]);
+    expect(byId.get('vol-ex-ante-63')!.bands[0].width).toBeGreaterThan(50);
+    expect(['21', '63', '252', 'ewma'].map((w) => byId.get(`vol-ex-ante-${w}`)!.references)).toEqual([0, 2, 0, 0]);
+    // the panels share one scale: the same top tick
+    expect(new Set(['21', '63', '252', 'ewma'].map((w) => byId.get(`vol-ex-ante-${w}`)!.topTick)).size).toBe(1);
+    // market, weights and total, summed over the same 126 dates; the latest day's weights part over the five holdings
+    expect(byId.get('vol-change')!.polylines).toEqual([126, 126, 126]);
+    expect(byId.get('vol-change-holdings')!.bars).toHaveLength(FIXTURE_SECURITIES.length);
     expect(byId.get('vol-realized')!.polylines).toEqual([126, 126]);
     const bars = byId.get('contributions')!.bars;
     expect(bars).toHaveLength(FIXTURE_SECURITIES.length);
@@ -104,6 +136,19 @@ describe('the report in a real browser', () => {
     expect(lossTables[0].map((r) => r[0])).toEqual(['normal, 63-day', 'historical, 250 scenarios', 'filtered historical, 250 scenarios']);
     expect(lossTables[1][0]).toEqual(['normal, 63-day', '250', String(FIXTURE_EXCEPTION_DAYS.length), '0.50', '0.480', '0.750', 'green']);
     expect(lossTables[2].find((r) => r[0] === 'spring-slide')?.[6]).toBe('CM-EMBERSTONE');
+
+    // the exposures (4 asset classes, 2 currencies) and the benchmark's windows and contributor, laid out as tables
+    const tables = await page.evaluate(() =>
+      ['exposures', 'benchmark'].map((id) =>
+        [...document.querySelectorAll(`section[data-section="${id}"] table`)].map((t) => ({
+          rows: t.querySelectorAll('tbody tr').length,
+          width: t.getBoundingClientRect().width,
+        })),
+      ),
+    );
+    expect(tables[0].map((t) => t.rows)).toEqual([4, 2]);
+    expect(tables[1].map((t) => t.rows)).toEqual([4, 1]);
+    expect(tables.flat().every((t) => t.width > 200)).toBe(true);
 
     await page.emulateMedia({ media: 'print' });
     expect(await page.evaluate(() => getComputedStyle(document.body).backgroundColor)).toBe('rgb(255, 255, 255)');

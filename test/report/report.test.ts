@@ -7,7 +7,7 @@ import { sampleCorrelation } from 'simple-statistics';
 import { afterEach, describe, expect, it } from 'vitest';
 import { RiskfoldError } from '../../src/errors.ts';
 import { CAUTIONS } from '../../src/report/cautions.ts';
-import { escapeHtml } from '../../src/report/format.ts';
+import { escapeHtml, formatPercent } from '../../src/report/format.ts';
 import { loadReportData } from '../../src/report/reportData.ts';
 import { renderReport } from '../../src/report/renderReport.ts';
 import { defaultReportName, writeReport } from '../../src/report/writeReport.ts';
@@ -93,9 +93,57 @@ describe('renderReport', () => {
     // the only URLs are the SVG namespace declarations
     expect([...html.matchAll(/https?:\/\/[^\s"']+/g)].map((m) => m[0]).every((u) => u === 'http://www.w3.org/2000/svg')).toBe(true);
     for (const caution of CAUTIONS) expect(html).toContain(escapeHtml(caution));
-    for (const chart of ['vol-ex-ante', 'vol-realized', 'contributions', 'correlation']) expect(html).toContain(`data-chart="${chart}"`);
+    for (const chart of ['vol-ex-ante-63', 'vol-change', 'vol-realized', 'contributions', 'correlation']) expect(html).toContain(`data-chart="${chart}"`);
     expect(html).toContain(`<td>${fixture.breach.opened_on}</td>`);
     expect(html).toContain('2026-12-01T12:00:00.000Z');
+  });
+});
+
+describe('the exposures and benchmark sections', () => {
+  let ws: TempWorkspace | undefined;
+  afterEach(() => ws?.cleanup());
+
+  it('show the buckets and concentration the views hold on the report date, and no benchmark section without a benchmark', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    const fixture = await fillReportFixture(ws.db);
+    const data = await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO);
+    const stored = await ws.db.all<{ dimension: string; bucket: string; weight: number }>(
+      'select dimension, bucket, weight from exposure_daily where portfolio_id = $1 and date = $2 order by dimension, bucket',
+      [FIXTURE_PORTFOLIO, fixture.asOf],
+    );
+    expect(stored.filter((b) => b.dimension === 'asset_class').map((b) => b.bucket)).toEqual(['bond', 'cash', 'commodity', 'equity']);
+    expect(stored.filter((b) => b.dimension === 'currency').map((b) => b.bucket)).toEqual(['EUR', 'USD']);
+    expect(data.exposure.buckets).toHaveLength(stored.length);
+    expect(data.exposure.concentration?.n_positions).toBe(6);
+    expect(data.exposure.benchmark).toBeNull();
+    const html = renderReport(data, new Date('2026-12-01T12:00:00Z'));
+    expect(html).toContain('data-section="exposures"');
+    for (const b of stored) expect(html).toContain(`<td class="num">${formatPercent(b.weight, 1)}</td>`);
+    expect(html).not.toContain('data-section="benchmark"');
+  });
+
+  it('shows tracking error and beta by window and the largest active contributors when a benchmark is set', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    const fixture = await fillReportFixture(ws.db);
+    await ws.db.run(
+      `update risk_daily set benchmark_id = 'bm-policy', tracking_error_ex_ante = 0.021 + window_days / 10000, beta_to_benchmark = 0.97,
+         tracking_error_realized = case when estimator = 'sample' then 0.025 end where portfolio_id = $1`,
+      [FIXTURE_PORTFOLIO],
+    );
+    await ws.db.run(
+      `insert into risk_active_contributions (portfolio_id, date, window_days, estimator, benchmark_id, security_id, weight, benchmark_weight, active_weight, mcr, ccr, pct, run_id) values
+       ($1, $2::date, 63, 'sample', 'bm-policy', 'EQ-VELLANCE', 0.24, 0.1, 0.14, 0.09, 0.0126, 0.6, 7),
+       ($1, $2::date, 63, 'sample', 'bm-policy', 'EQ-QUILLBECK', 0, 0.08, -0.08, -0.07, 0.0056, 0.4, 7)`,
+      [FIXTURE_PORTFOLIO, fixture.asOf],
+    );
+    const data = await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO);
+    expect(data.exposure.benchmark?.id).toBe('bm-policy');
+    expect(data.exposure.benchmark?.byWindow.map((r) => `${r.estimator}:${r.window_days}`)).toEqual(['sample:21', 'sample:63', 'sample:252', 'ewma:0']);
+    const html = renderReport(data, new Date('2026-12-01T12:00:00Z'));
+    expect(html).toContain('Against the benchmark bm-policy');
+    expect(html).toContain('<td>63-day</td><td class="num">2.73%</td><td class="num">2.50%</td><td class="num">0.97</td>');
+    expect(html).toContain('<td>EWMA</td><td class="num">2.10%</td><td class="num">n/a</td>');
+    expect(html).toContain('<td>EQ-QUILLBECK</td><td class="num">0.0%</td><td class="num">8.0%</td><td class="num">-8.0%</td><td class="num">40.0%</td>');
   });
 });
 

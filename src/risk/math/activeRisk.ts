@@ -28,7 +28,17 @@ export function activeContributions(s: Float64Array, n: number, w: Float64Array,
  */
 export function betaToBenchmark(s: Float64Array, n: number, w: Float64Array, b: Float64Array): number {
   activeWeights('betaToBenchmark', n, w, b);
-  const sb = matrixVector(s, n, b);
+  return betaFromProduct(w, b, matrixVector(s, n, b));
+}
+
+/**
+ * The beta of `betaToBenchmark` from Sb (daily) instead of S, so an estimator that gives
+ * products without forming S serves it: w'(Sb) / b'(Sb).
+ */
+export function betaFromProduct(w: Float64Array, b: Float64Array, sb: Float64Array): number {
+  const n = w.length;
+  requireLength('betaFromProduct', 'b', b.length, n);
+  requireLength('betaFromProduct', 'sb', sb.length, n);
   let covariance = 0;
   let variance = 0;
   for (let i = 0; i < n; i++) {

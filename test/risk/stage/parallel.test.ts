@@ -2,6 +2,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import type { ConfigInput } from '../../../src/config/schema.ts';
 import { computeRisk, PARALLEL_MIN_COST, threadsFor, type ComputeInputs } from '../../../src/risk/computeRisk.ts';
 import { EwmaEstimate } from '../../../src/risk/ewmaEstimate.ts';
+import { readBenchmarkPanel } from '../../../src/risk/benchmarkInputs.ts';
 import { readPortfolioPanel, readReturnPanel } from '../../../src/risk/inputs.ts';
 import { DAILY_FIGURE_COUNT, type ResultBatch } from '../../../src/risk/resultColumns.ts';
 import { createRandom } from '../../../src/demo/random.ts';
@@ -16,14 +17,19 @@ function rowsOf(batches: ResultBatch[]): string[] {
   const rows: string[] = [];
   for (const b of batches) {
     const tag = `${b.estimator}|${b.windowDays}`;
-    const { daily: d, contributions: c, securities: s } = b;
+    const { daily: d, contributions: c, active: a, securities: s, volChange: v, volChangeSecurities: vs } = b;
     for (let i = 0; i < d.rows; i++) {
       const figures = d.figures.map((f) => String(f[i]));
       expect(figures.length).toBe(DAILY_FIGURE_COUNT);
       rows.push(`daily|${tag}|${d.portfolio[i]}|${d.row[i]}|${figures.join(',')}|${b.statuses[d.status[i]]}|${d.nHoldings[i]}|${d.nCovered[i]}`);
     }
     for (let i = 0; i < c.rows; i++) rows.push(`contribution|${tag}|${c.portfolio[i]}|${c.row[i]}|${c.security[i]}|${c.values.map((v) => String(v[i]))}`);
+    for (let i = 0; i < a.rows; i++) rows.push(`active|${tag}|${a.portfolio[i]}|${a.row[i]}|${a.security[i]}|${a.values.map((v) => String(v[i]))}`);
     for (let i = 0; i < s.rows; i++) rows.push(`security|${tag}|${s.row[i]}|${s.security[i]}|${s.annReturn[i]}|${s.annVol[i]}`);
+    for (let i = 0; i < v.rows; i++) {
+      rows.push(`vol_change|${tag}|${v.portfolio[i]}|${v.row[i]}|${v.figures.map((f) => String(f[i]))}|${b.statuses[v.status[i]]}|${v.driver[i]}`);
+    }
+    for (let i = 0; i < vs.rows; i++) rows.push(`vol_change_security|${tag}|${vs.portfolio[i]}|${vs.row[i]}|${vs.security[i]}|${vs.values.map((x) => String(x[i]))}`);
   }
   return rows.sort();
 }
@@ -31,7 +37,8 @@ function rowsOf(batches: ResultBatch[]): string[] {
 /**
  * 40 securities (one of them cash, one with a hole, one listed late) and 3 portfolios of
  * 5 to 7 holdings that change every 50 days: wide enough that the short window takes the
- * window path and the long one the sliding path.
+ * window path and the long one the sliding path. acct-birch is measured against a
+ * benchmark of 12 equal weights that changes half way.
  */
 function wideInputs(t = 420, n = 40): ComputeInputs {
   const random = createRandom(99);
@@ -74,8 +81,28 @@ function wideInputs(t = 420, n = 40): ComputeInputs {
       security: Int32Array.from(security),
       weight: Float64Array.from(weight),
     },
+    benchmarks: halfWayBenchmark(random, t, ids.length),
     fromRow: 0,
     ewmaState: null,
+  };
+}
+
+function halfWayBenchmark(random: ReturnType<typeof createRandom>, t: number, portfolioCount: number): ComputeInputs['benchmarks'] {
+  const offsets = new Int32Array(t + 1);
+  const security: number[] = [];
+  for (let d = 0; d < t; d++) {
+    for (let j = 0; j < 12; j++) security.push(d < t / 2 ? 1 + j : 20 + j);
+    offsets[d + 1] = security.length;
+  }
+  const ofPortfolio = new Int32Array(portfolioCount).fill(-1);
+  ofPortfolio[1] = 0;
+  return {
+    ids: ['bm-wide'],
+    ofPortfolio,
+    logReturn: Float64Array.from({ length: t }, (_, d) => (d === 0 ? Number.NaN : 0.007 * random.normal())),
+    offsets,
+    security: Int32Array.from(security),
+    weight: new Float64Array(security.length).fill(1 / 12),
   };
 }
 
@@ -89,7 +116,8 @@ describe('computeRisk in worker threads', () => {
     await loadDays(ws.db, s, 0, s.dates.length - 1);
     const returns = await readReturnPanel(ws.db);
     const portfolios = await readPortfolioPanel(ws.db, returns.dates.length, 0, null);
-    return { returns, portfolios, fromRow: fromDay, ewmaState: null };
+    const benchmarks = await readBenchmarkPanel(ws.db, ws.config, portfolios.ids, returns.dates.length, 0);
+    return { returns, portfolios, benchmarks, fromRow: fromDay, ewmaState: null };
   }
 
   async function run(input: ComputeInputs, threads: number) {
@@ -98,8 +126,8 @@ describe('computeRisk in worker threads', () => {
     return { rows: rowsOf(batches), ewma };
   }
 
-  it('gives the same rows bit for bit as the main thread: both sample paths, the EWMA and every contribution', async () => {
-    ws = await tempWorkspace({ risk: { ...RISK, windows: [21, 63, 150], contributions: 'all' } });
+  it('gives the same rows bit for bit as the main thread: both sample paths, the shrunk estimate, the EWMA and every contribution', async () => {
+    ws = await tempWorkspace({ risk: { ...RISK, windows: [21, 63, 150], contributions: 'all', shrunk: { windows: [21] } } });
     const input = wideInputs();
     const one = await run(input, 1);
     const two = await run(input, 2);
@@ -107,6 +135,8 @@ describe('computeRisk in worker threads', () => {
     expect(paths).toContain('21:window');
     expect(paths).toContain('150:sliding');
     expect(one.rows.length).toBeGreaterThan(20_000);
+    expect(one.rows.some((r) => r.startsWith('daily|shrunk|21|'))).toBe(true);
+    expect(one.rows.filter((r) => r.startsWith('active|')).length).toBeGreaterThan(1_000);
     expect(two.rows).toEqual(one.rows);
     // the states of the last two dates
     expect(one.ewma.map((s) => s.row)).toEqual([418, 419]);
