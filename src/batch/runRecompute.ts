@@ -5,7 +5,7 @@ import { RiskfoldError } from '../errors.ts';
 import { phaseClock } from '../log/phaseClock.ts';
 import { computeLosses } from '../loss/computeLosses.ts';
 import { dropLossStage } from '../loss/lossStage.ts';
-import { computeRun } from '../risk/computeRun.ts';
+import { computeRun, type PortfolioRiskFailure } from '../risk/computeRun.ts';
 import { dropStaging } from '../risk/staging.ts';
 import type { Database } from '../storage/database.ts';
 import { refreshDerived } from '../storage/derived.ts';
@@ -32,6 +32,8 @@ export interface RunSummary {
   seconds: number;
   /** Wall-clock seconds per phase (refresh_derived, read_returns, compute, write, limits, ...), in the order they ran. */
   phases: Record<string, number>;
+  /** Portfolios whose risk could not be computed: left out of the run, each with its own incident. */
+  failedPortfolios: PortfolioRiskFailure[];
 }
 
 /**
@@ -80,6 +82,7 @@ export async function runRecompute(
       alertsRaised: run.alertsRaised,
       seconds: (Date.now() - started) / 1000,
       phases: phases.seconds,
+      failedPortfolios: risk.failures,
     };
     rlog.info({ ...summary }, 'recompute done');
     return summary;
@@ -96,10 +99,10 @@ export async function runRecompute(
 }
 
 /** 'YYYY-MM-DD' naming a real calendar date; anything else is a usage error. */
-export function requireIsoDate(value: string): void {
+export function requireIsoDate(value: string, what = 'from date'): void {
   const m = /^(\d{4})-(\d{2})-(\d{2})$/.exec(value);
   const date = m ? new Date(Date.UTC(Number(m[1]), Number(m[2]) - 1, Number(m[3]))) : null;
   if (!date || date.toISOString().slice(0, 10) !== value) {
-    throw new RiskfoldError('usage', `from date "${value}" is not an ISO date (YYYY-MM-DD, e.g. 2026-03-31)`);
+    throw new RiskfoldError('usage', `${what} "${value}" is not an ISO date (YYYY-MM-DD, e.g. 2026-03-31)`);
   }
 }

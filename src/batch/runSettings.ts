@@ -25,6 +25,7 @@ export function resultSettings(config: Config): ResultSettings {
     'risk.ewma.enabled': risk.ewma.enabled,
     'risk.ewma.lambda': risk.ewma.lambda,
     'risk.ewma.seedDays': risk.ewma.seedDays,
+    'risk.shrunk.windows': [...new Set(risk.shrunk.windows)].sort((a, b) => a - b),
     // the loss stage's lookbacks shape var_daily and var_backtest (the stress rows are rewritten by every run)
     'risk.historical.days': [...new Set(risk.historical.days)].sort((a, b) => a - b),
     ...benchmarks,

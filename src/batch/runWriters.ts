@@ -2,12 +2,14 @@ import type { Logger } from 'pino';
 import { markSuspectWindows } from '../checks/suspectStatus.ts';
 import { alertUnvaluedPortfolios } from '../checks/unvaluedPortfolios.ts';
 import type { Config } from '../config/load.ts';
+import { HOLD_BEFORE, KEEP_REPLACED, PRUNE_HISTORY } from '../history/historyWriters.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
 import { writeLosses } from '../loss/lossStage.ts';
 import type { ComputedRisk, RiskScope } from '../risk/computeRun.ts';
 import { saveEwmaState } from '../risk/ewmaState.ts';
 import { replaceResults } from '../risk/staging.ts';
 import type { Database } from '../storage/database.ts';
+import { portfolioIncidents } from './portfolioIncident.ts';
 import { closeRunFailure } from './runIncident.ts';
 
 /** What a writer knows about the run whose results it commits. */
@@ -33,21 +35,34 @@ export interface RunWriter {
 }
 
 /**
- * The write step of every run: risk rows and their suspect_price status, the loss rows,
- * then the estimator state, then limits (which read the new rows) and their alerts, the
- * portfolio_unvalued alerts, then the close of a failure episode.
+ * The write step of every run: the rows it may replace held aside (history), risk rows
+ * (none for a portfolio whose compute failed: it keeps its earlier ones) and their
+ * suspect_price status, the loss rows (the same exception), then the estimator state,
+ * then limits (which read the new rows) and their alerts, the portfolio_unvalued alerts,
+ * then the replaced rows kept as history (and old history pruned), the failed
+ * portfolios' episodes, then the close of a run failure episode. Every writer that
+ * changes a kept table (src/history/keptTables.ts) comes between HOLD_BEFORE and
+ * KEEP_REPLACED.
  */
 export const RUN_WRITERS: readonly RunWriter[] = [
+  HOLD_BEFORE,
   {
     name: 'write',
     write: (tx, run) =>
-      replaceResults(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, contributions: run.config.risk.contributions }),
+      replaceResults(tx, {
+        runId: run.runId,
+        from: run.from,
+        portfolios: run.portfolios,
+        contributions: run.config.risk.contributions,
+        failed: run.risk.failures.map((f) => f.portfolioId),
+      }),
   },
   { name: 'suspect_status', write: async (tx, run) => void (await markSuspectWindows(tx, run.runId)) },
   {
     // after the risk rows: var_daily copies the normal figures from risk_daily; before the limits, which read var_backtest
     name: 'write_losses',
-    write: (tx, run) => writeLosses(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios }),
+    write: (tx, run) =>
+      writeLosses(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, failed: run.risk.failures.map((f) => f.portfolioId) }),
   },
   {
     name: 'save_ewma_state',
@@ -66,5 +81,8 @@ export const RUN_WRITERS: readonly RunWriter[] = [
       run.alertsRaised += await alertUnvaluedPortfolios(tx, run.log, { runId: run.runId, portfolios: run.portfolios });
     },
   },
+  KEEP_REPLACED,
+  PRUNE_HISTORY,
+  portfolioIncidents,
   closeRunFailure,
 ];

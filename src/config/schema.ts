@@ -54,7 +54,7 @@ export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d', 'backt
  * 1996): yellow (warning) from 5, red (breach) from 10, green again below 5.
  */
 export const BACKTEST_ZONE_LEVELS = { limit: 10, warning: 5, clear: 4.5 } as const;
-export const ESTIMATORS = ['sample', 'ewma'] as const;
+export const ESTIMATORS = ['sample', 'ewma', 'shrunk'] as const;
 export type Estimator = (typeof ESTIMATORS)[number];
 
 /** A limit level: positive; above 1 only for backtest_zone, whose levels count exceptions (checked with the metric below). */
@@ -118,6 +118,17 @@ const riskSchema = z
       .enum(['latest', 'all'])
       .default('latest')
       .describe('Keep risk contributions for the latest date of each portfolio only, or for every date.'),
+    shrunk: z
+      .object({
+        windows: z
+          .array(z.number().int().min(2))
+          .default([])
+          .describe(
+            'Windows (each one of risk.windows) that also get the shrunk estimator: Ledoit-Wolf shrinkage toward constant correlation, for books with more holdings than the window has days.',
+          ),
+      })
+      .strict()
+      .default({ windows: [] }),
     historical: z
       .object({
         days: z
@@ -240,6 +251,18 @@ const engineSchema = z
   })
   .strict();
 
+const historySchema = z
+  .object({
+    keepDays: z
+      .number()
+      .int()
+      .positive()
+      .nullable()
+      .default(null)
+      .describe('Superseded result rows replaced more than this many days ago are pruned (each pruning recorded in history_prunes); null keeps everything.'),
+  })
+  .strict();
+
 const isoDate = z.string().regex(/^\d{4}-\d\d-\d\d$/, 'a date written YYYY-MM-DD');
 
 const ingestSchema = z
@@ -340,6 +363,7 @@ export const configSchema = z
     schedule: scheduleSchema.default(scheduleSchema.parse({})),
     stress: stressSchema.default({ scenarios: [] }),
     engine: engineSchema.default(ENGINE_DEFAULTS),
+    history: historySchema.default({ keepDays: null }),
   })
   .strict()
   .superRefine((cfg, ctx) => {
@@ -382,14 +406,24 @@ export const configSchema = z
           message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${level}`,
         });
       }
-      if (limit.estimator === 'ewma' ? limit.window !== 0 : !cfg.risk.windows.includes(limit.window)) {
+      const watched = limit.estimator === 'shrunk' ? { list: cfg.risk.shrunk.windows, name: 'risk.shrunk.windows' } : { list: cfg.risk.windows, name: 'risk.windows' };
+      if (limit.estimator === 'ewma' ? limit.window !== 0 : !watched.list.includes(limit.window)) {
         ctx.addIssue({
           code: 'custom',
           path: ['limits', i, 'window'],
           message:
             limit.estimator === 'ewma'
               ? 'an ewma limit has window 0'
-              : `window ${limit.window} is not in risk.windows (${cfg.risk.windows.join(', ')})`,
+              : `window ${limit.window} is not in ${watched.name} (${watched.list.join(', ') || 'none'})`,
+        });
+      }
+    });
+    cfg.risk.shrunk.windows.forEach((w, i) => {
+      if (!cfg.risk.windows.includes(w)) {
+        ctx.addIssue({
+          code: 'custom',
+          path: ['risk', 'shrunk', 'windows', i],
+          message: `window ${w} is not in risk.windows (${cfg.risk.windows.join(', ')}): the shrunk estimate shrinks a window's sample covariance`,
         });
       }
     });

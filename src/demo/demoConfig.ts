@@ -5,9 +5,9 @@ import { ACCOUNTS, BASE_CURRENCY, BENCHMARKS } from './universe.ts';
 export const DEMO_LIMIT_WINDOW = 63;
 
 /**
- * pipeline.config.json of the demo folder: the minimal layout plus three windows, one
- * volatility limit per account, a watch on each account's backtest zone, the balanced
- * account's benchmark, a few stress scenarios of the invented market (a range of its own
+ * pipeline.config.json of the demo folder: the minimal layout plus three windows (the
+ * limit's window also with the shrunk estimator), one volatility limit per account, a
+ * watch on each account's backtest zone, the balanced account's benchmark, a few stress scenarios of the invented market (a range of its own
  * history and shocks), and suspect prices held out of risk (the demo's 10x slip is
  * carried over by the previous price until the custodian's correction arrives).
  */
@@ -18,7 +18,8 @@ export function demoConfig(): ConfigInput {
     quarantine: 'quarantine',
     database: 'riskfold.duckdb',
     baseCurrency: BASE_CURRENCY,
-    risk: { windows: [21, DEMO_LIMIT_WINDOW, 252], tradingDaysPerYear: 252 },
+    // the limit's window also shrunk toward constant correlation, to compare with the sample figure
+    risk: { windows: [21, DEMO_LIMIT_WINDOW, 252], tradingDaysPerYear: 252, shrunk: { windows: [DEMO_LIMIT_WINDOW] } },
     benchmarks: Object.fromEntries(BENCHMARKS.map((b) => [b.portfolioId, b.id])),
     limits: [
       ...ACCOUNTS.map((a) => ({ portfolio: a.id, metric: 'vol_ex_ante' as const, window: DEMO_LIMIT_WINDOW, limit: a.volLimit })),

@@ -15,9 +15,10 @@ import {
   type RecordedEpisode,
 } from './breachStore.ts';
 import { replayEpisodes, transitionsOf, type Episode, type MetricPoint } from './episodes.ts';
-import { retractionAlert, stateAlert, topContributors, transitionAlert, type Contributor } from './limitAlerts.ts';
+import { retractionAlert, stateAlert, topContributors, transitionAlert } from './limitAlerts.ts';
 import { matchEpisodes } from './matchEpisodes.ts';
 import { currentState, loadToldStates, retractedState, sameState, saveToldStates, stateAfter, type ToldState } from './toldState.ts';
+import { volChangeOn } from './volChangeText.ts';
 
 export interface LimitScope {
   runId: number;
@@ -152,11 +153,20 @@ async function alertEpisode(
   scope: LimitScope,
 ): Promise<{ told: ToldState; raised: number } | null> {
   const { portfolioId, limit, points } = r;
-  const input = (contributors: Contributor[]) => ({ portfolioId, limit, breachId, runId: scope.runId, episode, contributors });
+  // what the alert of a date tells: the largest contributors and why the figure moved since the date before
+  const input = async (date: string) => ({
+    portfolioId,
+    limit,
+    breachId,
+    runId: scope.runId,
+    episode,
+    contributors: await topContributors(db, portfolioId, limit, date),
+    volChange: await volChangeOn(db, portfolioId, limit, date),
+  });
   let told = toldBefore;
   let raised = 0;
   for (const t of transitionsOf(episode).filter((t) => !already.has(t.kind) && t.date >= alertFrom)) {
-    const alert = transitionAlert(input(await topContributors(db, portfolioId, limit, t.date)), t);
+    const alert = transitionAlert(await input(t.date), t);
     if (!(await insertAlert(db, alert))) continue;
     told = { ...stateAfter(episode, t), alertId: alert.alertId, stateAlerts: told?.stateAlerts ?? 0 };
     raised++;
@@ -167,7 +177,7 @@ async function alertEpisode(
     const last = lastValue(points);
     const sequence = (told?.stateAlerts ?? 0) + 1;
     const datesCovered = points.filter((p) => scope.from === null || p.date >= scope.from).length;
-    const alert = stateAlert(input(await topContributors(db, portfolioId, limit, last.date)), { now, told, sequence, last, datesCovered });
+    const alert = stateAlert(await input(last.date), { now, told, sequence, last, datesCovered });
     if (await insertAlert(db, alert)) {
       told = { ...now, alertId: alert.alertId, stateAlerts: sequence };
       raised++;

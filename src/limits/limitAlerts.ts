@@ -3,6 +3,7 @@ import type { NewAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
 import type { Episode, Transition } from './episodes.ts';
 import { stateAfter, type EpisodeState } from './toldState.ts';
+import { volChangeSentence, type VolChangeFacts } from './volChangeText.ts';
 
 export interface Contributor {
   security_id: string;
@@ -42,6 +43,8 @@ export interface LimitAlertInput {
   runId: number;
   episode: EpisodeFacts;
   contributors: Contributor[];
+  /** Why the volatility moved since the previous valuation date (vol_ex_ante limits); absent: not said. */
+  volChange?: VolChangeFacts | null;
 }
 
 /** An alert for a dated transition (opened, escalated, closed) of an episode. */
@@ -126,6 +129,8 @@ function buildAlert(
   const { portfolioId, limit, episode, contributors } = input;
   const named = withContributors && contributors.length > 0;
   const drivers = named ? `; largest contributors ${contributors.map((c) => `${c.security_id} ${pct(c.pct, 0)}`).join(', ')}` : '';
+  const change = withContributors && input.volChange ? input.volChange : null;
+  const moved = change ? `. ${volChangeSentence(metricLabel(limit), change)}` : '';
   return {
     alertId: `breach-${input.breachId}-${what}`,
     kind,
@@ -151,14 +156,15 @@ function buildAlert(
       peak_value: episode.peakValue,
       peak_on: episode.peakOn,
       contributors: withContributors ? contributors : [],
-      text: `${text}${drivers}`,
+      vol_change: change,
+      text: `${text}${drivers}${moved}`,
     },
   };
 }
 
 /** "63-day volatility", "EWMA realized volatility", "63-day 99% 1-day VaR (of value)", "63-day tracking error". */
 export function metricLabel(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>): string {
-  const span = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day`;
+  const span = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day${limit.estimator === 'shrunk' ? ' shrunk' : ''}`;
   if (limit.metric === 'vol_realized') return `${span} realized volatility`;
   if (limit.metric === 'var_99_1d') return `${span} 99% 1-day VaR (of value)`;
   if (limit.metric === 'backtest_zone') return `${span} normal 99% VaR backtest`;

@@ -2,6 +2,7 @@ import { barChart } from './charts/barChart.ts';
 import { correlationColor, heatmap } from './charts/heatmap.ts';
 import { legend, lineChart, type DateBand, type LineSeries, type ReferenceLine } from './charts/lineChart.ts';
 import { escapeHtml, formatPercent } from './format.ts';
+import type { Estimator } from '../config/schema.ts';
 import type { ReportData } from './reportData.ts';
 import { PALETTE } from './style.ts';
 
@@ -11,12 +12,20 @@ function section(title: string, lede: string, body: string, extraClass = ''): st
   return `<section class="${extraClass}"><h2>${escapeHtml(title)}</h2><p class="lede">${lede}</p>${body}</section>`;
 }
 
-/** Limit and warning lines of the volatility limits that apply (only those drawn on a chart of vol_ex_ante). */
-function limitLines(data: ReportData): ReferenceLine[] {
-  const limits = data.limits.filter((l) => l.metric === 'vol_ex_ante');
+/** An estimate of risk_daily: a window's sample or shrunk covariance, or the EWMA (window 0). */
+interface Estimate {
+  estimator: Estimator;
+  window: number;
+}
+
+const estimateName = (e: Estimate) => (e.estimator === 'ewma' ? 'EWMA' : `${e.window}-day${e.estimator === 'shrunk' ? ' shrunk' : ''}`);
+
+/** Limit and warning lines of the vol_ex_ante limits on these estimates: a limit is drawn only on the panel of the estimate it watches. */
+function limitLines(data: ReportData, estimates: Estimate[]): ReferenceLine[] {
+  const limits = data.limits.filter((l) => l.metric === 'vol_ex_ante' && estimates.some((e) => e.estimator === l.estimator && e.window === l.window));
   const many = limits.length > 1;
   return limits.flatMap((l) => {
-    const tag = many ? ` ${l.estimator === 'ewma' ? 'EWMA' : `${l.window}d`}` : '';
+    const tag = many ? ` ${estimateName({ estimator: l.estimator, window: l.window })}` : '';
     return [
       { label: `limit${tag} ${pct1(l.limit)}`, value: l.limit, color: PALETTE.limit },
       { label: `warning${tag} ${pct1(l.warning)}`, value: l.warning, color: PALETTE.warning, dashed: true },
@@ -24,9 +33,9 @@ function limitLines(data: ReportData): ReferenceLine[] {
   });
 }
 
-function episodeBands(data: ReportData, metric: string): DateBand[] {
+function episodeBands(data: ReportData, metric: string, estimates: Estimate[]): DateBand[] {
   return data.breaches
-    .filter((b) => b.metric === metric && !b.retracted)
+    .filter((b) => b.metric === metric && !b.retracted && estimates.some((e) => e.estimator === b.estimator && e.window === b.window_days))
     .map((b) => ({
       from: b.opened_on,
       to: b.closed_on ?? data.asOf,
@@ -35,34 +44,52 @@ function episodeBands(data: ReportData, metric: string): DateBand[] {
     }));
 }
 
-function seriesOf(data: ReportData, estimator: 'sample' | 'ewma', window: number, field: 'vol_ex_ante' | 'vol_realized') {
+function seriesOf(data: ReportData, estimator: Estimator, window: number, field: 'vol_ex_ante' | 'vol_realized') {
   return data.series
     .filter((p) => p.estimator === estimator && p.window_days === window)
     .map((p) => ({ date: p.date, value: p[field] }));
 }
 
+/**
+ * One panel per window (its sample line, and its shrunk line where computed) and one for
+ * the EWMA, on one scale: each panel carries only the limits and episodes of its own
+ * estimates, so a limit line is never read against a window it does not apply to.
+ */
 export function volatilitySection(data: ReportData): string {
-  const series: LineSeries[] = data.windows.map((w, i) => ({
-    label: `${w}-day`,
-    color: PALETTE.windows[i % PALETTE.windows.length],
-    points: seriesOf(data, 'sample', w, 'vol_ex_ante'),
-  }));
+  const panels: { id: string; title: string; series: LineSeries[]; estimates: Estimate[] }[] = data.windows.map((w, i) => {
+    const color = PALETTE.windows[i % PALETTE.windows.length];
+    const series: LineSeries[] = [{ label: `${w}-day`, color, points: seriesOf(data, 'sample', w, 'vol_ex_ante') }];
+    const shrunk = seriesOf(data, 'shrunk', w, 'vol_ex_ante');
+    if (shrunk.length) series.push({ label: `${w}-day shrunk`, color, points: shrunk, dashed: true });
+    return { id: `vol-ex-ante-${w}`, title: `${w}-day ex-ante volatility`, series, estimates: [{ estimator: 'sample', window: w }, { estimator: 'shrunk', window: w }] };
+  });
   const ewma = seriesOf(data, 'ewma', 0, 'vol_ex_ante');
-  if (ewma.length) series.push({ label: 'EWMA', color: PALETTE.ewma, points: ewma, dashed: true });
-  const references = limitLines(data);
-  const bands = episodeBands(data, 'vol_ex_ante');
-  const chart = lineChart({ id: 'vol-ex-ante', title: 'Ex-ante volatility by window', series, references, bands, formatValue: pct1 });
-  const key = legend([
-    ...series.map((s) => ({ label: s.label, color: s.color, kind: s.dashed ? ('dashed' as const) : ('line' as const) })),
-    ...references.map((r) => ({ label: r.label, color: r.color, kind: r.dashed ? ('dashed' as const) : ('line' as const) })),
-    ...bands
-      .filter((b, i) => bands.findIndex((o) => o.color === b.color) === i)
-      .map((b) => ({ label: b.color === PALETTE.breachBand ? 'breach episode' : 'warning episode', color: b.color, kind: 'band' as const })),
-  ]);
+  if (ewma.length) {
+    const series = [{ label: 'EWMA', color: PALETTE.ewma, points: ewma, dashed: true }];
+    panels.push({ id: 'vol-ex-ante-ewma', title: 'EWMA ex-ante volatility', series, estimates: [{ estimator: 'ewma', window: 0 }] });
+  }
+  const top = Math.max(
+    0,
+    ...panels.flatMap((p) => p.series.flatMap((s) => s.points.map((x) => x.value ?? 0))),
+    ...limitLines(data, panels.flatMap((p) => p.estimates)).map((r) => r.value),
+  );
+  const charts = panels.map((p) => {
+    const references = limitLines(data, p.estimates);
+    const bands = episodeBands(data, 'vol_ex_ante', p.estimates);
+    const chart = lineChart({ id: p.id, title: p.title, series: p.series, references, bands, formatValue: pct1, height: 170, yAtLeast: top });
+    const key = legend([
+      ...p.series.map((s) => ({ label: s.label, color: s.color, kind: s.dashed ? ('dashed' as const) : ('line' as const) })),
+      ...references.map((r) => ({ label: r.label, color: r.color, kind: r.dashed ? ('dashed' as const) : ('line' as const) })),
+      ...bands
+        .filter((b, i) => bands.findIndex((o) => o.color === b.color) === i)
+        .map((b) => ({ label: b.color === PALETTE.breachBand ? 'breach episode' : 'warning episode', color: b.color, kind: 'band' as const })),
+    ]);
+    return `<h3>${escapeHtml(p.title)}</h3>${chart}${key}`;
+  });
   return section(
     'Ex-ante volatility by window',
-    `Annualized volatility from each window's covariance of daily log returns and the day's weights, against the mandate limit, from ${escapeHtml(data.chartFrom)} to ${escapeHtml(data.asOf)}. Shaded: limit episodes, from the day one opened to the day it closed.`,
-    chart + key,
+    `Annualized volatility from each window's covariance of daily log returns and the day's weights, from ${escapeHtml(data.chartFrom)} to ${escapeHtml(data.asOf)}, one panel per window on one scale. A panel shows only the mandate limits set on its own window and estimator; shaded: their episodes, from the day one opened to the day it closed.`,
+    charts.join(''),
   );
 }
 

@@ -1,6 +1,7 @@
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import type { Config, ResolvedLimit } from '../config/load.ts';
+import type { Estimator } from '../config/schema.ts';
 import { RiskfoldError } from '../errors.ts';
 import { applicableLimits } from '../limits/applicableLimits.ts';
 import { sqlString, type Database } from '../storage/database.ts';
@@ -8,11 +9,12 @@ import { correlationOfReturns, type CorrelationResult, type ReturnObservation } 
 import { loadCurrencySplits, type CurrencySplit } from './currencySplit.ts';
 import { loadLossData, type LossData } from './lossData.ts';
 import { loadExposure, type ExposureData } from './exposureData.ts';
+import { loadVolChange, type VolChangeReport } from './volChangeData.ts';
 
 export interface RiskPoint {
   date: string;
   window_days: number;
-  estimator: 'sample' | 'ewma';
+  estimator: Estimator;
   vol_ex_ante: number | null;
   vol_realized: number | null;
 }
@@ -77,6 +79,8 @@ export interface ReportData {
   series: RiskPoint[];
   latest: LatestRisk[];
   contributions: { date: string | null; rows: Contribution[] };
+  /** Why the focus window's volatility moved, day by day over the charts' dates. */
+  volChange: VolChangeReport;
   correlation: (CorrelationResult & { names: string[]; window: number }) | { error: string };
   exposure: ExposureData;
   breaches: Breach[];
@@ -144,6 +148,7 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
     series,
     latest,
     contributions: await loadContributions(db, portfolioId, focusWindow),
+    volChange: await loadVolChange(db, portfolioId, focusWindow, chartFrom, asOf),
     correlation: await loadCorrelation(db, portfolioId, asOf),
     exposure: await loadExposure(db, portfolioId, asOf, focusWindow),
     breaches: await db.all<Breach>('select * from limit_breaches where portfolio_id = $1 order by opened_on, breach_id', [portfolioId]),

@@ -27,7 +27,11 @@ export function keyFigures(data: ReportData): string {
       escapeHtml(formatPercent(focus?.vol_ex_ante)),
       `${limit ? escapeHtml(`limit ${formatPercent(limit.limit, 1)}`) : 'no limit set'} ${chip}`,
     ),
-    figure(`VaR 99%, 1 day (${data.baseCurrency})`, escapeHtml(formatMoney(focus?.var_99_1d)), escapeHtml(`ES 97.5%: ${formatMoney(focus?.es_975_1d)}`)),
+    figure(
+      `VaR 99%, 1 day (${data.baseCurrency})`,
+      escapeHtml(formatMoney(focus?.var_99_1d)),
+      escapeHtml(`ES 97.5%: ${formatMoney(focus?.es_975_1d)}; normal, ${data.focusWindow}-day window, sample covariance`),
+    ),
     figure('Diversification ratio', escapeHtml(formatNumber(focus?.diversification_ratio)), escapeHtml(`coverage ${formatPercent(focus?.coverage, 1)}`)),
   ].join('')}</div>`;
 }

@@ -34,7 +34,8 @@ const ROW_COST = 2_000;
 
 /** Number of progress units `computeRisk` reports: one per estimate and output date. */
 export function progressUnits(config: Config, dateCount: number, fromRow: number): number {
-  return (uniqueWindows(config).length + (config.risk.ewma.enabled ? 1 : 0)) * Math.max(0, dateCount - fromRow);
+  const estimates = uniqueWindows(config).length + shrunkWindows(config).length + (config.risk.ewma.enabled ? 1 : 0);
+  return estimates * Math.max(0, dateCount - fromRow);
 }
 
 /** Computes every estimate into `sink`; returns the EWMA states at the last two dates, oldest first (none without EWMA or dates). */
@@ -92,6 +93,11 @@ function planTasks(input: ComputeInputs, config: Config, log: Logger): { task: E
     log.debug({ windowDays, path }, 'sample covariance path');
     tasks.push({ task: { kind: 'sample', windowDays, path }, cost: samplePathCosts(inputs)[path] + rowsCost });
   }
+  for (const windowDays of shrunkWindows(config)) {
+    // per row: the shrinkage's pair sums over the window (three products per pair and date) and the product
+    const cost = outputDates * (3 * windowDays * load.squaredPerDate + load.squaredPerDate) + rowsCost;
+    tasks.push({ task: { kind: 'shrunk', windowDays }, cost });
+  }
   if (config.risk.ewma.enabled && dateCount > 0) {
     const { lambda, seedDays } = config.risk.ewma;
     // without a stored state the EWMA replays from the first date
@@ -105,6 +111,10 @@ function planTasks(input: ComputeInputs, config: Config, log: Logger): { task: E
 
 function uniqueWindows(config: Config): number[] {
   return [...new Set(config.risk.windows)].sort((a, b) => a - b);
+}
+
+function shrunkWindows(config: Config): number[] {
+  return [...new Set(config.risk.shrunk.windows)].sort((a, b) => a - b);
 }
 
 /** Average work per output date, for the choice of the sample path and of threads. */

@@ -33,6 +33,15 @@ export interface ComputedRisk {
   ewmaStates: EwmaState[];
   /** The panels the run computed from, for the loss stage (src/loss) that revalues the same holdings. */
   inputs: { returns: ReturnPanel; portfolios: PortfolioPanel; fromRow: number };
+  /** Portfolios whose risk could not be computed, by id: nothing of theirs is staged. */
+  failures: PortfolioRiskFailure[];
+}
+
+export interface PortfolioRiskFailure {
+  portfolioId: string;
+  /** The valuation date of the first row that failed. */
+  date: string;
+  error: string;
 }
 
 /**
@@ -41,6 +50,8 @@ export interface ComputedRisk {
  * first), computes every
  * estimate from `from` on and stages the rows. Writing them is the batch's write step
  * (staging.ts `replaceResults`, ewmaState.ts `saveEwmaState`); `dropStaging` cleans up.
+ * A portfolio whose compute fails is returned in `failures` with none of its rows
+ * staged; the others are unaffected.
  */
 export async function computeRun(db: Database, config: Config, log: Logger, scope: RiskScope, phases: PhaseClock): Promise<ComputedRisk> {
   const rlog = log.child({ stage: 'risk', runId: scope.runId });
@@ -75,7 +86,12 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
     stage.close();
     phases.add('stage_flush', flushStarted);
   }
-  return { dates, portfolios: portfolios.ids.length, riskRows: stage.dailyRows, ewmaStates, inputs: { returns, portfolios, fromRow } };
+  const riskRows = await stage.dropFailed(db);
+  const failures = [...stage.failures.values()]
+    .map((f) => ({ portfolioId: portfolios.ids[f.portfolio], date: dates[f.row], error: f.message }))
+    .sort((a, b) => (a.portfolioId < b.portfolioId ? -1 : 1));
+  for (const f of failures) rlog.error({ portfolio: f.portfolioId, date: f.date, error: f.error }, 'risk of this portfolio not computed; the others go on');
+  return { dates, portfolios: portfolios.ids.length, riskRows, ewmaStates, inputs: { returns, portfolios, fromRow }, failures };
 }
 
 /** First date row on or after `from` (dates ascending, ISO strings compare as dates); dates.length if none. */

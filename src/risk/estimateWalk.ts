@@ -1,4 +1,6 @@
 import type { Config } from '../config/load.ts';
+import type { Estimator } from '../config/schema.ts';
+import { portfolioFault } from '../faults.ts';
 import { assessActive, type ActiveFigures } from './activeRow.ts';
 import type { BenchmarkPanel } from './benchmarkInputs.ts';
 import { realizedTrackingError } from './math/activeRisk.ts';
@@ -6,15 +8,19 @@ import { annualizedReturn, annualizedVolatility } from './math/annualize.ts';
 import { mean, sampleVariance } from './math/moments.ts';
 import { EwmaEstimate, type EwmaState } from './ewmaEstimate.ts';
 import type { PortfolioPanel, ReturnPanel } from './inputs.ts';
-import { assessRow, RowScratch, type CovarianceView, type Exposure, type RiskSettings } from './portfolioRow.ts';
-import { DAILY_FIGURE_COUNT, ResultCollector, type ResultBatch } from './resultColumns.ts';
+import { assessRow, RowScratch, type CovarianceView, type Exposure, type RiskSettings, type RowFigures } from './portfolioRow.ts';
+import { DAILY_FIGURE_COUNT, DAILY_FIGURES, ResultCollector, VOL_CHANGE_FIGURE_COUNT, type ResultBatch } from './resultColumns.ts';
 import { SampleEstimate, type SamplePath } from './sampleEstimate.ts';
+import { ShrunkEstimate } from './shrunkEstimate.ts';
+import { VolChangeTracker, type KnownProduct, type VolChangeRow } from './volChangeTracker.ts';
 
 /**
  * One estimate's walk over the dates: advance the estimate date by date and, at each
  * output date (row >= fromRow), collect the per-security stats and one row per
  * portfolio present that day. Nothing here touches the database or the clock, so the
  * same walk runs on the main thread or in a worker and gives the same numbers.
+ * A portfolio whose row throws or comes out infinite is reported as a failure and left
+ * out from then on; the other portfolios go on.
  */
 
 export interface ComputeInputs {
@@ -29,6 +35,7 @@ export interface ComputeInputs {
 
 export type EstimateTask =
   | { kind: 'sample'; windowDays: number; path: SamplePath }
+  | { kind: 'shrunk'; windowDays: number }
   | { kind: 'ewma'; lambda: number; seedDays: number };
 
 export interface WalkSettings extends RiskSettings {
@@ -37,10 +44,12 @@ export interface WalkSettings extends RiskSettings {
 }
 
 interface DateEstimate extends CovarianceView {
-  readonly estimator: 'sample' | 'ewma';
+  readonly estimator: Estimator;
   readonly windowDays: number;
   readonly startRow: number;
   forEachSecurity(emit: (j: number, annReturn: number, annVol: number) => void, periodsPerYear: number): void;
+  /** A shrinkage estimate: the intensity of its last product (NaN for none), forgotten once taken. */
+  takeIntensity?(): number;
 }
 
 /** Rows (all tables) collected before a batch is handed over; bounds memory in a long backfill. */
@@ -54,7 +63,13 @@ const BATCH_ROWS = 1 << 16;
 export function walkEstimate(task: EstimateTask, input: ComputeInputs, settings: WalkSettings, emit: (batch: ResultBatch) => void): EwmaState[] {
   const { returns, fromRow } = input;
   if (task.kind === 'sample') {
-    const estimate = new SampleEstimate(returns, task.windowDays, task.path, fromRow);
+    // from the date before the first output date: the first change since then needs its covariance
+    const estimate = new SampleEstimate(returns, task.windowDays, task.path, Math.max(0, fromRow - 1));
+    walk(estimate, (d, output) => estimate.advance(d, output), input, settings, emit);
+    return [];
+  }
+  if (task.kind === 'shrunk') {
+    const estimate = new ShrunkEstimate(returns, task.windowDays, Math.max(0, fromRow - 1));
     walk(estimate, (d, output) => estimate.advance(d, output), input, settings, emit);
     return [];
   }
@@ -84,59 +99,145 @@ function walk(
   const { returns, portfolios, benchmarks, fromRow } = input;
   const dateCount = returns.dates.length;
   const lastRow = lastPresentRows(portfolios, dateCount);
-  const average = estimate.estimator === 'sample' && settings.weights === 'window_average';
+  const windowed = estimate.estimator !== 'ewma';
+  const average = windowed && settings.weights === 'window_average';
   const accumulator = new Float64Array(returns.securityIds.length);
+  const exposureAt = (p: number, d: number): Exposure =>
+    average ? averageExposure(portfolios, returns, p, d, estimate.windowDays, accumulator) : currentExposure(portfolios, returns, p * dateCount + d);
+  const flagsAt = (slot: number) => ({ value: portfolios.value[slot], unpriced: portfolios.unpriced[slot] === 1, stale: portfolios.stale[slot] === 1 });
+  const changes = new VolChangeTracker(portfolios.ids.length, settings.periodsPerYear);
+  /** Keeps date d's products for the split on d + 1 (or forgets p when d's row has no volatility). */
+  const carry = (p: number, d: number, exposure: Exposure, row: RowFigures) => {
+    const next = d + 1 < dateCount && portfolios.present[p * dateCount + d + 1] === 1;
+    if (Number.isFinite(row.volExAnte) && next) changes.carry(p, d, estimate, exposure, exposureAt(p, d + 1), knownProduct(row));
+    else changes.forget(p);
+  };
+  /** The row's own S w over its covered holdings (in the scratch, valid until the next row). */
+  const knownProduct = (row: RowFigures): KnownProduct | null =>
+    Number.isFinite(row.volExAnte) ? { idx: scratch.idx.subarray(0, row.nCovered), sw: scratch.sw.subarray(0, row.nCovered) } : null;
   const scratch = new RowScratch();
   const figures = new Float64Array(DAILY_FIGURE_COUNT);
+  const changeFigures = new Float64Array(VOL_CHANGE_FIGURE_COUNT);
   const out = new ResultCollector(estimate.windowDays, estimate.estimator);
+  // a portfolio that failed once is left out for the rest of the walk: its rows are not written
+  const failed = new Uint8Array(portfolios.ids.length);
+  const fail = (p: number, d: number, err: unknown) => {
+    failed[p] = 1;
+    changes.forget(p);
+    const label = estimate.estimator === 'ewma' ? 'ewma' : `${estimate.windowDays}-day ${estimate.estimator}`;
+    out.addFailure(p, d, `${label} estimate: ${err instanceof Error ? err.message : String(err)}`);
+  };
   const addSecurity = (j: number, r: number, v: number) => out.addSecurity(currentRow, j, r, v);
+  /** The date before the first output date, for the first split: its products only. */
+  const prime = (d: number) => {
+    for (let p = 0; p < portfolios.ids.length; p++) {
+      const slot = p * dateCount + d;
+      if (portfolios.present[slot] !== 1 || failed[p] === 1) continue;
+      try {
+        const exposure = exposureAt(p, d);
+        carry(p, d, exposure, assessRow(exposure, flagsAt(slot), estimate, settings, false, scratch));
+      } catch (err) {
+        fail(p, d, err);
+      }
+    }
+  };
   let currentRow = -1;
+  // an estimate restored at fromRow - 1 (the stored EWMA) holds that date before the first advance
+  if (estimate.startRow === fromRow && fromRow > 0) prime(fromRow - 1);
   for (let d = estimate.startRow; d < dateCount; d++) {
     const output = d >= fromRow;
-    advance(d, output);
+    advance(d, output || d === fromRow - 1);
+    if (d === fromRow - 1) prime(d);
     if (!output) continue;
     currentRow = d;
     estimate.forEachSecurity(addSecurity, settings.periodsPerYear);
     for (let p = 0; p < portfolios.ids.length; p++) {
       const slot = p * dateCount + d;
-      if (portfolios.present[slot] !== 1) continue;
-      const exposure = average
-        ? averageExposure(portfolios, returns, p, d, estimate.windowDays, accumulator)
-        : currentExposure(portfolios, returns, slot);
-      const flags = { value: portfolios.value[slot], unpriced: portfolios.unpriced[slot] === 1, stale: portfolios.stale[slot] === 1 };
-      const withContributions = settings.contributions === 'all' || d === lastRow[p];
-      const row = assessRow(exposure, flags, estimate, settings, withContributions, scratch);
-      const realized = estimate.estimator === 'sample' ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
-      figures[0] = flags.value;
-      figures[1] = row.volExAnte;
-      figures[2] = realized?.vol ?? Number.NaN;
-      figures[3] = realized?.annReturn ?? Number.NaN;
-      figures[4] = row.var99_1d;
-      figures[5] = row.es975_1d;
-      figures[6] = row.var99_10d;
-      figures[7] = row.es975_10d;
-      figures[8] = row.diversification;
-      figures[9] = row.coverage;
-      const k = benchmarks.ofPortfolio[p];
-      const weights = k >= 0 ? benchmarkAt(benchmarks, k, d, dateCount) : null;
-      // nothing to measure against before the benchmark's first snapshot, nor with unknown weights (coverage null)
-      const active =
-        weights !== null && weights.j.length > 0 && !Number.isNaN(row.coverage)
-          ? assessActive(exposure, weights, estimate, settings.periodsPerYear, withContributions)
-          : null;
-      figures[10] = active?.trackingError ?? Number.NaN;
-      figures[11] = k >= 0 && estimate.estimator === 'sample' ? realizedActive(portfolios, benchmarks, p, k, d, estimate.windowDays, dateCount, settings) : Number.NaN;
-      figures[12] = active?.beta ?? Number.NaN;
-      out.addDaily(p, d, figures, row.status, row.nHoldings, row.nCovered);
-      if (row.contributions) {
-        const { mcr, ccr, pct } = row.contributions;
-        for (let a = 0; a < exposure.j.length; a++) out.addContribution(p, d, exposure.j[a], exposure.w[a], mcr[a], ccr[a], pct[a]);
+      if (portfolios.present[slot] !== 1 || failed[p] === 1) continue;
+      try {
+        portfolioFault(portfolios.ids[p]);
+        const exposure = exposureAt(p, d);
+        const flags = flagsAt(slot);
+        const withContributions = settings.contributions === 'all' || d === lastRow[p];
+        estimate.takeIntensity?.();
+        const row = assessRow(exposure, flags, estimate, settings, withContributions, scratch);
+        const intensity = estimate.takeIntensity?.() ?? Number.NaN;
+        const realized = windowed ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
+        figures[0] = flags.value;
+        figures[1] = row.volExAnte;
+        figures[2] = realized?.vol ?? Number.NaN;
+        figures[3] = realized?.annReturn ?? Number.NaN;
+        figures[4] = row.var99_1d;
+        figures[5] = row.es975_1d;
+        figures[6] = row.var99_10d;
+        figures[7] = row.es975_10d;
+        figures[8] = row.diversification;
+        figures[9] = row.coverage;
+        const k = benchmarks.ofPortfolio[p];
+        const weights = k >= 0 ? benchmarkAt(benchmarks, k, d, dateCount) : null;
+        // nothing to measure against before the benchmark's first snapshot, nor with unknown weights (coverage null)
+        const active =
+          weights !== null && weights.j.length > 0 && !Number.isNaN(row.coverage)
+            ? assessActive(exposure, weights, estimate, settings.periodsPerYear, withContributions)
+            : null;
+        figures[10] = active?.trackingError ?? Number.NaN;
+        figures[11] = k >= 0 && estimate.estimator === 'sample' ? realizedActive(portfolios, benchmarks, p, k, d, estimate.windowDays, dateCount, settings) : Number.NaN;
+        figures[12] = active?.beta ?? Number.NaN;
+        figures[13] = Number.isFinite(row.volExAnte) ? intensity : Number.NaN;
+        const infinite = infiniteFigure(figures, row.contributions);
+        if (infinite) throw new Error(`${infinite} is not finite`);
+        out.addDaily(p, d, figures, row.status, row.nHoldings, row.nCovered);
+        if (row.contributions) {
+          const { mcr, ccr, pct } = row.contributions;
+          for (let a = 0; a < exposure.j.length; a++) out.addContribution(p, d, exposure.j[a], exposure.w[a], mcr[a], ccr[a], pct[a]);
+        }
+        if (active?.contributions) addActive(out, p, d, active.contributions);
+        const change = Number.isFinite(row.volExAnte) ? changes.split(p, d, estimate, knownProduct(row)) : null;
+        if (change) addChange(out, p, d, change, withContributions, changeFigures);
+        carry(p, d, exposure, row);
+      } catch (err) {
+        fail(p, d, err);
       }
-      if (active?.contributions) addActive(out, p, d, active.contributions);
     }
     out.endDate();
     if (out.pendingRows >= BATCH_ROWS || d === dateCount - 1) emit(out.take());
   }
+}
+
+/** A vol_change row, its driver (the largest weights part by size) and, when asked for, its rows per security. */
+function addChange(out: ResultCollector, p: number, d: number, change: VolChangeRow, perSecurity: boolean, figures: Float64Array): void {
+  let driver = -1;
+  for (let a = 0; a < change.securities.length; a++) {
+    if (driver === -1 || Math.abs(change.fromWeightsBySecurity[a]) > Math.abs(change.fromWeightsBySecurity[driver])) driver = a;
+  }
+  figures[0] = change.volPrev;
+  figures[1] = change.volNow;
+  figures[2] = change.fromWeights;
+  figures[3] = change.fromMarket;
+  figures[4] = driver === -1 ? Number.NaN : change.fromWeightsBySecurity[driver];
+  out.addVolChange(p, d, figures, change.status, driver === -1 ? -1 : change.securities[driver]);
+  if (!perSecurity) return;
+  for (let a = 0; a < change.securities.length; a++) {
+    out.addVolChangeSecurity(p, d, change.securities[a], change.weightPrev[a], change.weightNow[a], change.fromWeightsBySecurity[a]);
+  }
+}
+
+/**
+ * The first figure that is +-Infinity (NaN stands for a missing figure and is fine):
+ * an overflow in a value or an estimate, which must never reach risk_daily as a number.
+ */
+function infiniteFigure(figures: Float64Array, contributions: { mcr: Float64Array; ccr: Float64Array; pct: Float64Array } | null): string | null {
+  for (let c = 0; c < figures.length; c++) if (isInfinite(figures[c])) return `${DAILY_FIGURES[c]} (${figures[c]})`;
+  if (!contributions) return null;
+  const { mcr, ccr, pct } = contributions;
+  for (let a = 0; a < mcr.length; a++) {
+    if (isInfinite(mcr[a]) || isInfinite(ccr[a]) || isInfinite(pct[a])) return `a contribution (mcr ${mcr[a]}, ccr ${ccr[a]}, pct ${pct[a]})`;
+  }
+  return null;
+}
+
+function isInfinite(v: number): boolean {
+  return v === Number.POSITIVE_INFINITY || v === Number.NEGATIVE_INFINITY;
 }
 
 function currentExposure(portfolios: PortfolioPanel, returns: ReturnPanel, slot: number): Exposure {

@@ -8,12 +8,32 @@
 
 import type { Estimator } from '../config/schema.ts';
 
-/** Figures of a risk_daily row, in staging's DAILY_FIGURES order. */
-export const DAILY_FIGURE_COUNT = 13;
+/** The figures of a risk_daily row, in the order of a batch's `daily.figures` columns. */
+export const DAILY_FIGURES = [
+  'portfolio_value',
+  'vol_ex_ante',
+  'vol_realized',
+  'ann_return',
+  'var_99_1d',
+  'es_975_1d',
+  'var_99_10d',
+  'es_975_10d',
+  'diversification_ratio',
+  'coverage',
+  'tracking_error_ex_ante',
+  'tracking_error_realized',
+  'beta_to_benchmark',
+  'shrinkage_intensity',
+] as const;
+export const DAILY_FIGURE_COUNT = DAILY_FIGURES.length;
 /** weight, mcr, ccr, pct of a risk_contributions row. */
 export const CONTRIBUTION_VALUE_COUNT = 4;
 /** weight, benchmark_weight, mcr, ccr, pct of a risk_active_contributions row. */
 export const ACTIVE_VALUE_COUNT = 5;
+/** Figures of a vol_change row, in staging's VOL_CHANGE_FIGURES order. */
+export const VOL_CHANGE_FIGURE_COUNT = 5;
+/** weight_prev, weight_now, from_weights of a vol_change_securities row. */
+export const VOL_CHANGE_SECURITY_VALUE_COUNT = 3;
 
 export interface ResultBatch {
   /** Output dates the walk finished since the previous batch (for progress). */
@@ -36,11 +56,23 @@ export interface ResultBatch {
   /** values: weight, benchmark_weight, mcr, ccr, pct columns. */
   active: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
   securities: { rows: number; row: Int32Array; security: Int32Array; annReturn: Float64Array; annVol: Float64Array };
+  /** figures: VOL_CHANGE_FIGURE_COUNT columns (NaN = NULL); driver: the security with the largest weights part, -1 for none. */
+  volChange: { rows: number; portfolio: Int32Array; row: Int32Array; figures: Float64Array[]; status: Int32Array; driver: Int32Array };
+  /** values: weight_prev, weight_now, from_weights columns. */
+  volChangeSecurities: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
+  /** Portfolios whose row could not be computed (p, the date row, why): the walk dropped them from then on. */
+  failures: PortfolioFailure[];
+}
+
+export interface PortfolioFailure {
+  portfolio: number;
+  row: number;
+  message: string;
 }
 
 /** The buffers a batch owns, for postMessage's transfer list. */
 export function batchBuffers(batch: ResultBatch): ArrayBuffer[] {
-  const { daily, contributions, active, securities } = batch;
+  const { daily, contributions, active, securities, volChange, volChangeSecurities } = batch;
   const arrays = [
     daily.portfolio,
     daily.row,
@@ -60,6 +92,15 @@ export function batchBuffers(batch: ResultBatch): ArrayBuffer[] {
     securities.security,
     securities.annReturn,
     securities.annVol,
+    volChange.portfolio,
+    volChange.row,
+    ...volChange.figures,
+    volChange.status,
+    volChange.driver,
+    volChangeSecurities.portfolio,
+    volChangeSecurities.row,
+    volChangeSecurities.security,
+    ...volChangeSecurities.values,
   ];
   return [...new Set(arrays.map((a) => a.buffer as ArrayBuffer))];
 }
@@ -114,6 +155,20 @@ export class ResultCollector {
   private readonly contributions = { portfolio: ints(), row: ints(), security: ints(), values: Array.from({ length: CONTRIBUTION_VALUE_COUNT }, doubles) };
   private readonly active = { portfolio: ints(), row: ints(), security: ints(), values: Array.from({ length: ACTIVE_VALUE_COUNT }, doubles) };
   private readonly securities = { row: ints(), security: ints(), annReturn: doubles(), annVol: doubles() };
+  private readonly volChange = {
+    portfolio: ints(),
+    row: ints(),
+    figures: Array.from({ length: VOL_CHANGE_FIGURE_COUNT }, doubles),
+    status: ints(),
+    driver: ints(),
+  };
+  private readonly volChangeSecurities = {
+    portfolio: ints(),
+    row: ints(),
+    security: ints(),
+    values: Array.from({ length: VOL_CHANGE_SECURITY_VALUE_COUNT }, doubles),
+  };
+  private failures: PortfolioFailure[] = [];
   private dates = 0;
 
   constructor(
@@ -126,12 +181,7 @@ export class ResultCollector {
     d.portfolio.push(portfolio);
     d.row.push(row);
     for (let c = 0; c < DAILY_FIGURE_COUNT; c++) d.figures[c].push(figures[c]);
-    let code = this.statusCodes.get(status);
-    if (code === undefined) {
-      code = this.statusCodes.size;
-      this.statusCodes.set(status, code);
-    }
-    d.status.push(code);
+    d.status.push(this.statusCode(status));
     d.nHoldings.push(nHoldings);
     d.nCovered.push(nCovered);
   }
@@ -163,6 +213,30 @@ export class ResultCollector {
     s.annVol.push(annVol);
   }
 
+  /** figures: vol_prev, vol_now, from_weights, from_market, the driver's weights part; driver -1 for none. */
+  addVolChange(portfolio: number, row: number, figures: ArrayLike<number>, status: string, driver: number): void {
+    const v = this.volChange;
+    v.portfolio.push(portfolio);
+    v.row.push(row);
+    for (let c = 0; c < VOL_CHANGE_FIGURE_COUNT; c++) v.figures[c].push(figures[c]);
+    v.status.push(this.statusCode(status));
+    v.driver.push(driver);
+  }
+
+  addVolChangeSecurity(portfolio: number, row: number, security: number, weightPrev: number, weightNow: number, fromWeights: number): void {
+    const v = this.volChangeSecurities;
+    v.portfolio.push(portfolio);
+    v.row.push(row);
+    v.security.push(security);
+    v.values[0].push(weightPrev);
+    v.values[1].push(weightNow);
+    v.values[2].push(fromWeights);
+  }
+
+  addFailure(portfolio: number, row: number, message: string): void {
+    this.failures.push({ portfolio, row, message });
+  }
+
   /** One output date done. */
   endDate(): void {
     this.dates++;
@@ -170,11 +244,27 @@ export class ResultCollector {
 
   /** Rows held, all tables together: the walk hands a batch over past a size. */
   get pendingRows(): number {
-    return this.daily.row.length + this.contributions.row.length + this.active.row.length + this.securities.row.length;
+    return (
+      this.daily.row.length +
+      this.contributions.row.length +
+      this.active.row.length +
+      this.securities.row.length +
+      this.volChange.row.length +
+      this.volChangeSecurities.row.length
+    );
+  }
+
+  private statusCode(status: string): number {
+    let code = this.statusCodes.get(status);
+    if (code === undefined) {
+      code = this.statusCodes.size;
+      this.statusCodes.set(status, code);
+    }
+    return code;
   }
 
   take(): ResultBatch {
-    const { daily: d, contributions: c, active: a, securities: s } = this;
+    const { daily: d, contributions: c, active: a, securities: s, volChange: v, volChangeSecurities: vs } = this;
     const batch: ResultBatch = {
       dates: this.dates,
       windowDays: this.windowDays,
@@ -193,7 +283,24 @@ export class ResultCollector {
       contributions: { rows: c.row.length, portfolio: c.portfolio.take(), row: c.row.take(), security: c.security.take(), values: c.values.map((v) => v.take()) },
       active: { rows: a.row.length, portfolio: a.portfolio.take(), row: a.row.take(), security: a.security.take(), values: a.values.map((v) => v.take()) },
       securities: { rows: s.row.length, row: s.row.take(), security: s.security.take(), annReturn: s.annReturn.take(), annVol: s.annVol.take() },
+      volChange: {
+        rows: v.row.length,
+        portfolio: v.portfolio.take(),
+        row: v.row.take(),
+        figures: v.figures.map((f) => f.take()),
+        status: v.status.take(),
+        driver: v.driver.take(),
+      },
+      volChangeSecurities: {
+        rows: vs.row.length,
+        portfolio: vs.portfolio.take(),
+        row: vs.row.take(),
+        security: vs.security.take(),
+        values: vs.values.map((x) => x.take()),
+      },
+      failures: this.failures,
     };
+    this.failures = [];
     this.dates = 0;
     return batch;
   }

@@ -124,6 +124,11 @@ export class SampleEstimate implements CovarianceView {
     }
   }
 
+  /** The date row last advanced to. */
+  get currentRow(): number {
+    return this.row;
+  }
+
   covered(j: number): boolean {
     return this.panel.runLength[this.row * this.n + j] >= this.windowDays;
   }

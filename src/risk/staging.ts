@@ -1,7 +1,7 @@
 import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
 import type { Database } from '../storage/database.ts';
 import { ChunkAppender } from '../storage/columnar.ts';
-import type { ResultBatch } from './resultColumns.ts';
+import { DAILY_FIGURES, type PortfolioFailure, type ResultBatch } from './resultColumns.ts';
 
 /**
  * Results go first to temporary staging tables, through appenders and outside any
@@ -12,30 +12,21 @@ import type { ResultBatch } from './resultColumns.ts';
  * inputs.ts created.
  */
 
-const DAILY_FIGURES = [
-  'portfolio_value',
-  'vol_ex_ante',
-  'vol_realized',
-  'ann_return',
-  'var_99_1d',
-  'es_975_1d',
-  'var_99_10d',
-  'es_975_10d',
-  'diversification_ratio',
-  'coverage',
-  'tracking_error_ex_ante',
-  'tracking_error_realized',
-  'beta_to_benchmark',
-] as const;
-
 const ACTIVE_VALUES = ['weight', 'benchmark_weight', 'mcr', 'ccr', 'pct'] as const;
 
+const VOL_CHANGE_FIGURES = ['vol_prev', 'vol_now', 'from_weights', 'from_market', 'weights_driver_change'] as const;
+
 export class ResultStage {
+  /** By portfolio (p): its earliest failure over every estimate, the one it is reported by. */
+  readonly failures = new Map<number, PortfolioFailure>();
+
   private constructor(
     private readonly daily: ChunkAppender,
     private readonly contributions: ChunkAppender,
     private readonly active: ChunkAppender,
     private readonly securities: ChunkAppender,
+    private readonly volChange: ChunkAppender,
+    private readonly volChangeSecurities: ChunkAppender,
   ) {}
 
   static async open(db: Database): Promise<ResultStage> {
@@ -51,18 +42,31 @@ export class ResultStage {
       ${ACTIVE_VALUES.map((c) => `${c} double`).join(', ')})`);
     await db.run(`create or replace temp table risk_stage_securities (
       date_index integer, window_days integer, j integer, ann_return double, ann_vol double)`);
+    await db.run(`create or replace temp table risk_stage_vol_change (
+      p integer, date_index integer, window_days integer, estimator varchar,
+      ${VOL_CHANGE_FIGURES.map((c) => `${c} double`).join(', ')}, status varchar, driver integer)`);
+    await db.run(`create or replace temp table risk_stage_vol_change_securities (
+      p integer, date_index integer, window_days integer, estimator varchar, j integer,
+      weight_prev double, weight_now double, from_weights double)`);
     const figures = DAILY_FIGURES.map(() => DOUBLE);
     return new ResultStage(
       await ChunkAppender.open(db, 'risk_stage_daily', [INTEGER, INTEGER, INTEGER, VARCHAR, ...figures, VARCHAR, INTEGER, INTEGER]),
       await ChunkAppender.open(db, 'risk_stage_contributions', [INTEGER, INTEGER, INTEGER, VARCHAR, INTEGER, DOUBLE, DOUBLE, DOUBLE, DOUBLE]),
       await ChunkAppender.open(db, 'risk_stage_active', [INTEGER, INTEGER, INTEGER, VARCHAR, INTEGER, ...ACTIVE_VALUES.map(() => DOUBLE)]),
       await ChunkAppender.open(db, 'risk_stage_securities', [INTEGER, INTEGER, INTEGER, DOUBLE, DOUBLE]),
+      await ChunkAppender.open(db, 'risk_stage_vol_change', [INTEGER, INTEGER, INTEGER, VARCHAR, ...VOL_CHANGE_FIGURES.map(() => DOUBLE), VARCHAR, INTEGER]),
+      await ChunkAppender.open(db, 'risk_stage_vol_change_securities', [INTEGER, INTEGER, INTEGER, VARCHAR, INTEGER, DOUBLE, DOUBLE, DOUBLE]),
     );
   }
 
   /** Appends a batch of an estimate's rows (from the main thread's walk or a worker's). */
   append(batch: ResultBatch): void {
-    const { windowDays, estimator, statuses, daily, contributions: c, active: a, securities: s } = batch;
+    const { windowDays, estimator, statuses, daily, contributions: c, active: a, securities: s, volChange: v, volChangeSecurities: vs } = batch;
+    for (const f of batch.failures) {
+      const known = this.failures.get(f.portfolio);
+      // the earliest, then by text: batches from worker threads arrive in any order
+      if (!known || f.row < known.row || (f.row === known.row && f.message < known.message)) this.failures.set(f.portfolio, f);
+    }
     const window = { constant: windowDays };
     const kind = { constant: estimator };
     this.daily.appendColumns(daily.rows, [
@@ -78,6 +82,16 @@ export class ResultStage {
     this.contributions.appendColumns(c.rows, [c.portfolio, dateIndexOf(c.row, c.rows), window, kind, c.security, ...c.values]);
     this.active.appendColumns(a.rows, [a.portfolio, dateIndexOf(a.row, a.rows), window, kind, a.security, ...a.values]);
     this.securities.appendColumns(s.rows, [dateIndexOf(s.row, s.rows), window, s.security, s.annReturn, s.annVol]);
+    this.volChange.appendColumns(v.rows, [
+      v.portfolio,
+      dateIndexOf(v.row, v.rows),
+      window,
+      kind,
+      ...v.figures,
+      { codes: v.status, texts: statuses },
+      v.driver,
+    ]);
+    this.volChangeSecurities.appendColumns(vs.rows, [vs.portfolio, dateIndexOf(vs.row, vs.rows), window, kind, vs.security, ...vs.values]);
   }
 
   get dailyRows(): number {
@@ -89,7 +103,20 @@ export class ResultStage {
     this.contributions.close();
     this.active.close();
     this.securities.close();
+    this.volChange.close();
+    this.volChangeSecurities.close();
     return this.daily.close();
+  }
+
+  /** After `close`: drops the rows staged for the failed portfolios (a failure may come after some of their dates); returns the risk_daily rows left. */
+  async dropFailed(db: Database): Promise<number> {
+    if (this.failures.size === 0) return this.daily.rows;
+    const failed = `(${[...this.failures.keys()].join(', ')})`;
+    for (const table of ['daily', 'contributions', 'active', 'vol_change', 'vol_change_securities']) {
+      await db.run(`delete from risk_stage_${table} where p in ${failed}`);
+    }
+    const [{ n }] = await db.all<{ n: number }>('select count(*)::integer as n from risk_stage_daily');
+    return n;
   }
 }
 
@@ -106,13 +133,16 @@ export interface ReplaceScope {
   portfolios: readonly string[] | null;
   /** 'latest': a portfolio's contributions are only those of its latest date. */
   contributions: 'latest' | 'all';
+  /** Portfolios whose compute failed (nothing staged for them): their stored rows stay as they are. */
+  failed: readonly string[];
 }
 
-/** Inside the write transaction: delete the scope's old rows, insert the staged ones. */
+/** Inside the write transaction: delete the scope's old rows (but a failed portfolio's), insert the staged ones. */
 export async function replaceResults(db: Database, scope: ReplaceScope): Promise<void> {
   // portfolio ids bound as JSON: DuckDB cannot type an empty JS list
-  const inScope = `($1::date is null or date >= $1::date) and ($2::varchar is null or list_contains(from_json($2, '["VARCHAR"]'), portfolio_id))`;
-  const params = [scope.from, scope.portfolios === null ? null : JSON.stringify(scope.portfolios)];
+  const inScope = `($1::date is null or date >= $1::date) and ($2::varchar is null or list_contains(from_json($2, '["VARCHAR"]'), portfolio_id))
+    and not list_contains(from_json($3, '["VARCHAR"]'), portfolio_id)`;
+  const params = [scope.from, scope.portfolios === null ? null : JSON.stringify(scope.portfolios), JSON.stringify(scope.failed)];
   await db.run(`delete from risk_daily where ${inScope}`, params);
   await db.run(
     `insert into risk_daily (portfolio_id, date, window_days, estimator, ${DAILY_FIGURES.join(', ')}, status, n_holdings, n_covered, benchmark_id, run_id)
@@ -153,11 +183,43 @@ export async function replaceResults(db: Database, scope: ReplaceScope): Promise
      join risk_in_securities sec on sec.k = s.j`,
     [scope.runId],
   );
+  await replaceVolChange(db, scope, inScope, params);
   await db.run('delete from security_stats where ($1::date is null or date >= $1::date)', [scope.from]);
   await db.run(
     `insert into security_stats (date, window_days, security_id, ann_return, ann_vol, run_id)
      select d.date, s.window_days, sec.security_id, s.ann_return, s.ann_vol, $1
      from risk_stage_securities s
+     join risk_in_dates d on d.date_index = s.date_index
+     join risk_in_securities sec on sec.k = s.j`,
+    [scope.runId],
+  );
+}
+
+/** vol_change in the scope; vol_change_securities, like risk_contributions, for the dates it keeps. */
+async function replaceVolChange(db: Database, scope: ReplaceScope, inScope: string, params: (string | null)[]): Promise<void> {
+  await db.run(`delete from vol_change where ${inScope}`, params);
+  await db.run(
+    `insert into vol_change (portfolio_id, date, window_days, estimator, prev_date, ${VOL_CHANGE_FIGURES.join(', ')}, status, weights_driver_security_id, run_id)
+     select p.portfolio_id, d.date, s.window_days, s.estimator, prev.date, ${VOL_CHANGE_FIGURES.map((c) => `s.${c}`).join(', ')},
+            s.status, sec.security_id, $1
+     from risk_stage_vol_change s
+     join risk_in_portfolios p on p.k = s.p
+     join risk_in_dates d on d.date_index = s.date_index
+     join risk_in_dates prev on prev.date_index = s.date_index - 1
+     left join risk_in_securities sec on sec.k = s.driver`,
+    [scope.runId],
+  );
+  if (scope.contributions === 'all') {
+    await db.run(`delete from vol_change_securities where ${inScope}`, params);
+  } else {
+    await db.run(`delete from vol_change_securities where portfolio_id in (
+      select p.portfolio_id from risk_stage_daily s join risk_in_portfolios p on p.k = s.p)`);
+  }
+  await db.run(
+    `insert into vol_change_securities (portfolio_id, date, window_days, estimator, security_id, weight_prev, weight_now, from_weights, run_id)
+     select p.portfolio_id, d.date, s.window_days, s.estimator, sec.security_id, s.weight_prev, s.weight_now, s.from_weights, $1
+     from risk_stage_vol_change_securities s
+     join risk_in_portfolios p on p.k = s.p
      join risk_in_dates d on d.date_index = s.date_index
      join risk_in_securities sec on sec.k = s.j`,
     [scope.runId],
@@ -171,6 +233,8 @@ export async function dropStaging(db: Database): Promise<void> {
     'risk_stage_contributions',
     'risk_stage_active',
     'risk_stage_securities',
+    'risk_stage_vol_change',
+    'risk_stage_vol_change_securities',
     'risk_in_dates',
     'risk_in_returns',
     'risk_in_securities',

@@ -116,6 +116,38 @@ describe('riskfold demo, end to end', () => {
     expect(text).toMatch(/prices_\d{8}_correction\.csv: 1 price/);
   });
 
+  it('shows the correction both ways, one query each: as reported before it arrived, and as known now', async () => {
+    const { correction } = scenario.incidents;
+    const t = scenario.historyDays + correction.drop;
+    const both = result.summary.bothWays!;
+    expect(both.date).toBe(scenario.market.dates[t]);
+    expect(both.file).toMatch(/^prices_\d{8}_correction\.csv$/);
+    // each printed query, run by the read-only sql command, gives the printed figures at full precision
+    for (const [query, column] of [[both.asReported, 'as_reported'], [both.asKnown, 'as_known']] as const) {
+      const { stdout } = await run(process.execPath, [CLI, 'sql', '--config', result.config.configPath, '--format', 'json', query]);
+      const status = column === 'as_reported' ? 'reported_status' : 'known_status';
+      expect(JSON.parse(stdout)).toEqual(both.rows.map((r) => ({ portfolio_id: r.portfolio_id, vol_ex_ante: r[column], status: r[status] })));
+      expect(text).toContain(`"${query}"`);
+    }
+    // the wrong price, held out of risk, left the accounts that held the security (the
+    // scenario's holdings) with a carried price until the correction, and only them; a
+    // recompute from another start may differ in the last bits
+    for (const r of both.rows) {
+      const held = holdingsOn(scenario.snapshots, r.portfolio_id, both.date).has(correction.securityId);
+      const moved = Math.abs(r.as_reported! - r.as_known!);
+      if (held) {
+        expect(moved, r.portfolio_id).toBeGreaterThan(1e-6);
+        expect([r.reported_status, r.known_status], r.portfolio_id).toEqual(['stale_prices', 'ok']);
+      } else {
+        expect(moved, r.portfolio_id).toBeLessThan(1e-12);
+        expect(r.reported_status).toBe(r.known_status);
+      }
+      const printed = [formatPercent(r.as_reported, 3), r.reported_status, formatPercent(r.as_known, 3), r.known_status];
+      expect(text).toMatch(new RegExp(`${r.portfolio_id}\\s+${printed.join('\\s+')}`));
+    }
+    expect(both.rows.filter((r) => holdingsOn(scenario.snapshots, r.portfolio_id, both.date).has(correction.securityId))).not.toEqual([]);
+  });
+
   it('flags the 10x price as suspect, holds it out of risk, and clears the flag when the correction arrives', async () => {
     const { correction } = scenario.incidents;
     const date = scenario.market.dates[scenario.historyDays + correction.drop];
@@ -164,14 +196,19 @@ describe('riskfold demo, end to end', () => {
       await page.goto(`file://${result.reportFile}`);
       await page.screenshot({ path: path.join(parent, 'demo-report.png'), fullPage: true });
       const drawn = await page.evaluate(() => ({
-        points: [...document.querySelectorAll('svg[data-chart="vol-ex-ante"] polyline')].map((p) => (p.getAttribute('points') ?? '').split(' ').length),
-        bands: [...document.querySelectorAll('svg[data-chart="vol-ex-ante"] rect.band')].map((r) => r.getBoundingClientRect().width),
+        points: [...document.querySelectorAll('svg[data-chart^="vol-ex-ante-"] polyline')].map((p) => (p.getAttribute('points') ?? '').split(' ').length),
+        shrunk: document.querySelectorAll('svg[data-chart="vol-ex-ante-63"] polyline[data-series="63-day shrunk"]').length,
+        bands: [...document.querySelectorAll('svg[data-chart="vol-ex-ante-63"] rect.band')].map((r) => r.getBoundingClientRect().width),
+        changes: [...document.querySelectorAll('svg[data-chart="vol-change"] polyline')].map((p) => (p.getAttribute('points') ?? '').split(' ').length),
         bars: document.querySelectorAll('svg[data-chart="contributions"] rect.bar').length,
         cells: document.querySelectorAll('svg[data-chart="correlation"] rect.cell').length,
       }));
       // the charts cover the latest 126 valuation dates, all with figures in the demo
       expect(drawn.points.every((n) => n === 126)).toBe(true);
+      expect(drawn.shrunk).toBe(1);
       expect(drawn.bands.length).toBeGreaterThanOrEqual(1);
+      // why the 63-day volatility moved: market, weights and total over the same dates
+      expect(drawn.changes).toEqual([126, 126, 126]);
       expect(drawn.bars).toBeGreaterThan(5);
       expect(drawn.cells).toBe(100);
     } finally {

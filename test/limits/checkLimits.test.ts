@@ -83,11 +83,32 @@ describe('checkLimits', () => {
     );
   });
 
+  it('says in words why the volatility moved since the previous date: the market, the weights and the security that moved them', async () => {
+    ws = await tempWorkspace();
+    const [d1, d2] = businessDays('2026-03-02', 2);
+    await runDay('acct-growth', d1, 0.131, 1);
+    // 13.1% -> 16.2%: +3.1 points, 2.4 from the market and 0.7 from the weights, 0.5 of it EQ-SOLSTICE's
+    await ws.db.run(
+      `insert into vol_change (portfolio_id, date, window_days, estimator, prev_date, vol_prev, vol_now, from_weights, from_market,
+         status, weights_driver_security_id, weights_driver_change, run_id)
+       values ('acct-growth', $1::date, 63, 'sample', $2::date, 0.131, 0.162, 0.007, 0.024, 'ok', 'EQ-SOLSTICE', 0.005, 2)`,
+      [d2, d1],
+    );
+    await runDay('acct-growth', d2, 0.162, 2);
+    const [alert] = await alertRows(ws.db);
+    expect(alert.data.text).toBe(
+      `acct-growth: 63-day volatility 16.2% reached its 15.0% limit on ${d2}. ` +
+        `63-day volatility +3.1 points since ${d1}: +2.4 points from the market, +0.7 points from the weights, mostly EQ-SOLSTICE`,
+    );
+    expect(alert.data.vol_change).toMatchObject({ prev_date: d1, from_market: 0.024, from_weights: 0.007, weights_driver_security_id: 'EQ-SOLSTICE' });
+  });
+
   it('leaves contributors out when they were not kept for the date of the transition', async () => {
     ws = await tempWorkspace();
     await runDay('acct-growth', '2026-03-02', 0.14, 1);
     const [alert] = await alertRows(ws.db);
     expect(alert.data.contributors).toEqual([]);
+    expect(alert.data.vol_change).toBeNull();
     expect(alert.data.text).toBe('acct-growth: 63-day volatility 14.0% reached its 13.5% warning level (limit 15.0%) on 2026-03-02');
   });
 

@@ -28,6 +28,8 @@ interface ChartGeometry {
   bars: { width: number; height: number }[];
   bands: { width: number; height: number }[];
   cells: { width: number; height: number; fill: string }[];
+  references: number;
+  topTick: string;
 }
 
 describe('the report in a real browser', () => {
@@ -79,19 +81,39 @@ describe('the report in a real browser', () => {
         bars: [...svg.querySelectorAll('rect.bar')].map(box),
         bands: [...svg.querySelectorAll('rect.band')].map(box),
         cells: [...svg.querySelectorAll('rect.cell')].map((c) => ({ ...box(c), fill: getComputedStyle(c).fill })),
+        references: svg.querySelectorAll('line.reference').length,
+        // the tick label nearest the top of the plot
+        topTick: [...svg.querySelectorAll('text.tick')].filter((t) => t.getAttribute('text-anchor') === 'end').map((t) => t.textContent ?? '').pop() ?? '',
       }));
     });
     const byId = new Map<string, ChartGeometry>(charts.map((c) => [c.id, c]));
-    expect([...byId.keys()]).toEqual(['vol-ex-ante', 'vol-realized', 'contributions', 'correlation', 'backtest']);
+    expect([...byId.keys()]).toEqual([
+      'vol-ex-ante-21',
+      'vol-ex-ante-63',
+      'vol-ex-ante-252',
+      'vol-ex-ante-ewma',
+      'vol-change',
+      'vol-change-holdings',
+      'vol-realized',
+      'contributions',
+      'correlation',
+      'backtest',
+    ]);
     for (const c of charts) {
       expect(c.width, c.id).toBeGreaterThan(300);
       expect(c.height, c.id).toBeGreaterThan(100);
     }
     // the charts' 126 dates: a point per date for 21-day, 63-day and EWMA; the 252-day window fills only its last 68
-    const volatility = byId.get('vol-ex-ante')!;
-    expect([...volatility.polylines].sort((a, b) => a - b)).toEqual([68, 126, 126, 126]);
-    expect(volatility.bands).toHaveLength(1);
-    expect(volatility.bands[0].width).toBeGreaterThan(50);
+    expect(['21', '63', '252', 'ewma'].map((w) => byId.get(`vol-ex-ante-${w}`)!.polylines)).toEqual([[126], [126], [68], [126]]);
+    // the 63-day limit's episode and its lines only on the 63-day panel
+    expect(['21', '63', '252', 'ewma'].map((w) => byId.get(`vol-ex-ante-${w}`)!.bands.length)).toEqual([0, 1, 0, 0]);
+    expect(byId.get('vol-ex-ante-63')!.bands[0].width).toBeGreaterThan(50);
+    expect(['21', '63', '252', 'ewma'].map((w) => byId.get(`vol-ex-ante-${w}`)!.references)).toEqual([0, 2, 0, 0]);
+    // the panels share one scale: the same top tick
+    expect(new Set(['21', '63', '252', 'ewma'].map((w) => byId.get(`vol-ex-ante-${w}`)!.topTick)).size).toBe(1);
+    // market, weights and total, summed over the same 126 dates; the latest day's weights part over the five holdings
+    expect(byId.get('vol-change')!.polylines).toEqual([126, 126, 126]);
+    expect(byId.get('vol-change-holdings')!.bars).toHaveLength(FIXTURE_SECURITIES.length);
     expect(byId.get('vol-realized')!.polylines).toEqual([126, 126]);
     const bars = byId.get('contributions')!.bars;
     expect(bars).toHaveLength(FIXTURE_SECURITIES.length);

@@ -83,8 +83,32 @@ export async function fillReportFixture(db: Database): Promise<Fixture> {
     `insert into limit_breaches (portfolio_id, metric, window_days, estimator, limit_value, warning_value, clear_value, level, opened_on, escalated_on, closed_on, peak_value, peak_on, run_id)
      values ('${FIXTURE_PORTFOLIO}', 'vol_ex_ante', 63, 'sample', ${FIXTURE_LIMIT}, ${0.9 * FIXTURE_LIMIT}, ${0.85 * FIXTURE_LIMIT}, 'breach', '${breach.opened_on}', '${breach.escalated_on}', '${breach.closed_on}', ${fixtureVol(200, 63)}, '${dates[200]}', 7)`,
   );
+  await insertVolChange(db, dates, weights);
   await fillLossRows(db, dates);
   return { dates, asOf, breach };
+}
+
+/** The 63-day path's daily changes, a small share from the weights; on the last date split over the holdings (adding up). */
+async function insertVolChange(db: Database, dates: string[], weights: number[]): Promise<void> {
+  const fromWeights = (t: number) => 0.0004 * Math.cos(t / 5);
+  const rows = dates.flatMap((d, t) => {
+    if (t < 64) return [];
+    const prev = fixtureVol(t - 1, 63);
+    const now = fixtureVol(t, 63);
+    return [`('${FIXTURE_PORTFOLIO}', '${d}', 63, 'sample', '${dates[t - 1]}', ${prev}, ${now}, ${fromWeights(t)}, ${now - prev - fromWeights(t)}, 'ok', 'EQ-VELLANCE', ${fromWeights(t) * 0.6}, 7)`];
+  });
+  await db.run(
+    `insert into vol_change (portfolio_id, date, window_days, estimator, prev_date, vol_prev, vol_now, from_weights, from_market, status,
+       weights_driver_security_id, weights_driver_change, run_id) values ${rows.join(',')}`,
+  );
+  const last = dates.length - 1;
+  const shares = [0.1, 0.6, 0.2, -0.05, 0.15];
+  const holdings = FIXTURE_SECURITIES.map(
+    (id, i) => `('${FIXTURE_PORTFOLIO}', '${dates[last]}', 63, 'sample', '${id}', ${weights[i] - 0.002}, ${weights[i]}, ${shares[i] * fromWeights(last)}, 7)`,
+  );
+  await db.run(
+    `insert into vol_change_securities (portfolio_id, date, window_days, estimator, security_id, weight_prev, weight_now, from_weights, run_id) values ${holdings.join(',')}`,
+  );
 }
 
 /** Days of the fixture whose loss exceeds the predicted VaR: three exceptions in the chart's range. */

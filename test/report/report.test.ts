@@ -93,7 +93,7 @@ describe('renderReport', () => {
     // the only URLs are the SVG namespace declarations
     expect([...html.matchAll(/https?:\/\/[^\s"']+/g)].map((m) => m[0]).every((u) => u === 'http://www.w3.org/2000/svg')).toBe(true);
     for (const caution of CAUTIONS) expect(html).toContain(escapeHtml(caution));
-    for (const chart of ['vol-ex-ante', 'vol-realized', 'contributions', 'correlation']) expect(html).toContain(`data-chart="${chart}"`);
+    for (const chart of ['vol-ex-ante-63', 'vol-change', 'vol-realized', 'contributions', 'correlation']) expect(html).toContain(`data-chart="${chart}"`);
     expect(html).toContain(`<td>${fixture.breach.opened_on}</td>`);
     expect(html).toContain('2026-12-01T12:00:00.000Z');
   });

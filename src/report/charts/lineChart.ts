@@ -39,6 +39,8 @@ export interface LineChartSpec {
   formatValue: (v: number) => string;
   width?: number;
   height?: number;
+  /** The top of the y axis at least this (panels of one figure share a scale). */
+  yAtLeast?: number;
 }
 
 const MARGIN = { top: 12, right: 96, bottom: 26, left: 52 };
@@ -46,8 +48,8 @@ const LABEL_GAP = 13;
 
 /**
  * A dated line chart as inline SVG. A null value breaks the line (a gap in the data is
- * shown as a gap, not bridged); the y axis starts at zero, or below it when a series
- * goes negative (a day's loss in the backtest is negative on a day with a gain).
+ * shown as a gap, not bridged); the y axis starts at zero, so a risk figure is seen
+ * against nothing, or below it when a series (a change) goes negative.
  */
 export function lineChart(spec: LineChartSpec): string {
   const width = spec.width ?? 880;
@@ -60,10 +62,9 @@ export function lineChart(spec: LineChartSpec): string {
     ...spec.series.flatMap((s) => s.points.map((p) => p.value).filter((v): v is number => v !== null && Number.isFinite(v))),
     ...(spec.references ?? []).map((r) => r.value),
   ];
-  const yTicks = niceTicks(Math.min(0, ...values), Math.max(...values, 1e-9), 5);
-  const yMax = yTicks[yTicks.length - 1];
+  const yTicks = niceTicks(Math.min(0, ...values), Math.max(...values, spec.yAtLeast ?? 0, 1e-9), 5);
   const x = linearScale([dayTime(first), dayTime(last)], [MARGIN.left, width - MARGIN.right]);
-  const y = linearScale([yTicks[0], yMax], [height - MARGIN.bottom, MARGIN.top]);
+  const y = linearScale([yTicks[0], yTicks[yTicks.length - 1]], [height - MARGIN.bottom, MARGIN.top]);
   const xOf = (date: string) => x(dayTime(date)).toFixed(1);
   const yOf = (v: number) => y(v).toFixed(1);
 

@@ -49,22 +49,48 @@ export function volatilityChange(
   requireLength(fn, 's1', s1.length, n * n);
   requireLength(fn, 'w0', w0.length, n);
   requireLength(fn, 'w1', w1.length, n);
+  const under0 = { sw0: matrixVector(s0, n, w0), sw1: matrixVector(s0, n, w1) };
+  const under1 = { sw0: matrixVector(s1, n, w0), sw1: matrixVector(s1, n, w1) };
+  return volatilityChangeFromProducts(under0, under1, w0, w1, periodsPerYear);
+}
+
+/** S w0 and S w1 under one covariance S (daily), over the same securities as the weights. */
+export interface CovarianceProducts {
+  sw0: Float64Array;
+  sw1: Float64Array;
+}
+
+/**
+ * The same split from the four products S0 w0, S0 w1, S1 w0, S1 w1 alone, for an
+ * estimate that gives S w without forming S (the risk stage's rolling windows).
+ */
+export function volatilityChangeFromProducts(
+  under0: CovarianceProducts,
+  under1: CovarianceProducts,
+  w0: Float64Array,
+  w1: Float64Array,
+  periodsPerYear: number,
+): VolChange {
+  const fn = 'volatilityChangeFromProducts';
+  const n = w0.length;
+  requireLength(fn, 'w1', w1.length, n);
+  for (const [name, v] of [['S0 w0', under0.sw0], ['S0 w1', under0.sw1], ['S1 w0', under1.sw0], ['S1 w1', under1.sw1]] as const) {
+    requireLength(fn, name, v.length, n);
+  }
   requirePositive(fn, 'periodsPerYear', periodsPerYear);
-  const midpointSum = new Float64Array(n);
   for (let i = 0; i < n; i++) {
     if (!Number.isFinite(w0[i]) || !Number.isFinite(w1[i])) throw new Error(`${fn}: weights of security ${i} must be finite, got ${w0[i]} and ${w1[i]}`);
-    midpointSum[i] = w0[i] + w1[i];
   }
-  const under0 = weightStep(s0, n, w0, w1, midpointSum, periodsPerYear);
-  const under1 = weightStep(s1, n, w0, w1, midpointSum, periodsPerYear);
-  const fromWeights = 0.5 * (under0.change + under1.change);
+  const step0 = weightStep(under0, w0, w1, periodsPerYear);
+  const step1 = weightStep(under1, w0, w1, periodsPerYear);
+  const fromWeights = 0.5 * (step0.change + step1.change);
   const fromWeightsBySecurity = new Float64Array(n);
-  for (let i = 0; i < n; i++) fromWeightsBySecurity[i] = 0.5 * (under0.bySecurity[i] + under1.bySecurity[i]);
+  for (let i = 0; i < n; i++) fromWeightsBySecurity[i] = 0.5 * (step0.bySecurity[i] + step1.bySecurity[i]);
   return {
-    volPrev: under0.volBefore,
-    volNow: under1.volAfter,
+    volPrev: step0.volBefore,
+    volNow: step1.volAfter,
     fromWeights,
-    fromMarket: under1.volAfter - under0.volBefore - fromWeights,
+    fromMarket: step1.volAfter - step0.volBefore - fromWeights,
     fromWeightsBySecurity,
   };
 }
@@ -76,15 +102,16 @@ interface WeightStep {
   bySecurity: Float64Array;
 }
 
-/** s(w1, S) - s(w0, S) and its exact split per security under one covariance. */
-function weightStep(s: Float64Array, n: number, w0: Float64Array, w1: Float64Array, midpointSum: Float64Array, a: number): WeightStep {
-  const volBefore = portfolioVolatility(matrixVector(s, n, w0), w0, a);
-  const volAfter = portfolioVolatility(matrixVector(s, n, w1), w1, a);
+/** s(w1, S) - s(w0, S) and its exact split per security under one covariance, S (w0 + w1) = S w0 + S w1. */
+function weightStep(products: CovarianceProducts, w0: Float64Array, w1: Float64Array, a: number): WeightStep {
+  const { sw0, sw1 } = products;
+  const n = w0.length;
+  const volBefore = portfolioVolatility(sw0, w0, a);
+  const volAfter = portfolioVolatility(sw1, w1, a);
   const bySecurity = new Float64Array(n);
   const denominator = volBefore + volAfter;
   if (denominator > 0) {
-    const marginal = matrixVector(s, n, midpointSum);
-    for (let i = 0; i < n; i++) bySecurity[i] = (a * (w1[i] - w0[i]) * marginal[i]) / denominator;
+    for (let i = 0; i < n; i++) bySecurity[i] = (a * (w1[i] - w0[i]) * (sw0[i] + sw1[i])) / denominator;
   }
   return { volBefore, volAfter, change: volAfter - volBefore, bySecurity };
 }

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { sampleCovariance } from '../../../src/risk/math/covariance.ts';
-import { volatilityChange } from '../../../src/risk/math/volChange.ts';
+import { sampleCovariance, matrixVector } from '../../../src/risk/math/covariance.ts';
+import { volatilityChange, volatilityChangeFromProducts } from '../../../src/risk/math/volChange.ts';
 import { createRandom, randomReturns } from './fixtures.ts';
 
 const sum = (v: Float64Array): number => v.reduce((a, c) => a + c, 0);
@@ -78,5 +78,35 @@ describe('volatilityChange', () => {
     const copies = [s0, s1, w0, w1].map((v) => Float64Array.from(v));
     volatilityChange(s0, s1, 2, w0, w1, 1);
     expect([s0, s1, w0, w1]).toEqual(copies);
+  });
+});
+
+describe('volatilityChangeFromProducts', () => {
+  it('gives the split of the matrix form from the four products S0 w0, S0 w1, S1 w0, S1 w1 (seeded, invented returns)', () => {
+    const random = createRandom(5);
+    const n = 6;
+    const x = randomReturns(random, 100, n, { scale: 0.01 });
+    const s0 = sampleCovariance(x.subarray(0, 40 * n), 40, n);
+    const s1 = sampleCovariance(x.subarray(41 * n, 81 * n), 40, n);
+    const w0 = Float64Array.from({ length: n }, () => random.uniform());
+    const w1 = Float64Array.from(w0, (v, i) => (i === 2 ? 0 : v * 1.1));
+    const products = volatilityChangeFromProducts(
+      { sw0: matrixVector(s0, n, w0), sw1: matrixVector(s0, n, w1) },
+      { sw0: matrixVector(s1, n, w0), sw1: matrixVector(s1, n, w1) },
+      w0,
+      w1,
+      252,
+    );
+    const matrices = volatilityChange(s0, s1, n, w0, w1, 252);
+    expect(products.fromWeights).toBeCloseTo(matrices.fromWeights, 15);
+    expect(products.fromMarket).toBeCloseTo(matrices.fromMarket, 15);
+    for (let i = 0; i < n; i++) expect(products.fromWeightsBySecurity[i]).toBeCloseTo(matrices.fromWeightsBySecurity[i], 15);
+  });
+
+  it('throws when a product does not match the weights', () => {
+    const v = Float64Array.of(1, 2);
+    expect(() => volatilityChangeFromProducts({ sw0: v, sw1: Float64Array.of(1) }, { sw0: v, sw1: v }, v, v, 252)).toThrow(
+      /volatilityChangeFromProducts: S0 w1 has length 1, expected 2/,
+    );
   });
 });

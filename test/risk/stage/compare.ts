@@ -24,10 +24,10 @@ export async function readDaily(db: Database): Promise<DailyRow[]> {
   );
 }
 
-/** Equal to `relative` of the larger magnitude; both null counts as equal. */
-export function isClose(actual: number | null, expected: number | null, relative: number): boolean {
+/** Equal to `relative` of the larger magnitude, or within `absolute`; both null counts as equal. */
+export function isClose(actual: number | null, expected: number | null, relative: number, absolute = 1e-300): boolean {
   if (actual === null || expected === null) return actual === expected;
-  return Math.abs(actual - expected) <= relative * Math.max(Math.abs(actual), Math.abs(expected)) + 1e-300;
+  return Math.abs(actual - expected) <= relative * Math.max(Math.abs(actual), Math.abs(expected)) + absolute;
 }
 
 /** Every reference row has its risk_daily row with the same status and every figure within `relative`. */
@@ -52,14 +52,14 @@ export function expectMatchesReference(actual: DailyRow[], expected: ReferenceRo
   expect(mismatches.slice(0, 10)).toEqual([]);
 }
 
-/** Two readings of the result tables agree (run_id aside) to `relative`. */
-export function expectSameRows(actual: DailyRow[], expected: DailyRow[], relative: number, ignore = ['run_id']): void {
+/** Two readings of the result tables agree (run_id aside) to `relative`, or within `absolute`. */
+export function expectSameRows(actual: DailyRow[], expected: DailyRow[], relative: number, ignore = ['run_id'], absolute = 1e-300): void {
   expect(actual.length).toBe(expected.length);
   const mismatches: string[] = [];
   actual.forEach((a, i) => {
     for (const [column, value] of Object.entries(expected[i])) {
       if (ignore.includes(column)) continue;
-      const same = typeof value === 'number' && typeof a[column] === 'number' ? isClose(a[column] as number, value, relative) : a[column] === value;
+      const same = typeof value === 'number' && typeof a[column] === 'number' ? isClose(a[column] as number, value, relative, absolute) : a[column] === value;
       if (!same) mismatches.push(`row ${i} ${JSON.stringify(expected[i]).slice(0, 80)} ${column}: ${a[column]} vs ${value}`);
     }
   });

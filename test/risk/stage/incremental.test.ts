@@ -12,6 +12,8 @@ import { buildScenario, correctPrice, loadDays, RISK } from './scenario.ts';
 // aggregation, whose order (and so the last bit) may differ between two evaluations;
 // ann_return near zero magnifies that. The stage's own arithmetic repeats exactly.
 const AGREE = 1e-10;
+// a change in volatility is a difference of two volatilities (~0.1): their last bits, as above, show in it absolutely
+const CHANGE_AGREE = 1e-14;
 
 const readStats = (db: Database) =>
   db.all<DailyRow>('select date, window_days, security_id, ann_return, ann_vol, run_id from security_stats order by date, window_days, security_id');
@@ -19,6 +21,14 @@ const readContributions = (db: Database) =>
   db.all<DailyRow>(
     'select portfolio_id, date, window_days, estimator, security_id, weight, mcr, ccr, pct, run_id from risk_contributions order by all',
   );
+const readVolChange = (db: Database) =>
+  db.all<DailyRow>(
+    `select portfolio_id, date, window_days, estimator, prev_date, vol_prev, vol_now, from_weights, from_market, status,
+            weights_driver_security_id, weights_driver_change, run_id
+     from vol_change order by all`,
+  );
+const readVolChangeSecurities = (db: Database) =>
+  db.all<DailyRow>('select portfolio_id, date, window_days, estimator, security_id, weight_prev, weight_now, from_weights, run_id from vol_change_securities order by all');
 const readEwmaState = (db: Database) =>
   db.all<DailyRow>('select as_of, decay, seed_days, security_ids::varchar as ids, md5(matrix::varchar) as matrix from risk_ewma_state');
 
@@ -50,6 +60,11 @@ describe('recompute: incremental runs', () => {
     expectSameRows(await readDaily(daily.db), await readDaily(full.db), AGREE);
     expectSameRows(await readStats(daily.db), await readStats(full.db), AGREE);
     expectSameRows(await readContributions(daily.db), await readContributions(full.db), AGREE);
+    // each day's change since the day before needs the day before's covariance, rebuilt or restored by the daily run
+    const changes = await readVolChange(daily.db);
+    expect(changes.filter((r) => r.date === s.dates[last]).length).toBeGreaterThan(0);
+    expectSameRows(changes, await readVolChange(full.db), AGREE, ['run_id'], CHANGE_AGREE);
+    expectSameRows(await readVolChangeSecurities(daily.db), await readVolChangeSecurities(full.db), AGREE, ['run_id'], CHANGE_AGREE);
     expect(await readEwmaState(daily.db)).toEqual(await readEwmaState(full.db));
     // each daily run continued the stored EWMA matrix instead of replaying history
     const resumed = daily.logLines().filter((l) => l.msg === 'inputs read' && l.ewmaFromState === true);

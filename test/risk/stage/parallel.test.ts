@@ -17,7 +17,7 @@ function rowsOf(batches: ResultBatch[]): string[] {
   const rows: string[] = [];
   for (const b of batches) {
     const tag = `${b.estimator}|${b.windowDays}`;
-    const { daily: d, contributions: c, active: a, securities: s } = b;
+    const { daily: d, contributions: c, active: a, securities: s, volChange: v, volChangeSecurities: vs } = b;
     for (let i = 0; i < d.rows; i++) {
       const figures = d.figures.map((f) => String(f[i]));
       expect(figures.length).toBe(DAILY_FIGURE_COUNT);
@@ -26,6 +26,10 @@ function rowsOf(batches: ResultBatch[]): string[] {
     for (let i = 0; i < c.rows; i++) rows.push(`contribution|${tag}|${c.portfolio[i]}|${c.row[i]}|${c.security[i]}|${c.values.map((v) => String(v[i]))}`);
     for (let i = 0; i < a.rows; i++) rows.push(`active|${tag}|${a.portfolio[i]}|${a.row[i]}|${a.security[i]}|${a.values.map((v) => String(v[i]))}`);
     for (let i = 0; i < s.rows; i++) rows.push(`security|${tag}|${s.row[i]}|${s.security[i]}|${s.annReturn[i]}|${s.annVol[i]}`);
+    for (let i = 0; i < v.rows; i++) {
+      rows.push(`vol_change|${tag}|${v.portfolio[i]}|${v.row[i]}|${v.figures.map((f) => String(f[i]))}|${b.statuses[v.status[i]]}|${v.driver[i]}`);
+    }
+    for (let i = 0; i < vs.rows; i++) rows.push(`vol_change_security|${tag}|${vs.portfolio[i]}|${vs.row[i]}|${vs.security[i]}|${vs.values.map((x) => String(x[i]))}`);
   }
   return rows.sort();
 }
@@ -123,8 +127,8 @@ describe('computeRisk in worker threads', () => {
     return { rows: rowsOf(batches), ewma };
   }
 
-  it('gives the same rows bit for bit as the main thread: both sample paths, the EWMA and every contribution', async () => {
-    ws = await tempWorkspace({ risk: { ...RISK, windows: [21, 63, 150], contributions: 'all' } });
+  it('gives the same rows bit for bit as the main thread: both sample paths, the shrunk estimate, the EWMA and every contribution', async () => {
+    ws = await tempWorkspace({ risk: { ...RISK, windows: [21, 63, 150], contributions: 'all', shrunk: { windows: [21] } } });
     const input = wideInputs();
     const one = await run(input, 1);
     const two = await run(input, 2);
@@ -132,6 +136,7 @@ describe('computeRisk in worker threads', () => {
     expect(paths).toContain('21:window');
     expect(paths).toContain('150:sliding');
     expect(one.rows.length).toBeGreaterThan(20_000);
+    expect(one.rows.some((r) => r.startsWith('daily|shrunk|21|'))).toBe(true);
     expect(one.rows.filter((r) => r.startsWith('active|')).length).toBeGreaterThan(1_000);
     expect(two.rows).toEqual(one.rows);
     // the states of the last two dates
