@@ -19,6 +19,9 @@ export type LoadAttempt =
 
 export type LoadRecord = Omit<FileRecord, 'fileId' | 'sha256' | 'rows' | 'status' | 'error' | 'minDate' | 'maxDate' | 'duplicateOf'>;
 
+/** The connection-local table a file is read into on its way to the raw table; dropped after the load. */
+const LOAD_TABLE = 'ingest_load';
+
 /** Unwinds the transaction (ROLLBACK) carrying the attempt's outcome. */
 class Abort extends Error {
   constructor(readonly attempt: LoadAttempt) {
@@ -27,12 +30,13 @@ class Abort extends Error {
 }
 
 /**
- * The whole load in ONE transaction and one pass over the file: the rows go straight
- * from read_csv into the raw table, typed and checked on the way (a row that breaks a
- * rule raises, and the statement fails); then a summary of what went in (count, dates,
- * portfolios, distinct keys), the duplicate check on the hash (computed meanwhile in
- * this thread) and the `ingested_files` row. Anything wrong rolls it all back and the
- * caller finds out which row it was; a good file, the common case, costs one read.
+ * The whole load in one pass over the file and ONE transaction: read_csv fills a
+ * temporary table with the typed rows; from it they go into the raw table, checked on
+ * the way (a row that breaks a rule raises, and the statement fails); then the ids' rule,
+ * a summary of the file (count, dates, portfolios, distinct keys), the duplicate check on
+ * the hash (computed meanwhile in this thread) and the `ingested_files` row. Anything
+ * wrong rolls it all back and the caller finds out which row it was; a good file, the
+ * common case, costs one read.
  */
 export async function loadFile(
   db: Database,
@@ -47,69 +51,84 @@ export async function loadFile(
   guard: (fileId: number, sha256: string) => Promise<HoldReason | null> = async () => null,
 ): Promise<LoadAttempt> {
   try {
-    return await db.transaction(async () => {
-      const [{ id }] = await db.all<{ id: number }>(`select nextval('file_id_seq')::integer as id`);
-      const columns = layout.fields.map((f) => ident(f.name));
-      const checked = layout.fields.map((f) => {
-        const bad = f.type === 'id' ? null : badSql(f, bounds);
-        return bad === null ? ident(f.name) : `case when ${bad} then error('row ' || ordinality || ' breaks the ${f.name} rule') else ${ident(f.name)} end`;
-      });
-      try {
-        await db.run(
-          `insert into ${layout.table} (file_id, line, ${columns.join(', ')})
-           select $1, ordinality, ${checked.join(', ')}
-           from (select ordinality, ${typedSelect(layout, source, mapping).join(', ')} from ${readCsvSql(filePath, source, mapping)} with ordinality)`,
-          [id],
-        );
-      } catch (cause) {
-        throw new Abort({ kind: 'failed', sha256: await hashing, cause });
-      }
-      if (await badIdIn(db, layout, bounds, id)) throw new Abort({ kind: 'failed', sha256: await hashing, cause: null });
-      const [row] = await db.all<Record<string, unknown>>(`select ${summarySelect(layout).join(', ')} from ${layout.table} where file_id = $1`, [id]);
-      const summary = summaryOf(row);
-      const sha256 = await hashing;
-      const earlier = await findIngested(db, sha256);
-      if (earlier) throw new Abort({ kind: 'known', sha256, earlier });
-      if (summary.rows === 0 || (summary.keys < summary.rows && (await keyRepeats(db, layout, id)))) {
-        throw new Abort({ kind: 'failed', sha256, cause: null });
-      }
-      const hold = await guard(id, sha256);
-      if (hold) throw new Abort({ kind: 'held', sha256, hold });
-      await recordFile(db, {
-        ...record,
-        fileId: id,
-        sha256,
-        rows: summary.rows,
-        status: 'ingested',
-        error: null,
-        minDate: summary.minDate,
-        maxDate: summary.maxDate,
-        duplicateOf: null,
-      });
-      return { kind: 'loaded' as const, sha256, fileId: id, summary };
-    });
+    // read_csv ... with ordinality reads on one thread; CREATE TABLE AS reads in parallel
+    // and keeps the file's order, so rowid + 1 is the row (outside a transaction only:
+    // inside one, new rows' rowids start at a large offset)
+    await db.run(`create or replace temp table ${LOAD_TABLE} as select ${typedSelect(layout, source, mapping).join(', ')} from ${readCsvSql(filePath, source, mapping)}`);
+  } catch (cause) {
+    return { kind: 'failed', sha256: await hashing, cause };
+  }
+  try {
+    return await db.transaction(() => insertStaged(db, layout, bounds, hashing, record, guard));
   } catch (err) {
     if (err instanceof Abort) return err.attempt;
     throw err;
+  } finally {
+    await db.run(`drop table if exists ${LOAD_TABLE}`);
   }
+}
+
+/** Inside the load's transaction: the staged rows into the raw table, the file's checks and its ledger row. */
+async function insertStaged(
+  db: Database,
+  layout: KindLayout,
+  bounds: Plausibility,
+  hashing: Promise<string>,
+  record: LoadRecord,
+  guard: (fileId: number, sha256: string) => Promise<HoldReason | null>,
+): Promise<LoadAttempt> {
+  const [{ id }] = await db.all<{ id: number }>(`select nextval('file_id_seq')::integer as id`);
+  const columns = layout.fields.map((f) => ident(f.name));
+  const checked = layout.fields.map((f) => {
+    const bad = f.type === 'id' ? null : badSql(f, bounds);
+    return bad === null ? ident(f.name) : `case when ${bad} then error('row ' || (rowid + 1) || ' breaks the ${f.name} rule') else ${ident(f.name)} end`;
+  });
+  try {
+    await db.run(`insert into ${layout.table} (file_id, line, ${columns.join(', ')}) select $1, rowid + 1, ${checked.join(', ')} from ${LOAD_TABLE}`, [id]);
+  } catch (cause) {
+    throw new Abort({ kind: 'failed', sha256: await hashing, cause });
+  }
+  if (await badIdIn(db, layout, bounds)) throw new Abort({ kind: 'failed', sha256: await hashing, cause: null });
+  const [row] = await db.all<Record<string, unknown>>(`select ${summarySelect(layout).join(', ')} from ${LOAD_TABLE}`);
+  const summary = summaryOf(row);
+  const sha256 = await hashing;
+  const earlier = await findIngested(db, sha256);
+  if (earlier) throw new Abort({ kind: 'known', sha256, earlier });
+  if (summary.rows === 0 || (summary.keys < summary.rows && (await keyRepeats(db, layout)))) {
+    throw new Abort({ kind: 'failed', sha256, cause: null });
+  }
+  const hold = await guard(id, sha256);
+  if (hold) throw new Abort({ kind: 'held', sha256, hold });
+  await recordFile(db, {
+    ...record,
+    fileId: id,
+    sha256,
+    rows: summary.rows,
+    status: 'ingested',
+    error: null,
+    minDate: summary.minDate,
+    maxDate: summary.maxDate,
+    duplicateOf: null,
+  });
+  return { kind: 'loaded', sha256, fileId: id, summary };
 }
 
 /**
  * Ids repeat on nearly every row, and their rule holds a regular expression (printable
  * characters): it runs once per distinct id of the file instead of once per row.
  */
-async function badIdIn(db: Database, layout: KindLayout, bounds: Plausibility, fileId: number): Promise<boolean> {
+async function badIdIn(db: Database, layout: KindLayout, bounds: Plausibility): Promise<boolean> {
   for (const field of layout.fields.filter((f) => f.type === 'id')) {
     const col = ident(field.name);
-    const hit = await db.all(`select 1 from (select distinct ${col} from ${layout.table} where file_id = $1) where ${badSql(field, bounds)} limit 1`, [fileId]);
+    const hit = await db.all(`select 1 from (select distinct ${col} from ${LOAD_TABLE}) where ${badSql(field, bounds)} limit 1`);
     if (hit.length > 0) return true;
   }
   return false;
 }
 
 /** The exact test behind a short count of key hashes (which a hash collision could also cause). */
-async function keyRepeats(db: Database, layout: KindLayout, fileId: number): Promise<boolean> {
+async function keyRepeats(db: Database, layout: KindLayout): Promise<boolean> {
   const keys = layout.key.map(ident).join(', ');
-  const rows = await db.all(`select 1 from ${layout.table} where file_id = $1 group by ${keys} having count(*) > 1 limit 1`, [fileId]);
+  const rows = await db.all(`select 1 from ${LOAD_TABLE} group by ${keys} having count(*) > 1 limit 1`);
   return rows.length > 0;
 }
