@@ -1,4 +1,4 @@
-import type { Database } from '../storage/database.ts';
+import { sqlString, type Database } from '../storage/database.ts';
 import type { HoldReason } from './completeness.ts';
 
 interface Drop {
@@ -9,6 +9,19 @@ interface Drop {
   held_before: number;
 }
 
+interface Verdict {
+  /** Incoming snapshots with no earlier one from another file within the dates looked at. */
+  unresolved: number;
+  drop: Drop | null;
+}
+
+/**
+ * How far before the file's first date the previous snapshots are looked for, widened
+ * while a portfolio has none there; null: the whole history. A daily file finds its
+ * portfolios' snapshots of the last business day in the first, narrow look.
+ */
+const LOOKBACK_DAYS: readonly (number | null)[] = [10, 400, null];
+
 /**
  * A positions file just inserted (not yet committed) that keeps fewer than `keepShare` of
  * a portfolio's non-zero holdings of the snapshot in force before it (the latest one on
@@ -16,32 +29,60 @@ interface Drop {
  * Returns the first such portfolio as a hold reason, or null.
  */
 export async function snapshotDrop(db: Database, fileId: number, keepShare: number): Promise<HoldReason | null> {
-  const [drop] = await db.all<Drop>(
+  const [span] = await db.all<{ first: string | null; last: string | null }>(
+    `select strftime(min(date), '%Y-%m-%d') as first, strftime(max(date), '%Y-%m-%d') as last from positions where file_id = $1`,
+    [fileId],
+  );
+  if (span.first === null || span.last === null) return null;
+  for (const days of LOOKBACK_DAYS) {
+    // a portfolio with a snapshot within the look has its latest one there: the answer for it is final
+    const from = days === null ? `'-infinity'::date` : `${sqlString(span.first)}::date - ${days}`;
+    const verdict = await dropWithin(db, fileId, keepShare, from, `${sqlString(span.last)}::date`);
+    if (verdict.unresolved === 0 || days === null) return verdict.drop === null ? null : holdReason(verdict.drop, keepShare);
+  }
+  return null;
+}
+
+/**
+ * The check over the other files' rows dated `from` .. `to` only (constant date
+ * expressions): DuckDB skips the row groups of other dates instead of reading the whole
+ * history.
+ */
+async function dropWithin(db: Database, fileId: number, keepShare: number, from: string, to: string): Promise<Verdict> {
+  const [row] = await db.all<{ unresolved: number; first_drop: Drop | null }>(
     `with incoming as (
        select portfolio_id, date, count(*) filter (where quantity <> 0) as kept
        from positions where file_id = $1 group by portfolio_id, date
+     ), others as (
+       select portfolio_id, date, file_id, quantity from positions
+       where date between ${from} and ${to} and file_id <> $1
      ), previous as (
        select i.portfolio_id, i.date, max(p.date) as prev_date
-       from incoming i join positions p on p.portfolio_id = i.portfolio_id and p.date <= i.date and p.file_id <> $1
+       from incoming i join others p on p.portfolio_id = i.portfolio_id and p.date <= i.date
        group by i.portfolio_id, i.date
      ), previous_file as (
        -- the latest delivery of that date is the snapshot in force (corrections win)
        select v.portfolio_id, v.date, v.prev_date, max(p.file_id) as prev_file
-       from previous v join positions p on p.portfolio_id = v.portfolio_id and p.date = v.prev_date and p.file_id <> $1
+       from previous v join others p on p.portfolio_id = v.portfolio_id and p.date = v.prev_date
        group by v.portfolio_id, v.date, v.prev_date
      ), before as (
        select f.portfolio_id, f.date, f.prev_date, count(*) filter (where p.quantity <> 0) as held_before
-       from previous_file f join positions p on p.file_id = f.prev_file and p.portfolio_id = f.portfolio_id and p.date = f.prev_date
+       from previous_file f join others p on p.file_id = f.prev_file and p.portfolio_id = f.portfolio_id and p.date = f.prev_date
        group by f.portfolio_id, f.date, f.prev_date
+     ), drops as (
+       select i.portfolio_id, strftime(i.date, '%Y-%m-%d') as date, strftime(b.prev_date, '%Y-%m-%d') as prev_date,
+              i.kept::integer as kept, b.held_before::integer as held_before
+       from incoming i join before b using (portfolio_id, date)
+       where i.kept < $2 * b.held_before
      )
-     select i.portfolio_id, strftime(i.date, '%Y-%m-%d') as date, strftime(b.prev_date, '%Y-%m-%d') as prev_date,
-            i.kept::integer as kept, b.held_before::integer as held_before
-     from incoming i join before b using (portfolio_id, date)
-     where i.kept < $2 * b.held_before
-     order by i.date, i.portfolio_id limit 1`,
+     select (select count(*) from incoming i anti join previous v using (portfolio_id, date))::integer as unresolved,
+            (select d from drops d order by d.date, d.portfolio_id limit 1) as first_drop`,
     [fileId, keepShare],
   );
-  if (!drop) return null;
+  return { unresolved: row.unresolved, drop: row.first_drop };
+}
+
+function holdReason(drop: Drop, keepShare: number): HoldReason {
   return {
     code: 'snapshot_drop',
     reason:

@@ -130,6 +130,21 @@ describe('ingestFile: a positions snapshot that drops most holdings', () => {
     expect(await ingestFile(ws.db, ws.config, ws.log, same)).toMatchObject({ status: 'ingested', rows: 3 });
     expect(await holds(ws)).toEqual([{ name: 'positions_0410b.csv', code: 'snapshot_drop', released: true }]);
   });
+
+  it('finds each portfolio\'s previous snapshot however long ago it was, beside one from the day before', async () => {
+    ws = await tempWorkspace();
+    const rows = (date: string, portfolio: string, n: number) => Array.from({ length: n }, (_, i) => [date, portfolio, `EQ-${i}`, '100']);
+    await ingestFile(ws.db, ws.config, ws.log, writeCsv(ws.config.inbox, 'positions_old.csv', [POSITION_HEADER, ...rows('2024-03-01', 'acct-income', 10)]));
+    await ingestFile(ws.db, ws.config, ws.log, writeCsv(ws.config.inbox, 'positions_0409.csv', [POSITION_HEADER, ...rows('2026-04-09', 'acct-growth', 10)]));
+    const out = await ingestFile(
+      ws.db,
+      ws.config,
+      ws.log,
+      writeCsv(ws.config.inbox, 'positions_0410.csv', [POSITION_HEADER, ...rows('2026-04-10', 'acct-growth', 10), ...rows('2026-04-10', 'acct-income', 2)]),
+    );
+    expect(out).toMatchObject({ status: 'held', hold: { code: 'snapshot_drop' } });
+    expect(out.hold?.reason).toContain('portfolio acct-income on 2026-04-10 keeps 2 of the 10 holdings of its snapshot of 2024-03-01');
+  });
 });
 
 describe('auditArchive', () => {
