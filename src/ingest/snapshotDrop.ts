@@ -29,11 +29,14 @@ const LOOKBACK_DAYS: readonly (number | null)[] = [10, 400, null];
  * Returns the first such portfolio as a hold reason, or null.
  */
 export async function snapshotDrop(db: Database, fileId: number, keepShare: number): Promise<HoldReason | null> {
-  const [span] = await db.all<{ first: string | null; last: string | null }>(
-    `select strftime(min(date), '%Y-%m-%d') as first, strftime(max(date), '%Y-%m-%d') as last from positions where file_id = $1`,
+  const [span] = await db.all<{ first: string | null; last: string | null; earlier: boolean }>(
+    `select strftime(min(date), '%Y-%m-%d') as first, strftime(max(date), '%Y-%m-%d') as last,
+            exists (select 1 from positions where file_id <> $1 and date <= (select max(date) from positions where file_id = $1)) as earlier
+     from positions where file_id = $1`,
     [fileId],
   );
-  if (span.first === null || span.last === null) return null;
+  // the first positions file (a history) has nothing to compare with: no look at all
+  if (span.first === null || span.last === null || !span.earlier) return null;
   for (const days of LOOKBACK_DAYS) {
     // a portfolio with a snapshot within the look has its latest one there: the answer for it is final
     const from = days === null ? `'-infinity'::date` : `${sqlString(span.first)}::date - ${days}`;
