@@ -8,6 +8,7 @@ import { generateScenario, type GeneratedScenario } from './generate.ts';
 import { machineInfo, type MachineInfo } from './measure.ts';
 import { NAIVE_SIZE, SIZES, type SizeName } from './scenario.ts';
 import { measureBackfill, type BackfillMeasurement } from './stages/backfill.ts';
+import { measureHistoryGrowth } from './stages/history.ts';
 import { ingestHistory, measureIngest } from './stages/ingest.ts';
 import { measureNaive } from './stages/naive.ts';
 import { measureWorker } from './stages/worker.ts';
@@ -93,6 +94,14 @@ export async function runBench(options: BenchOptions): Promise<BenchResult> {
       keep([await naiveComparison(options, root, size.name === 'large' ? null : { ws: ingested, backfill })]);
     } catch (err) {
       failed(['naive_vs_incremental'], err);
+    }
+
+    stage('history: a year of daily corrections');
+    try {
+      if (!ingested || !backfill) throw new Error('needs the ingested history and its backfill');
+      keep([await measureHistoryGrowth(ingested, size.name, size.correctionDays, options.log)]);
+    } catch (err) {
+      failed(['history_growth_mib'], err);
     }
 
     stage('worker: catch-up, new days, peak memory');

@@ -12,6 +12,8 @@ export interface ScenarioSize {
   /** New business days after the history, dropped one at a time for the latency figure. */
   newDays: number;
   windows: number[];
+  /** Daily corrections in a row for the history-growth figure (a year of business days at the real sizes). */
+  correctionDays: number;
   /** How many times ingest and backfill are repeated; the median is reported. */
   runs: number;
 }
@@ -21,7 +23,7 @@ export interface ScenarioSize {
 const YEAR = 261;
 
 export const SIZES: Record<SizeName, ScenarioSize> = {
-  tiny: { name: 'tiny', securities: 12, portfolios: 2, holdingsPerPortfolio: 6, historyDays: 70, newDays: 2, windows: [21, 63], runs: 1 },
+  tiny: { name: 'tiny', securities: 12, portfolios: 2, holdingsPerPortfolio: 6, historyDays: 70, newDays: 2, windows: [21, 63], correctionDays: 3, runs: 1 },
   small: {
     name: 'small',
     securities: 100,
@@ -30,6 +32,7 @@ export const SIZES: Record<SizeName, ScenarioSize> = {
     historyDays: 3 * YEAR,
     newDays: 5,
     windows: [21, 63, 252],
+    correctionDays: YEAR,
     runs: 3,
   },
   large: {
@@ -40,6 +43,7 @@ export const SIZES: Record<SizeName, ScenarioSize> = {
     historyDays: 10 * YEAR,
     newDays: 5,
     windows: [21, 63, 252],
+    correctionDays: YEAR,
     runs: 3,
   },
 };

@@ -1,5 +1,5 @@
 /**
- * The steps of a delivery's life at which a kill can land. Tests set RISKFOLD_FAULT to
+ * The steps of a delivery's life (and of its run) at which a kill can land. Tests set RISKFOLD_FAULT to
  * one of them to make the process kill itself (SIGKILL: no cleanup, no finally) exactly
  * there, then restart it and check the ledger; without the variable this does nothing.
  */
@@ -13,7 +13,9 @@ export type FaultStep =
   /** The file has left the inbox; the bookkeeping after the move is not done. */
   | 'moved'
   /** The temporary read copy is written and not yet renamed into place. */
-  | 'copied';
+  | 'copied'
+  /** A run's replaced rows are copied to history; its write transaction is not committed. */
+  | 'kept';
 
 export function faultPoint(step: FaultStep): void {
   if (process.env.RISKFOLD_FAULT === step) process.kill(process.pid, 'SIGKILL');

@@ -96,10 +96,10 @@ export async function runRecompute(
 }
 
 /** 'YYYY-MM-DD' naming a real calendar date; anything else is a usage error. */
-export function requireIsoDate(value: string): void {
+export function requireIsoDate(value: string, what = 'from date'): void {
   const m = /^(\d{4})-(\d{2})-(\d{2})$/.exec(value);
   const date = m ? new Date(Date.UTC(Number(m[1]), Number(m[2]) - 1, Number(m[3]))) : null;
   if (!date || date.toISOString().slice(0, 10) !== value) {
-    throw new RiskfoldError('usage', `from date "${value}" is not an ISO date (YYYY-MM-DD, e.g. 2026-03-31)`);
+    throw new RiskfoldError('usage', `${what} "${value}" is not an ISO date (YYYY-MM-DD, e.g. 2026-03-31)`);
   }
 }

@@ -2,6 +2,7 @@ import type { Logger } from 'pino';
 import { markSuspectWindows } from '../checks/suspectStatus.ts';
 import { alertUnvaluedPortfolios } from '../checks/unvaluedPortfolios.ts';
 import type { Config } from '../config/load.ts';
+import { HOLD_BEFORE, KEEP_REPLACED, PRUNE_HISTORY } from '../history/historyWriters.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
 import { writeLosses } from '../loss/lossStage.ts';
 import { saveEstimatorStates, type ComputedRisk, type RiskScope } from '../risk/computeRun.ts';
@@ -32,11 +33,15 @@ export interface RunWriter {
 }
 
 /**
- * The write step of every run: risk rows and their suspect_price status, the loss rows,
- * then the estimator state, then limits (which read the new rows) and their alerts, the
- * portfolio_unvalued alerts, then the close of a failure episode.
+ * The write step of every run: the rows it may replace held aside (history), risk rows
+ * and their suspect_price status, the loss rows, then the estimator state, then limits
+ * (which read the new rows) and their alerts, the portfolio_unvalued alerts, then the
+ * replaced rows kept as history (and old history pruned), then the close of a failure
+ * episode. Every writer that changes a kept table (src/history/keptTables.ts) comes
+ * between HOLD_BEFORE and KEEP_REPLACED.
  */
 export const RUN_WRITERS: readonly RunWriter[] = [
+  HOLD_BEFORE,
   {
     name: 'write',
     write: (tx, run) =>
@@ -65,5 +70,7 @@ export const RUN_WRITERS: readonly RunWriter[] = [
       run.alertsRaised += await alertUnvaluedPortfolios(tx, run.log, { runId: run.runId, portfolios: run.portfolios });
     },
   },
+  KEEP_REPLACED,
+  PRUNE_HISTORY,
   closeRunFailure,
 ];

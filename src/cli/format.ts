@@ -2,6 +2,7 @@ import { statSync } from 'node:fs';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import type { QueryResult, Unit } from '../read/readQuery.ts';
+import type { StatusSection } from '../read/readStatus.ts';
 import type { ReadHandle } from '../storage/workspace.ts';
 import { forTableCell, forTerminal, jsonForTerminal } from './terminalText.ts';
 
@@ -93,4 +94,23 @@ export function noteReadCopy(handle: ReadHandle, config: Config): void {
   if (handle.source !== 'read_copy') return;
   const published = statSync(config.readCopy).mtime.toISOString();
   process.stderr.write(`note: a worker holds ${config.database}; reading the copy it published at ${published}\n`);
+}
+
+/** Titled sections (status, explain): json as one object keyed by section, csv with `#` headings, tables with `==` headings. */
+export function formatSections(sections: StatusSection[], format: OutputFormat, source: string): string {
+  if (format === 'json') {
+    const body = Object.fromEntries(
+      sections.map((s) => [s.key, { total: s.total, rows: toObjects(s.result), ...(s.note ? { note: s.note } : {}) }]),
+    );
+    return `${jsonForTerminal(JSON.stringify({ source, ...body }, null, 2))}\n`;
+  }
+  return sections
+    .map((s) => {
+      const more = s.total > s.result.rows.length ? ` (latest ${s.result.rows.length} of ${s.total})` : '';
+      const heading = format === 'csv' ? `# ${s.title}${more}` : `== ${s.title}${more}`;
+      if (s.note) return `${heading}\n${s.note}\n`;
+      if (s.total === 0) return `${heading}\nnone\n`;
+      return `${heading}\n${formatResult(s.result, format)}`;
+    })
+    .join('\n');
 }

@@ -230,6 +230,18 @@ const scheduleSchema = z
   })
   .strict();
 
+const historySchema = z
+  .object({
+    keepDays: z
+      .number()
+      .int()
+      .positive()
+      .nullable()
+      .default(null)
+      .describe('Superseded result rows replaced more than this many days ago are pruned (each pruning recorded in history_prunes); null keeps everything.'),
+  })
+  .strict();
+
 const isoDate = z.string().regex(/^\d{4}-\d\d-\d\d$/, 'a date written YYYY-MM-DD');
 
 const ingestSchema = z
@@ -329,6 +341,7 @@ export const configSchema = z
     checks: checksSchema.default(checksSchema.parse({})).describe('Checks of delivered data before it enters risk.'),
     schedule: scheduleSchema.default(scheduleSchema.parse({})),
     stress: stressSchema.default({ scenarios: [] }),
+    history: historySchema.default({ keepDays: null }),
   })
   .strict()
   .superRefine((cfg, ctx) => {

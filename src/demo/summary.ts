@@ -5,6 +5,7 @@ import { CAUTIONS } from '../report/cautions.ts';
 import { formatMoney, formatPercent } from '../report/format.ts';
 import type { Breach } from '../report/reportData.ts';
 import type { Database } from '../storage/database.ts';
+import { readCorrectionBothWays, type CorrectionBothWays } from './correctionBothWays.ts';
 import { DEMO_LIMIT_WINDOW } from './demoConfig.ts';
 import { ACCOUNTS, FIRM_NAME, SECURITIES } from './universe.ts';
 
@@ -34,6 +35,8 @@ export interface DemoSummary {
   quarantined: { name: string; error: string; archived_path: string | null }[];
   /** Files that re-delivered prices an earlier file had sent (the later delivery wins). */
   corrections: { name: string; prices: number }[];
+  /** The first correction's figures as reported before it arrived and as known now. */
+  bothWays: CorrectionBothWays | null;
 }
 
 /** Reads the demo's outcome back from the database, so what is printed is what was stored. */
@@ -93,6 +96,7 @@ export async function readDemoSummary(db: Database, config: Config): Promise<Dem
     files: { ingested: count('ingested'), duplicate: count('duplicate'), rejected: count('rejected') },
     quarantined,
     corrections,
+    bothWays: await readCorrectionBothWays(db, corrections[0]?.name),
   };
 }
 
@@ -147,6 +151,7 @@ export function formatSummary(summary: DemoSummary, places: SummaryPlaces): stri
   if (summary.corrections.length === 0) lines.push('  none');
   for (const c of summary.corrections) lines.push(`  ${c.name}: ${c.prices} price${c.prices === 1 ? '' : 's'}`);
   const cfg = config.configPath;
+  lines.push(...bothWaysLines(summary.bothWays, cfg));
   lines.push(
     '',
     'Where things are:',
@@ -171,9 +176,35 @@ export function formatSummary(summary: DemoSummary, places: SummaryPlaces): stri
     `  npx riskfold status --config ${cfg}`,
     `  npx riskfold report --config ${cfg} --portfolio ${summary.accounts[0].portfolioId}`,
     `  npx riskfold report --config ${cfg} --all`,
+    ...explainLine(summary, cfg),
     '',
     'Cautions:',
     ...CAUTIONS.map((c) => `  - ${c}`),
   );
   return `${lines.join('\n')}\n`;
+}
+
+/** The correction as reported before it arrived and as known now, each with the one query that shows it. */
+function bothWaysLines(both: CorrectionBothWays | null, cfg: string): string[] {
+  if (both === null) return [];
+  const lines = [
+    '',
+    `The correction both ways: ${DEMO_LIMIT_WINDOW}-day volatility on ${both.date}, as reported before ${both.file} arrived and as known now`,
+    `  ${pad('account', 14)} ${padLeft('as reported', 12)} ${pad('status', 14)} ${padLeft('as known now', 13)} status`,
+  ];
+  for (const r of both.rows) {
+    const [before, now] = [formatPercent(r.as_reported, 3), formatPercent(r.as_known, 3)];
+    lines.push(`  ${pad(r.portfolio_id, 14)} ${padLeft(before, 12)} ${pad(r.reported_status ?? '', 14)} ${padLeft(now, 13)} ${r.known_status ?? ''}`);
+  }
+  lines.push(
+    `  as reported: npx riskfold sql --config ${cfg} "${both.asReported}"`,
+    `  as known:    npx riskfold sql --config ${cfg} "${both.asKnown}"`,
+  );
+  return lines;
+}
+
+function explainLine(summary: DemoSummary, cfg: string): string[] {
+  if (summary.bothWays === null) return [];
+  const args = `--portfolio ${summary.accounts[0].portfolioId} --date ${summary.bothWays.date} --window ${DEMO_LIMIT_WINDOW}`;
+  return [`  npx riskfold explain --config ${cfg} ${args}`];
 }

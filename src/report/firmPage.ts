@@ -1,6 +1,6 @@
 import { escapeHtml, formatMoney, formatPercent } from './format.ts';
 import type { FirmData } from './firmData.ts';
-import { STYLESHEET } from './style.ts';
+import { htmlPage } from './htmlPage.ts';
 import { cautionsSection } from './tableSections.ts';
 
 /**
@@ -9,35 +9,25 @@ import { cautionsSection } from './tableSections.ts';
  * page. One HTML file, inline CSS, no script, like the portfolio report.
  */
 export function renderFirmPage(data: FirmData, pages: ReadonlyMap<string, string>, generatedAt: Date): string {
-  const title = `Risk overview: all portfolios, ${data.asOf ?? 'no figures yet'}`;
   const link = (id: string) => {
     const href = pages.get(id);
     return href ? `<a href="${escapeHtml(encodeURI(href))}">${escapeHtml(id)}</a>` : escapeHtml(id);
   };
-  return `<!doctype html>
-<html lang="en">
-<head>
-<meta charset="utf-8">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<title>${escapeHtml(title)}</title>
-<style>${STYLESHEET}</style>
-</head>
-<body>
-<main>
-<header class="masthead">
-<p class="eyebrow">riskfold firm-wide risk overview</p>
-<h1>All portfolios</h1>
-<p class="subtitle">As of ${escapeHtml(data.asOf ?? 'no figures yet')} · portfolios: ${data.portfolios.length} · open limit episodes: ${data.openEpisodes.length}</p>
-</header>
-${limitsSection(data, link)}
+  const asOf = data.asOf ?? 'no figures yet';
+  const head = {
+    title: `Risk overview: all portfolios, ${asOf}`,
+    eyebrow: 'riskfold firm-wide risk overview',
+    heading: 'All portfolios',
+    subtitleHtml: `As of ${escapeHtml(asOf)} · portfolios: ${data.portfolios.length} · open limit episodes: ${data.openEpisodes.length}`,
+  };
+  return htmlPage(
+    head,
+    `${limitsSection(data, link)}
 ${episodesSection(data, link)}
 ${problemsSection(data, link)}
 ${cautionsSection()}
-<footer><dl><dt>database</dt><dd>${escapeHtml(data.database)}</dd><dt>generated</dt><dd>${escapeHtml(generatedAt.toISOString())}</dd></dl></footer>
-</main>
-</body>
-</html>
-`;
+<footer><dl><dt>database</dt><dd>${escapeHtml(data.database)}</dd><dt>generated</dt><dd>${escapeHtml(generatedAt.toISOString())}</dd></dl></footer>`,
+  );
 }
 
 type Link = (portfolioId: string) => string;

@@ -11,7 +11,7 @@ const MIGRATION_NAME = /^(\d{4})_([a-z][a-z0-9_]*)\.sql$/;
 const STEP_NAME = /^(\d{3})_([a-z]+)_(stored|view)_([a-z][a-z0-9_]*)\.sql$/;
 
 /** The ladder's layers in the order their steps must come. */
-export const LAYERS = ['clean', 'align', 'hold', 'value', 'exposure', 'ret', 'check'] as const;
+export const LAYERS = ['clean', 'align', 'hold', 'value', 'exposure', 'ret', 'check', 'trace'] as const;
 
 export interface Migration {
   order: number;

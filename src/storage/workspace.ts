@@ -7,6 +7,7 @@ import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { openDatabase, type Database } from './database.ts';
+import { prepareHistory } from '../history/historyTables.ts';
 import { lockDownReader } from './readerSandbox.ts';
 import { refreshDerived } from './derived.ts';
 import { applyMigrations, applyViews } from './sqlFiles.ts';
@@ -34,6 +35,7 @@ export async function openWorkspace(config: Config, log: Logger): Promise<Databa
       ]);
     });
     await applyViews(db, log);
+    await prepareHistory(db, log);
     // raw tables changed while no worker ran (an outside client, a crash) are caught here
     await refreshDerived(db, log);
   } catch (err) {

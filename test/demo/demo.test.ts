@@ -116,6 +116,38 @@ describe('riskfold demo, end to end', () => {
     expect(text).toMatch(/prices_\d{8}_correction\.csv: 1 price/);
   });
 
+  it('shows the correction both ways, one query each: as reported before it arrived, and as known now', async () => {
+    const { correction } = scenario.incidents;
+    const t = scenario.historyDays + correction.drop;
+    const both = result.summary.bothWays!;
+    expect(both.date).toBe(scenario.market.dates[t]);
+    expect(both.file).toMatch(/^prices_\d{8}_correction\.csv$/);
+    // each printed query, run by the read-only sql command, gives the printed figures at full precision
+    for (const [query, column] of [[both.asReported, 'as_reported'], [both.asKnown, 'as_known']] as const) {
+      const { stdout } = await run(process.execPath, [CLI, 'sql', '--config', result.config.configPath, '--format', 'json', query]);
+      const status = column === 'as_reported' ? 'reported_status' : 'known_status';
+      expect(JSON.parse(stdout)).toEqual(both.rows.map((r) => ({ portfolio_id: r.portfolio_id, vol_ex_ante: r[column], status: r[status] })));
+      expect(text).toContain(`"${query}"`);
+    }
+    // the wrong price, held out of risk, left the accounts that held the security (the
+    // scenario's holdings) with a carried price until the correction, and only them; a
+    // recompute from another start may differ in the last bits
+    for (const r of both.rows) {
+      const held = holdingsOn(scenario.snapshots, r.portfolio_id, both.date).has(correction.securityId);
+      const moved = Math.abs(r.as_reported! - r.as_known!);
+      if (held) {
+        expect(moved, r.portfolio_id).toBeGreaterThan(1e-6);
+        expect([r.reported_status, r.known_status], r.portfolio_id).toEqual(['stale_prices', 'ok']);
+      } else {
+        expect(moved, r.portfolio_id).toBeLessThan(1e-12);
+        expect(r.reported_status).toBe(r.known_status);
+      }
+      const printed = [formatPercent(r.as_reported, 3), r.reported_status, formatPercent(r.as_known, 3), r.known_status];
+      expect(text).toMatch(new RegExp(`${r.portfolio_id}\\s+${printed.join('\\s+')}`));
+    }
+    expect(both.rows.filter((r) => holdingsOn(scenario.snapshots, r.portfolio_id, both.date).has(correction.securityId))).not.toEqual([]);
+  });
+
   it('flags the 10x price as suspect, holds it out of risk, and clears the flag when the correction arrives', async () => {
     const { correction } = scenario.incidents;
     const date = scenario.market.dates[scenario.historyDays + correction.drop];

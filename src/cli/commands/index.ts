@@ -7,6 +7,7 @@ import { registerSql } from './sql.ts';
 import { registerStatus } from './status.ts';
 import { registerAlerts } from './alerts.ts';
 import { registerReport } from './report.ts';
+import { registerExplain } from './explain.ts';
 import { registerDemo } from './demo.ts';
 
 /** Every command of `riskfold`, in the order --help lists them. */
@@ -19,5 +20,6 @@ export const COMMANDS: ((program: Command) => void)[] = [
   registerStatus,
   registerAlerts,
   registerReport,
+  registerExplain,
   registerDemo,
 ];
