@@ -72,21 +72,24 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   return { dates, portfolios: portfolios.ids.length, riskRows: stage.dailyRows, states: kept, inputs: { returns, portfolios, fromRow } };
 }
 
-/** The stored state at fromRow - 1 of each running estimator that keeps one and has one. */
+/** The estimators that keep a state between runs and run with this config. */
+function keepingState(config: Config) {
+  return registeredEstimators().filter((plugin) => plugin.storedState && plugin.windows(config).length > 0);
+}
+
+/** The stored state at fromRow - 1 of each of them that has one. */
 async function loadEstimatorStates(db: Database, config: Config, dates: readonly string[], fromRow: number, settings: string) {
   const states: Record<string, unknown> = {};
-  for (const plugin of registeredEstimators()) {
-    if (!plugin.storedState || plugin.windows(config).length === 0) continue;
-    const state = await plugin.storedState.load(db, config, dates, fromRow, settings);
+  for (const plugin of keepingState(config)) {
+    const state = await plugin.storedState!.load(db, config, dates, fromRow, settings);
     if (state !== null) states[plugin.name] = state;
   }
   return states;
 }
 
-/** `<name>FromState` of each running estimator that keeps a state: whether it continues a stored one. */
+/** `<name>FromState` of each of them: whether it continues a stored state. */
 function fromStateFlags(config: Config, states: Record<string, unknown>): Record<string, boolean> {
-  const keeping = registeredEstimators().filter((plugin) => plugin.storedState && plugin.windows(config).length > 0);
-  return Object.fromEntries(keeping.map((plugin) => [`${plugin.name}FromState`, plugin.name in states]));
+  return Object.fromEntries(keepingState(config).map((plugin) => [`${plugin.name}FromState`, plugin.name in states]));
 }
 
 /**
