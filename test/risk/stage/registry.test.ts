@@ -2,6 +2,9 @@ import { afterEach, describe, expect, it } from 'vitest';
 import { runRecompute } from '../../../src/batch/runRecompute.ts';
 import type { DateEstimate, EstimatorPlugin } from '../../../src/risk/estimators/estimator.ts';
 import { registerEstimator } from '../../../src/risk/estimators/registry.ts';
+import { readBenchmarkPanel } from '../../../src/risk/inputs/benchmarkPanel.ts';
+import { readPortfolioPanel, readReturnPanel } from '../../../src/risk/inputs/panels.ts';
+import { computeRisk } from '../../../src/risk/runtime/computeRisk.ts';
 import { referenceViews } from '../../helpers/referenceViews.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
 import { expectSameRows, readDaily } from './compare.ts';
@@ -87,5 +90,24 @@ describe('the estimator registry', () => {
       checked++;
     }
     expect(checked).toBeGreaterThan(300);
+  });
+
+  it('refuses a second estimator of the same name', () => {
+    unregister = registerEstimator(constantDiagonal);
+    expect(() => registerEstimator({ ...constantDiagonal })).toThrow('estimator constant_diagonal is registered twice');
+    expect(() => registerEstimator({ ...constantDiagonal, name: 'sample' })).toThrow('estimator sample is registered twice');
+  });
+
+  it('says so when a run sends an estimator registered at run time to a worker thread, which has only the registry file', async () => {
+    const s = buildScenario(60);
+    ws = await tempWorkspace({ risk: RISK });
+    await loadDays(ws.db, s, 0, s.dates.length - 1);
+    const returns = await readReturnPanel(ws.db);
+    const portfolios = await readPortfolioPanel(ws.db, returns.dates.length, 0, null);
+    const benchmarks = await readBenchmarkPanel(ws.db, ws.config, portfolios.ids, returns.dates.length, 0);
+    unregister = registerEstimator(constantDiagonal);
+    const quiet = { advance: () => undefined, finish: () => undefined };
+    const run = computeRisk({ returns, portfolios, benchmarks, fromRow: 0, states: {} }, ws.config, () => undefined, quiet, ws.log, { threads: 2 });
+    await expect(run).rejects.toThrow(/worker thread: no estimator named constant_diagonal is registered in this thread/);
   });
 });
