@@ -20,3 +20,15 @@ export type FaultStep =
 export function faultPoint(step: FaultStep): void {
   if (process.env.RISKFOLD_FAULT === step) process.kill(process.pid, 'SIGKILL');
 }
+
+/**
+ * Tests set RISKFOLD_FAULT_PORTFOLIO to a portfolio id to make computing that portfolio's
+ * risk throw, as a bug or a bad holding would, and check that the other portfolios of
+ * the run still get theirs; without the variable this does nothing. Read once: the
+ * check runs for every row of a backfill.
+ */
+const FAULTY_PORTFOLIO = process.env.RISKFOLD_FAULT_PORTFOLIO;
+
+export function portfolioFault(portfolioId: string): void {
+  if (FAULTY_PORTFOLIO === portfolioId) throw new Error(`injected fault for portfolio ${portfolioId}`);
+}

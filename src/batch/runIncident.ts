@@ -4,7 +4,7 @@ import type { RunWriter } from './runWriters.ts';
 
 /**
  * Failed runs as one episode, the way a limit breach is one: it opens with the first
- * run that fails after a finished one and closes with the next run that finishes. Each
+ * run that fails (or is interrupted by the process ending) after a finished one and closes with the next run that finishes. Each
  * state change is one `run_failed` alert keyed by the episode's first failed run, so a
  * failure that repeats batch after batch is told once, and operations also learn when
  * figures are current again.
@@ -14,7 +14,7 @@ import type { RunWriter } from './runWriters.ts';
 async function failingSince(db: Database): Promise<number | null> {
   const [{ first }] = await db.all<{ first: number | null }>(
     `select min(run_id) as first from risk_runs
-     where status = 'failed' and run_id > coalesce((select max(run_id) from risk_runs where status = 'done'), 0)`,
+     where status in ('failed', 'interrupted') and run_id > coalesce((select max(run_id) from risk_runs where status = 'done'), 0)`,
   );
   return first;
 }
@@ -26,6 +26,8 @@ export interface FailedRun {
   portfolios: readonly string[] | null;
   /** The error on one line. */
   error: string;
+  /** How the run ended: with an error, or with the process that ran it. */
+  ended: 'failed' | 'interrupted';
 }
 
 /** Inside the transaction that marks `run` failed: opens the episode, unless this run continues an open one. */
@@ -37,7 +39,8 @@ export async function openRunFailure(tx: Database, run: FailedRun): Promise<void
     from_date: run.from,
     portfolios: run.portfolios,
     error: run.error,
-    text: `run ${run.runId} (${run.trigger}) failed, risk figures are not up to date: ${run.error}`,
+    ended: run.ended,
+    text: `run ${run.runId} (${run.trigger}) ${run.ended}, risk figures are not up to date: ${run.error}`,
   });
 }
 

@@ -5,7 +5,7 @@ import { RiskfoldError } from '../errors.ts';
 import { phaseClock } from '../log/phaseClock.ts';
 import { computeLosses } from '../loss/computeLosses.ts';
 import { dropLossStage } from '../loss/lossStage.ts';
-import { computeRun } from '../risk/computeRun.ts';
+import { computeRun, type PortfolioRiskFailure } from '../risk/computeRun.ts';
 import { dropStaging } from '../risk/store/staging.ts';
 import type { Database } from '../storage/database.ts';
 import { refreshDerived } from '../storage/derived.ts';
@@ -32,6 +32,8 @@ export interface RunSummary {
   seconds: number;
   /** Wall-clock seconds per phase (refresh_derived, read_returns, compute, write, limits, ...), in the order they ran. */
   phases: Record<string, number>;
+  /** Portfolios whose risk could not be computed: left out of the run, each with its own incident. */
+  failedPortfolios: PortfolioRiskFailure[];
 }
 
 /**
@@ -80,6 +82,7 @@ export async function runRecompute(
       alertsRaised: run.alertsRaised,
       seconds: (Date.now() - started) / 1000,
       phases: phases.seconds,
+      failedPortfolios: risk.failures,
     };
     rlog.info({ ...summary }, 'recompute done');
     return summary;

@@ -40,25 +40,35 @@ export async function recordRunFailure(db: Database, run: RunStart & { runId: nu
   const error = oneLine(err);
   await db.transaction(async () => {
     await db.run(`update risk_runs set status = 'failed', finished_at = now(), error = $2 where run_id = $1`, [run.runId, error]);
-    await openRunFailure(db, { ...run, error });
+    await openRunFailure(db, { ...run, error, ended: 'failed' });
   });
 }
 
 /**
  * Runs still `running` are marked `interrupted`; returns their ids. Only one process
  * writes the database (DuckDB's lock) and its batches run one at a time, so a run
- * `running` when a batch starts was left by a process that ended during it.
+ * `running` when a batch starts was left by a process that ended during it. An
+ * interrupted run is an incident like a failed one: the same episode opens (or goes on).
  */
 export async function markInterruptedRuns(db: Database): Promise<number[]> {
-  const rows = await db.all<{ run_id: number }>(
-    `update risk_runs set status = 'interrupted', finished_at = now(), error = 'the process ended during the run'
-     where status = 'running' returning run_id`,
-  );
-  return rows.map((r) => r.run_id);
+  const error = 'the process ended during the run';
+  return db.transaction(async () => {
+    const rows = await db.all<{ run_id: number; trigger: string; from_date: string | null; portfolios: string | null }>(
+      `update risk_runs set status = 'interrupted', finished_at = now(), error = $1
+       where status = 'running' returning run_id, trigger, from_date::varchar as from_date, to_json(portfolios)::varchar as portfolios`,
+      [error],
+    );
+    const runs = rows.sort((a, b) => a.run_id - b.run_id);
+    for (const r of runs) {
+      const portfolios = r.portfolios === null ? null : (JSON.parse(r.portfolios) as string[]);
+      await openRunFailure(db, { runId: r.run_id, trigger: r.trigger, from: r.from_date, portfolios, error, ended: 'interrupted' });
+    }
+    return runs.map((r) => r.run_id);
+  });
 }
 
 /** The error's message (and its cause's) on one line: it goes into a table cell, an alert and a status line. */
-function oneLine(err: unknown): string {
+export function oneLine(err: unknown): string {
   const message = err instanceof Error ? err.message : String(err);
   const cause = err instanceof Error && err.cause instanceof Error ? `: ${err.cause.message}` : '';
   return `${message}${cause}`.replace(/\s*[\r\n]+\s*/g, ' ').trim();

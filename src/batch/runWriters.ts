@@ -8,6 +8,7 @@ import { writeLosses } from '../loss/lossStage.ts';
 import { saveEstimatorStates, type ComputedRisk, type RiskScope } from '../risk/computeRun.ts';
 import { replaceResults } from '../risk/store/staging.ts';
 import type { Database } from '../storage/database.ts';
+import { portfolioIncidents } from './portfolioIncident.ts';
 import { closeRunFailure } from './runIncident.ts';
 
 /** What a writer knows about the run whose results it commits. */
@@ -34,24 +35,33 @@ export interface RunWriter {
 
 /**
  * The write step of every run: the rows it may replace held aside (history), risk rows
- * and their suspect_price status, the loss rows, then the estimator state, then limits
- * (which read the new rows) and their alerts, the portfolio_unvalued alerts, then the
- * replaced rows kept as history (and old history pruned), then the close of a failure
- * episode. Every writer that changes a kept table (src/history/keptTables.ts) comes
- * between HOLD_BEFORE and KEEP_REPLACED.
+ * (none for a portfolio whose compute failed: it keeps its earlier ones) and their
+ * suspect_price status, the loss rows (the same exception), then the estimator state,
+ * then limits (which read the new rows) and their alerts, the portfolio_unvalued alerts,
+ * then the replaced rows kept as history (and old history pruned), the failed
+ * portfolios' episodes, then the close of a run failure episode. Every writer that
+ * changes a kept table (src/history/keptTables.ts) comes between HOLD_BEFORE and
+ * KEEP_REPLACED.
  */
 export const RUN_WRITERS: readonly RunWriter[] = [
   HOLD_BEFORE,
   {
     name: 'write',
     write: (tx, run) =>
-      replaceResults(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, contributions: run.config.risk.contributions }),
+      replaceResults(tx, {
+        runId: run.runId,
+        from: run.from,
+        portfolios: run.portfolios,
+        contributions: run.config.risk.contributions,
+        failed: run.risk.failures.map((f) => f.portfolioId),
+      }),
   },
   { name: 'suspect_status', write: async (tx, run) => void (await markSuspectWindows(tx, run.runId)) },
   {
     // after the risk rows: var_daily copies the normal figures from risk_daily; before the limits, which read var_backtest
     name: 'write_losses',
-    write: (tx, run) => writeLosses(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios }),
+    write: (tx, run) =>
+      writeLosses(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, failed: run.risk.failures.map((f) => f.portfolioId) }),
   },
   {
     name: 'save_ewma_state',
@@ -72,5 +82,6 @@ export const RUN_WRITERS: readonly RunWriter[] = [
   },
   KEEP_REPLACED,
   PRUNE_HISTORY,
+  portfolioIncidents,
   closeRunFailure,
 ];

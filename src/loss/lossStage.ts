@@ -134,6 +134,8 @@ export interface LossScope {
   /** 'YYYY-MM-DD' the run recomputed from; null: the whole history. */
   from: string | null;
   portfolios: readonly string[] | null;
+  /** Portfolios whose risk the run could not compute: their stored rows stay, their staged ones are not written. */
+  failed: readonly string[];
 }
 
 /**
@@ -143,32 +145,35 @@ export interface LossScope {
  */
 export async function writeLosses(db: Database, scope: LossScope): Promise<void> {
   // portfolio ids bound as JSON: DuckDB cannot type an empty JS list
-  const inScope = `($1::date is null or date >= $1::date) and ($2::varchar is null or list_contains(from_json($2, '["VARCHAR"]'), portfolio_id))`;
-  const params = [scope.from, scope.portfolios === null ? null : JSON.stringify(scope.portfolios), scope.runId];
+  const notFailed = (param: string) => `not list_contains(from_json(${param}, '["VARCHAR"]'), portfolio_id)`;
+  const inScope = `($1::date is null or date >= $1::date) and ($2::varchar is null or list_contains(from_json($2, '["VARCHAR"]'), portfolio_id))
+    and ${notFailed('$3')}`;
+  const failed = JSON.stringify(scope.failed);
+  const params = [scope.from, scope.portfolios === null ? null : JSON.stringify(scope.portfolios), failed, scope.runId];
   const list = (column: string) => `case when ${column} is null then []::varchar[] else string_split(${column}, '|') end`;
-  for (const table of ['var_daily', 'var_backtest', 'stress_results']) await db.run(`delete from ${table} where ${inScope}`, params.slice(0, 2));
+  for (const table of ['var_daily', 'var_backtest', 'stress_results']) await db.run(`delete from ${table} where ${inScope}`, params.slice(0, 3));
   await db.run(
     `insert into var_daily (portfolio_id, date, method, window_days, estimator, var_99_1d, es_975_1d, coverage, status, missing, run_id)
      select portfolio_id, date, 'normal' as method, window_days, estimator, var_99_1d, es_975_1d, coverage, status,
-            []::varchar[] as missing, $3 as run_id
+            []::varchar[] as missing, $4 as run_id
      from risk_daily where ${inScope}
      union all by name
      select portfolio_id, date::date as date, method, window_days, null as estimator, var_99_1d, es_975_1d, coverage, status,
-            ${list('missing')} as missing, $3 as run_id
-     from loss_stage_var`,
+            ${list('missing')} as missing, $4 as run_id
+     from loss_stage_var where ${notFailed('$3')}`,
     params,
   );
   await db.run(
     `insert into var_backtest by name
-     select * exclude (date), date::date as date, $1 as run_id from loss_stage_backtest`,
-    [scope.runId],
+     select * exclude (date), date::date as date, $1 as run_id from loss_stage_backtest where ${notFailed('$2')}`,
+    [scope.runId, failed],
   );
   await db.run(
     `insert into stress_results by name
      select * exclude (date, missing, range_from, range_to), date::date as date, ${list('missing')} as missing,
             range_from::date as range_from, range_to::date as range_to, $1 as run_id
-     from loss_stage_stress`,
-    [scope.runId],
+     from loss_stage_stress where ${notFailed('$2')}`,
+    [scope.runId, failed],
   );
 }
 

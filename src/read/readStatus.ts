@@ -1,4 +1,5 @@
 import type { DuckDBValue } from '@duckdb/node-api';
+import { FAILING_PORTFOLIOS_SQL } from '../batch/portfolioIncident.ts';
 import type { Config } from '../config/load.ts';
 import { readDeliveryStatus } from './deliveryStatus.ts';
 import { readPortfolioStatus } from './portfolioStatus.ts';
@@ -30,10 +31,11 @@ const SHOWN = 20;
 
 /**
  * What operations look at first: a failed or interrupted last run (first, since the
- * figures below are then behind the data), each portfolio against its limits, whether
- * the day's files arrived, the last run, then the alerts the channels have not all taken
- * and the data problems on the latest valuation date, counted by kind. `details` adds
- * the rows.
+ * figures below are then behind the data), portfolios whose risk the runs could not
+ * compute (which, since which run, the error), each portfolio against its limits, whether
+ * the day's files arrived, the last run, then the alerts the channels have not all
+ * taken, files held or changed after archiving, and the data problems on the latest
+ * valuation date, counted by kind. `details` adds the rows.
  */
 export async function readStatus(db: Database, config: Config, options: StatusOptions): Promise<StatusSection[]> {
   const { portfolio } = options;
@@ -42,10 +44,17 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
     select run_id, trigger, status, started_at, finished_at, error
     from (select * from risk_runs order by run_id desc limit 1)
     where status in ('failed', 'interrupted')`, [], 1);
+  // a database from before portfolio_failures, not yet opened by a writer, has none to show
+  const [{ known }] = await db.all<{ known: boolean }>("select count(*) > 0 as known from duckdb_tables() where table_name = 'portfolio_failures'");
+  const failing = !known ? null : await section(db, 'portfoliosFailing', 'PORTFOLIOS NOT UPDATED: their risk could not be computed, figures are those of their last good run', `
+    select f.portfolio_id, f.since_run, r.started_at as failing_since, f.last_run, f.failed_on, f.error
+    from (${FAILING_PORTFOLIOS_SQL}) f join risk_runs r on r.run_id = f.since_run
+    order by f.portfolio_id`, [portfolio]);
   const portfolios = await readPortfolioStatus(db, config, portfolio);
   const files = await readDeliveryStatus(db, config, options.now);
   const sections: StatusSection[] = [
     ...(failed.total > 0 ? [failed] : []),
+    ...(failing && failing.total > 0 ? [failing] : []),
     { key: 'portfolios', title: 'portfolios', result: portfolios, total: portfolios.rows.length },
     { key: 'files', title: 'files by kind', result: files, total: files.rows.length },
     await section(db, 'lastRun', 'last run', `
@@ -56,7 +65,11 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
       from alerts where delivered_at is null and ($1::varchar is null or portfolio_id = $1)
       group by kind order by kind`, [portfolio]),
   ];
-  sections.push(await dataQualitySection(db, portfolio, 'summary'));
+  sections.push(
+    await section(db, 'fileProblems', 'files held or changed after archiving, by kind', `
+      select problem, count(*) as files, min(since) as oldest_since from (${FILE_PROBLEMS}) group by problem order by problem`, []),
+    await dataQualitySection(db, portfolio, 'summary'),
+  );
   if (!options.details) return sections;
   sections.push(
     await section(db, 'lastFiles', 'last files', `
@@ -70,10 +83,25 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
       select alert_id, kind, portfolio_id, as_of, created_at, attempts, last_error
       from alerts where delivered_at is null and ($1::varchar is null or portfolio_id = $1)
       order by created_at, alert_id`, [portfolio]),
+    await section(db, 'fileProblemRows', 'files held or changed after archiving', `
+      select name, problem, reason, since from (${FILE_PROBLEMS}) order by since, name`, []),
     await dataQualitySection(db, portfolio, 'rows'),
   );
   return sections;
 }
+
+/**
+ * Deliveries operations must look at: held in the inbox (not complete yet, or a suspect
+ * snapshot drop) until a delivery of that name is ingested or rejected, and archived
+ * files whose bytes changed or vanished after they were loaded (the start's audit).
+ */
+const FILE_PROBLEMS = `
+  select name, 'held: ' || code as problem, reason, held_at as since from held_files where released_at is null
+  union all
+  select coalesce(f.name, a.archived_path) as name, 'archive: ' || a.finding as problem,
+         a.archived_path || case a.finding when 'changed' then ' no longer matches the bytes that were loaded' else ' is gone' end as reason,
+         a.found_at as since
+  from archive_findings a left join ingested_files f on f.file_id = a.file_id`;
 
 async function dataQualitySection(db: Database, portfolio: string | null, shape: 'summary' | 'rows'): Promise<StatusSection> {
   const key = shape === 'summary' ? 'dataProblems' : 'dataProblemRows';

@@ -5,7 +5,7 @@ import type { PhaseClock } from '../log/phaseClock.ts';
 import type { EstimatorStates } from './estimators/estimator.ts';
 import { registeredEstimators } from './estimators/registry.ts';
 import { readBenchmarkPanel } from './inputs/benchmarkPanel.ts';
-import { readPortfolioPanel, readReturnPanel, type PortfolioPanel, type ReturnPanel } from './inputs/panels.ts';
+import { readPortfolioPanel, readReturnPanel, readValuationDates, type PortfolioPanel, type ReturnPanel } from './inputs/panels.ts';
 import { computeRisk, progressUnits } from './runtime/computeRisk.ts';
 import { startProgress } from './runtime/progress.ts';
 import { ResultStage } from './store/staging.ts';
@@ -33,27 +33,43 @@ export interface ComputedRisk {
   states: EstimatorStates;
   /** The panels the run computed from, for the loss stage (src/loss) that revalues the same holdings. */
   inputs: { returns: ReturnPanel; portfolios: PortfolioPanel; fromRow: number };
+  /** Portfolios whose risk could not be computed, by id: nothing of theirs is staged. */
+  failures: PortfolioRiskFailure[];
+}
+
+export interface PortfolioRiskFailure {
+  portfolioId: string;
+  /** The valuation date of the first row that failed. */
+  date: string;
+  error: string;
 }
 
 /**
- * The risk stage of a run, outside any transaction: reads the views in bulk (the
- * derived tables must be current: the batch refreshes them first), computes every
+ * The risk stage of a run, outside any transaction: reads the views in bulk, only the
+ * dates the run needs (the derived tables must be current: the batch refreshes them
+ * first), computes every
  * estimate from `from` on and stages the rows. Writing them is the batch's write step
  * (store/staging.ts `replaceResults`, `saveEstimatorStates`); `dropStaging` cleans up.
+ * A portfolio whose compute fails is returned in `failures` with none of its rows
+ * staged; the others are unaffected.
  */
 export async function computeRun(db: Database, config: Config, log: Logger, scope: RiskScope, phases: PhaseClock): Promise<ComputedRisk> {
   const rlog = log.child({ stage: 'risk', runId: scope.runId });
-  const returns = await phases.time('read_returns', () => readReturnPanel(db));
-  const dates = returns.dates;
+  const dates = await phases.time('read_dates', () => readValuationDates(db));
   const fromRow = scope.from === null ? 0 : firstRowOnOrAfter(dates, scope.from);
+  const states = await phases.time('load_estimator_state', () => loadEstimatorStates(db, config, dates, fromRow, scope.settings));
   const longest = Math.max(...config.risk.windows);
+  // holdings, benchmarks and portfolio returns from the longest window before the first
+  // output row (realized figures, averaged weights; the loss stage's backtest and worst
+  // windows); security returns from the first date: the loss stage's EWMA-filtered
+  // scenarios and stress ranges reach back that far
   const firstRow = Math.max(0, fromRow - longest + 1);
+  const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, firstRow));
   const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, firstRow, scope.portfolios));
   const benchmarks = await phases.time('read_benchmarks', () => readBenchmarkPanel(db, config, portfolios.ids, dates.length, firstRow));
   for (const id of scope.portfolios ?? []) {
     if (!portfolios.ids.includes(id)) rlog.warn({ portfolio: id }, 'no positions for this portfolio: nothing to compute');
   }
-  const states = await phases.time('load_estimator_state', () => loadEstimatorStates(db, config, dates, fromRow, scope.settings));
   rlog.debug({ fromRow, dates: dates.length, securities: returns.securityIds.length, ...fromStateFlags(config, states) }, 'inputs read');
 
   const stage = await ResultStage.open(db);
@@ -69,7 +85,12 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
     stage.close();
     phases.add('stage_flush', flushStarted);
   }
-  return { dates, portfolios: portfolios.ids.length, riskRows: stage.dailyRows, states: kept, inputs: { returns, portfolios, fromRow } };
+  const riskRows = await stage.dropFailed(db);
+  const failures = [...stage.failures.values()]
+    .map((f) => ({ portfolioId: portfolios.ids[f.portfolio], date: dates[f.row], error: f.message }))
+    .sort((a, b) => (a.portfolioId < b.portfolioId ? -1 : 1));
+  for (const f of failures) rlog.error({ portfolio: f.portfolioId, date: f.date, error: f.error }, 'risk of this portfolio not computed; the others go on');
+  return { dates, portfolios: portfolios.ids.length, riskRows, states: kept, inputs: { returns, portfolios, fromRow }, failures };
 }
 
 /** The estimators that keep a state between runs and run with this config. */

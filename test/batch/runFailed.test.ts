@@ -15,7 +15,7 @@ describe('a run that does not finish is an incident', () => {
   it('a failed recompute raises one run_failed alert through the outbox, and status shows the failure first', async () => {
     ws = await tempWorkspace();
     // a missing view makes the risk stage fail, as a broken migration or disk would
-    await ws.db.run('drop view ret_portfolios');
+    await ws.db.run('drop macro table ret_portfolios_since');
     const prices = path.join(ws.config.inbox, 'prices_first.csv');
     writeFileSync(prices, pricesCsv(80, 2, '2020-01-01'));
     const batch = await runBatch(ws.db, ws.config, ws.log, [prices]);
@@ -45,7 +45,7 @@ describe('a run that does not finish is an incident', () => {
       writeFileSync(file, pricesCsv(40, 2, start));
       return file;
     };
-    await ws.db.run('drop view ret_portfolios');
+    await ws.db.run('drop macro table ret_portfolios_since');
     expect((await runBatch(ws.db, ws.config, ws.log, [inbox('prices_a.csv', '2020-01-01')])).runError).not.toBeNull();
     expect((await runBatch(ws.db, ws.config, ws.log, [inbox('prices_b.csv', '2020-03-01')])).runError).not.toBeNull();
     await applyViews(ws.db, ws.log);
@@ -85,5 +85,24 @@ describe('a run that does not finish is an incident', () => {
     const status = runCli(['status', '--config', ws.config.configPath]);
     expect(status.stdout.split('\n')[0]).toBe('== THE LAST RUN DID NOT FINISH: risk figures are not up to date');
     expect(status.stdout).toMatch(/ingest:prices_killed\.csv\s+interrupted/);
+    // told like a failed run: the same run_failed episode, opened by the interrupted run
+    const delivered = readFileSync(ws.config.alerts.file!, 'utf8').trim().split('\n').map((l) => JSON.parse(l) as Record<string, unknown>);
+    expect(delivered.map((a) => [a.alert_id, a.kind])).toEqual([['run-failed-1-open', 'run_failed']]);
+    expect(delivered[0].payload).toMatchObject({
+      level: 'breach',
+      episode_state: 'open',
+      run_id: 1,
+      ended: 'interrupted',
+      trigger: 'ingest:prices_killed.csv',
+      error: 'the process ended during the run',
+    });
+  });
+
+  it('a second interrupted run continues the open episode instead of opening another', async () => {
+    ws = await tempWorkspace();
+    await ws.db.run(`insert into risk_runs (trigger, status) values ('ingest:a.csv', 'running'), ('ingest:b.csv', 'running')`);
+    const batch = await runBatch(ws.db, ws.config, ws.log, []);
+    expect(batch.runError).toBeNull();
+    expect(await ws.db.all(`select alert_id from alerts where kind = 'run_failed' order by alert_id`)).toEqual([{ alert_id: 'run-failed-1-open' }]);
   });
 });

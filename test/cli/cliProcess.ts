@@ -34,7 +34,7 @@ export function startCli(args: string[], env: NodeJS.ProcessEnv = {}): RunningCl
 }
 
 /** Runs a one-off command to completion (sql, status); killed after `timeoutMs` so a hang fails the test instead of stalling it. */
-export function runCli(args: string[], timeoutMs = 60_000): { status: number | null; stdout: string; stderr: string } {
-  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8', timeout: timeoutMs, killSignal: 'SIGKILL' });
+export function runCli(args: string[], timeoutMs = 60_000, env: NodeJS.ProcessEnv = {}): { status: number | null; stdout: string; stderr: string } {
+  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8', timeout: timeoutMs, killSignal: 'SIGKILL', env: { ...process.env, ...env } });
   return { status: r.status, stdout: r.stdout, stderr: r.stderr };
 }

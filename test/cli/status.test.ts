@@ -142,7 +142,8 @@ describe('riskfold status and sql with no worker running', () => {
     const body = JSON.parse(cli('status', '--details', '--format', 'json').stdout) as Record<string, { rows: Record<string, unknown>[] }>;
     expect(body.lastFiles.rows.find((f) => f.name === 'positions_bad.csv')).toMatchObject({ kind: 'positions', status: 'rejected' });
     expect(Object.keys(body)).toEqual([
-      'source', 'portfolios', 'files', 'lastRun', 'alerts', 'dataProblems', 'lastFiles', 'openBreaches', 'undeliveredAlerts', 'dataProblemRows',
+      'source', 'portfolios', 'files', 'lastRun', 'alerts', 'fileProblems', 'dataProblems',
+      'lastFiles', 'openBreaches', 'undeliveredAlerts', 'fileProblemRows', 'dataProblemRows',
     ]);
   });
 

@@ -47,9 +47,14 @@ async function requireFromInHistory(db: Database, from: string): Promise<void> {
   if (from > latest) throw new RiskfoldError('usage', `--from ${from} is after the latest valuation date, ${latest}: nothing to recompute`);
 }
 
-/** "run 7: 3 portfolios, 2020-01-02 .. 2026-11-30, 12,345 risk rows, 2 alerts, 4.1 s" */
+/**
+ * "run 7: 3 portfolios, 2020-01-02 .. 2026-11-30, 12,345 risk rows, 2 alerts, 4.1 s", then
+ * one line per portfolio the run could not compute.
+ */
 export function describeRun(run: RunSummary): string {
   const range = run.to === null ? 'no valuation dates' : `${run.from ?? 'start'} .. ${run.to}`;
   const plural = (n: number, word: string) => `${n.toLocaleString('en-US')} ${word}${n === 1 ? '' : 's'}`;
-  return `run ${run.runId}: ${plural(run.portfolios, 'portfolio')}, ${range}, ${plural(run.riskRows, 'risk row')}, ${plural(run.alertsRaised, 'alert')}, ${run.seconds.toFixed(1)} s`;
+  const line = `run ${run.runId}: ${plural(run.portfolios, 'portfolio')}, ${range}, ${plural(run.riskRows, 'risk row')}, ${plural(run.alertsRaised, 'alert')}, ${run.seconds.toFixed(1)} s`;
+  const failed = run.failedPortfolios.map((f) => `portfolio ${f.portfolioId} not computed (from ${f.date}), its figures are those of its last good run: ${f.error}`);
+  return [line, ...failed].join('\n');
 }

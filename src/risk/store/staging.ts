@@ -2,7 +2,7 @@ import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
 import type { Database } from '../../storage/database.ts';
 import { ChunkAppender } from '../../storage/columnar.ts';
 import { ACTIVE_VALUES, CONTRIBUTION_VALUES, DAILY_FIGURES, VOL_CHANGE_FIGURES, VOL_CHANGE_SECURITY_VALUES } from '../walk/figures.ts';
-import type { ResultBatch } from '../walk/resultColumns.ts';
+import type { PortfolioFailure, ResultBatch } from '../walk/resultColumns.ts';
 
 /**
  * Results go first to temporary staging tables, through appenders and outside any
@@ -14,6 +14,9 @@ import type { ResultBatch } from '../walk/resultColumns.ts';
  */
 
 export class ResultStage {
+  /** By portfolio (p): its earliest failure over every estimate, the one it is reported by. */
+  readonly failures = new Map<number, PortfolioFailure>();
+
   private constructor(
     private readonly daily: ChunkAppender,
     private readonly contributions: ChunkAppender,
@@ -56,6 +59,11 @@ export class ResultStage {
   /** Appends a batch of an estimate's rows (from the main thread's walk or a worker's). */
   append(batch: ResultBatch): void {
     const { windowDays, estimator, statuses, daily, contributions: c, active: a, securities: s, volChange: v, volChangeSecurities: vs } = batch;
+    for (const f of batch.failures) {
+      const known = this.failures.get(f.portfolio);
+      // the earliest, then by text: batches from worker threads arrive in any order
+      if (!known || f.row < known.row || (f.row === known.row && f.message < known.message)) this.failures.set(f.portfolio, f);
+    }
     const window = { constant: windowDays };
     const kind = { constant: estimator };
     this.daily.appendColumns(daily.rows, [
@@ -96,6 +104,17 @@ export class ResultStage {
     this.volChangeSecurities.close();
     return this.daily.close();
   }
+
+  /** After `close`: drops the rows staged for the failed portfolios (a failure may come after some of their dates); returns the risk_daily rows left. */
+  async dropFailed(db: Database): Promise<number> {
+    if (this.failures.size === 0) return this.daily.rows;
+    const failed = `(${[...this.failures.keys()].join(', ')})`;
+    for (const table of ['daily', 'contributions', 'active', 'vol_change', 'vol_change_securities']) {
+      await db.run(`delete from risk_stage_${table} where p in ${failed}`);
+    }
+    const [{ n }] = await db.all<{ n: number }>('select count(*)::integer as n from risk_stage_daily');
+    return n;
+  }
 }
 
 /** date_index (= row + 1, as align_valuation_dates numbers the dates) of each row. */
@@ -111,13 +130,16 @@ export interface ReplaceScope {
   portfolios: readonly string[] | null;
   /** 'latest': a portfolio's contributions are only those of its latest date. */
   contributions: 'latest' | 'all';
+  /** Portfolios whose compute failed (nothing staged for them): their stored rows stay as they are. */
+  failed: readonly string[];
 }
 
-/** Inside the write transaction: delete the scope's old rows, insert the staged ones. */
+/** Inside the write transaction: delete the scope's old rows (but a failed portfolio's), insert the staged ones. */
 export async function replaceResults(db: Database, scope: ReplaceScope): Promise<void> {
   // portfolio ids bound as JSON: DuckDB cannot type an empty JS list
-  const inScope = `($1::date is null or date >= $1::date) and ($2::varchar is null or list_contains(from_json($2, '["VARCHAR"]'), portfolio_id))`;
-  const params = [scope.from, scope.portfolios === null ? null : JSON.stringify(scope.portfolios)];
+  const inScope = `($1::date is null or date >= $1::date) and ($2::varchar is null or list_contains(from_json($2, '["VARCHAR"]'), portfolio_id))
+    and not list_contains(from_json($3, '["VARCHAR"]'), portfolio_id)`;
+  const params = [scope.from, scope.portfolios === null ? null : JSON.stringify(scope.portfolios), JSON.stringify(scope.failed)];
   await db.run(`delete from risk_daily where ${inScope}`, params);
   await db.run(
     `insert into risk_daily (portfolio_id, date, window_days, estimator, ${DAILY_FIGURES.join(', ')}, status, n_holdings, n_covered, benchmark_id, run_id)

@@ -34,6 +34,14 @@ export interface ResultBatch {
   volChange: { rows: number; portfolio: Int32Array; row: Int32Array; figures: Float64Array[]; status: Int32Array; driver: Int32Array };
   /** values: VOL_CHANGE_SECURITY_VALUES columns. */
   volChangeSecurities: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
+  /** Portfolios whose row could not be computed (p, the date row, why): the walk dropped them from then on. */
+  failures: PortfolioFailure[];
+}
+
+export interface PortfolioFailure {
+  portfolio: number;
+  row: number;
+  message: string;
 }
 
 /** The buffers a batch owns, for postMessage's transfer list. */
@@ -126,6 +134,7 @@ export class ResultCollector {
     security: ints(),
     values: Array.from(VOL_CHANGE_SECURITY_VALUES, doubles),
   };
+  private failures: PortfolioFailure[] = [];
   private dates = 0;
 
   constructor(
@@ -190,6 +199,10 @@ export class ResultCollector {
     v.values[2].push(fromWeights);
   }
 
+  addFailure(portfolio: number, row: number, message: string): void {
+    this.failures.push({ portfolio, row, message });
+  }
+
   /** One output date done. */
   endDate(): void {
     this.dates++;
@@ -251,7 +264,9 @@ export class ResultCollector {
         security: vs.security.take(),
         values: vs.values.map((x) => x.take()),
       },
+      failures: this.failures,
     };
+    this.failures = [];
     this.dates = 0;
     return batch;
   }

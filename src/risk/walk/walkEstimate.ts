@@ -1,4 +1,5 @@
 import type { Config } from '../../config/load.ts';
+import { portfolioFault } from '../../faults.ts';
 import type { DateEstimate, EstimatorPlugin } from '../estimators/estimator.ts';
 import { estimatorNamed } from '../estimators/registry.ts';
 import type { BenchmarkPanel } from '../inputs/benchmarkPanel.ts';
@@ -17,6 +18,8 @@ import { VolChangeTracker, type KnownProduct, type VolChangeRow } from './volCha
  * output date (row >= fromRow), collect the per-security stats and one row per
  * portfolio present that day. Nothing here touches the database or the clock, so the
  * same walk runs on the main thread or in a worker and gives the same numbers.
+ * A portfolio whose row throws or comes out infinite is reported as a failure and left
+ * out from then on; the other portfolios go on.
  */
 
 export interface ComputeInputs {
@@ -87,14 +90,26 @@ function walk(
   const figures = new Float64Array(DAILY_FIGURES.length);
   const changeFigures = new Float64Array(VOL_CHANGE_FIGURES.length);
   const out = new ResultCollector(estimate.windowDays, plugin.name);
+  // a portfolio that failed once is left out for the rest of the walk: its rows are not written
+  const failed = new Uint8Array(portfolios.ids.length);
+  const fail = (p: number, d: number, err: unknown) => {
+    failed[p] = 1;
+    changes.forget(p);
+    const label = estimate.windowDays > 0 ? `${estimate.windowDays}-day ${plugin.name}` : plugin.name;
+    out.addFailure(p, d, `${label} estimate: ${err instanceof Error ? err.message : String(err)}`);
+  };
   const addSecurity = (j: number, r: number, v: number) => out.addSecurity(currentRow, j, r, v);
   /** The date before the first output date, for the first split: its products only. */
   const prime = (d: number) => {
     for (let p = 0; p < portfolios.ids.length; p++) {
       const slot = p * dateCount + d;
-      if (portfolios.present[slot] !== 1) continue;
-      const exposure = exposureAt(p, d);
-      carry(p, d, exposure, assessRow(exposure, flagsAt(slot), estimate, settings, false, scratch));
+      if (portfolios.present[slot] !== 1 || failed[p] === 1) continue;
+      try {
+        const exposure = exposureAt(p, d);
+        carry(p, d, exposure, assessRow(exposure, flagsAt(slot), estimate, settings, false, scratch));
+      } catch (err) {
+        fail(p, d, err);
+      }
     }
   };
   let currentRow = -1;
@@ -109,45 +124,52 @@ function walk(
     estimate.forEachSecurity(addSecurity, settings.periodsPerYear);
     for (let p = 0; p < portfolios.ids.length; p++) {
       const slot = p * dateCount + d;
-      if (portfolios.present[slot] !== 1) continue;
-      const exposure = exposureAt(p, d);
-      const flags = flagsAt(slot);
-      const withContributions = settings.contributions === 'all' || d === lastRow[p];
-      estimate.takeIntensity?.();
-      const row = assessRow(exposure, flags, estimate, settings, withContributions, scratch);
-      const intensity = estimate.takeIntensity?.() ?? Number.NaN;
-      const realized = plugin.realized.volatility ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
-      figures[DAILY.portfolio_value] = flags.value;
-      figures[DAILY.vol_ex_ante] = row.volExAnte;
-      figures[DAILY.vol_realized] = realized?.vol ?? Number.NaN;
-      figures[DAILY.ann_return] = realized?.annReturn ?? Number.NaN;
-      figures[DAILY.var_99_1d] = row.var99_1d;
-      figures[DAILY.es_975_1d] = row.es975_1d;
-      figures[DAILY.var_99_10d] = row.var99_10d;
-      figures[DAILY.es_975_10d] = row.es975_10d;
-      figures[DAILY.diversification_ratio] = row.diversification;
-      figures[DAILY.coverage] = row.coverage;
-      const k = benchmarks.ofPortfolio[p];
-      const weights = k >= 0 ? benchmarkAt(benchmarks, k, d, dateCount) : null;
-      // nothing to measure against before the benchmark's first snapshot, nor with unknown weights (coverage null)
-      const active =
-        weights !== null && weights.j.length > 0 && !Number.isNaN(row.coverage)
-          ? assessActive(exposure, weights, estimate, settings.periodsPerYear, withContributions)
-          : null;
-      figures[DAILY.tracking_error_ex_ante] = active?.trackingError ?? Number.NaN;
-      figures[DAILY.tracking_error_realized] =
-        k >= 0 && plugin.realized.trackingError ? realizedActive(portfolios, benchmarks, p, k, d, estimate.windowDays, dateCount, settings) : Number.NaN;
-      figures[DAILY.beta_to_benchmark] = active?.beta ?? Number.NaN;
-      figures[DAILY.shrinkage_intensity] = Number.isFinite(row.volExAnte) ? intensity : Number.NaN;
-      out.addDaily(p, d, figures, row.status, row.nHoldings, row.nCovered);
-      if (row.contributions) {
-        const { mcr, ccr, pct } = row.contributions;
-        for (let a = 0; a < exposure.j.length; a++) out.addContribution(p, d, exposure.j[a], exposure.w[a], mcr[a], ccr[a], pct[a]);
+      if (portfolios.present[slot] !== 1 || failed[p] === 1) continue;
+      try {
+        portfolioFault(portfolios.ids[p]);
+        const exposure = exposureAt(p, d);
+        const flags = flagsAt(slot);
+        const withContributions = settings.contributions === 'all' || d === lastRow[p];
+        estimate.takeIntensity?.();
+        const row = assessRow(exposure, flags, estimate, settings, withContributions, scratch);
+        const intensity = estimate.takeIntensity?.() ?? Number.NaN;
+        const realized = plugin.realized.volatility ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
+        figures[DAILY.portfolio_value] = flags.value;
+        figures[DAILY.vol_ex_ante] = row.volExAnte;
+        figures[DAILY.vol_realized] = realized?.vol ?? Number.NaN;
+        figures[DAILY.ann_return] = realized?.annReturn ?? Number.NaN;
+        figures[DAILY.var_99_1d] = row.var99_1d;
+        figures[DAILY.es_975_1d] = row.es975_1d;
+        figures[DAILY.var_99_10d] = row.var99_10d;
+        figures[DAILY.es_975_10d] = row.es975_10d;
+        figures[DAILY.diversification_ratio] = row.diversification;
+        figures[DAILY.coverage] = row.coverage;
+        const k = benchmarks.ofPortfolio[p];
+        const weights = k >= 0 ? benchmarkAt(benchmarks, k, d, dateCount) : null;
+        // nothing to measure against before the benchmark's first snapshot, nor with unknown weights (coverage null)
+        const active =
+          weights !== null && weights.j.length > 0 && !Number.isNaN(row.coverage)
+            ? assessActive(exposure, weights, estimate, settings.periodsPerYear, withContributions)
+            : null;
+        figures[DAILY.tracking_error_ex_ante] = active?.trackingError ?? Number.NaN;
+        figures[DAILY.tracking_error_realized] =
+          k >= 0 && plugin.realized.trackingError ? realizedActive(portfolios, benchmarks, p, k, d, estimate.windowDays, dateCount, settings) : Number.NaN;
+        figures[DAILY.beta_to_benchmark] = active?.beta ?? Number.NaN;
+        figures[DAILY.shrinkage_intensity] = Number.isFinite(row.volExAnte) ? intensity : Number.NaN;
+        const infinite = infiniteFigure(figures, row.contributions);
+        if (infinite) throw new Error(`${infinite} is not finite`);
+        out.addDaily(p, d, figures, row.status, row.nHoldings, row.nCovered);
+        if (row.contributions) {
+          const { mcr, ccr, pct } = row.contributions;
+          for (let a = 0; a < exposure.j.length; a++) out.addContribution(p, d, exposure.j[a], exposure.w[a], mcr[a], ccr[a], pct[a]);
+        }
+        if (active?.contributions) addActive(out, p, d, active.contributions);
+        const change = Number.isFinite(row.volExAnte) ? changes.split(p, d, estimate, knownProduct(row)) : null;
+        if (change) addChange(out, p, d, change, withContributions, changeFigures);
+        carry(p, d, exposure, row);
+      } catch (err) {
+        fail(p, d, err);
       }
-      if (active?.contributions) addActive(out, p, d, active.contributions);
-      const change = Number.isFinite(row.volExAnte) ? changes.split(p, d, estimate, knownProduct(row)) : null;
-      if (change) addChange(out, p, d, change, withContributions, changeFigures);
-      carry(p, d, exposure, row);
     }
     out.endDate();
     if (out.pendingRows >= BATCH_ROWS || d === dateCount - 1) emit(out.take());
@@ -170,6 +192,24 @@ function addChange(out: ResultCollector, p: number, d: number, change: VolChange
   for (let a = 0; a < change.securities.length; a++) {
     out.addVolChangeSecurity(p, d, change.securities[a], change.weightPrev[a], change.weightNow[a], change.fromWeightsBySecurity[a]);
   }
+}
+
+/**
+ * The first figure that is +-Infinity (NaN stands for a missing figure and is fine):
+ * an overflow in a value or an estimate, which must never reach risk_daily as a number.
+ */
+function infiniteFigure(figures: Float64Array, contributions: { mcr: Float64Array; ccr: Float64Array; pct: Float64Array } | null): string | null {
+  for (let c = 0; c < figures.length; c++) if (isInfinite(figures[c])) return `${DAILY_FIGURES[c]} (${figures[c]})`;
+  if (!contributions) return null;
+  const { mcr, ccr, pct } = contributions;
+  for (let a = 0; a < mcr.length; a++) {
+    if (isInfinite(mcr[a]) || isInfinite(ccr[a]) || isInfinite(pct[a])) return `a contribution (mcr ${mcr[a]}, ccr ${ccr[a]}, pct ${pct[a]})`;
+  }
+  return null;
+}
+
+function isInfinite(v: number): boolean {
+  return v === Number.POSITIVE_INFINITY || v === Number.NEGATIVE_INFINITY;
 }
 
 function currentExposure(portfolios: PortfolioPanel, returns: ReturnPanel, slot: number): Exposure {

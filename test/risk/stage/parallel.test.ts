@@ -4,7 +4,7 @@ import { computeRisk, type ComputeInputs } from '../../../src/risk/runtime/compu
 import { PARALLEL_MIN_COST, threadsFor } from '../../../src/risk/runtime/costModel.ts';
 import { EwmaEstimate, type EwmaState } from '../../../src/risk/estimators/ewma.ts';
 import { readBenchmarkPanel } from '../../../src/risk/inputs/benchmarkPanel.ts';
-import { readPortfolioPanel, readReturnPanel } from '../../../src/risk/inputs/panels.ts';
+import { readPortfolioPanel, readReturnPanel, readValuationDates } from '../../../src/risk/inputs/panels.ts';
 import { DAILY_FIGURES } from '../../../src/risk/walk/figures.ts';
 import type { ResultBatch } from '../../../src/risk/walk/resultColumns.ts';
 import { createRandom } from '../../../src/demo/random.ts';
@@ -116,9 +116,10 @@ describe('computeRisk in worker threads', () => {
     ws = await tempWorkspace({ risk });
     const s = buildScenario();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    const returns = await readReturnPanel(ws.db);
-    const portfolios = await readPortfolioPanel(ws.db, returns.dates.length, 0, null);
-    const benchmarks = await readBenchmarkPanel(ws.db, ws.config, portfolios.ids, returns.dates.length, 0);
+    const dates = await readValuationDates(ws.db);
+    const returns = await readReturnPanel(ws.db, dates, 0);
+    const portfolios = await readPortfolioPanel(ws.db, dates.length, 0, null);
+    const benchmarks = await readBenchmarkPanel(ws.db, ws.config, portfolios.ids, dates.length, 0);
     return { returns, portfolios, benchmarks, fromRow: fromDay, states: {} };
   }
 
