@@ -70,6 +70,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       const summary = await runBatch(db, config, log, files, { deliver: false, shouldStop: () => stopping });
       // a copy the disk had no room for is tried again by the next batch or publish
       publishWanted = summary.readCopyBehind !== null;
+      if (publishWanted) retryPublishLater();
       delivery.kick();
     } catch (err) {
       // a fault of the machine (disk, database): stop cleanly, the supervisor restarts us
@@ -86,10 +87,23 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
     queue.exclusive(() => (publishWanted ? publishReadCopy(db, config, log) : Promise.resolve<PublishOutcome>({ published: true }))).then(
       (outcome) => {
         publishWanted = !outcome.published;
-        if (!outcome.published) wlog.debug({ reason: outcome.reason }, 'read copy not republished');
+        if (!outcome.published) {
+          wlog.debug({ reason: outcome.reason }, 'read copy not republished');
+          retryPublishLater();
+        }
       },
       (err: unknown) => wlog.debug({ err }, 'read copy not republished'),
     );
+  };
+  // one timer at a time; a batch in between publishes (or re-arms it) on its own
+  let publishRetry: NodeJS.Timeout | null = null;
+  const retryPublishLater = () => {
+    if (publishRetry !== null || stopping) return;
+    publishRetry = setTimeout(() => {
+      publishRetry = null;
+      if (publishWanted && !stopping) republish();
+    }, config.watch.publishRetryMs);
+    publishRetry.unref();
   };
   // deliverAlerts works on a session of its own, so it may run while a batch holds a transaction
   const delivery = new DeliveryLoop(() => deliverAlerts(db, config, log), republish, log);
@@ -109,6 +123,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       wlog.info({ waiting: queue.waiting }, 'stopping: finishing the current file');
       await watcher?.close();
       arrivals.close();
+      if (publishRetry !== null) clearTimeout(publishRetry);
       await schedules?.stop();
       retryRequests.stop();
       await queue.stop();

@@ -21,8 +21,20 @@ describe('riskfold watch on a disk too full for the read copy', () => {
 
   const batchesDone = (c: RunningCli) => c.logLines().filter((l) => l.msg === 'batch done').length;
 
-  it('keeps loading and committing, says so in one line, and publishes once there is room again', async () => {
-    wd = workerDir();
+  async function copiedFiles(): Promise<{ files: number; rows: number }> {
+    const copy = await openDatabase(wd!.config.readCopy, { readOnly: true });
+    try {
+      const [r] = await copy.all<{ files: number; rows: number }>(
+        "select (select count(*)::integer from ingested_files where status = 'ingested') as files, (select count(*)::integer from prices) as rows",
+      );
+      return r;
+    } finally {
+      copy.close();
+    }
+  }
+
+  it('keeps loading and committing, says so in one line, and publishes with the next batch once there is room again', async () => {
+    wd = workerDir({ watch: { stableMs: 200, pollMs: 50, publishRetryMs: 3_600_000 } });
     const room = path.join(wd.dir, 'disk-room');
     writeFileSync(room, '1000');
     writeFileSync(path.join(wd.config.inbox, 'prices_a.csv'), pricesCsv(30, 2, '2020-01-01'));
@@ -45,15 +57,23 @@ describe('riskfold watch on a disk too full for the read copy', () => {
     writeFileSync(path.join(wd.config.inbox, 'prices_b.csv'), pricesCsv(30, 2, '2020-03-01'));
     await waitFor(() => batchesDone(worker!) >= 2, 30_000, 'the batch after space returned');
     expect(worker.logLines().filter((l) => l.kind === 'disk_full')).toHaveLength(1);
-    const copy = await openDatabase(wd.config.readCopy, { readOnly: true });
-    try {
-      const [{ files, rows }] = await copy.all<{ files: number; rows: number }>(
-        "select (select count(*)::integer from ingested_files where status = 'ingested') as files, (select count(*)::integer from prices) as rows",
-      );
-      expect({ files, rows }).toEqual({ files: 2, rows: 120 });
-    } finally {
-      copy.close();
-    }
+    expect(await copiedFiles()).toEqual({ files: 2, rows: 120 });
+    worker.child.kill('SIGTERM');
+    expect(await worker.exited).toEqual({ code: 0, signal: null });
+  });
+
+  it('publishes by itself after watch.publishRetryMs once there is room, with no new file', async () => {
+    wd = workerDir({ watch: { stableMs: 200, pollMs: 50, publishRetryMs: 300 } });
+    const room = path.join(wd.dir, 'disk-room');
+    writeFileSync(room, '1000');
+    writeFileSync(path.join(wd.config.inbox, 'prices_a.csv'), pricesCsv(30, 2, '2020-01-01'));
+    worker = startCli(['watch', '--config', wd.configPath], { RISKFOLD_FAULT_DISK_ROOM: room });
+    await waitFor(() => batchesDone(worker!) >= 1, 30_000, 'the catch-up batch');
+    expect(existsSync(wd.config.readCopy)).toBe(false);
+    writeFileSync(room, String(10 * 1024 ** 3));
+    await waitFor(() => existsSync(wd!.config.readCopy), 20_000, 'the retried publish');
+    expect(batchesDone(worker)).toBe(1);
+    expect(await copiedFiles()).toEqual({ files: 1, rows: 60 });
     worker.child.kill('SIGTERM');
     expect(await worker.exited).toEqual({ code: 0, signal: null });
   });
