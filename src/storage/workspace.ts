@@ -69,7 +69,7 @@ export async function publishReadCopy(db: Database, config: Config, log: Logger)
     renameSync(tmp, config.readCopy);
   } catch (err) {
     rmSync(tmp, { force: true }); // a full disk must not leave a stray copy behind
-    if (err instanceof CopyFailed && err.noSpace) return { published: false, reason: `read copy not published: ${err.message}` };
+    if (err instanceof CopyFailed && err.noSpace) return { published: false, reason: `read copy not published: ${err.message}; ${COMMITTED}` };
     throw err;
   }
   rmSync(`${config.readCopy}.wal`, { force: true });
@@ -92,9 +92,10 @@ function makeRoom(config: Config, log: Logger): string | null {
     free = freeBytes(dir, config.readCopy);
     if (free >= needed) return null;
   }
-  return `read copy not published: ${mib(free)} free in ${dir}, a copy of the database needs ${mib(needed)}; loading goes on and the next batch publishes once there is room`;
+  return `read copy not published: ${mib(free)} free in ${dir}, a copy of the database needs ${mib(needed)}; ${COMMITTED}`;
 }
 
+const COMMITTED = 'everything is committed, the copy follows once there is room';
 const mib = (bytes: number) => `${Math.max(0, Math.floor(bytes / 1024 / 1024))} MiB`;
 
 /** The copy failed; `noSpace` when the disk (or a quota) filled up under it. */

@@ -44,7 +44,7 @@ describe('riskfold watch on a disk too full for the read copy', () => {
     const full = worker.logLines().filter((l) => l.kind === 'disk_full');
     expect(full).toHaveLength(1);
     expect(full[0].level).toBe(40); // pino's warn
-    expect(full[0].msg).toMatch(/^read copy not published: 0 MiB free in .+, a copy of the database needs \d+ MiB; loading goes on/);
+    expect(full[0].msg).toMatch(/^read copy not published: 0 MiB free in .+, a copy of the database needs \d+ MiB; everything is committed, the copy follows once there is room$/);
     expect(String(full[0].msg)).not.toContain('\n');
     expect(JSON.stringify(worker.logLines())).not.toContain('Command failed');
     expect(worker.child.exitCode).toBeNull();
