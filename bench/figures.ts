@@ -41,7 +41,7 @@ export interface Figure {
 }
 
 // tiny only exercises the harness: its timings are too short to judge
-const REAL_SIZES: readonly SizeName[] = ['small', 'large'];
+const REAL_SIZES: readonly SizeName[] = ['small', 'medium', 'large'];
 
 export const GOALS: Record<FigureKey, Goal | null> = {
   ingest_rows_per_second: { kind: 'min', value: 1_000_000, sizes: ['large'] },

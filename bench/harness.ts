@@ -91,7 +91,7 @@ export async function runBench(options: BenchOptions): Promise<BenchResult> {
 
     stage('naive backfill for comparison');
     try {
-      keep([await naiveComparison(options, root, size.name === 'large' ? null : { ws: ingested, backfill })]);
+      keep([await naiveComparison(options, root, size.name === 'medium' || size.name === 'large' ? null : { ws: ingested, backfill })]);
     } catch (err) {
       failed(['naive_vs_incremental'], err);
     }

@@ -7,7 +7,7 @@ import { formatResult } from './report.ts';
 import { SIZE_NAMES, type SizeName } from './scenario.ts';
 
 /**
- * `npm run bench [-- --size small|large] [--runs N] [--keep]`: prints the figures and writes
+ * `npm run bench [-- --size small|medium|large] [--runs N] [--keep]`: prints the figures and writes
  * bench/results/<size>-latest.json. A missed goal is reported, never an exit code, so
  * CI can run the small size without failing on a slow machine.
  */

@@ -1,5 +1,5 @@
 /** The sizes `npm run bench -- --size <name>` knows; `tiny` is for the harness's own test. */
-export const SIZE_NAMES = ['tiny', 'small', 'large'] as const;
+export const SIZE_NAMES = ['tiny', 'small', 'medium', 'large'] as const;
 export type SizeName = (typeof SIZE_NAMES)[number];
 
 export interface ScenarioSize {
@@ -35,6 +35,17 @@ export const SIZES: Record<SizeName, ScenarioSize> = {
     correctionDays: YEAR,
     runs: 3,
   },
+  medium: {
+    name: 'medium',
+    securities: 500,
+    portfolios: 20,
+    holdingsPerPortfolio: 100,
+    historyDays: 5 * YEAR,
+    newDays: 5,
+    windows: [21, 63, 252],
+    correctionDays: YEAR,
+    runs: 1,
+  },
   large: {
     name: 'large',
     securities: 1000,
@@ -48,5 +59,5 @@ export const SIZES: Record<SizeName, ScenarioSize> = {
   },
 };
 
-/** The large size's naive-versus-incremental comparison runs at this size: the naive way is too slow for more. */
+/** Above it, the naive-versus-incremental comparison runs at this size: the naive way is too slow for more. */
 export const NAIVE_SIZE: SizeName = 'small';

@@ -1,10 +1,18 @@
 -- Backs clean_snapshots. One row per position snapshot (portfolio + date): the file that
 -- delivered it last, and the date it is replaced by the portfolio's next snapshot. A
 -- snapshot is the whole portfolio, so a later file for the same date+portfolio replaces it.
+-- Refilled from the date in the variable derived_from (src/storage/derived.ts sets it;
+-- '-infinity' rebuilds all): the snapshots on or after it are derived again from the
+-- positions of those dates, and each portfolio's last earlier snapshot is held until the
+-- first of them.
+delete from derived_snapshots
+where snapshot_date >= getvariable('derived_from');
+
 insert into derived_snapshots
 with delivered as (
   select portfolio_id, date as snapshot_date, file_id
   from positions
+  where date >= getvariable('derived_from')
 ),
 
 latest_file as (
@@ -25,3 +33,12 @@ with_successor as (
 )
 
 select * from with_successor;
+
+update derived_snapshots d
+set held_until = (
+  select min(n.snapshot_date)
+  from derived_snapshots n
+  where n.portfolio_id = d.portfolio_id and n.snapshot_date >= getvariable('derived_from')
+)
+where d.snapshot_date < getvariable('derived_from')
+  and (d.held_until is null or d.held_until >= getvariable('derived_from'));

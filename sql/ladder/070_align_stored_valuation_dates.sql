@@ -2,11 +2,20 @@
 -- security has a price. "Held" means a non-zero quantity in some portfolio's snapshot in
 -- effect on that date; cash has no market, so it never makes a date. date_index numbers
 -- them 1, 2, 3, ...
+-- Refilled from the date in the variable derived_from (src/storage/derived.ts sets it;
+-- '-infinity' rebuilds all): the dates before it stay with their numbers, the dates on or
+-- after it are derived again from the prices of those dates and the snapshots in force
+-- then, and numbered on.
+delete from derived_valuation_dates
+where date >= getvariable('derived_from');
+
 insert into derived_valuation_dates
 with held_rows as (
   select security_id, date as held_from, coalesce(held_until, 'infinity'::date) as held_until
   from clean_positions
   where quantity <> 0 and security_id not like 'CASH:%'
+    -- a snapshot replaced before derived_from holds nothing on or after it
+    and coalesce(held_until, 'infinity'::date) > getvariable('derived_from')
 ),
 
 -- per security and start date, the furthest end over all portfolios
@@ -29,7 +38,7 @@ held_reach as (
 security_prices as (
   select date, security_id
   from clean_prices
-  where security_id not like 'CASH:%'
+  where security_id not like 'CASH:%' and date >= getvariable('derived_from')
 ),
 
 held_price_dates as (
@@ -39,9 +48,15 @@ held_price_dates as (
   where p.date < h.held_until
 ),
 
+dates_before as (
+  select count(*) as n
+  from derived_valuation_dates
+),
+
 numbered as (
-  select date, (row_number() over (order by date))::integer as date_index
+  select date, (dates_before.n + row_number() over (order by date))::integer as date_index
   from held_price_dates
+  cross join dates_before
 )
 
 select * from numbered;

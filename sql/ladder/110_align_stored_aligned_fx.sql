@@ -1,5 +1,9 @@
 -- Backs align_fx. Each delivered currency on each valuation date from its first rate on:
 -- the last rate on or before the date, and how many valuation dates old it is.
+-- Rebuilt whole at every refresh: a few currencies, so it costs little, and the date
+-- numbers it copies may have moved.
+delete from derived_aligned_fx;
+
 insert into derived_aligned_fx
 with valuation_dates as (
   select date, date_index

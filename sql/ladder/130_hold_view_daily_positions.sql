@@ -1,10 +1,13 @@
 -- Each portfolio on each valuation date on or after its first snapshot: the rows of its
 -- most recent snapshot on or before the date (a snapshot holds at the close of its date
 -- until the next one). Zero quantities are dropped: the security is not held.
-create or replace view hold_daily_positions as
+-- hold_daily_positions_since(first_date_index) gives the rows from that valuation date on,
+-- reading only the positions those dates need (a run's read must not grow with history).
+create or replace macro hold_daily_positions_since(first_date_index) as table
 with valuation_dates as (
   select date, date_index
   from align_valuation_dates
+  where date_index >= first_date_index
 ),
 
 snapshots as (
@@ -38,3 +41,6 @@ held as (
 )
 
 select * from held;
+
+create or replace view hold_daily_positions as
+select * from hold_daily_positions_since(1);

@@ -1,7 +1,8 @@
 -- Market value of each held position in the base currency:
 -- value_base = quantity * price_local * fx_rate. Cash (CASH:<CCY>) is a balance at price 1
 -- in its currency. A missing price or fx rate leaves the value null, never guessed.
-create or replace view value_positions as
+-- value_positions_since(first_date_index): the same from that valuation date on.
+create or replace macro value_positions_since(first_date_index) as table
 with settings as (
   select base_currency
   from pipeline_settings
@@ -9,7 +10,19 @@ with settings as (
 
 held as (
   select portfolio_id, date, date_index, security_id, quantity, snapshot_date, security_id like 'CASH:%' as is_cash
-  from hold_daily_positions
+  from hold_daily_positions_since(first_date_index)
+),
+
+prices as (
+  select security_id, date, currency, price_local, observed_on, stale_days
+  from align_prices
+  where date_index >= first_date_index
+),
+
+rates as (
+  select currency, date, rate, observed_on, stale_days
+  from align_fx
+  where date_index >= first_date_index
 ),
 
 priced as (
@@ -24,7 +37,7 @@ priced as (
     case when h.is_cash then 0 else a.stale_days end as price_stale_days
   from held h
   cross join settings
-  left join align_prices a on a.security_id = h.security_id and a.date = h.date
+  left join prices a on a.security_id = h.security_id and a.date = h.date
   left join clean_securities s on s.security_id = h.security_id
 ),
 
@@ -37,7 +50,7 @@ converted as (
     p.price_local * f.rate as price_base,
     p.quantity * (p.price_local * f.rate) as value_base
   from priced p
-  left join align_fx f on f.currency = p.currency and f.date = p.date
+  left join rates f on f.currency = p.currency and f.date = p.date
 ),
 
 with_status as (
@@ -68,3 +81,6 @@ with_status as (
 )
 
 select * from with_status;
+
+create or replace view value_positions as
+select * from value_positions_since(1);

@@ -1,10 +1,10 @@
 -- Weight of each position in its portfolio: value_base / portfolio value_base (cash
 -- included, so a portfolio's weights sum to 1). Null when the portfolio value is unknown
--- or zero.
-create or replace view value_weights as
+-- or zero. value_weights_since(first_date_index): the same from that valuation date on.
+create or replace macro value_weights_since(first_date_index) as table
 with positions as (
   select portfolio_id, date, date_index, security_id, is_cash, currency, quantity, value_base, price_status
-  from value_positions
+  from value_positions_since(first_date_index)
 ),
 
 -- the rule of value_portfolios: unknown when any position has no value. A window, not a
@@ -39,3 +39,6 @@ weighted as (
 )
 
 select * from weighted;
+
+create or replace view value_weights as
+select * from value_weights_since(1);

@@ -5,16 +5,25 @@
 -- definition. Cash in another currency (CASH:<code>) is a balance at price 1 in that
 -- currency: its base-currency return is the fx log return ln(fx_t / fx_t-1), its local
 -- return zero (SPEC section 3, round 2).
-create or replace view ret_securities as
+-- ret_securities_since(first_date_index): the returns from that valuation date on, read
+-- from the prices and rates of the date before it on.
+create or replace macro ret_securities_since(first_date_index) as table
 with settings as (
   select base_currency
   from pipeline_settings
 ),
 
+rates as (
+  select currency, date, date_index, rate, is_stale
+  from align_fx
+  where date_index >= first_date_index - 1
+),
+
 prices as (
   select a.security_id, a.date, a.date_index, a.price_local, a.is_stale as price_is_stale, f.rate as fx_rate, f.is_stale as fx_is_stale
   from align_prices a
-  left join align_fx f on f.currency = a.currency and f.date = a.date
+  left join rates f on f.currency = a.currency and f.date = a.date
+  where a.date_index >= first_date_index - 1
 ),
 
 -- align_prices has a row for every valuation date from a security's first price on,
@@ -47,7 +56,7 @@ returns as (
     price_base,
     prev_price_base
   from paired
-  where prev_date_index is not null
+  where prev_date_index is not null and date_index >= first_date_index
 ),
 
 -- held, or a benchmark's constituent (its return enters the benchmark's)
@@ -73,7 +82,7 @@ cash_paired as (
     lag(f.date_index) over by_date as prev_date_index,
     f.is_stale
   from foreign_cash c
-  join align_fx f on f.currency = c.currency
+  join rates f on f.currency = c.currency
   window by_date as (partition by c.security_id order by f.date_index)
 ),
 
@@ -89,7 +98,7 @@ cash_returns as (
     rate as price_base,
     prev_rate as prev_price_base
   from cash_paired
-  where prev_date_index is not null
+  where prev_date_index is not null and date_index >= first_date_index
 ),
 
 all_returns as (
@@ -99,3 +108,6 @@ all_returns as (
 )
 
 select * from all_returns;
+
+create or replace view ret_securities as
+select * from ret_securities_since(1);

@@ -5,7 +5,11 @@
 -- Cash in the base currency earns 0 but keeps its weight; cash in another currency earns
 -- its fx return (a row of ret_securities). If any position at t-1 has no return (or no weight)
 -- R_t would rest on made-up data, so it is null; covered_weight shows how much was known.
-create or replace view ret_portfolios as
+-- ret_portfolios_since(first_date_index): the returns from that valuation date on, read
+-- from the positions of the date before it on. A filter on the view's date_index does
+-- not reach value_weights (DuckDB keeps it above the window there, measured): readers of
+-- a few dates call the macro.
+create or replace macro ret_portfolios_since(first_date_index) as table
 with settings as (
   select base_currency
   from pipeline_settings
@@ -14,17 +18,18 @@ with settings as (
 valuation_dates as (
   select date, date_index
   from align_valuation_dates
+  where date_index >= first_date_index
 ),
 
 -- positions at the close of t-1, keyed by the date t they earn their return on
 positions_before as (
   select portfolio_id, date_index + 1 as date_index, security_id, is_cash, weight
-  from value_weights
+  from value_weights_since(first_date_index - 1)
 ),
 
 security_returns as (
   select security_id, date_index, simple_return
-  from ret_securities
+  from ret_securities_since(first_date_index)
 ),
 
 position_returns as (
@@ -76,3 +81,6 @@ returns as (
 )
 
 select * from returns;
+
+create or replace view ret_portfolios as
+select * from ret_portfolios_since(1);

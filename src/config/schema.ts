@@ -230,6 +230,27 @@ const scheduleSchema = z
   })
   .strict();
 
+/** DuckDB's own size syntax (a number and a unit), checked here so a typo is a config error, not a failed start. */
+const byteSize = z
+  .string()
+  .regex(/^\d+(\.\d+)?\s*([KMGTkmgt][iI]?)?[Bb]$/, 'a size such as "1GB" or "512MiB"');
+
+export const ENGINE_DEFAULTS = { memoryLimit: '1GB' } as const;
+
+const engineSchema = z
+  .object({
+    memoryLimit: byteSize
+      .default(ENGINE_DEFAULTS.memoryLimit)
+      .describe('DuckDB memory_limit: past it DuckDB spills to <database>.tmp/ instead of growing (its own default is 80% of RAM).'),
+    threads: z
+      .number()
+      .int()
+      .positive()
+      .optional()
+      .describe('DuckDB threads; default: one per core. Lower it when the worker shares the machine.'),
+  })
+  .strict();
+
 const historySchema = z
   .object({
     keepDays: z
@@ -347,6 +368,7 @@ export const configSchema = z
     checks: checksSchema.default(checksSchema.parse({})).describe('Checks of delivered data before it enters risk.'),
     schedule: scheduleSchema.default(scheduleSchema.parse({})),
     stress: stressSchema.default({ scenarios: [] }),
+    engine: engineSchema.default(ENGINE_DEFAULTS),
     history: historySchema.default({ keepDays: null }),
   })
   .strict()

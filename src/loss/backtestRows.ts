@@ -1,4 +1,4 @@
-import { BASEL_OBSERVATIONS, backtestSummary, exceptions } from '../risk/math/backtest.ts';
+import { BacktestWindow, exceptions } from '../risk/math/backtest.ts';
 import type { PortfolioPanel } from '../risk/inputs.ts';
 import type { BacktestRow } from './lossStage.ts';
 import { VAR_LEVEL } from './historicalVar.ts';
@@ -50,18 +50,15 @@ export function backtestRows(
 ): void {
   const t = dates.length;
   for (const [id, series] of history.series) {
-    const prior = priorFlags.get(id) ?? [];
-    // every flag of the run after the prior ones; backtestSummary reads the last 250
-    const flags = new Uint8Array(prior.length + t);
-    flags.set(prior);
-    let count = prior.length;
+    const window = new BacktestWindow();
+    for (const flag of priorFlags.get(id) ?? []) window.push(flag);
     for (let d = Math.max(fromRow, 1); d < t; d++) {
       const predicted = series.var99[d - 1];
       const pnl = portfolios.value[series.p * t + d - 1] * Math.expm1(portfolios.logReturn[series.p * t + d]);
       if (!Number.isFinite(predicted) || !Number.isFinite(pnl)) continue;
       const exception = exceptions(Float64Array.of(pnl), Float64Array.of(predicted))[0];
-      flags[count++] = exception;
-      const summary = backtestSummary(flags.subarray(Math.max(0, count - BASEL_OBSERVATIONS), count), VAR_LEVEL);
+      window.push(exception);
+      const summary = window.summary(VAR_LEVEL);
       emit({
         portfolioId: portfolios.ids[series.p],
         date: dates[d],

@@ -1,4 +1,4 @@
-import { filteredReturns, historicalLoss, scenarioPnlSimple, type ScenarioPnl } from '../risk/math/historicalSimulation.ts';
+import { filteredReturns, historicalLoss, scenarioPnlAt, type ScenarioPnl } from '../risk/math/historicalSimulation.ts';
 import type { PortfolioPanel, ReturnPanel } from '../risk/inputs.ts';
 import type { VarRow } from './lossStage.ts';
 
@@ -41,7 +41,7 @@ export function historicalVarRows(inputs: HistoricalInputs, settings: Historical
     for (let row = Math.max(0, firstDate - longest + 1); row < t; row++) simple[j * t + row] = Math.expm1(returns.returnsBySecurity[j * t + row]);
   }
   const filtered = new FilteredScenarios(inputs, longest);
-  let matrix = new Float64Array(0);
+  let at = new Int32Array(0);
   for (let d = firstDate; d < t; d++) {
     filtered.moveTo(d);
     for (let p = 0; p < portfolios.ids.length; p++) {
@@ -56,21 +56,16 @@ export function historicalVarRows(inputs: HistoricalInputs, settings: Historical
       const reason = portfolios.unpriced[slot] === 1 || !Number.isFinite(value) ? 'unpriced' : value <= 0 ? 'value_not_positive' : null;
       // row 0 has no return: N scenarios need N + 1 dates
       const usable = reason === null ? days.filter((n) => d - n + 1 >= 1) : [];
-      if (matrix.length < longest * h) matrix = new Float64Array(longest * h);
+      if (at.length < h) at = new Int32Array(h);
       for (const method of ['historical', 'filtered_historical'] as const) {
+        const source = method === 'historical' ? simple : filtered.scenarios;
         if (usable.length > 0) {
-          // the longest lookback's scenarios, oldest first; a shorter one is its last rows
+          // where each holding's scenarios of the longest lookback start in `source`, oldest
+          // first (a shorter lookback is their tail); cash in the base currency never moves
           const n = usable[0];
           for (let a = 0; a < h; a++) {
             const j = held[a];
-            if (returns.isCash[j] === 1) {
-              for (let s = 0; s < n; s++) matrix[s * h + a] = 0;
-              continue;
-            }
-            // indices into one flat buffer, so no view is made per holding
-            const source = method === 'historical' ? simple : filtered.scenarios;
-            const first = method === 'historical' ? j * t + d - n + 1 : filtered.columnStart(j) + longest - n;
-            for (let s = 0; s < n; s++) matrix[s * h + a] = source[first + s];
+            at[a] = returns.isCash[j] === 1 ? -1 : method === 'historical' ? j * t + d - n + 1 : filtered.columnStart(j) + longest - n;
           }
         }
         let widest: ScenarioPnl | null = null;
@@ -80,12 +75,11 @@ export function historicalVarRows(inputs: HistoricalInputs, settings: Historical
             emit({ ...base, ...empty(reason ?? 'insufficient_history', stale) }, p, d);
             continue;
           }
-          const offset = (usable[0] - n) * h;
           // with nothing missing over the longest lookback, a shorter one is the tail of its P&L
           const result: ScenarioPnl =
             widest !== null && widest.missing.length === 0
               ? { ...widest, pnl: widest.pnl.subarray(usable[0] - n) }
-              : scenarioPnlSimple(values, matrix.subarray(offset, offset + n * h), n);
+              : scenarioPnlAt(values, source, { at: at.subarray(0, h), stride: 1, first: usable[0] - n }, n);
           widest ??= result;
           emit({ ...base, ...figures(result, held, returns.securityIds, settings.minCoverage, stale) }, p, d);
         }

@@ -6,7 +6,7 @@ import { computeRisk, progressUnits } from './computeRisk.ts';
 import type { EwmaState } from './ewmaEstimate.ts';
 import { loadEwmaState } from './ewmaState.ts';
 import { readBenchmarkPanel } from './benchmarkInputs.ts';
-import { readPortfolioPanel, readReturnPanel, type PortfolioPanel, type ReturnPanel } from './inputs.ts';
+import { readPortfolioPanel, readReturnPanel, readValuationDates, type PortfolioPanel, type ReturnPanel } from './inputs.ts';
 import { startProgress } from './progress.ts';
 import { ResultStage } from './staging.ts';
 
@@ -45,8 +45,9 @@ export interface PortfolioRiskFailure {
 }
 
 /**
- * The risk stage of a run, outside any transaction: reads the views in bulk (the
- * derived tables must be current: the batch refreshes them first), computes every
+ * The risk stage of a run, outside any transaction: reads the views in bulk, only the
+ * dates the run needs (the derived tables must be current: the batch refreshes them
+ * first), computes every
  * estimate from `from` on and stages the rows. Writing them is the batch's write step
  * (staging.ts `replaceResults`, ewmaState.ts `saveEwmaState`); `dropStaging` cleans up.
  * A portfolio whose compute fails is returned in `failures` with none of its rows
@@ -54,18 +55,22 @@ export interface PortfolioRiskFailure {
  */
 export async function computeRun(db: Database, config: Config, log: Logger, scope: RiskScope, phases: PhaseClock): Promise<ComputedRisk> {
   const rlog = log.child({ stage: 'risk', runId: scope.runId });
-  const returns = await phases.time('read_returns', () => readReturnPanel(db));
-  const dates = returns.dates;
+  const dates = await phases.time('read_dates', () => readValuationDates(db));
   const fromRow = scope.from === null ? 0 : firstRowOnOrAfter(dates, scope.from);
+  const { ewma } = config.risk;
+  const ewmaState = ewma.enabled ? await phases.time('load_ewma_state', () => loadEwmaState(db, ewma, dates, fromRow, scope.settings)) : null;
   const longest = Math.max(...config.risk.windows);
+  // holdings, benchmarks and portfolio returns from the longest window before the first
+  // output row (realized figures, averaged weights; the loss stage's backtest and worst
+  // windows); security returns from the first date: the loss stage's EWMA-filtered
+  // scenarios and stress ranges reach back that far
   const firstRow = Math.max(0, fromRow - longest + 1);
+  const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, firstRow));
   const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, firstRow, scope.portfolios));
   const benchmarks = await phases.time('read_benchmarks', () => readBenchmarkPanel(db, config, portfolios.ids, dates.length, firstRow));
   for (const id of scope.portfolios ?? []) {
     if (!portfolios.ids.includes(id)) rlog.warn({ portfolio: id }, 'no positions for this portfolio: nothing to compute');
   }
-  const { ewma } = config.risk;
-  const ewmaState = ewma.enabled ? await phases.time('load_ewma_state', () => loadEwmaState(db, ewma, dates, fromRow, scope.settings)) : null;
   rlog.debug({ fromRow, dates: dates.length, securities: returns.securityIds.length, ewmaFromState: ewmaState !== null }, 'inputs read');
 
   const stage = await ResultStage.open(db);

@@ -44,17 +44,12 @@ export interface PortfolioPanel {
 }
 
 /**
- * Reads all valuation dates and all security returns (the EWMA may need to replay from
- * the first date; N x T doubles stay small), then the holdings of the portfolios in
- * scope from `firstRow` on. The views read the derived tables: the caller refreshes
- * them first (src/batch does, as a step of its own); this only reads.
+ * Every valuation date ('YYYY-MM-DD'), row d = date_index - 1: a run addresses dates by
+ * row. The views read the derived tables: the caller refreshes them first (src/batch
+ * does, as a step of its own); this only reads.
  */
-export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
+export async function readValuationDates(db: Database): Promise<string[]> {
   await db.run('create or replace temp table risk_in_dates as select date, date_index from align_valuation_dates');
-  await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities');
-  await db.run(`create or replace temp table risk_in_securities as
-    select security_id, (row_number() over (order by security_id) - 1)::integer as k
-    from (select security_id from risk_in_returns union select security_id from clean_positions union select security_id from clean_benchmarks)`);
   const dateRows = await readColumns(db, 'select date::varchar, date_index from risk_in_dates order by date_index', undefined, {
     date: 'text',
     date_index: 'int',
@@ -63,7 +58,27 @@ export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
   for (let d = 0; d < dateRows.rows; d++) {
     if (date_index[d] !== d + 1) throw new Error(`align_valuation_dates: date_index ${date_index[d]} at position ${d + 1}`);
   }
-  const dates = dateRows.columns.date as string[];
+  return dateRows.columns.date as string[];
+}
+
+/**
+ * Reads the security returns of every date row (the loss stage's EWMA-filtered scenarios
+ * and stress ranges reach back to the first). The securities are those with a return, a
+ * position from `holdingsFromRow` on (the rows whose holdings the run reads) or a place
+ * in a benchmark.
+ */
+export async function readReturnPanel(db: Database, dates: string[], holdingsFromRow: number): Promise<ReturnPanel> {
+  await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities');
+  await db.run(
+    `create or replace temp table risk_in_securities as
+     select security_id, (row_number() over (order by security_id) - 1)::integer as k
+     from (
+       select security_id from risk_in_returns
+       union select security_id from hold_daily_positions_since($1)
+       union select security_id from clean_benchmarks
+     )`,
+    [holdingsFromRow + 1],
+  );
   const ids = await readColumns(
     db,
     `select security_id, security_id = 'CASH:' || (select base_currency from pipeline_settings) from risk_in_securities order by k`,
@@ -79,8 +94,8 @@ export async function readReturnPanel(db: Database): Promise<ReturnPanel> {
     db,
     `select s.k, r.date_index, r.log_return::double
      from risk_in_returns r join risk_in_securities s using (security_id)
-     join risk_in_dates d using (date_index)`,
-    undefined,
+     where r.date_index <= $1`,
+    [t],
     { k: 'int', date_index: 'int', log_return: 'double' },
   );
   for (let i = 0; i < raw.rows; i++) returns[(raw.columns.date_index[i] - 1) * n + raw.columns.k[i]] = raw.columns.log_return[i];
@@ -101,7 +116,7 @@ export function seriesLayouts(returns: Float64Array, t: number, n: number): Pick
   return { returnsBySecurity, runLength };
 }
 
-/** The portfolios in scope (null: every portfolio with a position), sorted by id. */
+/** The portfolios in scope (null: every portfolio with a position), sorted by id, their returns and holdings from `firstRow` on. */
 export async function readPortfolioPanel(
   db: Database,
   dateCount: number,
@@ -114,7 +129,7 @@ export async function readPortfolioPanel(
   await db.run(
     `create or replace temp table risk_in_portfolios as
      select portfolio_id, (row_number() over (order by portfolio_id) - 1)::integer as k
-     from (select distinct portfolio_id from clean_positions ${scope})`,
+     from (select distinct portfolio_id from clean_snapshots ${scope})`,
     scopeParams,
   );
   const idRows = await readColumns(db, 'select portfolio_id from risk_in_portfolios order by k', undefined, { portfolio_id: 'text' });
@@ -127,8 +142,7 @@ export async function readPortfolioPanel(
   const logReturn = await readSlotSeries(
     db,
     `select p.k, r.date_index, r.log_return::double
-     from ret_portfolios r join risk_in_portfolios p using (portfolio_id)
-     where r.date_index > $1`,
+     from ret_portfolios_since($1 + 1) r join risk_in_portfolios p using (portfolio_id)`,
     firstRow,
     slots,
     dateCount,
@@ -144,12 +158,12 @@ export async function readPortfolioPanel(
   await streamColumns(
     db,
     `select p.k, w.date_index, s.k as j, w.weight::double, w.value_base::double, w.price_status = 'stale'
-     from value_weights w
+     from value_weights_since($1) w
      join risk_in_portfolios p using (portfolio_id)
-     join risk_in_securities s using (security_id)
-     where w.date_index > $1
+     -- left: a holding missing from the securities read is a fault (a null j fails the read), never dropped
+     left join risk_in_securities s using (security_id)
      order by p.k, w.date_index, j`,
-    [firstRow],
+    [firstRow + 1],
     { k: 'int', date_index: 'int', j: 'int', weight: 'double', value_base: 'double', is_stale: 'bool' },
     (c, n) => {
       holdings.append(c.j, c.weight, n);

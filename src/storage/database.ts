@@ -26,11 +26,23 @@ export interface Database {
   close(): void;
 }
 
-export async function openDatabase(path: string, options: { readOnly?: boolean } = {}): Promise<Database> {
+/** The config's `engine` section: DuckDB's memory ceiling and thread count for this process. */
+export interface EngineSettings {
+  memoryLimit: string;
+  threads?: number;
+}
+
+export interface OpenOptions {
+  readOnly?: boolean;
+  /** Absent: DuckDB's own defaults (80% of RAM, one thread per core). */
+  engine?: EngineSettings;
+}
+
+export async function openDatabase(path: string, options: OpenOptions = {}): Promise<Database> {
   const readOnly = options.readOnly ?? false;
   let instance: DuckDBInstance;
   try {
-    instance = await DuckDBInstance.create(path, readOnly ? { access_mode: 'READ_ONLY' } : {});
+    instance = await DuckDBInstance.create(path, instanceOptions(readOnly, options.engine));
   } catch (cause) {
     const text = String((cause as Error).message);
     if (/lock/i.test(text)) {
@@ -90,6 +102,15 @@ function wrapConnection(
     },
   };
   return db;
+}
+
+/** Set when the instance is created, so they hold before the first query (the same as SET memory_limit / threads). */
+function instanceOptions(readOnly: boolean, engine: EngineSettings | undefined): Record<string, string> {
+  const options: Record<string, string> = {};
+  if (readOnly) options.access_mode = 'READ_ONLY';
+  if (engine) options.memory_limit = engine.memoryLimit;
+  if (engine?.threads !== undefined) options.threads = String(engine.threads);
+  return options;
 }
 
 function pidIn(message: string): string {

@@ -3,59 +3,130 @@ import type { Database } from './database.ts';
 import { LADDER_DIR, listLadder } from './sqlFiles.ts';
 
 /**
- * The derived tables (migration 0030) store the layers every view shares: snapshots in
- * force, the valuation calendar, carried prices and fx rates; the ladder's stored steps
- * (sql/ladder/NNN_<layer>_stored_<stem>.sql) fill them. They are rebuilt from the
- * raw tables whenever the raw tables' fingerprint differs from the one recorded with
- * them, so whoever changed the raw tables (ingest, a test, an outside client, a crash
- * half way) the views never read a layer older than its inputs once this has run.
+ * The derived tables (migrations 0030, 0080) store the layers every view shares:
+ * snapshots in force, the securities ever held, the valuation calendar, carried prices
+ * and fx rates; the ladder's stored steps (sql/ladder/NNN_<layer>_stored_<stem>.sql)
+ * fill them. They are brought up to date whenever the raw tables' fingerprint differs
+ * from the one recorded with them, so whoever changed the raw tables (ingest, a test, an
+ * outside client, a crash half way) the views never read a layer older than its inputs
+ * once this has run.
  */
 
-/** Rows and highest file_id of each raw table the derived layers read (count(*) comes from metadata), and the held suspect prices. */
+/** The raw tables the derived layers read, each with a `date` and the `file_id` of its delivery. */
+const RAW_TABLES = ['prices', 'positions', 'fx_rates', 'benchmarks'] as const;
+
+/** The suspect prices held out of risk (open, held): the carried prices skip them. */
+const HELD_OUT_SQL = 'select distinct security_id, date from price_checks where held and cleared_at is null';
+
+/**
+ * Rows and highest file_id of each raw table, `rows:max` (count(*) comes from metadata),
+ * then the held suspect prices: count of checks, count and sum of ids of those held out.
+ * A flag raised, cleared or switched to hold changes the last part.
+ */
 const FINGERPRINT_SQL = `
   select concat_ws('|',
-    (select count(*) || ':' || coalesce(max(file_id), 0) from prices),
-    (select count(*) || ':' || coalesce(max(file_id), 0) from positions),
-    (select count(*) || ':' || coalesce(max(file_id), 0) from fx_rates),
-    (select count(*) || ':' || coalesce(max(file_id), 0) from benchmarks),
-    -- prices held out of risk: a flag raised, cleared or switched to hold changes the carried prices
-    (select count(*) || ':' || count(*) filter (where held and cleared_at is null) from price_checks)) as fingerprint`;
+    ${RAW_TABLES.map((t) => `(select count(*) || ':' || coalesce(max(file_id), 0) from ${t})`).join(',\n    ')},
+    (select count(*) || ':' || count(*) filter (where held and cleared_at is null) || ':' || coalesce(sum(check_id) filter (where held and cleared_at is null), 0)
+     from price_checks)) as fingerprint`;
 
 export interface DerivedRefresh {
-  rebuilt: boolean;
+  /** 'current': nothing to do; 'from': refilled from `from` on; 'full': rebuilt. */
+  mode: 'current' | 'from' | 'full';
+  /** 'YYYY-MM-DD' with mode 'from', else null. */
+  from: string | null;
   seconds: number;
 }
 
 /**
- * Brings the derived tables up to date with the raw tables: nothing to do when the
- * fingerprint matches, else each stored step's table is emptied and refilled in ladder
- * order (a step reads only the views and tables of the steps before it). Readers never
+ * Brings the derived tables up to date with the raw tables. When the only change since
+ * the recorded fingerprint is rows appended by later deliveries (new days, or
+ * corrections: a later file supersedes by key), the stored steps refill from the
+ * earliest date those rows carry, keeping every row before it; anything else (rows
+ * gone, no record) rebuilds in full. Each stored step, in ladder order, runs in its own
+ * transaction with the variables derived_from and derived_carry_from set. Readers never
  * see a half-done refresh: the worker calls this before its recompute and publishes the
- * read copy after it. Call between transactions (it opens its own).
+ * read copy after it. Call between transactions.
  */
 export async function refreshDerived(db: Database, log?: Logger, dir = LADDER_DIR): Promise<DerivedRefresh> {
   const started = performance.now();
   const [{ fingerprint }] = await db.all<{ fingerprint: string }>(FINGERPRINT_SQL);
   const recorded = await db.all<{ raw_fingerprint: string }>('select raw_fingerprint from derived_state');
-  if (recorded.length === 1 && recorded[0].raw_fingerprint === fingerprint) {
-    return { rebuilt: false, seconds: (performance.now() - started) / 1000 };
+  const before = recorded.length === 1 ? recorded[0].raw_fingerprint : null;
+  if (before === fingerprint) return { mode: 'current', from: null, seconds: (performance.now() - started) / 1000 };
+  const reach = before === null ? FULL : await changedFrom(db, before, fingerprint);
+  if (reach === NOTHING) {
+    // the checks changed but not which prices they hold out
+    await db.transaction(async () => {
+      await db.run('delete from derived_state');
+      await db.run('insert into derived_state (raw_fingerprint) values ($1)', [fingerprint]);
+    });
+    return { mode: 'current', from: null, seconds: (performance.now() - started) / 1000 };
   }
+  const from = reach === FULL ? null : reach;
   // forget the old fingerprint first: a crash half way leaves no record, so the next call rebuilds
   await db.run('delete from derived_state');
+  const dateLiteral = (d: string | null) => (d === null ? `'-infinity'::date` : `date '${d}'`);
+  await db.run(`set variable derived_from = ${dateLiteral(from)}`);
+  const [{ carry }] = await db.all<{ carry: string | null }>(
+    `select max(date)::varchar as carry from derived_valuation_dates where date < getvariable('derived_from')`,
+  );
+  await db.run(`set variable derived_carry_from = ${carry === null ? 'null::date' : dateLiteral(carry)}`);
   // one transaction per layer: reading a layer back inside the transaction that wrote it
   // was 100x slower (273 s against 2 s at two years' size, measured)
   for (const step of listLadder(dir).filter((s) => s.kind === 'stored')) {
     try {
-      await db.transaction(async () => {
-        await db.run(`delete from ${step.object}`);
-        await db.run(step.text);
-      });
+      await db.transaction(() => db.run(step.text));
     } catch (cause) {
       throw new Error(`stored step ${step.file} failed`, { cause });
     }
   }
   await db.run('insert into derived_state (raw_fingerprint) values ($1)', [fingerprint]);
   const seconds = (performance.now() - started) / 1000;
-  log?.info({ stage: 'storage', seconds: Number(seconds.toFixed(3)), fingerprint }, 'derived tables rebuilt');
-  return { rebuilt: true, seconds };
+  const mode = from === null ? 'full' : 'from';
+  log?.info({ stage: 'storage', mode, from, seconds: Number(seconds.toFixed(3)), fingerprint }, 'derived tables refreshed');
+  return { mode, from, seconds };
+}
+
+const FULL = Symbol('full rebuild');
+const NOTHING = Symbol('nothing to refill');
+
+/**
+ * The earliest date the derived tables must be refilled from: that of the rows delivered
+ * since `before` and of the prices whose hold changed since the last refresh (step 085
+ * stored them). FULL when a raw table changed other than by such rows (each must hold
+ * exactly its old rows plus those with a higher file_id) and only a full rebuild is safe;
+ * NOTHING when no date is affected.
+ */
+async function changedFrom(db: Database, before: string, now: string): Promise<string | typeof FULL | typeof NOTHING> {
+  const old = before.split('|');
+  const current = now.split('|');
+  const pair = (part: string) => part.split(':').map(Number);
+  if (old.length !== RAW_TABLES.length + 1 || old.slice(0, RAW_TABLES.length).some((p) => pair(p).length !== 2 || pair(p).some((x) => !Number.isSafeInteger(x)))) {
+    return FULL;
+  }
+  const firsts: (string | null)[] = [];
+  for (const [i, table] of RAW_TABLES.entries()) {
+    if (old[i] === current[i]) continue;
+    const [oldRows, oldMaxFile] = pair(old[i]);
+    const [{ added, first }] = await db.all<{ added: string; first: string | null }>(
+      `select count(*) as added, min(date)::varchar as first from ${table} where file_id > $1`,
+      [oldMaxFile],
+    );
+    if (first === null || pair(current[i])[0] !== oldRows + Number(added)) return FULL;
+    firsts.push(first);
+  }
+  if (old[RAW_TABLES.length] !== current[RAW_TABLES.length]) {
+    const [{ first }] = await db.all<{ first: string | null }>(
+      `with now_held as (${HELD_OUT_SQL}),
+       changed as (
+         (select * from now_held except select * from derived_held_out_prices)
+         union all
+         (select * from derived_held_out_prices except select * from now_held)
+       )
+       select min(date)::varchar as first from changed`,
+    );
+    firsts.push(first);
+  }
+  const dates = firsts.filter((d): d is string => d !== null).sort();
+  return dates.length === 0 ? NOTHING : dates[0];
 }

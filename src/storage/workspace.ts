@@ -23,7 +23,7 @@ export async function openWorkspace(config: Config, log: Logger): Promise<Databa
   for (const dir of [config.inbox, config.archive, config.quarantine, path.dirname(config.database)]) {
     mkdirSync(dir, { recursive: true });
   }
-  const db = await openDatabase(config.database);
+  const db = await openDatabase(config.database, { engine: config.engine });
   try {
     await applyMigrations(db, log);
     await db.transaction(async () => {
@@ -154,12 +154,12 @@ async function openEither(config: Config): Promise<ReadHandle> {
     throw new RiskfoldError('not_found', `${config.database} does not exist yet: run "riskfold ingest" or "riskfold watch" first`);
   }
   try {
-    return { db: await openDatabase(config.database, { readOnly: true }), source: 'database' };
+    return { db: await openDatabase(config.database, { readOnly: true, engine: config.engine }), source: 'database' };
   } catch (err) {
     if (!(err instanceof RiskfoldError && err.kind === 'database_locked')) throw err;
     if (!existsSync(config.readCopy)) {
       throw new RiskfoldError('database_locked', `${config.database} is held by the worker and there is no read copy at ${config.readCopy} (none published yet, or the disk was too full to publish: see the worker's log)`);
     }
-    return { db: await openDatabase(config.readCopy, { readOnly: true }), source: 'read_copy' };
+    return { db: await openDatabase(config.readCopy, { readOnly: true, engine: config.engine }), source: 'read_copy' };
   }
 }

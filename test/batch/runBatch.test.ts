@@ -79,7 +79,7 @@ describe('runBatch', () => {
   it('after a failed recompute, the next batch covers the files the failure left behind', async () => {
     ws = await tempWorkspace();
     // a missing view makes the risk stage fail, as a broken migration or disk would
-    await ws.db.run('drop view ret_portfolios');
+    await ws.db.run('drop macro table ret_portfolios_since');
     const failed = await runBatch(ws.db, ws.config, ws.log, [inbox('prices_first.csv', pricesCsv(80, 2, '2020-01-01'))]);
     expect(failed.files[0].status).toBe('ingested');
     expect(failed.runError).not.toBeNull();

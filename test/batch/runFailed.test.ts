@@ -15,7 +15,7 @@ describe('a run that does not finish is an incident', () => {
   it('a failed recompute raises one run_failed alert through the outbox, and status shows the failure first', async () => {
     ws = await tempWorkspace();
     // a missing view makes the risk stage fail, as a broken migration or disk would
-    await ws.db.run('drop view ret_portfolios');
+    await ws.db.run('drop macro table ret_portfolios_since');
     const prices = path.join(ws.config.inbox, 'prices_first.csv');
     writeFileSync(prices, pricesCsv(80, 2, '2020-01-01'));
     const batch = await runBatch(ws.db, ws.config, ws.log, [prices]);
@@ -45,7 +45,7 @@ describe('a run that does not finish is an incident', () => {
       writeFileSync(file, pricesCsv(40, 2, start));
       return file;
     };
-    await ws.db.run('drop view ret_portfolios');
+    await ws.db.run('drop macro table ret_portfolios_since');
     expect((await runBatch(ws.db, ws.config, ws.log, [inbox('prices_a.csv', '2020-01-01')])).runError).not.toBeNull();
     expect((await runBatch(ws.db, ws.config, ws.log, [inbox('prices_b.csv', '2020-03-01')])).runError).not.toBeNull();
     await applyViews(ws.db, ws.log);

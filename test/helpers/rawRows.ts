@@ -63,11 +63,16 @@ export interface Deliveries {
 
 /** Inserts every raw row of `raw` (the derived tables are refreshed once at the end, not per table). */
 export async function insertDeliveries(db: Database, raw: Deliveries): Promise<void> {
+  await insertDeliveryRows(db, raw);
+  await refreshDerived(db);
+}
+
+/** Inserts every raw row of `raw` and leaves the derived tables as they were (for tests of the refresh itself). */
+export async function insertDeliveryRows(db: Database, raw: Deliveries): Promise<void> {
   await insertRows(db, 'securities', ['security_id', 'currency'], raw.securities.map((r) => [r.fileId, r.line, r.securityId, r.currency]));
   await insertRows(db, 'prices', ['date', 'security_id', 'price', 'currency'], raw.prices.map((r) => [r.fileId, r.line, r.date, r.securityId, r.price, r.currency]));
   await insertRows(db, 'fx_rates', ['date', 'currency', 'rate'], raw.fx.map((r) => [r.fileId, r.line, r.date, r.currency, r.rate]));
   await insertRows(db, 'positions', ['date', 'portfolio_id', 'security_id', 'quantity'], raw.positions.map((r) => [r.fileId, r.line, r.date, r.portfolioId, r.securityId, r.quantity]));
-  await refreshDerived(db);
 }
 
 /** Rows equal to the expected ones, numbers to `digits` decimals (floating point), the rest exactly. */

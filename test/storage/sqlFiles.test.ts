@@ -53,7 +53,9 @@ describe('the ordered SQL runner', () => {
     expect(new Set(steps.map((s) => s.layer))).toEqual(new Set(LAYERS));
     expect(steps.filter((s) => s.kind === 'stored').map((s) => s.object)).toEqual([
       'derived_snapshots',
+      'derived_held_securities',
       'derived_valuation_dates',
+      'derived_held_out_prices',
       'derived_aligned_prices',
       'derived_aligned_fx',
     ]);

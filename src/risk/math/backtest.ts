@@ -98,9 +98,12 @@ export function transitionCounts(sequence: Uint8Array): TransitionCounts {
  * A sequence without exceptions (or of nothing else) gives LR 0, p 1: no evidence.
  */
 export function christoffersenIndependence(sequence: Uint8Array): LikelihoodRatioTest {
-  const fn = 'christoffersenIndependence';
-  requireInteger(fn, 'sequence.length', sequence.length, 2);
-  const { n00, n01, n10, n11 } = transitionCounts(sequence);
+  requireInteger('christoffersenIndependence', 'sequence.length', sequence.length, 2);
+  return independenceFromCounts(transitionCounts(sequence));
+}
+
+/** The independence test from the transition counts of a sequence of at least 2 days. */
+function independenceFromCounts({ n00, n01, n10, n11 }: TransitionCounts): LikelihoodRatioTest {
   const pi01 = n01 / (n00 + n01 || 1);
   const pi11 = n11 / (n10 + n11 || 1);
   const pi = (n01 + n11) / (n00 + n01 + n10 + n11);
@@ -174,14 +177,54 @@ export interface BacktestSummary {
  */
 export function backtestSummary(flags: Uint8Array, level: number): BacktestSummary {
   requireInteger('backtestSummary', 'flags.length', flags.length, 1);
-  const window = flags.subarray(Math.max(0, flags.length - BASEL_OBSERVATIONS));
-  let count = 0;
-  for (let t = 0; t < window.length; t++) count += window[t];
-  return {
-    days: window.length,
-    exceptions: count,
-    kupiec: kupiecTest(count, window.length, level),
-    independence: window.length >= 2 ? christoffersenIndependence(window) : null,
-    zone: window.length === BASEL_OBSERVATIONS ? baselZone(count, BASEL_OBSERVATIONS) : null,
-  };
+  const window = new BacktestWindow();
+  for (const flag of flags.subarray(Math.max(0, flags.length - BASEL_OBSERVATIONS))) window.push(flag);
+  return window.summary(level);
+}
+
+/**
+ * The last 250 tested days of one VaR series, their exception count and transition
+ * counts kept as days are added (a day older than the window leaves it), so each day's
+ * summary costs the same however long the series: the counts, and so the figures, are
+ * those of `transitionCounts` over the window.
+ */
+export class BacktestWindow {
+  private readonly flags = new Uint8Array(BASEL_OBSERVATIONS);
+  private first = 0;
+  private days = 0;
+  private exceptionCount = 0;
+  private readonly counts: TransitionCounts = { n00: 0, n01: 0, n10: 0, n11: 0 };
+
+  /** Adds the next tested day's flag (0 or 1). */
+  push(flag: number): void {
+    if (flag !== 0 && flag !== 1) throw new Error(`BacktestWindow: a flag must be 0 or 1, got ${flag}`);
+    if (this.days === BASEL_OBSERVATIONS) {
+      const oldest = this.flags[this.first];
+      this.count(oldest, this.flags[(this.first + 1) % BASEL_OBSERVATIONS], -1);
+      this.exceptionCount -= oldest;
+      this.first = (this.first + 1) % BASEL_OBSERVATIONS;
+      this.days--;
+    }
+    if (this.days > 0) this.count(this.flags[(this.first + this.days - 1) % BASEL_OBSERVATIONS], flag, 1);
+    this.flags[(this.first + this.days) % BASEL_OBSERVATIONS] = flag;
+    this.days++;
+    this.exceptionCount += flag;
+  }
+
+  /** The figures of the window as it stands (at least one day pushed). */
+  summary(level: number): BacktestSummary {
+    requireInteger('BacktestWindow.summary', 'days', this.days, 1);
+    return {
+      days: this.days,
+      exceptions: this.exceptionCount,
+      kupiec: kupiecTest(this.exceptionCount, this.days, level),
+      independence: this.days >= 2 ? independenceFromCounts(this.counts) : null,
+      zone: this.days === BASEL_OBSERVATIONS ? baselZone(this.exceptionCount, BASEL_OBSERVATIONS) : null,
+    };
+  }
+
+  private count(from: number, to: number, by: 1 | -1): void {
+    if (from === 0) this.counts[to === 0 ? 'n00' : 'n01'] += by;
+    else this.counts[to === 0 ? 'n10' : 'n11'] += by;
+  }
 }

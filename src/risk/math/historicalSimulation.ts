@@ -36,19 +36,34 @@ export interface ScenarioPnl {
  */
 export function scenarioPnl(values: Float64Array, returns: Float64Array, scenarios: number): ScenarioPnl {
   requireLength('scenarioPnl', 'returns', returns.length, scenarios * values.length);
-  return scenarioPnlSimple(values, returns.map(Math.expm1), scenarios);
+  const rowMajor = Int32Array.from(values, (_, i) => i);
+  return scenarioPnlAt(values, returns.map(Math.expm1), { at: rowMajor, stride: values.length, first: 0 }, scenarios);
 }
 
 /**
- * As `scenarioPnl`, from simple returns R_i,s = exp(r_i,s) - 1 already taken:
- * pnl_s = sum_i V_i R_i,s. A caller that revalues many portfolios under the same
- * scenarios converts each return once. NaN (or +Infinity) marks a missing return.
+ * Where holding i's simple return R_i,s = exp(r_i,s) - 1 of scenario s lies in a flat
+ * buffer: at[i] + (first + s) * stride. at[i] = -1: the holding never moves (cash in the
+ * base currency), R = 0 in every scenario.
  */
-export function scenarioPnlSimple(values: Float64Array, simpleReturns: Float64Array, scenarios: number): ScenarioPnl {
+export interface ScenarioLayout {
+  at: Int32Array;
+  stride: number;
+  first: number;
+}
+
+/**
+ * As `scenarioPnl`, from simple returns already taken, read in place: pnl_s = sum_i V_i R_i,s.
+ * A caller that revalues many portfolios under the same scenarios converts each return
+ * once and keeps each security's returns contiguous (stride 1), so nothing is gathered.
+ * NaN (or +Infinity) marks a missing return. Each pnl_s adds the holdings in index order,
+ * whatever the layout, so every layout gives the same figures.
+ */
+export function scenarioPnlAt(values: Float64Array, source: Float64Array, layout: ScenarioLayout, scenarios: number): ScenarioPnl {
   const fn = 'scenarioPnl';
   const n = values.length;
+  const { at, stride, first } = layout;
   requireInteger(fn, 'scenarios', scenarios, 1);
-  requireLength(fn, 'returns', simpleReturns.length, scenarios * n);
+  requireLength(fn, 'layout.at', at.length, n);
   const complete = new Uint8Array(n);
   let gross = 0;
   let coveredGross = 0;
@@ -56,7 +71,11 @@ export function scenarioPnlSimple(values: Float64Array, simpleReturns: Float64Ar
   for (let i = 0; i < n; i++) {
     if (!Number.isFinite(values[i])) throw new Error(`${fn}: values[${i}] must be finite, got ${values[i]}`);
     let full = true;
-    for (let s = 0; s < scenarios && full; s++) full = isReturn(simpleReturns[s * n + i]);
+    if (at[i] >= 0) {
+      const start = at[i] + first * stride;
+      if (start < 0 || start + (scenarios - 1) * stride >= source.length) throw new Error(`${fn}: holding ${i}'s scenarios lie outside the returns`);
+      for (let s = 0; s < scenarios && full; s++) full = isReturn(source[start + s * stride]);
+    }
     gross += Math.abs(values[i]);
     if (full || values[i] === 0) {
       complete[i] = 1;
@@ -65,11 +84,14 @@ export function scenarioPnlSimple(values: Float64Array, simpleReturns: Float64Ar
       missing.push(i);
     }
   }
+  // holding by holding, so each one's returns are read in order; a holding that never
+  // moves adds V x 0, which leaves a sum begun at +0 unchanged, so it is skipped
   const pnl = new Float64Array(scenarios);
-  for (let s = 0; s < scenarios; s++) {
-    let sum = 0;
-    for (let i = 0; i < n; i++) if (complete[i] === 1 && values[i] !== 0) sum += values[i] * simpleReturns[s * n + i];
-    pnl[s] = sum;
+  for (let i = 0; i < n; i++) {
+    if (complete[i] === 0 || values[i] === 0 || at[i] < 0) continue;
+    const v = values[i];
+    const start = at[i] + first * stride;
+    for (let s = 0; s < scenarios; s++) pnl[s] += v * source[start + s * stride];
   }
   return { pnl, coverage: gross > 0 ? coveredGross / gross : Number.NaN, missing: Int32Array.from(missing) };
 }
@@ -105,15 +127,25 @@ export function historicalLoss(pnl: Float64Array, varLevel: number, esLevel: num
   requireInteger(fn, 'pnl.length', pnl.length, 1);
   const varCount = tailCount(pnl.length, varLevel);
   const esCount = tailCount(pnl.length, esLevel);
-  const losses = new Float64Array(pnl.length);
+  // only the tail is ordered: the largest losses, kept sorted as the scenarios are read
+  const losses = new Float64Array(Math.max(varCount, esCount));
+  let kept = 0;
   for (let s = 0; s < pnl.length; s++) {
     if (!Number.isFinite(pnl[s])) throw new Error(`${fn}: pnl[${s}] must be finite, got ${pnl[s]}`);
-    losses[s] = -pnl[s];
+    const loss = -pnl[s];
+    if (kept === losses.length && !ranksAbove(loss, losses[kept - 1])) continue;
+    let k = kept < losses.length ? kept++ : kept - 1;
+    for (; k > 0 && ranksAbove(loss, losses[k - 1]); k--) losses[k] = losses[k - 1];
+    losses[k] = loss;
   }
-  losses.sort().reverse();
   let tail = 0;
   for (let k = 0; k < esCount; k++) tail += losses[k];
   return { var: losses[varCount - 1], es: tail / esCount, varCount, esCount };
+}
+
+/** x comes before y in descending order, +0 before -0 (the order of a sorted then reversed Float64Array). */
+function ranksAbove(x: number, y: number): boolean {
+  return x > y || (x === 0 && y === 0 && Object.is(y, -0) && !Object.is(x, -0));
 }
 
 /**

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import {
+  BacktestWindow,
   backtestSummary,
   baselZone,
   chiSquaredSurvival,
@@ -215,5 +216,26 @@ describe('backtestSummary', () => {
     const flags = Uint8Array.of(0, 1, 1);
     backtestSummary(flags, 0.99);
     expect(Array.from(flags)).toEqual([0, 1, 1]);
+  });
+});
+
+describe('BacktestWindow', () => {
+  it('keeps the counts of the last 250 days as days come and go: each day\'s figures are those of the window counted afresh', () => {
+    // clustered exceptions entering and leaving the window, past 250 days twice over
+    const flags = Uint8Array.from({ length: 620 }, (_, t) => (t % 97 < 3 || t % 41 === 0 ? 1 : 0));
+    const window = new BacktestWindow();
+    for (let t = 0; t < flags.length; t++) {
+      window.push(flags[t]);
+      const days = flags.subarray(Math.max(0, t + 1 - 250), t + 1);
+      const count = days.reduce((sum, f) => sum + f, 0);
+      expect(window.summary(0.99)).toEqual({
+        days: days.length,
+        exceptions: count,
+        kupiec: kupiecTest(count, days.length, 0.99),
+        independence: days.length >= 2 ? christoffersenIndependence(days) : null,
+        zone: days.length === 250 ? baselZone(count, 250) : null,
+      });
+    }
+    expect(() => window.push(2)).toThrow(/a flag must be 0 or 1, got 2/);
   });
 });

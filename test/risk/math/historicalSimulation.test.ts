@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { filteredReturns, historicalLoss, scenarioPnl, tailCount } from '../../../src/risk/math/historicalSimulation.ts';
+import { filteredReturns, historicalLoss, scenarioPnl, scenarioPnlAt, tailCount } from '../../../src/risk/math/historicalSimulation.ts';
 import { SP500_CLOSES, SP500_DATES } from './data/sp500Closes2008.ts';
+import { createRandom } from '../../../src/demo/random.ts';
 
 /** Log returns ln(P_t / P_t-1) of the S&P 500 closes of 2008, as a 250 x 1 scenario matrix. */
 function sp500Returns(): Float64Array {
@@ -128,7 +129,44 @@ describe('scenarioPnl', () => {
   });
 });
 
+describe('scenarioPnlAt', () => {
+  it('reads each holding\'s returns in place (per-security columns) with the figures of the row-major form, cash never moving', () => {
+    // three holdings over three scenarios, the second with a gap; the third is cash (no column)
+    const values = Float64Array.of(600, -400, 250);
+    const logReturns = [Float64Array.of(0.01, -0.02, 0.005), Float64Array.of(0.03, Number.NaN, -0.01)];
+    const rowMajor = new Float64Array(9);
+    for (let s = 0; s < 3; s++) {
+      rowMajor[s * 3] = logReturns[0][s];
+      rowMajor[s * 3 + 1] = logReturns[1][s];
+    }
+    const expected = scenarioPnl(values, rowMajor, 3);
+    // the columns stored after some other security's, simple returns taken once
+    const columns = Float64Array.of(9, 9, 9, ...logReturns[0], ...logReturns[1]).map((r, i) => (i < 3 ? r : Math.expm1(r)));
+    const got = scenarioPnlAt(values, columns, { at: Int32Array.of(3, 6, -1), stride: 1, first: 0 }, 3);
+    expect(got).toEqual(expected);
+    expect(Array.from(got.missing)).toEqual([1]);
+    // the last two scenarios only: the gap still leaves the second holding out
+    const tail = scenarioPnlAt(values, columns, { at: Int32Array.of(3, 6, -1), stride: 1, first: 1 }, 2);
+    expect(Array.from(tail.pnl)).toEqual([600 * Math.expm1(-0.02), 600 * Math.expm1(0.005)]);
+    expect(() => scenarioPnlAt(values, columns, { at: Int32Array.of(3, 7, -1), stride: 1, first: 0 }, 3)).toThrow(/holding 1's scenarios lie outside/);
+  });
+});
+
 describe('historicalLoss', () => {
+  it('orders the tail exactly as a full sort would, ties and signed zeros included', () => {
+    // the order statistics by definition: losses sorted descending, +0 before -0
+    const random = createRandom(7);
+    const pnl = Float64Array.from({ length: 500 }, (_, i) => (i % 50 === 0 ? 0 : i % 49 === 0 ? -0 : Math.round(random.uniform() * 200 - 100)));
+    const sorted = pnl.map((x) => -x).sort().reverse();
+    const result = historicalLoss(pnl, 0.99, 0.975);
+    expect(Object.is(result.var, sorted[result.varCount - 1])).toBe(true);
+    let tail = 0;
+    for (let k = 0; k < result.esCount; k++) tail += sorted[k];
+    expect(result.es).toBe(tail / result.esCount);
+    const zeros = historicalLoss(Float64Array.of(0, -0, 0, -0), 0.5, 0.5);
+    expect(Object.is(zeros.var, -0)).toBe(false);
+  });
+
   it('reports a negative VaR when even the k-th worst scenario gains (no floor at zero)', () => {
     const result = historicalLoss(Float64Array.of(5, 6, 7, 8), 0.75, 0.5);
     expect(result.var).toBe(-5);

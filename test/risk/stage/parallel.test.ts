@@ -3,7 +3,7 @@ import type { ConfigInput } from '../../../src/config/schema.ts';
 import { computeRisk, PARALLEL_MIN_COST, threadsFor, type ComputeInputs } from '../../../src/risk/computeRisk.ts';
 import { EwmaEstimate } from '../../../src/risk/ewmaEstimate.ts';
 import { readBenchmarkPanel } from '../../../src/risk/benchmarkInputs.ts';
-import { readPortfolioPanel, readReturnPanel } from '../../../src/risk/inputs.ts';
+import { readPortfolioPanel, readReturnPanel, readValuationDates } from '../../../src/risk/inputs.ts';
 import { DAILY_FIGURE_COUNT, type ResultBatch } from '../../../src/risk/resultColumns.ts';
 import { createRandom } from '../../../src/demo/random.ts';
 import { randomReturnPanel } from '../../helpers/returnPanel.ts';
@@ -114,9 +114,10 @@ describe('computeRisk in worker threads', () => {
     ws = await tempWorkspace({ risk });
     const s = buildScenario();
     await loadDays(ws.db, s, 0, s.dates.length - 1);
-    const returns = await readReturnPanel(ws.db);
-    const portfolios = await readPortfolioPanel(ws.db, returns.dates.length, 0, null);
-    const benchmarks = await readBenchmarkPanel(ws.db, ws.config, portfolios.ids, returns.dates.length, 0);
+    const dates = await readValuationDates(ws.db);
+    const returns = await readReturnPanel(ws.db, dates, 0);
+    const portfolios = await readPortfolioPanel(ws.db, dates.length, 0, null);
+    const benchmarks = await readBenchmarkPanel(ws.db, ws.config, portfolios.ids, dates.length, 0);
     return { returns, portfolios, benchmarks, fromRow: fromDay, ewmaState: null };
   }
 
