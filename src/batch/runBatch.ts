@@ -43,6 +43,8 @@ export interface BatchSummary {
   /** Why no run was made although files were loaded (nothing to compute), in plain words. */
   idle: string | null;
   delivery: DeliverySummary | null;
+  /** Why the read copy was not published (the disk too full), in one line; null when it was. */
+  readCopyBehind: string | null;
 }
 
 /**
@@ -61,7 +63,7 @@ export async function runBatch(
   options: BatchOptions = {},
 ): Promise<BatchSummary> {
   const blog = log.child({ stage: 'batch' });
-  const summary: BatchSummary = { files: [], skipped: [], scope: null, settingChanges: [], run: null, runError: null, idle: null, delivery: null };
+  const summary: BatchSummary = { files: [], skipped: [], scope: null, settingChanges: [], run: null, runError: null, idle: null, delivery: null, readCopyBehind: null };
 
   const interrupted = await markInterruptedRuns(db);
   if (interrupted.length > 0) blog.warn({ runIds: interrupted }, `run ${interrupted.join(', ')} marked interrupted: the process ended during it`);
@@ -101,7 +103,11 @@ export async function runBatch(
   }
 
   if (options.deliver ?? true) summary.delivery = await deliverAlerts(db, config, log);
-  await publishReadCopy(db, config, log);
+  const published = await publishReadCopy(db, config, log);
+  if (!published.published) {
+    summary.readCopyBehind = published.reason;
+    blog.warn({ kind: 'disk_full', readCopy: config.readCopy }, published.reason);
+  }
   blog.info(
     {
       files: summary.files.map((f) => ({ name: f.name, status: f.status, rows: f.rows })),
@@ -109,6 +115,7 @@ export async function runBatch(
       runId: summary.run?.runId ?? null,
       runError: summary.runError,
       idle: summary.idle,
+      readCopyBehind: summary.readCopyBehind,
     },
     'batch done',
   );

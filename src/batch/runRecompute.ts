@@ -6,7 +6,7 @@ import { phaseClock } from '../log/phaseClock.ts';
 import { computeLosses } from '../loss/computeLosses.ts';
 import { dropLossStage } from '../loss/lossStage.ts';
 import { computeRun, type PortfolioRiskFailure } from '../risk/computeRun.ts';
-import { dropStaging } from '../risk/staging.ts';
+import { dropStaging } from '../risk/store/staging.ts';
 import type { Database } from '../storage/database.ts';
 import { refreshDerived } from '../storage/derived.ts';
 import { markRunDone, recordRunFailure, startRun } from './runRecord.ts';

@@ -5,9 +5,8 @@ import type { Config } from '../config/load.ts';
 import { HOLD_BEFORE, KEEP_REPLACED, PRUNE_HISTORY } from '../history/historyWriters.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
 import { writeLosses } from '../loss/lossStage.ts';
-import type { ComputedRisk, RiskScope } from '../risk/computeRun.ts';
-import { saveEwmaState } from '../risk/ewmaState.ts';
-import { replaceResults } from '../risk/staging.ts';
+import { saveEstimatorStates, type ComputedRisk, type RiskScope } from '../risk/computeRun.ts';
+import { replaceResults } from '../risk/store/staging.ts';
 import type { Database } from '../storage/database.ts';
 import { portfolioIncidents } from './portfolioIncident.ts';
 import { closeRunFailure } from './runIncident.ts';
@@ -66,7 +65,7 @@ export const RUN_WRITERS: readonly RunWriter[] = [
   },
   {
     name: 'save_ewma_state',
-    write: (tx, run) => saveEwmaState(tx, run.config.risk.ewma, run.risk.dates, run.risk.ewmaStates, run.runId, run.settings),
+    write: (tx, run) => saveEstimatorStates(tx, run.config, run.risk, run.runId, run.settings),
   },
   {
     name: 'limits',

@@ -345,10 +345,16 @@ export const configSchema = z
           .positive()
           .default(30_000)
           .describe('A batch starts at the latest this long after its first arrival, however files keep trickling in.'),
+        publishRetryMs: z
+          .number()
+          .int()
+          .positive()
+          .default(60_000)
+          .describe('After a read copy the disk had no room for, the worker tries again this often (and with every batch).'),
       })
       .strict()
       .refine((w) => w.settleMs <= w.maxBatchWaitMs, { message: 'settleMs must not exceed maxBatchWaitMs', path: ['settleMs'] })
-      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, maxBatchWaitMs: 30_000 }),
+      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, maxBatchWaitMs: 30_000, publishRetryMs: 60_000 }),
     ingest: ingestSchema.default(ingestSchema.parse({})),
     risk: riskSchema.default(riskSchema.parse({})),
     benchmarks: z

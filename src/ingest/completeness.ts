@@ -6,7 +6,7 @@ import type { Rejection } from '../errors.ts';
 
 /** Why a delivery is left in the inbox for now. */
 export interface HoldReason {
-  code: 'unterminated_line' | 'no_done_marker' | 'truncated_stream' | 'empty_so_far' | 'snapshot_drop';
+  code: 'unterminated_line' | 'no_done_marker' | 'truncated_stream' | 'empty_so_far' | 'snapshot_drop' | 'hard_link' | 'not_regular_file';
   reason: string;
 }
 

@@ -37,7 +37,7 @@ export function finishMove(filePath: string, target: string): string {
   return moveWithoutOverwrite(filePath, path.dirname(target), path.basename(target));
 }
 
-function statOrNull(p: string) {
+export function statOrNull(p: string) {
   try {
     return statSync(p);
   } catch {
@@ -45,6 +45,6 @@ function statOrNull(p: string) {
   }
 }
 
-function sameInode(a: { dev: number; ino: number }, b: { dev: number; ino: number }): boolean {
+export function sameInode(a: { dev: number; ino: number }, b: { dev: number; ino: number }): boolean {
   return a.dev === b.dev && a.ino === b.ino;
 }

@@ -15,6 +15,7 @@ import { layoutOf, type KindLayout } from './layout.ts';
 import { loadFile } from './load.ts';
 import { archiveDir, freePath } from './moves.ts';
 import { neverPricedSecurities } from './neverPriced.ts';
+import { refusalOf } from './ownCopy.ts';
 import { plausibilityFor, type Plausibility } from './plausibility.ts';
 import { alreadyLoaded, recordRejected, settle } from './recordOutcome.ts';
 import { matchSource } from './sourceMatch.ts';
@@ -56,11 +57,17 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
   const receivedAt = new Date();
   const bounds = plausibilityFor(config, receivedAt);
   const started = performance.now();
+  const matched = matchSource(config.sources, name);
+  const base = { name, kind: matched?.kind ?? null, source: matched?.name ?? null, receivedAt };
+  const refusal = await refusalOf(db, filePath, name);
+  if (refusal) {
+    // no ledger or hold row: both would need the file's bytes; it stays until replaced
+    flog.warn({ code: refusal.code }, `${name} left in the inbox: ${refusal.reason}`);
+    return { status: 'held', fileId: null, name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo: filePath, hold: refusal };
+  }
   // hashing runs in this thread while DuckDB reads the file in its own
   const hashing = sha256OfFile(filePath);
   hashing.catch(() => undefined); // awaited below; a read error surfaces there, or first from the header
-  const matched = matchSource(config.sources, name);
-  const base = { name, kind: matched?.kind ?? null, source: matched?.name ?? null, receivedAt };
   const complete = await checkComplete(config, filePath, name);
   if (complete.state === 'held') return holdFile(db, flog, filePath, { ...base, sha256: await hashing }, complete.hold);
   const prepared =

@@ -1,5 +1,5 @@
 import { BacktestWindow, exceptions } from '../risk/math/backtest.ts';
-import type { PortfolioPanel } from '../risk/inputs.ts';
+import type { PortfolioPanel } from '../risk/inputs/panels.ts';
 import type { BacktestRow } from './lossStage.ts';
 import { VAR_LEVEL } from './historicalVar.ts';
 

@@ -1,7 +1,7 @@
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { WORST_WINDOW_PREFIX } from '../config/stressSchema.ts';
-import type { PortfolioPanel, ReturnPanel } from '../risk/inputs.ts';
+import type { PortfolioPanel, ReturnPanel } from '../risk/inputs/panels.ts';
 import { readColumns } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';
 import { backtestRows, seriesId, VarHistory } from './backtestRows.ts';

@@ -1,5 +1,5 @@
 import { filteredReturns, historicalLoss, scenarioPnlAt, type ScenarioPnl } from '../risk/math/historicalSimulation.ts';
-import type { PortfolioPanel, ReturnPanel } from '../risk/inputs.ts';
+import type { PortfolioPanel, ReturnPanel } from '../risk/inputs/panels.ts';
 import type { VarRow } from './lossStage.ts';
 
 /**

@@ -4,7 +4,7 @@ import type { Database } from '../storage/database.ts';
 
 /**
  * The loss stage's rows go first to temporary tables, through appenders and outside
- * any transaction, like the risk stage's (src/risk/staging.ts); `writeLosses` swaps
+ * any transaction, like the risk stage's (src/risk/store/staging.ts); `writeLosses` swaps
  * them into var_daily, var_backtest and stress_results inside the run's one write
  * transaction. Lists (the holdings left out) are staged as text joined by '|'.
  */

@@ -1,11 +1,11 @@
 import { ewmaVarianceUpdate } from '../risk/math/ewma.ts';
-import type { ReturnPanel } from '../risk/inputs.ts';
+import type { ReturnPanel } from '../risk/inputs/panels.ts';
 
 /**
  * Each security's EWMA daily sigma after each date, for the filtered historical
  * simulation: sigmaAfter[d * n + j] is the forecast for the date after row d, from the
  * returns up to and including d. It is the diagonal of the risk stage's EWMA matrix
- * (src/risk/ewmaEstimate.ts), with the same lambda and the same entry rule: a security
+ * (src/risk/estimators/ewma.ts), with the same lambda and the same entry rule: a security
  * enters once it has seedDays consecutive returns, its variance the EWMA-weighted mean of
  * their squares, sum_u (1 - lambda) lambda^k r_u^2 / (1 - lambda^seedDays); a missing
  * return takes it out until it has seedDays consecutive returns again. NaN while out.

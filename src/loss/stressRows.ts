@@ -1,6 +1,6 @@
 import type { StressScenario } from '../config/stressSchema.ts';
 import { WORST_WINDOW_PREFIX } from '../config/stressSchema.ts';
-import type { ReturnPanel } from '../risk/inputs.ts';
+import type { ReturnPanel } from '../risk/inputs/panels.ts';
 import { compoundedReturns, hypotheticalReturns, stressPnl, type StressHolding } from '../risk/math/stress.ts';
 import type { StressRow } from './lossStage.ts';
 import type { WorstWindows } from './worstWindows.ts';

@@ -2,13 +2,13 @@ import type { Logger } from 'pino';
 import type { Database } from '../storage/database.ts';
 import type { Config } from '../config/load.ts';
 import type { PhaseClock } from '../log/phaseClock.ts';
-import { computeRisk, progressUnits } from './computeRisk.ts';
-import type { EwmaState } from './ewmaEstimate.ts';
-import { loadEwmaState } from './ewmaState.ts';
-import { readBenchmarkPanel } from './benchmarkInputs.ts';
-import { readPortfolioPanel, readReturnPanel, readValuationDates, type PortfolioPanel, type ReturnPanel } from './inputs.ts';
-import { startProgress } from './progress.ts';
-import { ResultStage } from './staging.ts';
+import type { EstimatorStates } from './estimators/estimator.ts';
+import { registeredEstimators } from './estimators/registry.ts';
+import { readBenchmarkPanel } from './inputs/benchmarkPanel.ts';
+import { readPortfolioPanel, readReturnPanel, readValuationDates, type PortfolioPanel, type ReturnPanel } from './inputs/panels.ts';
+import { computeRisk, progressUnits } from './runtime/computeRisk.ts';
+import { startProgress } from './runtime/progress.ts';
+import { ResultStage } from './store/staging.ts';
 
 /** The dates and portfolios one run recomputes. */
 export interface RiskScope {
@@ -17,11 +17,11 @@ export interface RiskScope {
   from: string | null;
   /** null: every portfolio. */
   portfolios: string[] | null;
-  /** JSON of the settings the run's results are made with: stored EWMA state is continued only if made with the same. */
+  /** JSON of the settings the run's results are made with: a stored estimator state is continued only if made with the same. */
   settings: string;
 }
 
-/** What the compute left for the write step: rows in the staging tables, the EWMA states to keep. */
+/** What the compute left for the write step: rows in the staging tables, the estimators' states to keep. */
 export interface ComputedRisk {
   /** Every valuation date read, ascending. */
   dates: string[];
@@ -29,8 +29,8 @@ export interface ComputedRisk {
   portfolios: number;
   /** risk_daily rows staged. */
   riskRows: number;
-  /** EWMA states at the last two dates, oldest first (none without EWMA or dates). */
-  ewmaStates: EwmaState[];
+  /** The states the estimators keep, by name (the EWMA: at the last two dates, oldest first). */
+  states: EstimatorStates;
   /** The panels the run computed from, for the loss stage (src/loss) that revalues the same holdings. */
   inputs: { returns: ReturnPanel; portfolios: PortfolioPanel; fromRow: number };
   /** Portfolios whose risk could not be computed, by id: nothing of theirs is staged. */
@@ -49,7 +49,7 @@ export interface PortfolioRiskFailure {
  * dates the run needs (the derived tables must be current: the batch refreshes them
  * first), computes every
  * estimate from `from` on and stages the rows. Writing them is the batch's write step
- * (staging.ts `replaceResults`, ewmaState.ts `saveEwmaState`); `dropStaging` cleans up.
+ * (store/staging.ts `replaceResults`, `saveEstimatorStates`); `dropStaging` cleans up.
  * A portfolio whose compute fails is returned in `failures` with none of its rows
  * staged; the others are unaffected.
  */
@@ -57,8 +57,7 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   const rlog = log.child({ stage: 'risk', runId: scope.runId });
   const dates = await phases.time('read_dates', () => readValuationDates(db));
   const fromRow = scope.from === null ? 0 : firstRowOnOrAfter(dates, scope.from);
-  const { ewma } = config.risk;
-  const ewmaState = ewma.enabled ? await phases.time('load_ewma_state', () => loadEwmaState(db, ewma, dates, fromRow, scope.settings)) : null;
+  const states = await phases.time('load_estimator_state', () => loadEstimatorStates(db, config, dates, fromRow, scope.settings));
   const longest = Math.max(...config.risk.windows);
   // holdings, benchmarks and portfolio returns from the longest window before the first
   // output row (realized figures, averaged weights; the loss stage's backtest and worst
@@ -71,14 +70,14 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   for (const id of scope.portfolios ?? []) {
     if (!portfolios.ids.includes(id)) rlog.warn({ portfolio: id }, 'no positions for this portfolio: nothing to compute');
   }
-  rlog.debug({ fromRow, dates: dates.length, securities: returns.securityIds.length, ewmaFromState: ewmaState !== null }, 'inputs read');
+  rlog.debug({ fromRow, dates: dates.length, securities: returns.securityIds.length, ...fromStateFlags(config, states) }, 'inputs read');
 
   const stage = await ResultStage.open(db);
   const progress = startProgress(rlog, progressUnits(config, dates.length, fromRow), 'recompute');
-  let ewmaStates: EwmaState[] = [];
+  let kept: EstimatorStates = {};
   const computeStarted = performance.now();
   try {
-    ewmaStates = await computeRisk({ returns, portfolios, benchmarks, fromRow, ewmaState }, config, (batch) => stage.append(batch), progress, rlog);
+    kept = await computeRisk({ returns, portfolios, benchmarks, fromRow, states }, config, (batch) => stage.append(batch), progress, rlog);
   } finally {
     progress.finish();
     phases.add('compute', computeStarted);
@@ -91,7 +90,37 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
     .map((f) => ({ portfolioId: portfolios.ids[f.portfolio], date: dates[f.row], error: f.message }))
     .sort((a, b) => (a.portfolioId < b.portfolioId ? -1 : 1));
   for (const f of failures) rlog.error({ portfolio: f.portfolioId, date: f.date, error: f.error }, 'risk of this portfolio not computed; the others go on');
-  return { dates, portfolios: portfolios.ids.length, riskRows, ewmaStates, inputs: { returns, portfolios, fromRow }, failures };
+  return { dates, portfolios: portfolios.ids.length, riskRows, states: kept, inputs: { returns, portfolios, fromRow }, failures };
+}
+
+/** The estimators that keep a state between runs and run with this config. */
+function keepingState(config: Config) {
+  return registeredEstimators().filter((plugin) => plugin.storedState && plugin.windows(config).length > 0);
+}
+
+/** The stored state at fromRow - 1 of each of them that has one. */
+async function loadEstimatorStates(db: Database, config: Config, dates: readonly string[], fromRow: number, settings: string) {
+  const states: Record<string, unknown> = {};
+  for (const plugin of keepingState(config)) {
+    const state = await plugin.storedState!.load(db, config, dates, fromRow, settings);
+    if (state !== null) states[plugin.name] = state;
+  }
+  return states;
+}
+
+/** `<name>FromState` of each of them: whether it continues a stored state. */
+function fromStateFlags(config: Config, states: Record<string, unknown>): Record<string, boolean> {
+  return Object.fromEntries(keepingState(config).map((plugin) => [`${plugin.name}FromState`, plugin.name in states]));
+}
+
+/**
+ * Inside the run's write transaction: each estimator that keeps a state replaces its
+ * stored one with the run's (none kept: it was switched off, or no dates are left).
+ */
+export async function saveEstimatorStates(db: Database, config: Config, risk: Pick<ComputedRisk, 'dates' | 'states'>, runId: number, settings: string): Promise<void> {
+  for (const plugin of registeredEstimators()) {
+    await plugin.storedState?.save(db, config, risk.dates, risk.states[plugin.name] ?? [], runId, settings);
+  }
 }
 
 /** First date row on or after `from` (dates ascending, ISO strings compare as dates); dates.length if none. */

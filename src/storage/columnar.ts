@@ -1,5 +1,6 @@
 import { DuckDBDataChunk, type DuckDBType, type DuckDBVector } from '@duckdb/node-api';
 import type { Database, Params } from '../storage/database.ts';
+import { ensureCapacity } from './growable.ts';
 
 /**
  * Bulk transfer between DuckDB and typed arrays, chunk by chunk (2,048 rows), so the
@@ -33,14 +34,10 @@ export async function readColumns<S extends Record<string, ColumnKind>>(
 ): Promise<{ rows: number; columns: Columns<S> }> {
   const names = Object.keys(spec);
   const kinds = names.map((n) => spec[n]);
-  let capacity = 1 << 14;
-  let buffers = kinds.map((k) => allocate(k, capacity));
+  let buffers = kinds.map((k) => allocate(k, 1 << 14));
   let rows = 0;
   await streamColumns(db, sql, params, spec, (chunk, n) => {
-    if (rows + n > capacity) {
-      while (rows + n > capacity) capacity *= 2;
-      buffers = buffers.map((b, c) => grow(kinds[c], b, capacity, rows));
-    }
+    buffers = buffers.map((b, c) => (Array.isArray(b) ? b : ensureCapacity(b, rows, rows + n, (size) => allocate(kinds[c], size) as typeof b)));
     names.forEach((name, c) => copyInto(buffers[c], chunk[name] as Buffer, rows, n));
     rows += n;
   });
@@ -93,13 +90,6 @@ function allocate(kind: ColumnKind, n: number): Buffer {
   if (kind === 'double') return new Float64Array(n);
   if (kind === 'bool') return new Uint8Array(n);
   return new Array<string | null>(n);
-}
-
-function grow(kind: ColumnKind, old: Buffer, n: number, used: number): Buffer {
-  if (Array.isArray(old)) return old;
-  const next = allocate(kind, n) as Int32Array;
-  next.set((old as Int32Array).subarray(0, used));
-  return next;
 }
 
 function copyInto(out: Buffer, chunk: Buffer, at: number, n: number): void {

@@ -10,7 +10,7 @@ import { runBatch } from '../batch/runBatch.ts';
 import { markerSuffix } from '../ingest/completeness.ts';
 import { recoverAtStart } from '../ingest/recovery.ts';
 import type { Database } from '../storage/database.ts';
-import { openWorkspace, publishReadCopy } from '../storage/workspace.ts';
+import { openWorkspace, publishReadCopy, type PublishOutcome } from '../storage/workspace.ts';
 import { ArrivalWindow } from '../watch/arrivalWindow.ts';
 import { DeliveryLoop } from './deliveryLoop.ts';
 import { listInbox, waitUntilStable } from '../watch/inboxFiles.ts';
@@ -67,8 +67,10 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
 
   const handleBatch = async (files: string[]) => {
     try {
-      await runBatch(db, config, log, files, { deliver: false, shouldStop: () => stopping });
-      publishWanted = false;
+      const summary = await runBatch(db, config, log, files, { deliver: false, shouldStop: () => stopping });
+      // a copy the disk had no room for is tried again by the next batch or publish
+      publishWanted = summary.readCopyBehind !== null;
+      if (publishWanted) retryPublishLater();
       delivery.kick();
     } catch (err) {
       // a fault of the machine (disk, database): stop cleanly, the supervisor restarts us
@@ -82,10 +84,26 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
   const arrivals = new ArrivalWindow(config.watch.settleMs, config.watch.maxBatchWaitMs, (files) => queue.addFiles(files));
   const republish = () => {
     publishWanted = true;
-    queue.exclusive(() => (publishWanted ? publishReadCopy(db, config, log) : Promise.resolve())).then(
-      () => (publishWanted = false),
+    queue.exclusive(() => (publishWanted ? publishReadCopy(db, config, log) : Promise.resolve<PublishOutcome>({ published: true }))).then(
+      (outcome) => {
+        publishWanted = !outcome.published;
+        if (!outcome.published) {
+          wlog.debug({ reason: outcome.reason }, 'read copy not republished');
+          retryPublishLater();
+        }
+      },
       (err: unknown) => wlog.debug({ err }, 'read copy not republished'),
     );
+  };
+  // one timer at a time; a batch in between publishes (or re-arms it) on its own
+  let publishRetry: NodeJS.Timeout | null = null;
+  const retryPublishLater = () => {
+    if (publishRetry !== null || stopping) return;
+    publishRetry = setTimeout(() => {
+      publishRetry = null;
+      if (publishWanted && !stopping) republish();
+    }, config.watch.publishRetryMs);
+    publishRetry.unref();
   };
   // deliverAlerts works on a session of its own, so it may run while a batch holds a transaction
   const delivery = new DeliveryLoop(() => deliverAlerts(db, config, log), republish, log);
@@ -105,11 +123,17 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       wlog.info({ waiting: queue.waiting }, 'stopping: finishing the current file');
       await watcher?.close();
       arrivals.close();
+      if (publishRetry !== null) clearTimeout(publishRetry);
       await schedules?.stop();
       retryRequests.stop();
       await queue.stop();
       await delivery.stop();
-      if (publishWanted && !fault) await publishReadCopy(db, config, log).catch((err) => wlog.error({ err }, 'final publish failed'));
+      if (publishWanted && !fault) {
+        await publishReadCopy(db, config, log).then(
+          (outcome) => outcome.published || wlog.warn({ kind: 'disk_full' }, outcome.reason),
+          (err: unknown) => wlog.error({ err }, 'final publish failed'),
+        );
+      }
       db.close();
       removePidFile(config);
       wlog.info('stopped');

@@ -1,5 +1,5 @@
 import type { Random } from '../../src/demo/random.ts';
-import { seriesLayouts, type ReturnPanel } from '../../src/risk/inputs.ts';
+import { seriesLayouts, type ReturnPanel } from '../../src/risk/inputs/panels.ts';
 
 export interface PanelShape {
   /** Daily drift added to every return. */

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { createRandom } from '../../src/demo/random.ts';
 import { securitySigmas } from '../../src/loss/securitySigmas.ts';
-import { EwmaEstimate } from '../../src/risk/ewmaEstimate.ts';
+import { EwmaEstimate } from '../../src/risk/estimators/ewma.ts';
 import { randomReturnPanel } from '../helpers/returnPanel.ts';
 
 describe('securitySigmas', () => {

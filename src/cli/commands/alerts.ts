@@ -63,9 +63,10 @@ async function retry(config: Config, log: Logger, ids: string[]): Promise<string
   try {
     const outcome = await rearmAlerts(db, config, ids);
     const summary = outcome.rearmed.length > 0 ? await deliverAlerts(db, config, log) : null;
-    await publishReadCopy(db, config, log);
+    const published = await publishReadCopy(db, config, log);
     const lines = [`re-armed ${outcome.rearmed.length} alert${outcome.rearmed.length === 1 ? '' : 's'}${summary ? `: ${summary.delivered} delivered, ${summary.pending} still undelivered` : ''}`];
     if (outcome.notPending.length > 0) lines.push(`not undelivered (unknown or already delivered): ${outcome.notPending.join(', ')}`);
+    if (!published.published) lines.push(published.reason);
     return lines.join('\n');
   } finally {
     db.close();

@@ -43,6 +43,7 @@ export function registerIngest(program: Command): void {
       for (const change of summary.settingChanges) process.stdout.write(`${describeChange(change)}\n`);
       if (summary.run) process.stdout.write(`${describeRun(summary.run)}\n`);
       if (summary.idle) process.stdout.write(`${summary.idle}\n`);
+      if (summary.readCopyBehind !== null) process.stdout.write(`${summary.readCopyBehind}\n`);
       if (summary.runError !== null) throw new Error(`the files are loaded but the recompute failed: ${summary.runError}`);
       if (opts.strict && rejected > 0) throw new RiskfoldError('input_rejected', `--strict: ${rejected} of ${summary.files.length} files rejected`);
     } finally {

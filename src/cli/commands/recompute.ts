@@ -34,6 +34,7 @@ export function registerRecompute(program: Command): void {
       for (const change of batch.settingChanges) process.stdout.write(`${describeChange(change)}\n`);
       if (batch.run === null) throw new Error(`recompute failed: ${batch.runError}`);
       process.stdout.write(`${describeRun(batch.run)}\n`);
+      if (batch.readCopyBehind !== null) process.stdout.write(`${batch.readCopyBehind}\n`);
     } finally {
       db.close();
     }

@@ -1,6 +1,6 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import { memoryLogger } from '../../../src/log/logger.ts';
-import { startProgress } from '../../../src/risk/progress.ts';
+import { startProgress } from '../../../src/risk/runtime/progress.ts';
 import { openDatabase } from '../../../src/storage/database.ts';
 import { runCli } from '../../cli/cliProcess.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';

@@ -2,9 +2,9 @@ import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import * as ss from 'simple-statistics';
 import { describe, expect, it } from 'vitest';
 import { createRandom } from '../../../src/demo/random.ts';
-import { EwmaEstimate } from '../../../src/risk/ewmaEstimate.ts';
-import type { ReturnPanel } from '../../../src/risk/inputs.ts';
-import { chooseSamplePath, SampleEstimate, SLIDING_REFRESH, slidingStartRow } from '../../../src/risk/sampleEstimate.ts';
+import { EwmaEstimate } from '../../../src/risk/estimators/ewma.ts';
+import type { ReturnPanel } from '../../../src/risk/inputs/panels.ts';
+import { chooseSamplePath, SampleEstimate, SLIDING_REFRESH, slidingStartRow } from '../../../src/risk/estimators/sample.ts';
 import { randomReturnPanel } from '../../helpers/returnPanel.ts';
 
 /** T x N returns with a few holes (NaN) and one late starter, laid out as inputs.ts does. */

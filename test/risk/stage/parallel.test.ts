@@ -1,10 +1,12 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import type { ConfigInput } from '../../../src/config/schema.ts';
-import { computeRisk, PARALLEL_MIN_COST, threadsFor, type ComputeInputs } from '../../../src/risk/computeRisk.ts';
-import { EwmaEstimate } from '../../../src/risk/ewmaEstimate.ts';
-import { readBenchmarkPanel } from '../../../src/risk/benchmarkInputs.ts';
-import { readPortfolioPanel, readReturnPanel, readValuationDates } from '../../../src/risk/inputs.ts';
-import { DAILY_FIGURE_COUNT, type ResultBatch } from '../../../src/risk/resultColumns.ts';
+import { computeRisk, type ComputeInputs } from '../../../src/risk/runtime/computeRisk.ts';
+import { PARALLEL_MIN_COST, threadsFor } from '../../../src/risk/runtime/costModel.ts';
+import { EwmaEstimate, type EwmaState } from '../../../src/risk/estimators/ewma.ts';
+import { readBenchmarkPanel } from '../../../src/risk/inputs/benchmarkPanel.ts';
+import { readPortfolioPanel, readReturnPanel, readValuationDates } from '../../../src/risk/inputs/panels.ts';
+import { DAILY_FIGURES } from '../../../src/risk/walk/figures.ts';
+import type { ResultBatch } from '../../../src/risk/walk/resultColumns.ts';
 import { createRandom } from '../../../src/demo/random.ts';
 import { randomReturnPanel } from '../../helpers/returnPanel.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
@@ -20,7 +22,7 @@ function rowsOf(batches: ResultBatch[]): string[] {
     const { daily: d, contributions: c, active: a, securities: s, volChange: v, volChangeSecurities: vs } = b;
     for (let i = 0; i < d.rows; i++) {
       const figures = d.figures.map((f) => String(f[i]));
-      expect(figures.length).toBe(DAILY_FIGURE_COUNT);
+      expect(figures.length).toBe(DAILY_FIGURES.length);
       rows.push(`daily|${tag}|${d.portfolio[i]}|${d.row[i]}|${figures.join(',')}|${b.statuses[d.status[i]]}|${d.nHoldings[i]}|${d.nCovered[i]}`);
     }
     for (let i = 0; i < c.rows; i++) rows.push(`contribution|${tag}|${c.portfolio[i]}|${c.row[i]}|${c.security[i]}|${c.values.map((v) => String(v[i]))}`);
@@ -83,7 +85,7 @@ function wideInputs(t = 420, n = 40): ComputeInputs {
     },
     benchmarks: halfWayBenchmark(random, t, ids.length),
     fromRow: 0,
-    ewmaState: null,
+    states: {},
   };
 }
 
@@ -118,12 +120,13 @@ describe('computeRisk in worker threads', () => {
     const returns = await readReturnPanel(ws.db, dates, 0);
     const portfolios = await readPortfolioPanel(ws.db, dates.length, 0, null);
     const benchmarks = await readBenchmarkPanel(ws.db, ws.config, portfolios.ids, dates.length, 0);
-    return { returns, portfolios, benchmarks, fromRow: fromDay, ewmaState: null };
+    return { returns, portfolios, benchmarks, fromRow: fromDay, states: {} };
   }
 
   async function run(input: ComputeInputs, threads: number) {
     const batches: ResultBatch[] = [];
-    const ewma = await computeRisk(input, ws!.config, (b) => batches.push(b), quiet, ws!.log, { threads });
+    const states = await computeRisk(input, ws!.config, (b) => batches.push(b), quiet, ws!.log, { threads });
+    const ewma = (states.ewma ?? []) as EwmaState[];
     return { rows: rowsOf(batches), ewma };
   }
 
@@ -152,7 +155,7 @@ describe('computeRisk in worker threads', () => {
     const last = input.returns.dates.length - 1;
     const before = new EwmaEstimate(input.returns, 0.94, 10, null);
     for (let d = 0; d < last; d++) before.advance(d);
-    const later = { ...input, fromRow: last, ewmaState: before.snapshot() };
+    const later = { ...input, fromRow: last, states: { ewma: before.snapshot() } };
     expect(first.rows.length).toBeGreaterThan(1_000);
     expect((await run(input, 3)).rows).toEqual(first.rows);
     expect((await run(later, 2)).rows).toEqual((await run(later, 1)).rows);
@@ -160,7 +163,7 @@ describe('computeRisk in worker threads', () => {
 
   it('reports a failure inside a worker as the run failing, with the reason', async () => {
     const input = await inputsFor(RISK);
-    const broken = { ...input, fromRow: 100, ewmaState: { row: 99, securityIds: ['EQ-NOWHERE'], matrix: Float64Array.from([1e-4]) } };
+    const broken = { ...input, fromRow: 100, states: { ewma: { row: 99, securityIds: ['EQ-NOWHERE'], matrix: Float64Array.from([1e-4]) } } };
     await expect(run(broken, 2)).rejects.toThrow(/worker thread: EWMA state names EQ-NOWHERE, which has no returns now/);
   });
 });

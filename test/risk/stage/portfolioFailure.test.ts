@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import type { ConfigInput } from '../../../src/config/schema.ts';
 import { resolveConfig } from '../../../src/config/load.ts';
-import { computeRisk, type ComputeInputs } from '../../../src/risk/computeRisk.ts';
-import type { PortfolioFailure, ResultBatch } from '../../../src/risk/resultColumns.ts';
+import { computeRisk, type ComputeInputs } from '../../../src/risk/runtime/computeRisk.ts';
+import type { PortfolioFailure, ResultBatch } from '../../../src/risk/walk/resultColumns.ts';
 import { createRandom } from '../../../src/demo/random.ts';
 import { memoryLogger } from '../../../src/log/logger.ts';
 import { randomReturnPanel } from '../../helpers/returnPanel.ts';
@@ -33,7 +33,7 @@ function inputs(birchValue: (d: number) => number): ComputeInputs {
     // no benchmark: tracking error is not what this test is about
     benchmarks: { ids: [], ofPortfolio: new Int32Array(IDS.length).fill(-1), logReturn: new Float64Array(0), offsets: new Int32Array(1), security: new Int32Array(0), weight: new Float64Array(0) },
     fromRow: 0,
-    ewmaState: null,
+    states: {},
   };
 }
 

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { assessRow, type CovarianceView, type Exposure } from '../../../src/risk/portfolioRow.ts';
+import { assessRow, type CovarianceView, type Exposure } from '../../../src/risk/walk/portfolioRow.ts';
 
 /**
  * Two holdings with daily variances 0.0001 and 0.0004 and covariance 0.00006 (invented

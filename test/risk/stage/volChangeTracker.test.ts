@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { volatilityChange } from '../../../src/risk/math/volChange.ts';
-import type { CovarianceView, Exposure } from '../../../src/risk/portfolioRow.ts';
-import { VolChangeTracker } from '../../../src/risk/volChangeTracker.ts';
+import type { CovarianceView, Exposure } from '../../../src/risk/walk/portfolioRow.ts';
+import { VolChangeTracker } from '../../../src/risk/walk/volChangeTracker.ts';
 
 /**
  * The tracker's bookkeeping between two dates, on hand-made covariances over four

@@ -1,8 +1,8 @@
 import { Worker } from 'node:worker_threads';
-import type { EwmaState } from './ewmaEstimate.ts';
-import type { ComputeInputs, EstimateTask, WalkSettings } from './estimateWalk.ts';
+import { keepStates, type EstimatorStates } from '../estimators/estimator.ts';
+import type { ResultBatch } from '../walk/resultColumns.ts';
+import type { ComputeInputs, EstimateTask, WalkSettings } from '../walk/walkEstimate.ts';
 import { WORKER_ROLE, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
-import type { ResultBatch } from './resultColumns.ts';
 
 /**
  * Walks the estimates in `threads` worker threads. The inputs are shared, not copied
@@ -10,7 +10,8 @@ import type { ResultBatch } from './resultColumns.ts';
  * whichever worker is free; every batch a worker posts goes to `onBatch` on this thread
  * as it arrives. Each walk is the same code as on the main thread, so the numbers are
  * the same bit for bit; only the order in which batches arrive differs.
- * Resolves with the EWMA states of the EWMA task (none without one).
+ * Resolves with the states the estimators keep, as on the main thread. Only estimators
+ * registered in registry.ts exist in the workers.
  */
 export async function walkInWorkers(
   tasks: readonly { task: EstimateTask; cost: number }[],
@@ -18,15 +19,16 @@ export async function walkInWorkers(
   settings: WalkSettings,
   threads: number,
   onBatch: (batch: ResultBatch) => void,
-): Promise<EwmaState[]> {
+): Promise<EstimatorStates> {
   const shared = shareInputs(input);
   const queue = tasks.map((t, taskId) => ({ taskId, task: t.task, cost: t.cost })).sort((a, b) => b.cost - a.cost);
+  const estimatorOf = tasks.map((t) => t.task.estimator);
   const workers = Array.from(
     { length: Math.min(threads, queue.length) },
     // execArgv empty: the boot file registers tsx itself, whatever flags this process ran with
     () => new Worker(new URL('./estimateWorkerBoot.mjs', import.meta.url), { workerData: { role: WORKER_ROLE }, execArgv: [] }),
   );
-  let ewmaStates: EwmaState[] = [];
+  const states: EstimatorStates = {};
   try {
     await new Promise<void>((resolve, reject) => {
       let running = 0;
@@ -59,7 +61,7 @@ export async function walkInWorkers(
             fail(Object.assign(new Error(`risk estimate failed in a worker thread: ${reply.message}`), { stack: reply.stack }));
             return;
           }
-          if (reply.ewmaStates.length > 0) ewmaStates = reply.ewmaStates;
+          keepStates(states, estimatorOf[reply.taskId], reply.states);
           running--;
           next(worker);
         });
@@ -74,7 +76,7 @@ export async function walkInWorkers(
   } finally {
     await Promise.all(workers.map((w) => w.terminate()));
   }
-  return ewmaStates;
+  return states;
 }
 
 /** The inputs with every typed array on a SharedArrayBuffer (inputs.ts allocates them so; anything else is copied once). */

@@ -1,4 +1,4 @@
-import { volatilityChangeFromProducts } from './math/volChange.ts';
+import { volatilityChangeFromProducts } from '../math/volChange.ts';
 import type { CovarianceView, Exposure } from './portfolioRow.ts';
 
 /**

@@ -1,9 +1,11 @@
-import { annualizedReturn, annualizedVolatility } from './math/annualize.ts';
-import { centredTimesWeights, centreSeriesInto } from './math/covariance.ts';
-import { mean, sampleVariance } from './math/moments.ts';
-import { SlidingCovariance } from './math/slidingCovariance.ts';
-import type { ReturnPanel } from './inputs.ts';
-import type { CovarianceView } from './portfolioRow.ts';
+import type { Config } from '../../config/load.ts';
+import { annualizedReturn, annualizedVolatility } from '../math/annualize.ts';
+import { centredTimesWeights, centreSeriesInto } from '../math/covariance.ts';
+import { mean, sampleVariance } from '../math/moments.ts';
+import { SlidingCovariance } from '../math/slidingCovariance.ts';
+import type { ReturnPanel } from '../inputs/panels.ts';
+import { rowsCost, type RunLoad } from '../runtime/costModel.ts';
+import type { DateEstimate, EstimatorPlugin } from './estimator.ts';
 
 /**
  * The rolling `sample` estimate over a window of W returns, advanced one date at a
@@ -68,8 +70,7 @@ export function slidingStartRow(fromRow: number, window: number): number {
   return Math.max(0, start);
 }
 
-export class SampleEstimate implements CovarianceView {
-  readonly estimator = 'sample';
+export class SampleEstimate implements DateEstimate {
   readonly startRow: number;
   private readonly n: number;
   private readonly t: number;
@@ -150,4 +151,31 @@ export class SampleEstimate implements CovarianceView {
       }
     }
   }
+}
+
+/** The rolling sample estimate of every window in risk.windows; the path of each is chosen by cost. */
+export const sampleEstimator: EstimatorPlugin<{ path: SamplePath }> = {
+  name: 'sample',
+  realized: { volatility: true, trackingError: true },
+  windows: (config: Config) => uniqueSorted(config.risk.windows),
+  plan(windowDays, _config, load: RunLoad, _state, log) {
+    const inputs = {
+      window: windowDays,
+      securities: load.securitiesWithReturns,
+      holdingsPerDate: load.perDate,
+      holdingsSquaredPerDate: load.squaredPerDate,
+      outputDates: load.outputDates,
+      warmupDates: load.fromRow - slidingStartRow(load.fromRow, windowDays),
+    };
+    const path = chooseSamplePath(inputs);
+    log.debug({ windowDays, path }, 'sample covariance path');
+    return { params: { path }, cost: samplePathCosts(inputs)[path] + rowsCost(load) };
+  },
+  // from the date before the first output date: the first change since then needs its covariance
+  open: ({ path }, windowDays, input) => new SampleEstimate(input.returns, windowDays, path, Math.max(0, input.fromRow - 1)),
+};
+
+/** The distinct windows of a config list, shortest first. */
+export function uniqueSorted(windows: readonly number[]): number[] {
+  return [...new Set(windows)].sort((a, b) => a - b);
 }

@@ -1,13 +1,12 @@
 import { parentPort, workerData } from 'node:worker_threads';
-import type { EwmaState } from './ewmaEstimate.ts';
-import { walkEstimate, type ComputeInputs, type EstimateTask, type WalkSettings } from './estimateWalk.ts';
-import { batchBuffers, type ResultBatch } from './resultColumns.ts';
+import { batchBuffers, type ResultBatch } from '../walk/resultColumns.ts';
+import { walkEstimate, type ComputeInputs, type EstimateTask, type WalkSettings } from '../walk/walkEstimate.ts';
 
 /**
  * A worker thread of the risk stage: it receives the inputs once (their typed arrays on
  * SharedArrayBuffers, so nothing is copied), then walks the estimates it is given one
  * after the other, posting each batch of rows as it fills (buffers transferred) and the
- * EWMA states when an EWMA walk ends.
+ * states the estimate keeps when its walk ends.
  */
 
 export const WORKER_ROLE = 'riskfold-estimates';
@@ -16,7 +15,7 @@ export type WorkerRequest = { type: 'init'; input: ComputeInputs; settings: Walk
 
 export type WorkerReply =
   | { type: 'batch'; taskId: number; batch: ResultBatch }
-  | { type: 'done'; taskId: number; ewmaStates: EwmaState[] }
+  | { type: 'done'; taskId: number; states: unknown[] }
   | { type: 'failed'; taskId: number; message: string; stack?: string };
 
 // only as the risk stage's worker: a test runner's own worker thread may import this file too
@@ -31,10 +30,10 @@ if (parentPort && (workerData as { role?: string } | null)?.role === WORKER_ROLE
     const { taskId, task } = request;
     try {
       if (!context) throw new Error('estimate worker: run before init');
-      const ewmaStates = walkEstimate(task, context.input, context.settings, (batch) => {
+      const states = walkEstimate(task, context.input, context.settings, (batch) => {
         port.postMessage({ type: 'batch', taskId, batch } satisfies WorkerReply, batchBuffers(batch));
       });
-      port.postMessage({ type: 'done', taskId, ewmaStates } satisfies WorkerReply);
+      port.postMessage({ type: 'done', taskId, states } satisfies WorkerReply);
     } catch (err) {
       const e = err instanceof Error ? err : new Error(String(err));
       port.postMessage({ type: 'failed', taskId, message: e.message, stack: e.stack } satisfies WorkerReply);

@@ -1,8 +1,10 @@
-import { annualizedVolatility } from './math/annualize.ts';
-import { upperSubMatrixVector } from './math/covariance.ts';
-import { ewmaUpperUpdateInPlace } from './math/ewma.ts';
-import type { ReturnPanel } from './inputs.ts';
-import type { CovarianceView } from './portfolioRow.ts';
+import { annualizedVolatility } from '../math/annualize.ts';
+import { upperSubMatrixVector } from '../math/covariance.ts';
+import { ewmaUpperUpdateInPlace } from '../math/ewma.ts';
+import type { ReturnPanel } from '../inputs/panels.ts';
+import { rowsCost } from '../runtime/costModel.ts';
+import { ewmaStateStore } from '../store/ewmaState.ts';
+import type { DateEstimate, EstimatorPlugin } from './estimator.ts';
 
 /**
  * The `ewma` estimate S_t = lambda S_t-1 + (1 - lambda) r_t r_t' (zero mean) over the
@@ -33,8 +35,7 @@ export interface EwmaState {
   matrix: Float64Array;
 }
 
-export class EwmaEstimate implements CovarianceView {
-  readonly estimator = 'ewma';
+export class EwmaEstimate implements DateEstimate<EwmaState> {
   readonly windowDays = 0;
   readonly startRow: number;
   private readonly n: number;
@@ -46,6 +47,8 @@ export class EwmaEstimate implements CovarianceView {
   private readonly seedWeights: Float64Array;
   private readonly newcomerScale: number;
   private row: number;
+  /** The state at the date before the last (kept for `finish`). */
+  private beforeLast: EwmaState | null;
 
   constructor(
     private readonly panel: ReturnPanel,
@@ -63,6 +66,7 @@ export class EwmaEstimate implements CovarianceView {
     this.newcomerScale = 1 / Math.sqrt(1 - lambda ** seedDays);
     this.row = state ? state.row : -1;
     this.startRow = this.row + 1;
+    this.beforeLast = state?.row === this.t - 2 ? state : null;
     if (state) this.restore(state);
   }
 
@@ -82,6 +86,15 @@ export class EwmaEstimate implements CovarianceView {
       if (active[j] === 0 && panel.runLength[d * n + j] >= this.seedDays) newcomers.push(j);
     }
     if (newcomers.length > 0) this.seed(d, newcomers);
+    if (d === this.t - 2) this.beforeLast = this.snapshot();
+  }
+
+  /**
+   * The states at the last two dates, oldest first: a run that redoes the last date
+   * (a same-day correction) continues from the one before.
+   */
+  finish(): EwmaState[] {
+    return this.beforeLast ? [this.beforeLast, this.snapshot()] : [this.snapshot()];
   }
 
   covered(j: number): boolean {
@@ -149,3 +162,19 @@ export class EwmaEstimate implements CovarianceView {
     }
   }
 }
+
+/** The EWMA of risk.ewma (window_days 0), continued from its stored state when a run may. */
+export const ewmaEstimator: EstimatorPlugin<{ lambda: number; seedDays: number }, EwmaState> = {
+  name: 'ewma',
+  realized: { volatility: false, trackingError: false },
+  storedState: ewmaStateStore,
+  windows: (config) => (config.risk.ewma.enabled ? [0] : []),
+  plan(_windowDays, config, load, state) {
+    const { lambda, seedDays } = config.risk.ewma;
+    // without a stored state the EWMA replays from the first date
+    const walked = state ? load.dateCount - state.row - 1 : load.dateCount;
+    const n = load.securitiesWithReturns;
+    return { params: { lambda, seedDays }, cost: walked * n * n + load.outputDates * load.squaredPerDate + rowsCost(load) };
+  },
+  open: ({ lambda, seedDays }, _windowDays, input, state) => new EwmaEstimate(input.returns, lambda, seedDays, state),
+};

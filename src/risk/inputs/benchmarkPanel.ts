@@ -1,7 +1,7 @@
-import type { Config } from '../config/load.ts';
-import { streamColumns } from '../storage/columnar.ts';
-import type { Database } from '../storage/database.ts';
-import { readSlotSeries, shared, WeightRows } from './inputs.ts';
+import type { Config } from '../../config/load.ts';
+import { streamColumns } from '../../storage/columnar.ts';
+import type { Database } from '../../storage/database.ts';
+import { readSlotSeries, shared, WeightRows } from './panels.ts';
 
 /**
  * The benchmarks the portfolios in scope are measured against (config `benchmarks`),

@@ -1,17 +1,16 @@
-import type { Config } from '../config/load.ts';
-import type { Estimator } from '../config/schema.ts';
-import { portfolioFault } from '../faults.ts';
+import type { Config } from '../../config/load.ts';
+import { portfolioFault } from '../../faults.ts';
+import type { DateEstimate, EstimatorPlugin } from '../estimators/estimator.ts';
+import { estimatorNamed } from '../estimators/registry.ts';
+import type { BenchmarkPanel } from '../inputs/benchmarkPanel.ts';
+import type { PortfolioPanel, ReturnPanel } from '../inputs/panels.ts';
+import { realizedTrackingError } from '../math/activeRisk.ts';
+import { annualizedReturn, annualizedVolatility } from '../math/annualize.ts';
+import { mean, sampleVariance } from '../math/moments.ts';
 import { assessActive, type ActiveFigures } from './activeRow.ts';
-import type { BenchmarkPanel } from './benchmarkInputs.ts';
-import { realizedTrackingError } from './math/activeRisk.ts';
-import { annualizedReturn, annualizedVolatility } from './math/annualize.ts';
-import { mean, sampleVariance } from './math/moments.ts';
-import { EwmaEstimate, type EwmaState } from './ewmaEstimate.ts';
-import type { PortfolioPanel, ReturnPanel } from './inputs.ts';
-import { assessRow, RowScratch, type CovarianceView, type Exposure, type RiskSettings, type RowFigures } from './portfolioRow.ts';
-import { DAILY_FIGURE_COUNT, DAILY_FIGURES, ResultCollector, VOL_CHANGE_FIGURE_COUNT, type ResultBatch } from './resultColumns.ts';
-import { SampleEstimate, type SamplePath } from './sampleEstimate.ts';
-import { ShrunkEstimate } from './shrunkEstimate.ts';
+import { DAILY_FIGURES, positions, VOL_CHANGE_FIGURES } from './figures.ts';
+import { assessRow, RowScratch, type Exposure, type RiskSettings, type RowFigures } from './portfolioRow.ts';
+import { ResultCollector, type ResultBatch } from './resultColumns.ts';
 import { VolChangeTracker, type KnownProduct, type VolChangeRow } from './volChangeTracker.ts';
 
 /**
@@ -29,69 +28,42 @@ export interface ComputeInputs {
   /** The portfolios' benchmarks (none mapped: every ofPortfolio is -1). */
   benchmarks: BenchmarkPanel;
   fromRow: number;
-  /** Stored EWMA state at fromRow - 1, or null to replay from the first date. */
-  ewmaState: EwmaState | null;
+  /** Stored state at fromRow - 1 by estimator name (absent: replay from the first date). */
+  states: Readonly<Record<string, unknown>>;
 }
 
-export type EstimateTask =
-  | { kind: 'sample'; windowDays: number; path: SamplePath }
-  | { kind: 'shrunk'; windowDays: number }
-  | { kind: 'ewma'; lambda: number; seedDays: number };
+/** One estimate of a run: its estimator, window (0: not windowed) and the parameters its plan chose. */
+export interface EstimateTask {
+  estimator: string;
+  windowDays: number;
+  params: unknown;
+}
 
 export interface WalkSettings extends RiskSettings {
   weights: Config['risk']['weights'];
   contributions: Config['risk']['contributions'];
 }
 
-interface DateEstimate extends CovarianceView {
-  readonly estimator: Estimator;
-  readonly windowDays: number;
-  readonly startRow: number;
-  forEachSecurity(emit: (j: number, annReturn: number, annVol: number) => void, periodsPerYear: number): void;
-  /** A shrinkage estimate: the intensity of its last product (NaN for none), forgotten once taken. */
-  takeIntensity?(): number;
-}
+const DAILY = positions(DAILY_FIGURES);
+const CHANGE = positions(VOL_CHANGE_FIGURES);
 
 /** Rows (all tables) collected before a batch is handed over; bounds memory in a long backfill. */
 const BATCH_ROWS = 1 << 16;
 
 /**
- * Walks one estimate, handing its rows to `emit` in batches. Returns, for the EWMA, its
- * states at the last two dates, oldest first (a run that redoes the last date, such as
- * a same-day correction, continues from the one before); nothing for a sample estimate.
+ * Walks one estimate, handing its rows to `emit` in batches. Returns the states the
+ * estimate keeps for the next run (none for a stateless one).
  */
-export function walkEstimate(task: EstimateTask, input: ComputeInputs, settings: WalkSettings, emit: (batch: ResultBatch) => void): EwmaState[] {
-  const { returns, fromRow } = input;
-  if (task.kind === 'sample') {
-    // from the date before the first output date: the first change since then needs its covariance
-    const estimate = new SampleEstimate(returns, task.windowDays, task.path, Math.max(0, fromRow - 1));
-    walk(estimate, (d, output) => estimate.advance(d, output), input, settings, emit);
-    return [];
-  }
-  if (task.kind === 'shrunk') {
-    const estimate = new ShrunkEstimate(returns, task.windowDays, Math.max(0, fromRow - 1));
-    walk(estimate, (d, output) => estimate.advance(d, output), input, settings, emit);
-    return [];
-  }
-  const ewma = new EwmaEstimate(returns, task.lambda, task.seedDays, input.ewmaState);
-  const beforeLast = returns.dates.length - 2;
-  let previous = input.ewmaState?.row === beforeLast ? input.ewmaState : null;
-  walk(
-    ewma,
-    (d) => {
-      ewma.advance(d);
-      if (d === beforeLast) previous = ewma.snapshot();
-    },
-    input,
-    settings,
-    emit,
-  );
-  return previous ? [previous, ewma.snapshot()] : [ewma.snapshot()];
+export function walkEstimate(task: EstimateTask, input: ComputeInputs, settings: WalkSettings, emit: (batch: ResultBatch) => void): unknown[] {
+  const plugin = estimatorNamed(task.estimator);
+  const estimate = plugin.open(task.params, task.windowDays, input, input.states[plugin.name] ?? null);
+  walk(estimate, plugin, input, settings, emit);
+  return estimate.finish?.() ?? [];
 }
 
 function walk(
   estimate: DateEstimate,
-  advance: (d: number, output: boolean) => void,
+  plugin: EstimatorPlugin,
   input: ComputeInputs,
   settings: WalkSettings,
   emit: (batch: ResultBatch) => void,
@@ -99,8 +71,7 @@ function walk(
   const { returns, portfolios, benchmarks, fromRow } = input;
   const dateCount = returns.dates.length;
   const lastRow = lastPresentRows(portfolios, dateCount);
-  const windowed = estimate.estimator !== 'ewma';
-  const average = windowed && settings.weights === 'window_average';
+  const average = estimate.windowDays > 0 && settings.weights === 'window_average';
   const accumulator = new Float64Array(returns.securityIds.length);
   const exposureAt = (p: number, d: number): Exposure =>
     average ? averageExposure(portfolios, returns, p, d, estimate.windowDays, accumulator) : currentExposure(portfolios, returns, p * dateCount + d);
@@ -116,15 +87,15 @@ function walk(
   const knownProduct = (row: RowFigures): KnownProduct | null =>
     Number.isFinite(row.volExAnte) ? { idx: scratch.idx.subarray(0, row.nCovered), sw: scratch.sw.subarray(0, row.nCovered) } : null;
   const scratch = new RowScratch();
-  const figures = new Float64Array(DAILY_FIGURE_COUNT);
-  const changeFigures = new Float64Array(VOL_CHANGE_FIGURE_COUNT);
-  const out = new ResultCollector(estimate.windowDays, estimate.estimator);
+  const figures = new Float64Array(DAILY_FIGURES.length);
+  const changeFigures = new Float64Array(VOL_CHANGE_FIGURES.length);
+  const out = new ResultCollector(estimate.windowDays, plugin.name);
   // a portfolio that failed once is left out for the rest of the walk: its rows are not written
   const failed = new Uint8Array(portfolios.ids.length);
   const fail = (p: number, d: number, err: unknown) => {
     failed[p] = 1;
     changes.forget(p);
-    const label = estimate.estimator === 'ewma' ? 'ewma' : `${estimate.windowDays}-day ${estimate.estimator}`;
+    const label = estimate.windowDays > 0 ? `${estimate.windowDays}-day ${plugin.name}` : plugin.name;
     out.addFailure(p, d, `${label} estimate: ${err instanceof Error ? err.message : String(err)}`);
   };
   const addSecurity = (j: number, r: number, v: number) => out.addSecurity(currentRow, j, r, v);
@@ -146,7 +117,7 @@ function walk(
   if (estimate.startRow === fromRow && fromRow > 0) prime(fromRow - 1);
   for (let d = estimate.startRow; d < dateCount; d++) {
     const output = d >= fromRow;
-    advance(d, output || d === fromRow - 1);
+    estimate.advance(d, output || d === fromRow - 1);
     if (d === fromRow - 1) prime(d);
     if (!output) continue;
     currentRow = d;
@@ -162,17 +133,17 @@ function walk(
         estimate.takeIntensity?.();
         const row = assessRow(exposure, flags, estimate, settings, withContributions, scratch);
         const intensity = estimate.takeIntensity?.() ?? Number.NaN;
-        const realized = windowed ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
-        figures[0] = flags.value;
-        figures[1] = row.volExAnte;
-        figures[2] = realized?.vol ?? Number.NaN;
-        figures[3] = realized?.annReturn ?? Number.NaN;
-        figures[4] = row.var99_1d;
-        figures[5] = row.es975_1d;
-        figures[6] = row.var99_10d;
-        figures[7] = row.es975_10d;
-        figures[8] = row.diversification;
-        figures[9] = row.coverage;
+        const realized = plugin.realized.volatility ? realizedFigures(portfolios, p, d, estimate.windowDays, dateCount, settings) : null;
+        figures[DAILY.portfolio_value] = flags.value;
+        figures[DAILY.vol_ex_ante] = row.volExAnte;
+        figures[DAILY.vol_realized] = realized?.vol ?? Number.NaN;
+        figures[DAILY.ann_return] = realized?.annReturn ?? Number.NaN;
+        figures[DAILY.var_99_1d] = row.var99_1d;
+        figures[DAILY.es_975_1d] = row.es975_1d;
+        figures[DAILY.var_99_10d] = row.var99_10d;
+        figures[DAILY.es_975_10d] = row.es975_10d;
+        figures[DAILY.diversification_ratio] = row.diversification;
+        figures[DAILY.coverage] = row.coverage;
         const k = benchmarks.ofPortfolio[p];
         const weights = k >= 0 ? benchmarkAt(benchmarks, k, d, dateCount) : null;
         // nothing to measure against before the benchmark's first snapshot, nor with unknown weights (coverage null)
@@ -180,10 +151,11 @@ function walk(
           weights !== null && weights.j.length > 0 && !Number.isNaN(row.coverage)
             ? assessActive(exposure, weights, estimate, settings.periodsPerYear, withContributions)
             : null;
-        figures[10] = active?.trackingError ?? Number.NaN;
-        figures[11] = k >= 0 && estimate.estimator === 'sample' ? realizedActive(portfolios, benchmarks, p, k, d, estimate.windowDays, dateCount, settings) : Number.NaN;
-        figures[12] = active?.beta ?? Number.NaN;
-        figures[13] = Number.isFinite(row.volExAnte) ? intensity : Number.NaN;
+        figures[DAILY.tracking_error_ex_ante] = active?.trackingError ?? Number.NaN;
+        figures[DAILY.tracking_error_realized] =
+          k >= 0 && plugin.realized.trackingError ? realizedActive(portfolios, benchmarks, p, k, d, estimate.windowDays, dateCount, settings) : Number.NaN;
+        figures[DAILY.beta_to_benchmark] = active?.beta ?? Number.NaN;
+        figures[DAILY.shrinkage_intensity] = Number.isFinite(row.volExAnte) ? intensity : Number.NaN;
         const infinite = infiniteFigure(figures, row.contributions);
         if (infinite) throw new Error(`${infinite} is not finite`);
         out.addDaily(p, d, figures, row.status, row.nHoldings, row.nCovered);
@@ -210,11 +182,11 @@ function addChange(out: ResultCollector, p: number, d: number, change: VolChange
   for (let a = 0; a < change.securities.length; a++) {
     if (driver === -1 || Math.abs(change.fromWeightsBySecurity[a]) > Math.abs(change.fromWeightsBySecurity[driver])) driver = a;
   }
-  figures[0] = change.volPrev;
-  figures[1] = change.volNow;
-  figures[2] = change.fromWeights;
-  figures[3] = change.fromMarket;
-  figures[4] = driver === -1 ? Number.NaN : change.fromWeightsBySecurity[driver];
+  figures[CHANGE.vol_prev] = change.volPrev;
+  figures[CHANGE.vol_now] = change.volNow;
+  figures[CHANGE.from_weights] = change.fromWeights;
+  figures[CHANGE.from_market] = change.fromMarket;
+  figures[CHANGE.weights_driver_change] = driver === -1 ? Number.NaN : change.fromWeightsBySecurity[driver];
   out.addVolChange(p, d, figures, change.status, driver === -1 ? -1 : change.securities[driver]);
   if (!perSecurity) return;
   for (let a = 0; a < change.securities.length; a++) {

@@ -1,6 +1,7 @@
 import { blobValue, type DuckDBBlobValue, type DuckDBListValue } from '@duckdb/node-api';
-import type { Database } from '../storage/database.ts';
-import type { EwmaState } from './ewmaEstimate.ts';
+import type { Database } from '../../storage/database.ts';
+import type { EwmaState } from '../estimators/ewma.ts';
+import type { StoredState } from '../estimators/estimator.ts';
 
 /**
  * The stored EWMA matrices (table risk_ewma_state): those of the last two valuation
@@ -65,3 +66,9 @@ export async function saveEwmaState(
     );
   }
 }
+
+/** The EWMA estimator's stored state, with its lambda and seedDays from risk.ewma. */
+export const ewmaStateStore: StoredState<EwmaState> = {
+  load: (db, config, dates, fromRow, settings) => loadEwmaState(db, config.risk.ewma, dates, fromRow, settings),
+  save: (db, config, dates, states, runId, settings) => saveEwmaState(db, config.risk.ewma, dates, states, runId, settings),
+};

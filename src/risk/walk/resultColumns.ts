@@ -6,59 +6,33 @@
  * into the batch's own list of texts.
  */
 
-import type { Estimator } from '../config/schema.ts';
-
-/** The figures of a risk_daily row, in the order of a batch's `daily.figures` columns. */
-export const DAILY_FIGURES = [
-  'portfolio_value',
-  'vol_ex_ante',
-  'vol_realized',
-  'ann_return',
-  'var_99_1d',
-  'es_975_1d',
-  'var_99_10d',
-  'es_975_10d',
-  'diversification_ratio',
-  'coverage',
-  'tracking_error_ex_ante',
-  'tracking_error_realized',
-  'beta_to_benchmark',
-  'shrinkage_intensity',
-] as const;
-export const DAILY_FIGURE_COUNT = DAILY_FIGURES.length;
-/** weight, mcr, ccr, pct of a risk_contributions row. */
-export const CONTRIBUTION_VALUE_COUNT = 4;
-/** weight, benchmark_weight, mcr, ccr, pct of a risk_active_contributions row. */
-export const ACTIVE_VALUE_COUNT = 5;
-/** Figures of a vol_change row, in staging's VOL_CHANGE_FIGURES order. */
-export const VOL_CHANGE_FIGURE_COUNT = 5;
-/** weight_prev, weight_now, from_weights of a vol_change_securities row. */
-export const VOL_CHANGE_SECURITY_VALUE_COUNT = 3;
+import { ensureCapacity } from '../../storage/growable.ts';
+import { ACTIVE_VALUES, CONTRIBUTION_VALUES, DAILY_FIGURES, VOL_CHANGE_FIGURES, VOL_CHANGE_SECURITY_VALUES } from './figures.ts';
 
 export interface ResultBatch {
   /** Output dates the walk finished since the previous batch (for progress). */
   dates: number;
   windowDays: number;
-  estimator: Estimator;
+  estimator: string;
   statuses: string[];
   daily: {
     rows: number;
     portfolio: Int32Array;
     row: Int32Array;
-    /** DAILY_FIGURE_COUNT columns, NaN = NULL. */
+    /** One column per name of DAILY_FIGURES, NaN = NULL. */
     figures: Float64Array[];
     status: Int32Array;
     nHoldings: Int32Array;
     nCovered: Int32Array;
   };
-  /** values: weight, mcr, ccr, pct columns. */
+  /** values: CONTRIBUTION_VALUES columns. */
   contributions: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
-  /** values: weight, benchmark_weight, mcr, ccr, pct columns. */
+  /** values: ACTIVE_VALUES columns. */
   active: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
   securities: { rows: number; row: Int32Array; security: Int32Array; annReturn: Float64Array; annVol: Float64Array };
-  /** figures: VOL_CHANGE_FIGURE_COUNT columns (NaN = NULL); driver: the security with the largest weights part, -1 for none. */
+  /** figures: VOL_CHANGE_FIGURES columns (NaN = NULL); driver: the security with the largest weights part, -1 for none. */
   volChange: { rows: number; portfolio: Int32Array; row: Int32Array; figures: Float64Array[]; status: Int32Array; driver: Int32Array };
-  /** values: weight_prev, weight_now, from_weights columns. */
+  /** values: VOL_CHANGE_SECURITY_VALUES columns. */
   volChangeSecurities: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
   /** Portfolios whose row could not be computed (p, the date row, why): the walk dropped them from then on. */
   failures: PortfolioFailure[];
@@ -117,7 +91,7 @@ class Column<A extends Typed> {
   }
 
   push(v: number): void {
-    if (this.length === this.values.length) this.grow(this.length + 1);
+    if (this.length === this.values.length) this.values = ensureCapacity(this.values, this.length, this.length + 1, this.make);
     this.values[this.length++] = v;
   }
 
@@ -127,14 +101,6 @@ class Column<A extends Typed> {
     this.values = this.make(Math.max(1024, this.length));
     this.length = 0;
     return out;
-  }
-
-  private grow(need: number): void {
-    let size = this.values.length;
-    while (size < need) size *= 2;
-    const next = this.make(size);
-    next.set(this.values.subarray(0, this.length));
-    this.values = next;
   }
 }
 
@@ -147,18 +113,18 @@ export class ResultCollector {
   private readonly daily = {
     portfolio: ints(),
     row: ints(),
-    figures: Array.from({ length: DAILY_FIGURE_COUNT }, doubles),
+    figures: Array.from(DAILY_FIGURES, doubles),
     status: ints(),
     nHoldings: ints(),
     nCovered: ints(),
   };
-  private readonly contributions = { portfolio: ints(), row: ints(), security: ints(), values: Array.from({ length: CONTRIBUTION_VALUE_COUNT }, doubles) };
-  private readonly active = { portfolio: ints(), row: ints(), security: ints(), values: Array.from({ length: ACTIVE_VALUE_COUNT }, doubles) };
+  private readonly contributions = { portfolio: ints(), row: ints(), security: ints(), values: Array.from(CONTRIBUTION_VALUES, doubles) };
+  private readonly active = { portfolio: ints(), row: ints(), security: ints(), values: Array.from(ACTIVE_VALUES, doubles) };
   private readonly securities = { row: ints(), security: ints(), annReturn: doubles(), annVol: doubles() };
   private readonly volChange = {
     portfolio: ints(),
     row: ints(),
-    figures: Array.from({ length: VOL_CHANGE_FIGURE_COUNT }, doubles),
+    figures: Array.from(VOL_CHANGE_FIGURES, doubles),
     status: ints(),
     driver: ints(),
   };
@@ -166,21 +132,21 @@ export class ResultCollector {
     portfolio: ints(),
     row: ints(),
     security: ints(),
-    values: Array.from({ length: VOL_CHANGE_SECURITY_VALUE_COUNT }, doubles),
+    values: Array.from(VOL_CHANGE_SECURITY_VALUES, doubles),
   };
   private failures: PortfolioFailure[] = [];
   private dates = 0;
 
   constructor(
     readonly windowDays: number,
-    readonly estimator: Estimator,
+    readonly estimator: string,
   ) {}
 
   addDaily(portfolio: number, row: number, figures: ArrayLike<number>, status: string, nHoldings: number, nCovered: number): void {
     const d = this.daily;
     d.portfolio.push(portfolio);
     d.row.push(row);
-    for (let c = 0; c < DAILY_FIGURE_COUNT; c++) d.figures[c].push(figures[c]);
+    for (let c = 0; c < DAILY_FIGURES.length; c++) d.figures[c].push(figures[c]);
     d.status.push(this.statusCode(status));
     d.nHoldings.push(nHoldings);
     d.nCovered.push(nCovered);
@@ -202,7 +168,7 @@ export class ResultCollector {
     a.portfolio.push(portfolio);
     a.row.push(row);
     a.security.push(security);
-    for (let c = 0; c < ACTIVE_VALUE_COUNT; c++) a.values[c].push(values[c]);
+    for (let c = 0; c < ACTIVE_VALUES.length; c++) a.values[c].push(values[c]);
   }
 
   addSecurity(row: number, security: number, annReturn: number, annVol: number): void {
@@ -218,7 +184,7 @@ export class ResultCollector {
     const v = this.volChange;
     v.portfolio.push(portfolio);
     v.row.push(row);
-    for (let c = 0; c < VOL_CHANGE_FIGURE_COUNT; c++) v.figures[c].push(figures[c]);
+    for (let c = 0; c < VOL_CHANGE_FIGURES.length; c++) v.figures[c].push(figures[c]);
     v.status.push(this.statusCode(status));
     v.driver.push(driver);
   }

@@ -1,7 +1,8 @@
 import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
-import type { Database } from '../storage/database.ts';
-import { ChunkAppender } from '../storage/columnar.ts';
-import { DAILY_FIGURES, type PortfolioFailure, type ResultBatch } from './resultColumns.ts';
+import type { Database } from '../../storage/database.ts';
+import { ChunkAppender } from '../../storage/columnar.ts';
+import { ACTIVE_VALUES, CONTRIBUTION_VALUES, DAILY_FIGURES, VOL_CHANGE_FIGURES, VOL_CHANGE_SECURITY_VALUES } from '../walk/figures.ts';
+import type { PortfolioFailure, ResultBatch } from '../walk/resultColumns.ts';
 
 /**
  * Results go first to temporary staging tables, through appenders and outside any
@@ -11,10 +12,6 @@ import { DAILY_FIGURES, type PortfolioFailure, type ResultBatch } from './result
  * securities are staged as integers and resolved through the risk_in_* tables that
  * inputs.ts created.
  */
-
-const ACTIVE_VALUES = ['weight', 'benchmark_weight', 'mcr', 'ccr', 'pct'] as const;
-
-const VOL_CHANGE_FIGURES = ['vol_prev', 'vol_now', 'from_weights', 'from_market', 'weights_driver_change'] as const;
 
 export class ResultStage {
   /** By portfolio (p): its earliest failure over every estimate, the one it is reported by. */
@@ -36,7 +33,7 @@ export class ResultStage {
       status varchar, n_holdings integer, n_covered integer)`);
     await db.run(`create or replace temp table risk_stage_contributions (
       p integer, date_index integer, window_days integer, estimator varchar, j integer,
-      weight double, mcr double, ccr double, pct double)`);
+      ${CONTRIBUTION_VALUES.map((c) => `${c} double`).join(', ')})`);
     await db.run(`create or replace temp table risk_stage_active (
       p integer, date_index integer, window_days integer, estimator varchar, j integer,
       ${ACTIVE_VALUES.map((c) => `${c} double`).join(', ')})`);
@@ -47,15 +44,15 @@ export class ResultStage {
       ${VOL_CHANGE_FIGURES.map((c) => `${c} double`).join(', ')}, status varchar, driver integer)`);
     await db.run(`create or replace temp table risk_stage_vol_change_securities (
       p integer, date_index integer, window_days integer, estimator varchar, j integer,
-      weight_prev double, weight_now double, from_weights double)`);
+      ${VOL_CHANGE_SECURITY_VALUES.map((c) => `${c} double`).join(', ')})`);
     const figures = DAILY_FIGURES.map(() => DOUBLE);
     return new ResultStage(
       await ChunkAppender.open(db, 'risk_stage_daily', [INTEGER, INTEGER, INTEGER, VARCHAR, ...figures, VARCHAR, INTEGER, INTEGER]),
-      await ChunkAppender.open(db, 'risk_stage_contributions', [INTEGER, INTEGER, INTEGER, VARCHAR, INTEGER, DOUBLE, DOUBLE, DOUBLE, DOUBLE]),
+      await ChunkAppender.open(db, 'risk_stage_contributions', [INTEGER, INTEGER, INTEGER, VARCHAR, INTEGER, ...CONTRIBUTION_VALUES.map(() => DOUBLE)]),
       await ChunkAppender.open(db, 'risk_stage_active', [INTEGER, INTEGER, INTEGER, VARCHAR, INTEGER, ...ACTIVE_VALUES.map(() => DOUBLE)]),
       await ChunkAppender.open(db, 'risk_stage_securities', [INTEGER, INTEGER, INTEGER, DOUBLE, DOUBLE]),
       await ChunkAppender.open(db, 'risk_stage_vol_change', [INTEGER, INTEGER, INTEGER, VARCHAR, ...VOL_CHANGE_FIGURES.map(() => DOUBLE), VARCHAR, INTEGER]),
-      await ChunkAppender.open(db, 'risk_stage_vol_change_securities', [INTEGER, INTEGER, INTEGER, VARCHAR, INTEGER, DOUBLE, DOUBLE, DOUBLE]),
+      await ChunkAppender.open(db, 'risk_stage_vol_change_securities', [INTEGER, INTEGER, INTEGER, VARCHAR, INTEGER, ...VOL_CHANGE_SECURITY_VALUES.map(() => DOUBLE)]),
     );
   }
 

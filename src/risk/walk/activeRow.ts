@@ -1,5 +1,5 @@
-import { betaFromProduct } from './math/activeRisk.ts';
-import { eulerContributions, portfolioVolatility } from './math/contributions.ts';
+import { betaFromProduct } from '../math/activeRisk.ts';
+import { eulerContributions, portfolioVolatility } from '../math/contributions.ts';
 import type { CovarianceView, Exposure } from './portfolioRow.ts';
 
 /**

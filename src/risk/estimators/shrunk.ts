@@ -1,7 +1,8 @@
-import { ledoitWolfConstantCorrelation } from './math/shrinkage.ts';
-import type { ReturnPanel } from './inputs.ts';
-import type { CovarianceView } from './portfolioRow.ts';
-import { SampleEstimate } from './sampleEstimate.ts';
+import { ledoitWolfConstantCorrelation } from '../math/shrinkage.ts';
+import type { ReturnPanel } from '../inputs/panels.ts';
+import { rowsCost } from '../runtime/costModel.ts';
+import type { DateEstimate, EstimatorPlugin } from './estimator.ts';
+import { SampleEstimate, uniqueSorted } from './sample.ts';
 
 /**
  * The `shrunk` estimate over a window of W returns: Ledoit-Wolf shrinkage of the sample
@@ -19,8 +20,7 @@ import { SampleEstimate } from './sampleEstimate.ts';
  * left out of the shrinkage and its row of the product is 0. With fewer than two
  * varying holdings there is nothing to shrink: the sample matrix, intensity unknown.
  */
-export class ShrunkEstimate implements CovarianceView {
-  readonly estimator = 'shrunk';
+export class ShrunkEstimate implements DateEstimate {
   readonly startRow: number;
   private readonly sample: SampleEstimate;
   /** Shrunk matrices of the current date by their securities (a row and its vol_change ask for the same sets). */
@@ -102,3 +102,16 @@ export class ShrunkEstimate implements CovarianceView {
     return made;
   }
 }
+
+/** Ledoit-Wolf shrinkage for the windows of risk.shrunk.windows; tracking_error_realized stays on the sample rows. */
+export const shrunkEstimator: EstimatorPlugin = {
+  name: 'shrunk',
+  realized: { volatility: true, trackingError: false },
+  windows: (config) => uniqueSorted(config.risk.shrunk.windows),
+  // per row: the shrinkage's pair sums over the window (three products per pair and date) and the product
+  plan: (windowDays, _config, load) => ({
+    params: null,
+    cost: load.outputDates * (3 * windowDays * load.squaredPerDate + load.squaredPerDate) + rowsCost(load),
+  }),
+  open: (_params, windowDays, input) => new ShrunkEstimate(input.returns, windowDays, Math.max(0, input.fromRow - 1)),
+};

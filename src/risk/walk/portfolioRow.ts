@@ -1,6 +1,6 @@
-import { annualizedVolatility } from './math/annualize.ts';
-import { diversificationRatio, eulerContributions, portfolioVolatility, type EulerContributions } from './math/contributions.ts';
-import { parametricES, parametricVaR } from './math/loss.ts';
+import { annualizedVolatility } from '../math/annualize.ts';
+import { diversificationRatio, eulerContributions, portfolioVolatility, type EulerContributions } from '../math/contributions.ts';
+import { parametricES, parametricVaR } from '../math/loss.ts';
 
 /**
  * One portfolio on one date under one covariance estimate: which holdings have a full

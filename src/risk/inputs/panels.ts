@@ -1,5 +1,6 @@
-import type { Database } from '../storage/database.ts';
-import { readColumns, streamColumns } from '../storage/columnar.ts';
+import type { Database } from '../../storage/database.ts';
+import { readColumns, streamColumns } from '../../storage/columnar.ts';
+import { ensureCapacity } from '../../storage/growable.ts';
 
 /**
  * The risk stage's inputs, read from the views in bulk into typed arrays. Dates are
@@ -228,10 +229,8 @@ export class WeightRows {
   }
 
   append(j: Int32Array, w: Float64Array, n: number): void {
-    if (this.rows + n > this.security.length) {
-      this.security = grown(this.security, this.rows, this.rows + n);
-      this.weight = grown(this.weight, this.rows, this.rows + n);
-    }
+    this.security = ensureCapacity(this.security, this.rows, this.rows + n, (size) => shared(Int32Array, size));
+    this.weight = ensureCapacity(this.weight, this.rows, this.rows + n, (size) => shared(Float64Array, size));
     this.security.set(j.subarray(0, n), this.rows);
     this.weight.set(w.subarray(0, n), this.rows);
     this.rows += n;
@@ -240,13 +239,4 @@ export class WeightRows {
   taken(): { security: Int32Array; weight: Float64Array } {
     return { security: this.security.subarray(0, this.rows), weight: this.weight.subarray(0, this.rows) };
   }
-}
-
-/** A copy of a[0 .. used - 1] in a shared array of at least `need` (doubling, so appends stay amortized O(1)). */
-function grown<A extends Int32Array | Float64Array>(a: A, used: number, need: number): A {
-  let size = a.length;
-  while (size < need) size *= 2;
-  const next = shared(a.constructor as { new (buffer: SharedArrayBuffer): A; BYTES_PER_ELEMENT: number }, size);
-  next.set(a.subarray(0, used) as never);
-  return next;
 }
