@@ -1,4 +1,4 @@
-import { copyFileSync, linkSync, mkdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import { copyFileSync, mkdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { loadConfig, type Config } from '../src/config/load.ts';
 import type { ConfigInput } from '../src/config/schema.ts';
@@ -45,18 +45,14 @@ export function createBenchWorkspace(root: string, name: string, size: ScenarioS
 }
 
 /**
- * Puts a scenario file into an inbox in one step. A hard link is instant and the file
- * appears complete (ingest then moves the link, the scenario keeps its copy); across
- * file systems it falls back to copy-then-rename, which also lands whole.
+ * Puts a scenario file into an inbox in one step: a copy under a hidden name beside the
+ * inbox, then a rename, so it lands whole. Not a hard link: ingest refuses a file with a
+ * second name outside the inbox.
  */
 export function dropIntoInbox(file: string, inbox: string): string {
   const target = path.join(inbox, path.basename(file));
-  try {
-    linkSync(file, target);
-  } catch {
-    const staging = path.join(path.dirname(inbox), `.${path.basename(file)}.staging`);
-    copyFileSync(file, staging);
-    renameSync(staging, target);
-  }
+  const staging = path.join(path.dirname(inbox), `.${path.basename(file)}.staging`);
+  copyFileSync(file, staging);
+  renameSync(staging, target);
   return target;
 }
