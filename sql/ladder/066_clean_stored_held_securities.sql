@@ -12,11 +12,11 @@ insert into derived_held_securities
 with held_rows as (
   select security_id, date
   from clean_positions
-  where quantity <> 0 and security_id not like 'CASH:%' and date >= getvariable('derived_from')
+  where quantity <> 0 and not is_cash(security_id) and date >= getvariable('derived_from')
   union all
   select security_id, date
   from clean_benchmarks
-  where weight <> 0 and security_id not like 'CASH:%' and date >= getvariable('derived_from')
+  where weight <> 0 and not is_cash(security_id) and date >= getvariable('derived_from')
 ),
 
 first_held as (

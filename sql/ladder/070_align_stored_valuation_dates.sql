@@ -13,7 +13,7 @@ insert into derived_valuation_dates
 with held_rows as (
   select security_id, date as held_from, coalesce(held_until, 'infinity'::date) as held_until
   from clean_positions
-  where quantity <> 0 and security_id not like 'CASH:%'
+  where quantity <> 0 and not is_cash(security_id)
     -- a snapshot replaced before derived_from holds nothing on or after it
     and coalesce(held_until, 'infinity'::date) > getvariable('derived_from')
 ),
@@ -38,7 +38,7 @@ held_reach as (
 security_prices as (
   select date, security_id
   from clean_prices
-  where security_id not like 'CASH:%' and date >= getvariable('derived_from')
+  where not is_cash(security_id) and date >= getvariable('derived_from')
 ),
 
 held_price_dates as (

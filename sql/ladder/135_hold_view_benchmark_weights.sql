@@ -31,7 +31,7 @@ snapshot_in_effect as (
 ),
 
 held as (
-  select e.benchmark_id, e.date, b.security_id, b.security_id like 'CASH:%' as is_cash, b.weight, e.snapshot_date, e.date_index
+  select e.benchmark_id, e.date, b.security_id, is_cash(b.security_id) as is_cash, b.weight, e.snapshot_date, e.date_index
   from snapshot_in_effect e
   join clean_benchmarks b on b.benchmark_id = e.benchmark_id and b.date = e.snapshot_date
   where b.weight <> 0

@@ -9,7 +9,7 @@ with settings as (
 ),
 
 held as (
-  select portfolio_id, date, date_index, security_id, quantity, snapshot_date, security_id like 'CASH:%' as is_cash
+  select portfolio_id, date, date_index, security_id, quantity, snapshot_date, is_cash(security_id) as is_cash
   from hold_daily_positions_since(first_date_index)
 ),
 

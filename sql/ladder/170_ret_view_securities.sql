@@ -61,14 +61,14 @@ returns as (
 
 -- held, or a benchmark's constituent (its return enters the benchmark's)
 foreign_cash as (
-  select security_id, substr(security_id, 6) as currency
+  select security_id, cash_currency(security_id) as currency
   from (
     select security_id from clean_positions where quantity <> 0
     union
     select security_id from clean_benchmarks where weight <> 0
   )
   cross join settings
-  where security_id like 'CASH:%' and substr(security_id, 6) <> settings.base_currency
+  where is_cash(security_id) and not is_cash_in(security_id, settings.base_currency)
 ),
 
 -- align_fx has a row for every valuation date from a currency's first rate on

@@ -37,7 +37,7 @@ position_returns as (
     p.portfolio_id,
     p.date_index,
     p.weight,
-    case when p.security_id = 'CASH:' || settings.base_currency then 0.0::double else r.simple_return end as asset_return
+    case when is_cash_in(p.security_id, settings.base_currency) then 0.0::double else r.simple_return end as asset_return
   from positions_before p
   cross join settings
   left join security_returns r on r.security_id = p.security_id and r.date_index = p.date_index

@@ -30,7 +30,7 @@ constituent_returns as (
     w.benchmark_id,
     w.date_index,
     w.weight,
-    case when w.security_id = 'CASH:' || settings.base_currency then 0.0::double else r.simple_return end as asset_return
+    case when is_cash_in(w.security_id, settings.base_currency) then 0.0::double else r.simple_return end as asset_return
   from weights_before w
   cross join settings
   left join security_returns r on r.security_id = w.security_id and r.date_index = w.date_index

@@ -41,9 +41,9 @@ export async function checkPrices(db: Database, config: Config, log: Logger, sco
     // the raw positions and benchmark weights (superseded snapshots too): a superset of what
     // was ever held or is a benchmark's constituent, read without rebuilding the snapshots in force
     `with held as (
-       select security_id from positions where quantity <> 0 and security_id not like 'CASH:%'
+       select security_id from positions where quantity <> 0 and not is_cash(security_id)
        union
-       select security_id from benchmarks where weight <> 0 and security_id not like 'CASH:%'
+       select security_id from benchmarks where weight <> 0 and not is_cash(security_id)
      ),
      latest as (
        select security_id, date, price, coalesce(currency, '') as market, file_id

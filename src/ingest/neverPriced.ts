@@ -8,7 +8,7 @@ import type { Database } from '../storage/database.ts';
 export async function neverPricedSecurities(db: Database, fileId: number): Promise<string[]> {
   const rows = await db.all<{ security_id: string }>(
     `select distinct security_id from positions
-     where file_id = $1 and quantity <> 0 and security_id not like 'CASH:%'
+     where file_id = $1 and quantity <> 0 and not is_cash(security_id)
        and security_id not in (select security_id from prices)
      order by security_id`,
     [fileId],

@@ -37,7 +37,7 @@ export function badSql(field: FieldSpec, bounds: Plausibility): string | null {
       return (
         `${col} is null or ${col} = '' or starts_with(${col}, ' ') or ends_with(${col}, ' ')` +
         ` or regexp_matches(${col}, ${UNPRINTABLE})` +
-        ` or (starts_with(${col}, 'CASH:') and not regexp_full_match(${col}, 'CASH:' || ${CURRENCY_CODE}))`
+        ` or (is_cash(${col}) and not regexp_full_match(cash_currency(${col}), ${CURRENCY_CODE}))`
       );
     case 'currency': {
       const wrong = `not regexp_full_match(${col}, ${CURRENCY_CODE})`;

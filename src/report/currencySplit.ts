@@ -26,7 +26,7 @@ export async function loadCurrencySplits(
   periodsPerYear: number,
 ): Promise<CurrencySplit[]> {
   const held = await db.all<{ security_id: string; weight: number; riskless: boolean }>(
-    `select w.security_id, w.weight, w.security_id = 'CASH:' || s.base_currency as riskless
+    `select w.security_id, w.weight, is_cash_in(w.security_id, s.base_currency) as riskless
      from value_weights w cross join pipeline_settings s
      where w.portfolio_id = $1 and w.date = $2 and w.weight is not null order by w.security_id`,
     [portfolioId, asOf],

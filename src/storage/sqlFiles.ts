@@ -5,6 +5,8 @@ import type { Database } from './database.ts';
 
 export const SQL_DIR = path.resolve(import.meta.dirname, '../../sql');
 export const LADDER_DIR = path.join(SQL_DIR, 'ladder');
+/** Macros every ladder step and TypeScript query may use (is_cash, is_base_cash, ...): each rule defined once. */
+const RULES_FILE = path.join(SQL_DIR, 'rules.sql');
 
 const MIGRATION_NAME = /^(\d{4})_([a-z][a-z0-9_]*)\.sql$/;
 /** `NNN_<layer>_<stored|view>_<stem>.sql`: a stored step fills table derived_<stem>, a view step creates view <layer>_<stem>. */
@@ -112,8 +114,17 @@ export async function applyMigrations(db: Database, log: Logger, dir = path.join
   return applied;
 }
 
-/** Re-creates the ladder's views (CREATE OR REPLACE), in order, each in its own transaction; stored steps are left to refreshDerived(). */
+/**
+ * Re-creates the shared rules (sql/rules.sql, macros such as is_cash) and then the ladder's
+ * views (CREATE OR REPLACE), in order, each in its own transaction; stored steps are left to
+ * refreshDerived(), which runs after and reads the same macros.
+ */
 export async function applyViews(db: Database, log: Logger, dir = LADDER_DIR): Promise<void> {
+  try {
+    await db.transaction(() => db.run(readFileSync(RULES_FILE, 'utf8')));
+  } catch (cause) {
+    throw new Error(`rules ${path.basename(RULES_FILE)} failed`, { cause });
+  }
   for (const v of listLadder(dir).filter((s) => s.kind === 'view')) {
     try {
       await db.transaction(() => db.run(v.text));

@@ -89,6 +89,7 @@ describe('the ordered SQL runner', () => {
   it('names the view that failed and applies only the view steps', async () => {
     db = await openDatabase(':memory:');
     const { log } = memoryLogger();
+    await applyMigrations(db, log); // the shared rules read pipeline_settings
     await expect(applyViews(db, log, folder({ '010_clean_view_first.sql': 'create or replace view clean_first as select * from nowhere' }))).rejects.toThrow(
       'view 010_clean_view_first.sql failed',
     );
@@ -101,5 +102,24 @@ describe('the ordered SQL runner', () => {
       }),
     );
     expect(await db.all('select x from clean_first')).toEqual([{ x: 1 }]);
+  });
+
+  it('defines the cash rule once, as macros every step and query reads', async () => {
+    db = await openDatabase(':memory:');
+    const { log } = memoryLogger();
+    await applyMigrations(db, log);
+    await db.run("insert into pipeline_settings values ('USD', 5, 252, [250]::integer[])");
+    await applyViews(db, log, folder({}));
+    // cash is CASH:<ISO 4217 code>, price 1 in its own currency (SPEC.md, "Cash")
+    const rows = await db.all<{ id: string; cash: boolean; currency: string | null; base: boolean; eur: boolean }>(
+      `select id, is_cash(id) as cash, cash_currency(id) as currency, is_base_cash(id) as base, is_cash_in(id, 'EUR') as eur
+       from (values ('CASH:USD'), ('CASH:EUR'), ('EQ-CASH:USD'), ('cash:USD')) t(id) order by id`,
+    );
+    expect(rows).toEqual([
+      { id: 'CASH:EUR', cash: true, currency: 'EUR', base: false, eur: true },
+      { id: 'CASH:USD', cash: true, currency: 'USD', base: true, eur: false },
+      { id: 'EQ-CASH:USD', cash: false, currency: null, base: false, eur: false },
+      { id: 'cash:USD', cash: false, currency: null, base: false, eur: false },
+    ]);
   });
 });

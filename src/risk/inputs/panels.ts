@@ -82,7 +82,7 @@ export async function readReturnPanel(db: Database, dates: string[], holdingsFro
   );
   const ids = await readColumns(
     db,
-    `select security_id, security_id = 'CASH:' || (select base_currency from pipeline_settings) from risk_in_securities order by k`,
+    `select security_id, is_base_cash(security_id) from risk_in_securities order by k`,
     undefined,
     { security_id: 'text', is_cash: 'bool' },
   );
