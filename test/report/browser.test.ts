@@ -149,6 +149,20 @@ describe('the report in a real browser', () => {
     expect(tables[0].map((t) => t.rows)).toEqual([4, 2]);
     expect(tables[1].map((t) => t.rows)).toEqual([4, 1]);
     expect(tables.flat().every((t) => t.width > 200)).toBe(true);
+    // the holdings: the five securities and the cash balance, each row with its eight cells, fitting the page
+    const holdings = await page.evaluate(() => {
+      const t = document.querySelector('section[data-section="holdings"] table');
+      return {
+        cells: [...(t?.querySelectorAll('tbody tr') ?? [])].map((tr) => tr.querySelectorAll('td').length),
+        ids: [...(t?.querySelectorAll('tbody tr td:first-child') ?? [])].map((td) => td.textContent),
+        width: t?.getBoundingClientRect().width ?? 0,
+        pageWidth: document.documentElement.clientWidth,
+      };
+    });
+    expect(holdings.cells).toEqual(Array(FIXTURE_SECURITIES.length + 1).fill(8));
+    expect([...holdings.ids].sort()).toEqual([...FIXTURE_SECURITIES, 'CASH:USD'].sort());
+    expect(holdings.width).toBeGreaterThan(200);
+    expect(holdings.width).toBeLessThanOrEqual(holdings.pageWidth);
 
     await page.emulateMedia({ media: 'print' });
     expect(await page.evaluate(() => getComputedStyle(document.body).backgroundColor)).toBe('rgb(255, 255, 255)');
