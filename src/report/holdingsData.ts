@@ -32,3 +32,30 @@ export async function loadHoldings(db: Database, portfolioId: string, asOf: stri
     [portfolioId, asOf],
   );
 }
+
+/**
+ * Dates from `from` to `to` on which a new positions snapshot of the portfolio holds other
+ * securities or quantities than the one before it (a resent, unchanged snapshot is no rebalance).
+ */
+export async function loadRebalances(db: Database, portfolioId: string, from: string, to: string): Promise<string[]> {
+  const rows = await db.all<{ date: string }>(
+    `with snapshot_holdings as (
+       select s.snapshot_date,
+         list((p.security_id, p.quantity) order by p.security_id) filter (where p.quantity <> 0) as holdings
+       from clean_snapshots s
+       left join clean_positions p on p.portfolio_id = s.portfolio_id and p.date = s.snapshot_date
+       where s.portfolio_id = $1
+       group by s.snapshot_date
+     ),
+     compared as (
+       select snapshot_date, holdings, lag(holdings) over (order by snapshot_date) as previous,
+         row_number() over (order by snapshot_date) as n
+       from snapshot_holdings
+     )
+     select snapshot_date::varchar as date from compared
+     where n > 1 and holdings is distinct from previous and snapshot_date between $2::date and $3::date
+     order by snapshot_date`,
+    [portfolioId, from, to],
+  );
+  return rows.map((r) => r.date);
+}

@@ -9,7 +9,7 @@ import { correlationOfReturns, type CorrelationResult, type ReturnObservation } 
 import { loadCurrencySplits, type CurrencySplit } from './currencySplit.ts';
 import { loadLossData, type LossData } from './lossData.ts';
 import { loadExposure, type ExposureData } from './exposureData.ts';
-import { loadHoldings, type Holding } from './holdingsData.ts';
+import { loadHoldings, loadRebalances, type Holding } from './holdingsData.ts';
 import { loadVolChange, type VolChangeReport } from './volChangeData.ts';
 
 export interface RiskPoint {
@@ -86,6 +86,8 @@ export interface ReportData {
   exposure: ExposureData;
   /** Every position on asOf, cash included, largest weight first; unvalued ones last. */
   holdings: Holding[];
+  /** Dates on the charts where a new snapshot changed the holdings or quantities. */
+  rebalances: string[];
   breaches: Breach[];
   quality: QualityFlag[];
   losses: LossData;
@@ -155,6 +157,7 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
     correlation: await loadCorrelation(db, portfolioId, asOf),
     exposure: await loadExposure(db, portfolioId, asOf, focusWindow),
     holdings: await loadHoldings(db, portfolioId, asOf),
+    rebalances: await loadRebalances(db, portfolioId, chartFrom, asOf),
     breaches: await db.all<Breach>('select * from limit_breaches where portfolio_id = $1 order by opened_on, breach_id', [portfolioId]),
     quality: await loadQuality(db, portfolioId),
     losses: await loadLossData(db, portfolioId, asOf, focusWindow, chartFrom),

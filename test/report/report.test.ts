@@ -198,6 +198,48 @@ describe('the holdings table', () => {
   });
 });
 
+describe('rebalances on the volatility charts', () => {
+  let ws: TempWorkspace | undefined;
+  afterEach(() => ws?.cleanup());
+
+  it('marks a new snapshot that changes a quantity or drops a holding, not a resent identical one nor one before the charts', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    const fixture = await fillReportFixture(ws.db);
+    const { dates } = fixture;
+    // a rebalance is a snapshot whose holdings differ from the one before (common practice, no source)
+    const snapshot = (t: number, quantities: Record<string, number>) =>
+      Object.entries(quantities).map(([id, q], i) => `('${dates[t]}', '${FIXTURE_PORTFOLIO}', '${id}', ${q}, 1, ${1000 + t * 10 + i})`);
+    const base = { 'EQ-BRAMBLEFORD': 9000, 'EQ-VELLANCE': 5000, 'EQ-NORDWIND': 20000, 'BD-KESTREL-28': 6000, 'CM-EMBERSTONE': 12000, 'CASH:USD': 150000 };
+    const rows = [
+      ...snapshot(100, { ...base, 'EQ-VELLANCE': 5500 }), // before the charts' first date
+      ...snapshot(250, { ...base, 'EQ-VELLANCE': 6000 }),
+      ...snapshot(260, { ...base, 'EQ-VELLANCE': 6000 }), // the same holdings sent again
+      ...snapshot(270, { ...base, 'EQ-VELLANCE': 6000, 'CM-EMBERSTONE': 0 }), // a zero quantity: no longer held
+    ];
+    await ws.db.run(`insert into positions (date, portfolio_id, security_id, quantity, file_id, line) values ${rows.join(',')}`);
+    await refreshDerived(ws.db);
+    const data = await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO);
+    expect(data.chartFrom > dates[100]).toBe(true);
+    expect(data.rebalances).toEqual([dates[250], dates[270]]);
+    expect(data.holdings.map((h) => h.security_id)).not.toContain('CM-EMBERSTONE');
+    const html = renderReport(data, new Date('2026-12-01T12:00:00Z'));
+    // both ticks on the 21-day, 63-day and EWMA panels and the realized chart; the 252-day line starts at
+    // dates[252], after the first rebalance, so its panel has only the second; one legend line per chart
+    expect(html.match(/<line class="marker"/g)).toHaveLength(4 * 2 + 1);
+    expect(html.match(/rebalance \(new positions snapshot\)/g)).toHaveLength(5);
+  });
+
+  it('draws no tick and no legend line when the holdings never changed', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    await fillReportFixture(ws.db);
+    const data = await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO);
+    expect(data.rebalances).toEqual([]);
+    const html = renderReport(data, new Date('2026-12-01T12:00:00Z'));
+    expect(html).not.toContain('class="marker"');
+    expect(html).not.toContain('new positions snapshot)');
+  });
+});
+
 describe('writeReport and riskfold report', () => {
   let ws: TempWorkspace | undefined;
   afterEach(() => ws?.cleanup());
