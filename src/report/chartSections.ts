@@ -1,6 +1,6 @@
 import { barChart } from './charts/barChart.ts';
 import { correlationColor, heatmap } from './charts/heatmap.ts';
-import { legend, lineChart, type DateBand, type LineSeries, type ReferenceLine } from './charts/lineChart.ts';
+import { legend, lineChart, type DateBand, type DateMarker, type LineSeries, type ReferenceLine } from './charts/lineChart.ts';
 import { escapeHtml, formatPercent } from './format.ts';
 import type { Estimator } from '../config/schema.ts';
 import type { ReportData } from './reportData.ts';
@@ -44,6 +44,15 @@ function episodeBands(data: ReportData, metric: string, estimates: Estimate[]): 
     }));
 }
 
+/** The rebalance dates as ticks on a dated chart, and their legend line (none without a rebalance). */
+function rebalanceMarkers(data: ReportData): DateMarker[] {
+  return data.rebalances.map((date) => ({ date, label: `rebalance ${date}`, color: PALETTE.rebalance }));
+}
+
+function rebalanceKey(markers: DateMarker[]) {
+  return markers.length ? [{ label: 'rebalance (new positions snapshot)', color: PALETTE.rebalance, kind: 'tick' as const }] : [];
+}
+
 function seriesOf(data: ReportData, estimator: Estimator, window: number, field: 'vol_ex_ante' | 'vol_realized') {
   return data.series
     .filter((p) => p.estimator === estimator && p.window_days === window)
@@ -73,22 +82,27 @@ export function volatilitySection(data: ReportData): string {
     ...panels.flatMap((p) => p.series.flatMap((s) => s.points.map((x) => x.value ?? 0))),
     ...limitLines(data, panels.flatMap((p) => p.estimates)).map((r) => r.value),
   );
+  const markers = rebalanceMarkers(data);
   const charts = panels.map((p) => {
     const references = limitLines(data, p.estimates);
     const bands = episodeBands(data, 'vol_ex_ante', p.estimates);
-    const chart = lineChart({ id: p.id, title: p.title, series: p.series, references, bands, formatValue: pct1, height: 170, yAtLeast: top });
+    // a panel whose line starts later (the longest window) shows and names only the rebalances on its dates
+    const starts = p.series.flatMap((s) => s.points.slice(0, 1).map((x) => x.date));
+    const shown = markers.filter((m) => starts.some((d) => d <= m.date));
+    const chart = lineChart({ id: p.id, title: p.title, series: p.series, references, bands, markers: shown, formatValue: pct1, height: 170, yAtLeast: top });
     const key = legend([
       ...p.series.map((s) => ({ label: s.label, color: s.color, kind: s.dashed ? ('dashed' as const) : ('line' as const) })),
       ...references.map((r) => ({ label: r.label, color: r.color, kind: r.dashed ? ('dashed' as const) : ('line' as const) })),
       ...bands
         .filter((b, i) => bands.findIndex((o) => o.color === b.color) === i)
         .map((b) => ({ label: b.color === PALETTE.breachBand ? 'breach episode' : 'warning episode', color: b.color, kind: 'band' as const })),
+      ...rebalanceKey(shown),
     ]);
     return `<h3>${escapeHtml(p.title)}</h3>${chart}${key}`;
   });
   return section(
     'Ex-ante volatility by window',
-    `Annualized volatility from each window's covariance of daily log returns and the day's weights, from ${escapeHtml(data.chartFrom)} to ${escapeHtml(data.asOf)}, one panel per window on one scale. A panel shows only the mandate limits set on its own window and estimator; shaded: their episodes, from the day one opened to the day it closed.`,
+    `Annualized volatility from each window's covariance of daily log returns and the day's weights, from ${escapeHtml(data.chartFrom)} to ${escapeHtml(data.asOf)}, one panel per window on one scale. A panel shows only the mandate limits set on its own window and estimator; shaded: their episodes, from the day one opened to the day it closed. Ticks on the date axis: rebalances, the dates a new positions snapshot changed the holdings or their quantities.`,
     charts.join(''),
   );
 }
@@ -99,11 +113,12 @@ export function realizedSection(data: ReportData): string {
     { label: `ex-ante ${w}-day`, color: PALETTE.exAnte, points: seriesOf(data, 'sample', w, 'vol_ex_ante') },
     { label: `realized ${w}-day`, color: PALETTE.realized, points: seriesOf(data, 'sample', w, 'vol_realized') },
   ];
-  const chart = lineChart({ id: 'vol-realized', title: `Realized against ex-ante volatility, ${w}-day`, series, formatValue: pct1, height: 220 });
+  const markers = rebalanceMarkers(data);
+  const chart = lineChart({ id: 'vol-realized', title: `Realized against ex-ante volatility, ${w}-day`, series, markers, formatValue: pct1, height: 220 });
   return section(
     `Realized against ex-ante, ${w}-day`,
     'Ex-ante uses today\'s weights on the window\'s covariance; realized is the standard deviation of the portfolio\'s own daily returns over the same window. A wide gap means the holdings changed or correlations moved.',
-    chart + legend(series.map((s) => ({ label: s.label, color: s.color, kind: 'line' as const }))),
+    chart + legend([...series.map((s) => ({ label: s.label, color: s.color, kind: 'line' as const })), ...rebalanceKey(markers)]),
   );
 }
 

@@ -1,11 +1,6 @@
-import { escapeHtml, formatMoney, formatNumber, formatPercent } from './format.ts';
+import { cell, escapeHtml, formatMoney, formatNumber, formatPercent, table } from './format.ts';
 import type { ReportData } from './reportData.ts';
 
-const cell = (text: string, num = false) => `<td${num ? ' class="num"' : ''}>${escapeHtml(text)}</td>`;
-const table = (labels: string[], numeric: ReadonlySet<number>, rows: string[][]) =>
-  `<table><thead><tr>${labels.map((l, i) => `<th${numeric.has(i) ? ' class="num"' : ''}>${escapeHtml(l)}</th>`).join('')}</tr></thead><tbody>${rows
-    .map((r) => `<tr>${r.join('')}</tr>`)
-    .join('')}</tbody></table>`;
 
 /** Value and weight by asset class and by currency on the report's date, with the concentration figures. */
 export function exposureSection(data: ReportData): string {

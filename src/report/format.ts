@@ -21,3 +21,12 @@ export function formatMoney(value: number | null | undefined): string {
 export function formatNumber(value: number | null | undefined, digits = 2): string {
   return value === null || value === undefined || !Number.isFinite(value) ? 'n/a' : value.toFixed(digits);
 }
+
+/** A table cell of text; numeric ones are right-aligned by the page's style. */
+export const cell = (text: string, num = false) => `<td${num ? ' class="num"' : ''}>${escapeHtml(text)}</td>`;
+
+/** A table with a header row; the columns in numeric are right-aligned. Rows are lists of ready cells. */
+export const table = (labels: string[], numeric: ReadonlySet<number>, rows: string[][]) =>
+  `<table><thead><tr>${labels.map((l, i) => `<th${numeric.has(i) ? ' class="num"' : ''}>${escapeHtml(l)}</th>`).join('')}</tr></thead><tbody>${rows
+    .map((r) => `<tr>${r.join('')}</tr>`)
+    .join('')}</tbody></table>`;

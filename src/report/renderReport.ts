@@ -1,6 +1,7 @@
 import { contributionsSection, correlationSection, realizedSection, volatilitySection } from './chartSections.ts';
 import { benchmarkSection, exposureSection } from './exposureSections.ts';
 import { escapeHtml } from './format.ts';
+import { holdingsSection } from './holdingsSection.ts';
 import { htmlPage } from './htmlPage.ts';
 import { lossSection } from './lossSections.ts';
 import type { ReportData } from './reportData.ts';
@@ -24,6 +25,7 @@ ${realizedSection(data)}
 ${currencyTable(data)}
 ${contributionsSection(data)}
 ${correlationSection(data)}
+${holdingsSection(data)}
 ${exposureSection(data)}
 ${benchmarkSection(data)}
 ${lossSection(data)}

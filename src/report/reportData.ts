@@ -9,6 +9,7 @@ import { correlationOfReturns, type CorrelationResult, type ReturnObservation } 
 import { loadCurrencySplits, type CurrencySplit } from './currencySplit.ts';
 import { loadLossData, type LossData } from './lossData.ts';
 import { loadExposure, type ExposureData } from './exposureData.ts';
+import { loadHoldings, loadRebalances, type Holding } from './holdingsData.ts';
 import { loadVolChange, type VolChangeReport } from './volChangeData.ts';
 
 export interface RiskPoint {
@@ -83,6 +84,10 @@ export interface ReportData {
   volChange: VolChangeReport;
   correlation: (CorrelationResult & { names: string[]; window: number }) | { error: string };
   exposure: ExposureData;
+  /** Every position on asOf, cash included, largest weight first; unvalued ones last. */
+  holdings: Holding[];
+  /** Dates on the charts where a new snapshot changed the holdings or quantities. */
+  rebalances: string[];
   breaches: Breach[];
   quality: QualityFlag[];
   losses: LossData;
@@ -151,6 +156,8 @@ export async function loadReportData(db: Database, config: Config, portfolioId: 
     volChange: await loadVolChange(db, portfolioId, focusWindow, chartFrom, asOf),
     correlation: await loadCorrelation(db, portfolioId, asOf),
     exposure: await loadExposure(db, portfolioId, asOf, focusWindow),
+    holdings: await loadHoldings(db, portfolioId, asOf),
+    rebalances: await loadRebalances(db, portfolioId, chartFrom, asOf),
     breaches: await db.all<Breach>('select * from limit_breaches where portfolio_id = $1 order by opened_on, breach_id', [portfolioId]),
     quality: await loadQuality(db, portfolioId),
     losses: await loadLossData(db, portfolioId, asOf, focusWindow, chartFrom),

@@ -16,6 +16,7 @@ export const PALETTE = {
   warningBand: 'rgba(192, 131, 26, 0.16)',
   barUp: '#1d5f73',
   barDown: '#7a9a3a',
+  rebalance: '#5d6a70',
 } as const;
 
 export const STYLESHEET = `
@@ -51,6 +52,7 @@ svg .axis { stroke: ${PALETTE.muted}; stroke-width: 1; }
 svg .tick { font-size: 11px; fill: ${PALETTE.muted}; }
 svg .series { stroke-width: 1.6; stroke-linejoin: round; stroke-linecap: round; }
 svg .reference { stroke-width: 1.2; }
+svg .marker { stroke-width: 2; }
 svg .reference-label { font-size: 11px; font-weight: 600; }
 svg .bar-label { font-size: 12px; fill: ${PALETTE.ink}; }
 svg .bar-detail { fill: ${PALETTE.muted}; font-size: 11px; }
@@ -62,6 +64,7 @@ svg .empty-note { font-size: 13px; fill: ${PALETTE.muted}; }
 .swatch { display: inline-block; width: 22px; height: 0; border-top: 2px solid var(--swatch); }
 .swatch-dashed { border-top-style: dashed; }
 .swatch-band { height: 11px; border: none; background: var(--swatch); }
+.swatch-tick { width: 0; height: 12px; border-top: none; border-left: 2px solid var(--swatch); }
 table { border-collapse: collapse; width: 100%; font-size: 13px; }
 th, td { text-align: left; padding: 5px 8px; border-bottom: 1px solid ${PALETTE.rule}; vertical-align: top; }
 th { font-size: 11px; text-transform: uppercase; letter-spacing: 0.06em; color: ${PALETTE.muted}; font-weight: 600; }

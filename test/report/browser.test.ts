@@ -4,6 +4,7 @@ import { pathToFileURL } from 'node:url';
 import { chromium, type Browser } from 'playwright-core';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { reportHtml } from '../../src/report/writeReport.ts';
+import { refreshDerived } from '../../src/storage/derived.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 import { FIXTURE_CONFIG, FIXTURE_EXCEPTION_DAYS, FIXTURE_PORTFOLIO, FIXTURE_SECURITIES, fillReportFixture } from './fixture.ts';
 
@@ -54,6 +55,15 @@ describe('the report in a real browser', () => {
        values ($1, $2::date, 63, 'sample', 'bm-policy', 'EQ-VELLANCE', 0.24, 0.1, 0.14, 0.14, 0.02, 1, 7)`,
       [FIXTURE_PORTFOLIO, fixture.asOf],
     );
+    // a rebalance inside the charts' dates: a new snapshot with more of one holding
+    const rebalanced = fixture.dates[250];
+    await ws.db.run(
+      `insert into positions (date, portfolio_id, security_id, quantity, file_id, line)
+       select $1::date, portfolio_id, security_id, case when security_id = 'EQ-VELLANCE' then quantity + 1000 else quantity end, file_id, line + 100
+       from positions where portfolio_id = $2`,
+      [rebalanced, FIXTURE_PORTFOLIO],
+    );
+    await refreshDerived(ws.db);
     const { html } = await reportHtml(ws.db, ws.config, FIXTURE_PORTFOLIO, new Date('2026-12-01T12:00:00Z'));
     const file = path.join(ws.dir, 'report.html');
     writeFileSync(file, html);
@@ -87,6 +97,23 @@ describe('the report in a real browser', () => {
       }));
     });
     const byId = new Map<string, ChartGeometry>(charts.map((c) => [c.id, c]));
+    // the rebalance: a visible tick with its date on each ex-ante panel and the realized chart, and a legend line under each of those four
+    const ticks = await page.evaluate(() =>
+      [...document.querySelectorAll('svg[data-chart] line.marker')].map((l) => ({
+        chart: l.closest('svg')?.getAttribute('data-chart'),
+        height: l.getBoundingClientRect().height,
+        title: l.querySelector('title')?.textContent,
+      })),
+    );
+    expect(ticks.map((t) => t.chart)).toEqual(['vol-ex-ante-21', 'vol-ex-ante-63', 'vol-ex-ante-ewma', 'vol-realized']);
+    expect(ticks.every((t) => t.height > 5 && t.title === `rebalance ${rebalanced}`)).toBe(true);
+    const tickKeys = await page.evaluate(() =>
+      [...document.querySelectorAll('.legend-item')]
+        .filter((i) => i.textContent === 'rebalance (new positions snapshot)')
+        .map((i) => i.querySelector('.swatch-tick')?.getBoundingClientRect().height ?? 0),
+    );
+    expect(tickKeys).toHaveLength(4);
+    expect(tickKeys.every((h) => h > 5)).toBe(true);
     expect([...byId.keys()]).toEqual([
       'vol-ex-ante-21',
       'vol-ex-ante-63',
@@ -149,6 +176,20 @@ describe('the report in a real browser', () => {
     expect(tables[0].map((t) => t.rows)).toEqual([4, 2]);
     expect(tables[1].map((t) => t.rows)).toEqual([4, 1]);
     expect(tables.flat().every((t) => t.width > 200)).toBe(true);
+    // the holdings: the five securities and the cash balance, each row with its eight cells, fitting the page
+    const holdings = await page.evaluate(() => {
+      const t = document.querySelector('section[data-section="holdings"] table');
+      return {
+        cells: [...(t?.querySelectorAll('tbody tr') ?? [])].map((tr) => tr.querySelectorAll('td').length),
+        ids: [...(t?.querySelectorAll('tbody tr td:first-child') ?? [])].map((td) => td.textContent),
+        width: t?.getBoundingClientRect().width ?? 0,
+        pageWidth: document.documentElement.clientWidth,
+      };
+    });
+    expect(holdings.cells).toEqual(Array(FIXTURE_SECURITIES.length + 1).fill(8));
+    expect([...holdings.ids].sort()).toEqual([...FIXTURE_SECURITIES, 'CASH:USD'].sort());
+    expect(holdings.width).toBeGreaterThan(200);
+    expect(holdings.width).toBeLessThanOrEqual(holdings.pageWidth);
 
     await page.emulateMedia({ media: 'print' });
     expect(await page.evaluate(() => getComputedStyle(document.body).backgroundColor)).toBe('rgb(255, 255, 255)');

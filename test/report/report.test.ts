@@ -7,9 +7,10 @@ import { sampleCorrelation } from 'simple-statistics';
 import { afterEach, describe, expect, it } from 'vitest';
 import { RiskfoldError } from '../../src/errors.ts';
 import { CAUTIONS } from '../../src/report/cautions.ts';
-import { escapeHtml, formatPercent } from '../../src/report/format.ts';
+import { escapeHtml, formatMoney, formatPercent } from '../../src/report/format.ts';
 import { loadReportData } from '../../src/report/reportData.ts';
 import { renderReport } from '../../src/report/renderReport.ts';
+import { refreshDerived } from '../../src/storage/derived.ts';
 import { defaultReportName, writeReport } from '../../src/report/writeReport.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 import { FIXTURE_CONFIG, FIXTURE_LIMIT, FIXTURE_PORTFOLIO, fillReportFixture } from './fixture.ts';
@@ -144,6 +145,98 @@ describe('the exposures and benchmark sections', () => {
     expect(html).toContain('<td>63-day</td><td class="num">2.73%</td><td class="num">2.50%</td><td class="num">0.97</td>');
     expect(html).toContain('<td>EWMA</td><td class="num">2.10%</td><td class="num">n/a</td>');
     expect(html).toContain('<td>EQ-QUILLBECK</td><td class="num">0.0%</td><td class="num">8.0%</td><td class="num">-8.0%</td><td class="num">40.0%</td>');
+  });
+});
+
+describe('the holdings table', () => {
+  let ws: TempWorkspace | undefined;
+  afterEach(() => ws?.cleanup());
+
+  it('lists every position with quantity, local price, base value and weight as recomputed from the raw files, largest first', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    const fixture = await fillReportFixture(ws.db);
+    const data = await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO);
+    // independent of the views: value = quantity × price × fx (cash at 1 in its currency), weight = value / sum
+    // (the definition of a position's market value and weight; common practice, no source)
+    const raw = await ws.db.all<{ security_id: string; quantity: number; price: number; value: number }>(
+      `select p.security_id, p.quantity, coalesce(x.price, 1) as price,
+         p.quantity * coalesce(x.price, 1) * coalesce(f.rate, 1) as value
+       from positions p
+       left join prices x on x.security_id = p.security_id and x.date = $1
+       left join fx_rates f on f.currency = x.currency and f.date = $1
+       order by value desc`,
+      [fixture.asOf],
+    );
+    const total = raw.reduce((s, r) => s + r.value, 0);
+    expect(data.holdings.map((h) => h.security_id)).toEqual(raw.map((r) => r.security_id));
+    raw.forEach((r, i) => {
+      expect(data.holdings[i].quantity).toBe(r.quantity);
+      expect(data.holdings[i].price_local).toBeCloseTo(r.price, 10);
+      expect(data.holdings[i].value_base).toBeCloseTo(r.value, 6);
+      expect(data.holdings[i].weight).toBeCloseTo(r.value / total, 12);
+    });
+    const cash = data.holdings.find((h) => h.security_id === 'CASH:USD');
+    expect(cash).toMatchObject({ asset_class: 'cash', currency: 'USD', price_local: 1 });
+    expect(data.holdings.find((h) => h.security_id === 'EQ-NORDWIND')).toMatchObject({ asset_class: 'equity', currency: 'EUR' });
+    const html = renderReport(data, new Date('2026-12-01T12:00:00Z'));
+    expect(html).toContain('data-section="holdings"');
+    expect(html).toContain(`<td class="num">${formatMoney(raw[0].value)}</td><td class="num">${formatPercent(raw[0].value / total)}</td>`);
+  });
+
+  it('keeps a position that has no price, with no value and no weight, and says why', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    await fillReportFixture(ws.db);
+    await ws.db.run("delete from prices where security_id = 'CM-EMBERSTONE'");
+    await refreshDerived(ws.db);
+    const data = await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO);
+    expect(data.holdings).toHaveLength(6);
+    const last = data.holdings[data.holdings.length - 1];
+    expect(last).toMatchObject({ security_id: 'CM-EMBERSTONE', value_base: null, weight: null, price_status: 'missing_price' });
+    const html = renderReport(data, new Date('2026-12-01T12:00:00Z'));
+    expect(html).toContain('<td class="num">n/a</td><td class="num">n/a</td><td class="num">n/a</td><td>missing_price</td>');
+    expect(html).toContain('1 holding has no value');
+  });
+});
+
+describe('rebalances on the volatility charts', () => {
+  let ws: TempWorkspace | undefined;
+  afterEach(() => ws?.cleanup());
+
+  it('marks a new snapshot that changes a quantity or drops a holding, not a resent identical one nor one before the charts', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    const fixture = await fillReportFixture(ws.db);
+    const { dates } = fixture;
+    // a rebalance is a snapshot whose holdings differ from the one before (common practice, no source)
+    const snapshot = (t: number, quantities: Record<string, number>) =>
+      Object.entries(quantities).map(([id, q], i) => `('${dates[t]}', '${FIXTURE_PORTFOLIO}', '${id}', ${q}, 1, ${1000 + t * 10 + i})`);
+    const base = { 'EQ-BRAMBLEFORD': 9000, 'EQ-VELLANCE': 5000, 'EQ-NORDWIND': 20000, 'BD-KESTREL-28': 6000, 'CM-EMBERSTONE': 12000, 'CASH:USD': 150000 };
+    const rows = [
+      ...snapshot(100, { ...base, 'EQ-VELLANCE': 5500 }), // before the charts' first date
+      ...snapshot(250, { ...base, 'EQ-VELLANCE': 6000 }),
+      ...snapshot(260, { ...base, 'EQ-VELLANCE': 6000 }), // the same holdings sent again
+      ...snapshot(270, { ...base, 'EQ-VELLANCE': 6000, 'CM-EMBERSTONE': 0 }), // a zero quantity: no longer held
+    ];
+    await ws.db.run(`insert into positions (date, portfolio_id, security_id, quantity, file_id, line) values ${rows.join(',')}`);
+    await refreshDerived(ws.db);
+    const data = await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO);
+    expect(data.chartFrom > dates[100]).toBe(true);
+    expect(data.rebalances).toEqual([dates[250], dates[270]]);
+    expect(data.holdings.map((h) => h.security_id)).not.toContain('CM-EMBERSTONE');
+    const html = renderReport(data, new Date('2026-12-01T12:00:00Z'));
+    // both ticks on the 21-day, 63-day and EWMA panels and the realized chart; the 252-day line starts at
+    // dates[252], after the first rebalance, so its panel has only the second; one legend line per chart
+    expect(html.match(/<line class="marker"/g)).toHaveLength(4 * 2 + 1);
+    expect(html.match(/rebalance \(new positions snapshot\)/g)).toHaveLength(5);
+  });
+
+  it('draws no tick and no legend line when the holdings never changed', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    await fillReportFixture(ws.db);
+    const data = await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO);
+    expect(data.rebalances).toEqual([]);
+    const html = renderReport(data, new Date('2026-12-01T12:00:00Z'));
+    expect(html).not.toContain('class="marker"');
+    expect(html).not.toContain('new positions snapshot)');
   });
 });
 

@@ -29,6 +29,13 @@ export interface DateBand {
   color: string;
 }
 
+/** A dated event drawn as a short tick rising from the date axis, e.g. a rebalance. */
+export interface DateMarker {
+  date: string;
+  label: string;
+  color: string;
+}
+
 export interface LineChartSpec {
   /** Goes into data-chart, so a page test can find the chart. */
   id: string;
@@ -36,6 +43,7 @@ export interface LineChartSpec {
   series: LineSeries[];
   references?: ReferenceLine[];
   bands?: DateBand[];
+  markers?: DateMarker[];
   formatValue: (v: number) => string;
   width?: number;
   height?: number;
@@ -45,6 +53,7 @@ export interface LineChartSpec {
 
 const MARGIN = { top: 12, right: 96, bottom: 26, left: 52 };
 const LABEL_GAP = 13;
+const MARKER_HEIGHT = 14;
 
 /**
  * A dated line chart as inline SVG. A null value breaks the line (a gap in the data is
@@ -73,6 +82,11 @@ export function lineChart(spec: LineChartSpec): string {
     const x1 = x(dayTime(b.to > last ? last : b.to));
     return `<rect class="band" x="${x0.toFixed(1)}" y="${MARGIN.top}" width="${Math.max(x1 - x0, 1.5).toFixed(1)}" height="${height - MARGIN.top - MARGIN.bottom}" fill="${b.color}"><title>${escapeHtml(b.label)}</title></rect>`;
   });
+  const markerTop = height - MARGIN.bottom - MARKER_HEIGHT;
+  const markers = (spec.markers ?? []).filter((m) => m.date >= first && m.date <= last).map(
+    (m) =>
+      `<line class="marker" x1="${xOf(m.date)}" x2="${xOf(m.date)}" y1="${markerTop}" y2="${height - MARGIN.bottom}" stroke="${m.color}"><title>${escapeHtml(m.label)}</title></line>`,
+  );
   const grid = yTicks.map(
     (t) =>
       `<line class="grid" x1="${MARGIN.left}" x2="${width - MARGIN.right}" y1="${yOf(t)}" y2="${yOf(t)}"/><text class="tick" x="${MARGIN.left - 6}" y="${yOf(t)}" text-anchor="end" dominant-baseline="middle">${escapeHtml(spec.formatValue(t))}</text>`,
@@ -100,6 +114,7 @@ export function lineChart(spec: LineChartSpec): string {
     ...xTicks,
     ...references,
     ...lines,
+    ...markers,
     '</svg>',
   ].join('\n');
 }
@@ -136,7 +151,7 @@ function emptyChart(spec: LineChartSpec, width: number, height: number): string 
 }
 
 /** A legend in HTML (wraps and prints better than text inside the SVG). */
-export function legend(items: { label: string; color: string; kind: 'line' | 'dashed' | 'band' }[]): string {
+export function legend(items: { label: string; color: string; kind: 'line' | 'dashed' | 'band' | 'tick' }[]): string {
   const entries = items.map(
     (i) => `<span class="legend-item"><span class="swatch swatch-${i.kind}" style="--swatch:${i.color}"></span>${escapeHtml(i.label)}</span>`,
   );
