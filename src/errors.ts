@@ -55,7 +55,8 @@ export type ErrorKind =
   | 'usage'
   | 'query_refused'
   | 'not_found'
-  | 'input_rejected';
+  | 'input_rejected'
+  | 'schema_outdated';
 
 export class RiskfoldError extends Error {
   readonly kind: ErrorKind;

@@ -92,11 +92,23 @@ function isLayer(word: string): word is LadderStep['layer'] {
 }
 
 /** Applies each migration not yet recorded in schema_version, each in its own transaction. */
-export async function applyMigrations(db: Database, log: Logger, dir = path.join(SQL_DIR, 'migrations')): Promise<number> {
+const MIGRATIONS_DIR = path.join(SQL_DIR, 'migrations');
+
+async function recordedMigrations(db: Database): Promise<Set<number>> {
+  return new Set((await db.all<{ version: number }>('select version from schema_version')).map((r) => r.version));
+}
+
+/** Migrations this code knows that the database has not recorded (a reader cannot apply them). */
+export async function missingMigrations(db: Database, dir = MIGRATIONS_DIR): Promise<string[]> {
+  const done = await recordedMigrations(db);
+  return listMigrations(dir).filter((m) => !done.has(m.order)).map((m) => m.file);
+}
+
+export async function applyMigrations(db: Database, log: Logger, dir = MIGRATIONS_DIR): Promise<number> {
   await db.run(
     'create table if not exists schema_version (version integer primary key, name varchar not null, applied_at timestamptz not null default now())',
   );
-  const done = new Set((await db.all<{ version: number }>('select version from schema_version')).map((r) => r.version));
+  const done = await recordedMigrations(db);
   let applied = 0;
   for (const m of listMigrations(dir)) {
     if (done.has(m.order)) continue;

@@ -11,7 +11,7 @@ import { prepareHistory } from '../history/historyTables.ts';
 import { lockDownReader } from './readerSandbox.ts';
 import { refreshDerived } from './derived.ts';
 import { bytesToPublish, freeBytes, sizeOrZero } from './diskRoom.ts';
-import { applyMigrations, applyViews } from './sqlFiles.ts';
+import { applyMigrations, applyViews, missingMigrations } from './sqlFiles.ts';
 
 const execFileAsync = promisify(execFile);
 
@@ -141,12 +141,28 @@ export interface ReadHandle {
 export async function openForReading(config: Config, readableDirs: readonly string[] = []): Promise<ReadHandle> {
   const handle = await openEither(config);
   try {
+    await requireCurrentSchema(handle, config);
     await lockDownReader(handle.db, readableDirs);
   } catch (err) {
     handle.db.close();
     throw err;
   }
   return handle;
+}
+
+/**
+ * Readers open read-only and so cannot upgrade a database written by an older riskfold:
+ * its views and macros would fail with a catalog error. Say what to run instead.
+ */
+async function requireCurrentSchema(handle: ReadHandle, config: Config): Promise<void> {
+  const missing = await missingMigrations(handle.db);
+  if (missing.length === 0) return;
+  const file = handle.source === 'database' ? config.database : config.readCopy;
+  throw new RiskfoldError(
+    'schema_outdated',
+    `${file} was written by an older riskfold (missing ${missing.join(', ')}): run "riskfold ingest" once (or restart "riskfold watch") so the worker upgrades it, then read again`,
+    { file },
+  );
 }
 
 async function openEither(config: Config): Promise<ReadHandle> {
