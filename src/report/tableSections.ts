@@ -8,7 +8,9 @@ const head = (labels: string[], numeric: ReadonlySet<number> = new Set()) =>
 
 /** The open episode of the portfolio's main volatility limit, if any (it sets the status chip). */
 export function openEpisode(data: ReportData): Breach | undefined {
-  return data.breaches.find((b) => b.closed_on === null && !b.retracted && b.window_days === data.focusWindow);
+  return data.breaches.find(
+    (b) => b.closed_on === null && !b.retracted && b.metric === 'vol_ex_ante' && b.estimator === 'sample' && b.window_days === data.focusWindow,
+  );
 }
 
 export function keyFigures(data: ReportData): string {

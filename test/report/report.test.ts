@@ -40,6 +40,19 @@ describe('loadReportData', () => {
     expect(data.provenance.configHash).toBe(configHash);
   });
 
+  it('sets the volatility chip from the volatility limit only: an open backtest-zone episode of the same window leaves it "within limit"', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    const fixture = await fillReportFixture(ws.db);
+    await ws.db.run(
+      `insert into limit_breaches (portfolio_id, metric, window_days, estimator, limit_value, warning_value, clear_value, level, opened_on, peak_value, peak_on, run_id)
+       values ($1, 'backtest_zone', 63, 'sample', 10, 5, 5, 'warning', $2, 5, $2, 7)`,
+      [FIXTURE_PORTFOLIO, fixture.asOf],
+    );
+    const html = renderReport(await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO), new Date('2026-12-02T00:00:00Z'));
+    expect(html).toContain('<span class="chip chip-ok">within limit</span>');
+    expect(html).not.toContain('warning since');
+  });
+
   it('ranks the largest holdings by weight and correlates their last 63 base-currency log returns like simple-statistics does', async () => {
     ws = await tempWorkspace(FIXTURE_CONFIG);
     const fixture = await fillReportFixture(ws.db);
