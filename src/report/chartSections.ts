@@ -1,7 +1,7 @@
 import { barChart } from './charts/barChart.ts';
 import { correlationColor, heatmap } from './charts/heatmap.ts';
 import { legend, lineChart, type DateBand, type DateMarker, type LineSeries, type ReferenceLine } from './charts/lineChart.ts';
-import { escapeHtml, formatPercent } from './format.ts';
+import { escapeHtml, formatPercent, estimateLabel } from './format.ts';
 import type { Estimator } from '../config/schema.ts';
 import type { ReportData } from './reportData.ts';
 import { PALETTE } from './style.ts';
@@ -18,7 +18,7 @@ interface Estimate {
   window: number;
 }
 
-const estimateName = (e: Estimate) => (e.estimator === 'ewma' ? 'EWMA' : `${e.window}-day${e.estimator === 'shrunk' ? ' shrunk' : ''}`);
+const estimateName = (e: Estimate) => estimateLabel(e.estimator, e.window);
 
 /** Limit and warning lines of the vol_ex_ante limits on these estimates: a limit is drawn only on the panel of the estimate it watches. */
 function limitLines(data: ReportData, estimates: Estimate[]): ReferenceLine[] {

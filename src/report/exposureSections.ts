@@ -1,4 +1,4 @@
-import { cell, escapeHtml, formatMoney, formatNumber, formatPercent, table } from './format.ts';
+import { cell, escapeHtml, formatMoney, formatNumber, formatPercent, table, estimateLabel } from './format.ts';
 import type { ReportData } from './reportData.ts';
 
 
@@ -25,7 +25,7 @@ export function benchmarkSection(data: ReportData): string {
     ['window', 'tracking error ex ante', 'tracking error realized', 'beta'],
     new Set([1, 2, 3]),
     benchmark.byWindow.map((r) => [
-      cell(r.estimator === 'ewma' ? 'EWMA' : `${r.window_days}-day`),
+      cell(estimateLabel(r.estimator, r.window_days)),
       cell(formatPercent(r.tracking_error_ex_ante), true),
       cell(formatPercent(r.tracking_error_realized), true),
       cell(formatNumber(r.beta_to_benchmark), true),

@@ -30,3 +30,9 @@ export const table = (labels: string[], numeric: ReadonlySet<number>, rows: stri
   `<table><thead><tr>${labels.map((l, i) => `<th${numeric.has(i) ? ' class="num"' : ''}>${escapeHtml(l)}</th>`).join('')}</tr></thead><tbody>${rows
     .map((r) => `<tr>${r.join('')}</tr>`)
     .join('')}</tbody></table>`;
+
+/** How the report names an estimate: "EWMA", "63-day" (sample covariance), "63-day shrunk". */
+export function estimateLabel(estimator: string | null, windowDays: number): string {
+  if (estimator === 'ewma') return 'EWMA';
+  return `${windowDays}-day${estimator === 'shrunk' ? ' shrunk' : ''}`;
+}

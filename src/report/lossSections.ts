@@ -1,5 +1,5 @@
 import { legend, lineChart, type LineSeries } from './charts/lineChart.ts';
-import { escapeHtml, formatMoney, formatNumber, formatPercent } from './format.ts';
+import { escapeHtml, formatMoney, formatNumber, formatPercent, estimateLabel } from './format.ts';
 import type { LossData } from './lossData.ts';
 import type { ReportData } from './reportData.ts';
 import { PALETTE } from './style.ts';
@@ -22,7 +22,7 @@ const METHOD_LABEL: Record<string, string> = { normal: 'normal', historical: 'hi
 function methodLabel(r: { method: string; window_days: number; estimator: string | null }): string {
   const method = METHOD_LABEL[r.method] ?? r.method;
   if (r.method !== 'normal') return `${method}, ${r.window_days} scenarios`;
-  return r.estimator === 'ewma' ? `${method}, EWMA` : `${method}, ${r.window_days}-day`;
+  return `${method}, ${estimateLabel(r.estimator, r.window_days)}`;
 }
 
 export function lossSection(data: ReportData): string {

@@ -1,5 +1,5 @@
 import { CAUTIONS } from './cautions.ts';
-import { escapeHtml, formatMoney, formatNumber, formatPercent } from './format.ts';
+import { escapeHtml, formatMoney, formatNumber, formatPercent, estimateLabel } from './format.ts';
 import type { Breach, ReportData } from './reportData.ts';
 
 const cell = (text: string, num = false) => `<td${num ? ' class="num"' : ''}>${escapeHtml(text)}</td>`;
@@ -41,7 +41,7 @@ export function keyFigures(data: ReportData): string {
 export function latestTable(data: ReportData): string {
   const rows = data.latest.map((r) =>
     [
-      cell(r.estimator === 'ewma' ? 'EWMA' : `${r.window_days}-day`),
+      cell(estimateLabel(r.estimator, r.window_days)),
       cell(formatPercent(r.vol_ex_ante), true),
       cell(formatPercent(r.vol_realized), true),
       cell(formatPercent(r.ann_return), true),
@@ -82,7 +82,7 @@ export function breachTable(data: ReportData): string {
   }
   const rows = data.breaches.map((b) =>
     [
-      cell(b.estimator === 'ewma' ? `${b.metric}, EWMA` : `${b.metric}, ${b.window_days}-day`),
+      cell(`${b.metric}, ${estimateLabel(b.estimator, b.window_days)}`),
       cell(b.level),
       cell(b.opened_on),
       cell(b.escalated_on ?? '-'),
