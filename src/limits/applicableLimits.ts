@@ -5,6 +5,11 @@ export function limitKey(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'estim
   return `${limit.metric}|${limit.window}|${limit.estimator}`;
 }
 
+/** Whether a metric's levels are counts (a backtest's exceptions), not fractions of value. */
+export function isCountMetric(metric: string): boolean {
+  return metric === 'backtest_zone';
+}
+
 /**
  * The limits that apply to one portfolio: its own entries, plus each `*` entry whose
  * metric, window and estimator it has no own entry for (a specific id overrides `*`).

@@ -2,6 +2,7 @@ import type { ResolvedLimit } from '../config/load.ts';
 import type { NewAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
 import type { Episode, Transition } from './episodes.ts';
+import { isCountMetric } from './applicableLimits.ts';
 import { stateAfter, type EpisodeState } from './toldState.ts';
 import { volChangeSentence, type VolChangeFacts } from './volChangeText.ts';
 
@@ -174,7 +175,7 @@ export function metricLabel(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'es
 
 /** A limit's figure as text: a fraction as a percentage, a backtest's exceptions as a count. */
 function fmt(limit: Pick<ResolvedLimit, 'metric'>, value: number): string {
-  return limit.metric === 'backtest_zone' ? `${value} exceptions in 250 days` : pct(value);
+  return isCountMetric(limit.metric) ? `${value} exceptions in 250 days` : pct(value);
 }
 
 /** "acct: the 63-day normal 99% VaR had 5 exceptions in its last 250 tested days on <date>: yellow zone (red from 10)". */

@@ -1,4 +1,4 @@
-import { escapeHtml, formatMoney, formatPercent } from './format.ts';
+import { escapeHtml, formatMoney, formatPercent, formatLimitFigure } from './format.ts';
 import type { FirmData } from './firmData.ts';
 import { htmlPage } from './htmlPage.ts';
 import { cautionsSection } from './tableSections.ts';
@@ -71,8 +71,8 @@ function episodesSection(data: FirmData, link: Link): string {
       cell(`<span class="chip chip-${escapeHtml(e.level)}">${escapeHtml(e.level)}</span>`),
       cell(escapeHtml(e.opened_on)),
       cell(escapeHtml(e.escalated_on ?? '-')),
-      cell(escapeHtml(`${formatPercent(e.peak_value)} on ${e.peak_on}`), true),
-      cell(escapeHtml(formatPercent(e.limit_value, 1)), true),
+      cell(escapeHtml(`${formatLimitFigure(e.metric, e.peak_value)} on ${e.peak_on}`), true),
+      cell(escapeHtml(formatLimitFigure(e.metric, e.limit_value, 1)), true),
     ].join(''),
   );
   return `<section><h2>Open limit episodes</h2><p class="lede">${escapeHtml(

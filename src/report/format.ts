@@ -1,3 +1,4 @@
+import { isCountMetric } from '../limits/applicableLimits.ts';
 /** Text helpers shared by the HTML report and the demo's terminal summary. */
 
 const HTML_ESCAPES: Record<string, string> = { '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' };
@@ -30,6 +31,12 @@ export const table = (labels: string[], numeric: ReadonlySet<number>, rows: stri
   `<table><thead><tr>${labels.map((l, i) => `<th${numeric.has(i) ? ' class="num"' : ''}>${escapeHtml(l)}</th>`).join('')}</tr></thead><tbody>${rows
     .map((r) => `<tr>${r.join('')}</tr>`)
     .join('')}</tbody></table>`;
+
+/** A limit level or episode peak: a fraction as a percentage, a count metric's value as a count. */
+export function formatLimitFigure(metric: string, value: number | null, digits?: number): string {
+  if (value === null) return 'n/a';
+  return isCountMetric(metric) ? String(value) : formatPercent(value, digits);
+}
 
 /** How the report names an estimate: "EWMA", "63-day" (sample covariance), "63-day shrunk". */
 export function estimateLabel(estimator: string | null, windowDays: number): string {

@@ -1,5 +1,5 @@
 import { CAUTIONS } from './cautions.ts';
-import { escapeHtml, formatMoney, formatNumber, formatPercent, estimateLabel } from './format.ts';
+import { escapeHtml, formatMoney, formatNumber, formatPercent, estimateLabel, formatLimitFigure } from './format.ts';
 import type { Breach, ReportData } from './reportData.ts';
 
 const cell = (text: string, num = false) => `<td${num ? ' class="num"' : ''}>${escapeHtml(text)}</td>`;
@@ -87,8 +87,8 @@ export function breachTable(data: ReportData): string {
       cell(b.opened_on),
       cell(b.escalated_on ?? '-'),
       cell(b.retracted ? 'retracted' : (b.closed_on ?? 'open')),
-      cell(`${formatPercent(b.peak_value)} on ${b.peak_on}`, true),
-      cell(formatPercent(b.limit_value, 1), true),
+      cell(`${formatLimitFigure(b.metric, b.peak_value)} on ${b.peak_on}`, true),
+      cell(formatLimitFigure(b.metric, b.limit_value, 1), true),
     ].join(''),
   );
   return `<section><h2>Limit episodes</h2><p class="lede">An episode opens at the warning level (or the limit), escalates once the limit is reached, and closes on the first day below the clear level. A correction that undoes an episode leaves it here, marked retracted.</p><table>${head(
