@@ -1,8 +1,8 @@
 import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
 import type { Database } from '../../storage/database.ts';
-import { ChunkAppender } from '../../storage/columnar.ts';
+import { ChunkAppender, type ColumnSource } from '../../storage/columnar.ts';
 import { ACTIVE_VALUES, CONTRIBUTION_VALUES, DAILY_FIGURES, VOL_CHANGE_FIGURES, VOL_CHANGE_SECURITY_VALUES } from '../walk/figures.ts';
-import type { PortfolioFailure, ResultBatch } from '../walk/resultColumns.ts';
+import type { PortfolioFailure, ResultBatch, SecurityRows } from '../walk/resultColumns.ts';
 
 /**
  * Results go first to temporary staging tables, through appenders and outside any
@@ -76,8 +76,8 @@ export class ResultStage {
       daily.nHoldings,
       daily.nCovered,
     ]);
-    this.contributions.appendColumns(c.rows, [c.portfolio, dateIndexOf(c.row, c.rows), window, kind, c.security, ...c.values]);
-    this.active.appendColumns(a.rows, [a.portfolio, dateIndexOf(a.row, a.rows), window, kind, a.security, ...a.values]);
+    appendSecurityRows(this.contributions, c, window, kind);
+    appendSecurityRows(this.active, a, window, kind);
     this.securities.appendColumns(s.rows, [dateIndexOf(s.row, s.rows), window, s.security, s.annReturn, s.annVol]);
     this.volChange.appendColumns(v.rows, [
       v.portfolio,
@@ -88,7 +88,7 @@ export class ResultStage {
       { codes: v.status, texts: statuses },
       v.driver,
     ]);
-    this.volChangeSecurities.appendColumns(vs.rows, [vs.portfolio, dateIndexOf(vs.row, vs.rows), window, kind, vs.security, ...vs.values]);
+    appendSecurityRows(this.volChangeSecurities, vs, window, kind);
   }
 
   get dailyRows(): number {
@@ -115,6 +115,11 @@ export class ResultStage {
     const [{ n }] = await db.all<{ n: number }>('select count(*)::integer as n from risk_stage_daily');
     return n;
   }
+}
+
+/** A (portfolio, date, window, estimator, security, values...) staging table from one kind of SecurityRows. */
+function appendSecurityRows(to: ChunkAppender, part: SecurityRows, window: ColumnSource, kind: ColumnSource): void {
+  to.appendColumns(part.rows, [part.portfolio, dateIndexOf(part.row, part.rows), window, kind, part.security, ...part.values]);
 }
 
 /** date_index (= row + 1, as align_valuation_dates numbers the dates) of each row. */

@@ -26,16 +26,25 @@ export interface ResultBatch {
     nCovered: Int32Array;
   };
   /** values: CONTRIBUTION_VALUES columns. */
-  contributions: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
+  contributions: SecurityRows;
   /** values: ACTIVE_VALUES columns. */
-  active: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
+  active: SecurityRows;
   securities: { rows: number; row: Int32Array; security: Int32Array; annReturn: Float64Array; annVol: Float64Array };
   /** figures: VOL_CHANGE_FIGURES columns (NaN = NULL); driver: the security with the largest weights part, -1 for none. */
   volChange: { rows: number; portfolio: Int32Array; row: Int32Array; figures: Float64Array[]; status: Int32Array; driver: Int32Array };
   /** values: VOL_CHANGE_SECURITY_VALUES columns. */
-  volChangeSecurities: { rows: number; portfolio: Int32Array; row: Int32Array; security: Int32Array; values: Float64Array[] };
+  volChangeSecurities: SecurityRows;
   /** Portfolios whose row could not be computed (p, the date row, why): the walk dropped them from then on. */
   failures: PortfolioFailure[];
+}
+
+/** Rows keyed by (portfolio, date row, security), one column per value name. */
+export interface SecurityRows {
+  rows: number;
+  portfolio: Int32Array;
+  row: Int32Array;
+  security: Int32Array;
+  values: Float64Array[];
 }
 
 export interface PortfolioFailure {
@@ -54,14 +63,8 @@ export function batchBuffers(batch: ResultBatch): ArrayBuffer[] {
     daily.status,
     daily.nHoldings,
     daily.nCovered,
-    contributions.portfolio,
-    contributions.row,
-    contributions.security,
-    ...contributions.values,
-    active.portfolio,
-    active.row,
-    active.security,
-    ...active.values,
+    ...securityRowArrays(contributions),
+    ...securityRowArrays(active),
     securities.row,
     securities.security,
     securities.annReturn,
@@ -71,13 +74,12 @@ export function batchBuffers(batch: ResultBatch): ArrayBuffer[] {
     ...volChange.figures,
     volChange.status,
     volChange.driver,
-    volChangeSecurities.portfolio,
-    volChangeSecurities.row,
-    volChangeSecurities.security,
-    ...volChangeSecurities.values,
+    ...securityRowArrays(volChangeSecurities),
   ];
   return [...new Set(arrays.map((a) => a.buffer as ArrayBuffer))];
 }
+
+const securityRowArrays = (part: SecurityRows) => [part.portfolio, part.row, part.security, ...part.values];
 
 type Typed = Int32Array | Float64Array;
 
@@ -107,6 +109,28 @@ class Column<A extends Typed> {
 const ints = () => new Column((n) => new Int32Array(n));
 const doubles = () => new Column((n) => new Float64Array(n));
 
+/** The growing columns of one kind of SecurityRows; callers push the keys, then one value per column. */
+class SecurityRowColumns {
+  readonly portfolio = ints();
+  readonly row = ints();
+  readonly security = ints();
+  readonly values: Column<Float64Array>[];
+
+  constructor(valueNames: readonly string[]) {
+    this.values = Array.from(valueNames, doubles);
+  }
+
+  pushKeys(portfolio: number, row: number, security: number): void {
+    this.portfolio.push(portfolio);
+    this.row.push(row);
+    this.security.push(security);
+  }
+
+  take(): SecurityRows {
+    return { rows: this.row.length, portfolio: this.portfolio.take(), row: this.row.take(), security: this.security.take(), values: this.values.map((v) => v.take()) };
+  }
+}
+
 /** Collects one estimate's rows; `take()` returns them as a batch. */
 export class ResultCollector {
   private readonly statusCodes = new Map<string, number>();
@@ -118,8 +142,8 @@ export class ResultCollector {
     nHoldings: ints(),
     nCovered: ints(),
   };
-  private readonly contributions = { portfolio: ints(), row: ints(), security: ints(), values: Array.from(CONTRIBUTION_VALUES, doubles) };
-  private readonly active = { portfolio: ints(), row: ints(), security: ints(), values: Array.from(ACTIVE_VALUES, doubles) };
+  private readonly contributions = new SecurityRowColumns(CONTRIBUTION_VALUES);
+  private readonly active = new SecurityRowColumns(ACTIVE_VALUES);
   private readonly securities = { row: ints(), security: ints(), annReturn: doubles(), annVol: doubles() };
   private readonly volChange = {
     portfolio: ints(),
@@ -128,12 +152,7 @@ export class ResultCollector {
     status: ints(),
     driver: ints(),
   };
-  private readonly volChangeSecurities = {
-    portfolio: ints(),
-    row: ints(),
-    security: ints(),
-    values: Array.from(VOL_CHANGE_SECURITY_VALUES, doubles),
-  };
+  private readonly volChangeSecurities = new SecurityRowColumns(VOL_CHANGE_SECURITY_VALUES);
   private failures: PortfolioFailure[] = [];
   private dates = 0;
 
@@ -154,9 +173,7 @@ export class ResultCollector {
 
   addContribution(portfolio: number, row: number, security: number, weight: number, mcr: number, ccr: number, pct: number): void {
     const c = this.contributions;
-    c.portfolio.push(portfolio);
-    c.row.push(row);
-    c.security.push(security);
+    c.pushKeys(portfolio, row, security);
     c.values[0].push(weight);
     c.values[1].push(mcr);
     c.values[2].push(ccr);
@@ -165,9 +182,7 @@ export class ResultCollector {
 
   addActiveContribution(portfolio: number, row: number, security: number, values: readonly number[]): void {
     const a = this.active;
-    a.portfolio.push(portfolio);
-    a.row.push(row);
-    a.security.push(security);
+    a.pushKeys(portfolio, row, security);
     for (let c = 0; c < ACTIVE_VALUES.length; c++) a.values[c].push(values[c]);
   }
 
@@ -191,9 +206,7 @@ export class ResultCollector {
 
   addVolChangeSecurity(portfolio: number, row: number, security: number, weightPrev: number, weightNow: number, fromWeights: number): void {
     const v = this.volChangeSecurities;
-    v.portfolio.push(portfolio);
-    v.row.push(row);
-    v.security.push(security);
+    v.pushKeys(portfolio, row, security);
     v.values[0].push(weightPrev);
     v.values[1].push(weightNow);
     v.values[2].push(fromWeights);
@@ -246,8 +259,8 @@ export class ResultCollector {
         nHoldings: d.nHoldings.take(),
         nCovered: d.nCovered.take(),
       },
-      contributions: { rows: c.row.length, portfolio: c.portfolio.take(), row: c.row.take(), security: c.security.take(), values: c.values.map((v) => v.take()) },
-      active: { rows: a.row.length, portfolio: a.portfolio.take(), row: a.row.take(), security: a.security.take(), values: a.values.map((v) => v.take()) },
+      contributions: c.take(),
+      active: a.take(),
       securities: { rows: s.row.length, row: s.row.take(), security: s.security.take(), annReturn: s.annReturn.take(), annVol: s.annVol.take() },
       volChange: {
         rows: v.row.length,
@@ -257,13 +270,7 @@ export class ResultCollector {
         status: v.status.take(),
         driver: v.driver.take(),
       },
-      volChangeSecurities: {
-        rows: vs.row.length,
-        portfolio: vs.portfolio.take(),
-        row: vs.row.take(),
-        security: vs.security.take(),
-        values: vs.values.map((x) => x.take()),
-      },
+      volChangeSecurities: vs.take(),
       failures: this.failures,
     };
     this.failures = [];
