@@ -3,6 +3,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runRecompute } from '../../../src/batch/runRecompute.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
 import { buildScenario, LISTING_DAY, loadDays, RISK } from './scenario.ts';
+import type { VolChangePoint } from '../../../src/report/volChangeData.ts';
 
 /**
  * vol_change from a full backfill of the seeded scenario, against an independent
@@ -15,19 +16,11 @@ import { buildScenario, LISTING_DAY, loadDays, RISK } from './scenario.ts';
  * src/risk/math/volChange.ts) and its sum.
  */
 
-interface ChangeRow {
+/** A vol_change row: the report's point with its keys. */
+interface ChangeRow extends VolChangePoint {
   portfolio_id: string;
-  date: string;
-  prev_date: string;
   window_days: number;
   estimator: string;
-  vol_prev: number | null;
-  vol_now: number | null;
-  from_weights: number | null;
-  from_market: number | null;
-  status: string;
-  weights_driver_security_id: string | null;
-  weights_driver_change: number | null;
 }
 
 const A = 252;
