@@ -5,6 +5,7 @@ import { ledoitWolfConstantCorrelation } from '../../../src/risk/math/shrinkage.
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
 import { readDaily, expectSameRows, type DailyRow } from './compare.ts';
 import { buildScenario, loadDays, RISK } from './scenario.ts';
+import { readStoredInputs, type StoredInputs } from '../../helpers/storedInputs.ts';
 
 /**
  * The `shrunk` estimator in the risk stage, on the seeded scenario: each row against a
@@ -32,8 +33,8 @@ describe('the shrunk estimator in the risk stage', () => {
   let plain: TempWorkspace;
   let dates: string[];
   let rows: ShrunkRow[];
-  const returns = new Map<string, Map<string, number>>();
-  const weights = new Map<string, Map<string, number>>();
+  let returns: StoredInputs['returns'];
+  let weights: StoredInputs['weights'];
 
   beforeAll(async () => {
     const s = buildScenario();
@@ -47,16 +48,7 @@ describe('the shrunk estimator in the risk stage', () => {
     rows = await ws.db.all<ShrunkRow>(
       `select portfolio_id, date, window_days, vol_ex_ante, shrinkage_intensity, status from risk_daily where estimator = 'shrunk' order by all`,
     );
-    for (const r of await ws.db.all<{ security_id: string; date: string; log_return: number | null }>('select security_id, date, log_return from ret_securities')) {
-      if (r.log_return !== null) (returns.get(r.security_id) ?? returns.set(r.security_id, new Map()).get(r.security_id)!).set(r.date, r.log_return);
-    }
-    for (const r of await ws.db.all<{ portfolio_id: string; date: string; security_id: string; weight: number }>(
-      // base-currency cash is riskless; cash in another currency carries its fx returns like a security
-      `select portfolio_id, date, security_id, weight from value_weights where security_id <> 'CASH:' || (select base_currency from pipeline_settings)`,
-    )) {
-      const key = `${r.portfolio_id}|${r.date}`;
-      (weights.get(key) ?? weights.set(key, new Map()).get(key)!).set(r.security_id, r.weight);
-    }
+    ({ returns, weights } = await readStoredInputs(ws.db));
   });
   afterAll(() => {
     ws?.cleanup();

@@ -4,6 +4,7 @@ import { runRecompute } from '../../../src/batch/runRecompute.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
 import { buildScenario, LISTING_DAY, loadDays, RISK } from './scenario.ts';
 import type { VolChangePoint } from '../../../src/report/volChangeData.ts';
+import { readStoredInputs, type StoredInputs } from '../../helpers/storedInputs.ts';
 
 /**
  * vol_change from a full backfill of the seeded scenario, against an independent
@@ -29,8 +30,8 @@ describe('vol_change: why ex-ante volatility moved since the previous valuation 
   let ws: TempWorkspace;
   let rows: ChangeRow[];
   let dates: string[];
-  const returns = new Map<string, Map<string, number>>();
-  const weights = new Map<string, Map<string, number>>();
+  let returns: StoredInputs['returns'];
+  let weights: StoredInputs['weights'];
   const riskVol = new Map<string, number | null>();
   const parts = new Map<string, Map<string, { from: number; w0: number; w1: number }>>();
 
@@ -41,16 +42,7 @@ describe('vol_change: why ex-ante volatility moved since the previous valuation 
     await loadDays(ws.db, s, 0, s.dates.length - 1);
     await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     rows = await ws.db.all<ChangeRow>('select * exclude (run_id) from vol_change order by portfolio_id, estimator, window_days, date');
-    for (const r of await ws.db.all<{ security_id: string; date: string; log_return: number | null }>('select security_id, date, log_return from ret_securities')) {
-      if (r.log_return !== null) (returns.get(r.security_id) ?? returns.set(r.security_id, new Map()).get(r.security_id)!).set(r.date, r.log_return);
-    }
-    for (const r of await ws.db.all<{ portfolio_id: string; date: string; security_id: string; weight: number }>(
-      // base-currency cash is riskless; cash in another currency carries its fx returns like a security
-      `select portfolio_id, date, security_id, weight from value_weights where security_id <> 'CASH:' || (select base_currency from pipeline_settings)`,
-    )) {
-      const key = `${r.portfolio_id}|${r.date}`;
-      (weights.get(key) ?? weights.set(key, new Map()).get(key)!).set(r.security_id, r.weight);
-    }
+    ({ returns, weights } = await readStoredInputs(ws.db));
     for (const r of await ws.db.all<{ portfolio_id: string; date: string; window_days: number; estimator: string; vol_ex_ante: number | null }>(
       'select portfolio_id, date, window_days, estimator, vol_ex_ante from risk_daily',
     )) {
