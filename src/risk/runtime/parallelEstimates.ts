@@ -4,6 +4,9 @@ import type { ResultBatch } from '../walk/resultColumns.ts';
 import type { ComputeInputs, EstimateTask, WalkSettings } from '../walk/walkEstimate.ts';
 import { WORKER_ROLE, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
 
+/** The file a worker thread starts from (it registers tsx, then loads the worker module). */
+export const WORKER_BOOT = new URL('./estimateWorkerBoot.mjs', import.meta.url);
+
 /**
  * Walks the estimates in `threads` worker threads. The inputs are shared, not copied
  * (SharedArrayBuffer); the tasks are handed out one at a time, largest first, to
@@ -26,7 +29,7 @@ export async function walkInWorkers(
   const workers = Array.from(
     { length: Math.min(threads, queue.length) },
     // execArgv empty: the boot file registers tsx itself, whatever flags this process ran with
-    () => new Worker(new URL('./estimateWorkerBoot.mjs', import.meta.url), { workerData: { role: WORKER_ROLE }, execArgv: [] }),
+    () => new Worker(WORKER_BOOT, { workerData: { role: WORKER_ROLE }, execArgv: [] }),
   );
   const states: EstimatorStates = {};
   try {
@@ -85,14 +88,15 @@ function shareInputs(input: ComputeInputs): ComputeInputs {
 }
 
 /** A panel with each of its typed-array fields shared. */
-function sharedFields<T extends object>(panel: T): T {
+export function sharedFields<T extends object>(panel: T): T {
   const fields = Object.entries(panel).map(([key, value]) => [key, value instanceof Uint8Array || value instanceof Int32Array || value instanceof Float64Array ? shared(value) : value]);
   return Object.fromEntries(fields) as T;
 }
 
 type Typed = Uint8Array | Int32Array | Float64Array;
 
-function shared<A extends Typed>(a: A): A {
+/** The array itself when already on a SharedArrayBuffer, else a shared copy. */
+export function shared<A extends Typed>(a: A): A {
   if (a.buffer instanceof SharedArrayBuffer) return a;
   const copy = new (a.constructor as new (buffer: SharedArrayBuffer) => A)(new SharedArrayBuffer(a.byteLength));
   copy.set(a as never);
