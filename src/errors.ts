@@ -11,7 +11,8 @@ export type RejectionCode =
   | 'missing_column'
   | 'bad_value'
   | 'duplicate_key'
-  | 'too_large';
+  | 'too_large'
+  | 'manifest_mismatch';
 
 export interface Rejection {
   code: RejectionCode;

@@ -288,6 +288,12 @@ const ingestSchema = z
       .enum(['none', 'done', 'ok'])
       .default('none')
       .describe('"done" or "ok": a delivery is loaded only once <name>.done (or <name>.ok) lies beside it; the marker is then removed.'),
+    manifest: z
+      .enum(['none', 'required'])
+      .default('none')
+      .describe(
+        '"required": a delivery is loaded only once <name>.manifest lies beside it (JSON: {"rows": data rows, "sha256": of the bytes as delivered}) and only if both match; a mismatch is quarantined. The manifest then moves with the file.',
+      ),
     snapshotKeepShare: z
       .number()
       .min(0)

@@ -9,7 +9,8 @@ import { faultPoint } from '../faults.ts';
 import { sha256OfFile } from './fingerprint.ts';
 import { readColumnMapping, type ColumnMapping } from './header.ts';
 import { withFix } from './hints.ts';
-import { holdFile, snapshotGuard } from './holdFile.ts';
+import { commitGuard } from './commitGuard.ts';
+import { holdFile } from './holdFile.ts';
 import { findIngested } from './ledger.ts';
 import { layoutOf, type KindLayout } from './layout.ts';
 import { loadFile } from './load.ts';
@@ -82,9 +83,11 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
   if (prepared.ok) {
     const { source, layout, mapping } = prepared.value;
     const planned = freePath(archiveDir(config.archive, receivedAt), name);
-    const guard = snapshotGuard(db, config, filePath, name, source.kind);
+    const manifest = complete.state === 'complete' ? complete.manifest : null;
+    const guard = commitGuard(db, config, filePath, name, source.kind, manifest);
     const attempt = await loadFile(db, filePath, source, layout, mapping, bounds, hashing, { ...base, archivedPath: planned }, guard);
     if (attempt.kind === 'held') return holdFile(db, flog, filePath, { ...base, sha256: attempt.sha256 }, attempt.hold);
+    if (attempt.kind === 'refused') return recordRejected(db, config, flog, filePath, { ...base, sha256: attempt.sha256 }, attempt.rejection);
     if (attempt.kind === 'known') return alreadyLoaded(db, config, flog, filePath, attempt.earlier, { ...base, sha256: attempt.sha256 });
     if (attempt.kind === 'loaded') {
       // committed with its ledger row: from here a kill leaves the file in the inbox, and alreadyLoaded() finishes the move

@@ -3,8 +3,8 @@ import path from 'node:path';
 import { watch, type FSWatcher } from 'chokidar';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
-import { markerSuffix } from '../ingest/completeness.ts';
-import { isDeliveryName, isPlainFile, markedDelivery } from './inboxFiles.ts';
+import { companionSuffixes } from '../ingest/completeness.ts';
+import { companionOf, isDeliveryName, isPlainFile } from './inboxFiles.ts';
 
 /**
  * Watches the inbox (not its subfolders) and calls `onFile` once per delivery, after its
@@ -25,11 +25,11 @@ export async function watchInbox(config: Config, log: Logger, onFile: (file: str
     awaitWriteFinish: { stabilityThreshold: config.watch.stableMs, pollInterval: config.watch.pollMs },
     ignored: (p: string) => p !== inbox && !isDeliveryName(path.basename(p)),
   });
-  const marker = markerSuffix(config);
+  const companions = companionSuffixes(config);
   const announce = (file: string) => {
     if (path.dirname(file) !== inbox) return;
-    // a done-marker arriving announces the delivery it marks
-    const marked = markedDelivery(path.basename(file), marker);
+    // a done-marker or manifest arriving announces the delivery it stands for
+    const marked = companionOf(path.basename(file), companions);
     if (marked !== null) {
       if (existsSync(path.join(inbox, marked))) announce(path.join(inbox, marked));
       return;

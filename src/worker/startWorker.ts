@@ -7,7 +7,7 @@ import { watchRetryRequests } from '../alerts/retryRequests.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { runBatch } from '../batch/runBatch.ts';
-import { markerSuffix } from '../ingest/completeness.ts';
+import { companionSuffixes } from '../ingest/completeness.ts';
 import { recoverAtStart } from '../ingest/recovery.ts';
 import type { Database } from '../storage/database.ts';
 import { openWorkspace, publishReadCopy, type PublishOutcome } from '../storage/workspace.ts';
@@ -145,7 +145,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
     // new arrivals queue up (lane still closed) while the catch-up list is made
     watcher = await watchInbox(config, log, (file) => arrivals.add(file));
     await recoverAtStart(db, config, log);
-    const present = listInbox(config.inbox, markerSuffix(config));
+    const present = listInbox(config.inbox, companionSuffixes(config));
     const stable = await Promise.all(present.map((f) => waitUntilStable(f, config.watch.stableMs, config.watch.pollMs)));
     const catchUp = present.filter((_, i) => stable[i]);
     wlog.info({ files: catchUp.map((f) => path.basename(f)) }, 'catching up on the inbox');

@@ -87,7 +87,7 @@ describe('ingestFile: complete files only', () => {
     expect(await ingestFile(ws.db, ws.config, ws.log, file)).toMatchObject({ status: 'held', hold: { code: 'no_done_marker', reason: 'waiting for its marker prices_0410.csv.done' } });
     writeFileSync(`${file}.done`, '');
     // the marker matches prices*.csv* but is not a delivery of its own
-    expect(listInbox(ws.config.inbox, '.done')).toEqual([file]);
+    expect(listInbox(ws.config.inbox, ['.done'])).toEqual([file]);
     expect(await ingestFile(ws.db, ws.config, ws.log, file)).toMatchObject({ status: 'ingested', rows: 1 });
     expect(readdirSync(ws.config.inbox)).toEqual([]);
   });
