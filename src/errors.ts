@@ -12,7 +12,8 @@ export type RejectionCode =
   | 'bad_value'
   | 'duplicate_key'
   | 'too_large'
-  | 'manifest_mismatch';
+  | 'manifest_mismatch'
+  | 'unsupported_compression';
 
 export interface Rejection {
   code: RejectionCode;

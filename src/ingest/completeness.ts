@@ -53,10 +53,40 @@ export async function checkComplete(config: Config, filePath: string, name: stri
   return bytes.state === 'complete' ? { state: 'complete', manifest } : bytes;
 }
 
+/**
+ * Compressed forms other than gzip, by ending: Node's zlib cannot stream them (zstd
+ * needs Node 22.15), so neither the open last line nor the expansion limit could be
+ * checked while reading; DuckDB would read some (zstd) unchecked and others as raw bytes.
+ */
+const UNCHECKABLE_COMPRESSION: Record<string, string> = {
+  zst: 'zstd',
+  zstd: 'zstd',
+  bz2: 'bzip2',
+  xz: 'xz',
+  lz4: 'lz4',
+  br: 'brotli',
+  zip: 'zip',
+  '7z': '7-Zip',
+};
+
 async function checkBytes(config: Config, filePath: string, name: string): Promise<BytesVerdict> {
   if (/\.gz$/i.test(name)) return checkGzip(filePath, name, config.ingest.maxExpandedMB);
-  // other compressed forms are not inspected: their last byte says nothing about lines
-  if (/\.(zst|bz2)$/i.test(name)) return { state: 'complete' };
+  const ending = /\.([a-z0-9]+)$/i.exec(name)?.[1].toLowerCase();
+  const format = ending === undefined ? undefined : UNCHECKABLE_COMPRESSION[ending];
+  if (format !== undefined) {
+    return {
+      state: 'rejected',
+      rejection: {
+        code: 'unsupported_compression',
+        file: name,
+        value: `.${ending}`,
+        expected: 'an uncompressed file or a .gz',
+        message: `compressed as ${format}, which riskfold cannot check while reading (a cut last line, ingest.maxExpandedMB); not loaded`,
+        hint: 'deliver it uncompressed or gzip-compressed (.gz)',
+        fixIn: 'file',
+      },
+    };
+  }
   const last = lastByte(filePath);
   if (last === null) return held('empty_so_far', 'the file is empty (still being written?)');
   if (last !== NEWLINE) return held('unterminated_line', 'its last line has no line break (still being written?)');

@@ -1,6 +1,6 @@
 import { appendFileSync, existsSync, readdirSync, rmSync, utimesSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
-import { gzipSync } from 'node:zlib';
+import { brotliCompressSync, gzipSync } from 'node:zlib';
 import { afterEach, describe, expect, it } from 'vitest';
 import { auditArchive } from '../../src/ingest/archiveAudit.ts';
 import { ingestFile } from '../../src/ingest/ingestFile.ts';
@@ -79,6 +79,27 @@ describe('ingestFile: complete files only', () => {
     expect(out.rejection?.message).toBe('expands past 1 MB when decompressed; refused while reading');
     expect(readdirSync(ws.config.quarantine).sort()).toEqual(['prices_bomb.csv.gz', 'prices_bomb.csv.gz.reason.txt']);
     expect((await counts(ws)).prices).toBe(0);
+  });
+
+  it('refuses compressed forms it cannot check while reading (zstd, brotli), naming the file and why, and loads none of their rows', async () => {
+    ws = await tempWorkspace();
+    // a real zstd frame holding one raw block (RFC 8878, sections 3.1.1 and 3.1.1.2), its last line left open
+    const text = Buffer.from(PRICES.slice(0, -4));
+    const blockHeader = (text.length << 3) | 1; // last block, raw, its size
+    const zst = Buffer.concat([
+      Buffer.from([0x28, 0xb5, 0x2f, 0xfd, 0x20, text.length]),
+      Buffer.from([blockHeader & 0xff, (blockHeader >> 8) & 0xff, blockHeader >> 16]),
+      text,
+    ]);
+    const files = { 'prices_0410.csv.zst': zst, 'prices_0411.csv.br': brotliCompressSync(Buffer.from(PRICES)) };
+    for (const [name, bytes] of Object.entries(files)) writeFileSync(path.join(ws.config.inbox, name), bytes);
+    const zstOut = await ingestFile(ws.db, ws.config, ws.log, path.join(ws.config.inbox, 'prices_0410.csv.zst'));
+    expect(zstOut).toMatchObject({ status: 'rejected', rejection: { code: 'unsupported_compression', value: '.zst' } });
+    expect(zstOut.rejection?.message).toBe('compressed as zstd, which riskfold cannot check while reading (a cut last line, ingest.maxExpandedMB); not loaded');
+    const brOut = await ingestFile(ws.db, ws.config, ws.log, path.join(ws.config.inbox, 'prices_0411.csv.br'));
+    expect(brOut.rejection?.message).toMatch(/^compressed as brotli, /);
+    expect(readdirSync(ws.config.quarantine).sort()).toEqual(['prices_0410.csv.zst', 'prices_0410.csv.zst.reason.txt', 'prices_0411.csv.br', 'prices_0411.csv.br.reason.txt']);
+    expect(await counts(ws)).toEqual({ files: 2, prices: 0, positions: 0 });
   });
 
   it('with ingest.doneMarker waits for <name>.done, then loads and removes the marker', async () => {
