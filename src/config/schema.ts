@@ -227,6 +227,10 @@ const scheduleSchema = z
       .default({ cron: '0 22 * * 1-5', expect: ['prices', 'positions'] }),
     retryAlerts: z.string().default('*/5 * * * *').describe('Cron of the retry of undelivered alerts.'),
     checkpoint: z.string().default('30 2 * * *').describe('Cron of the nightly database checkpoint.'),
+    archiveAudit: z
+      .string()
+      .default('30 3 * * 6')
+      .describe('Cron of the full archive audit (every archived file hashed again); a start re-hashes only files whose size or mtime moved.'),
   })
   .strict();
 
@@ -304,6 +308,10 @@ const ingestSchema = z
       .array(z.string().min(1))
       .default([])
       .describe('File names whose suspect snapshot drop is confirmed as intended: they load.'),
+    acknowledgedArchiveFiles: z
+      .array(z.number().int().positive())
+      .default([])
+      .describe('file_ids whose archived copy operations no longer vouch for (its finding dealt with): the finding closes at the next audit and the file is not audited again.'),
     maxExpandedMB: z
       .number()
       .positive()

@@ -7,10 +7,10 @@ import { auditArchive } from './archiveAudit.ts';
 /**
  * What the owner of the database does before taking files: clear what a kill left
  * behind (temporary read copies) and check that the archive still holds the bytes the
- * ledger recorded. Files a kill left in the inbox need nothing here: their ledger rows
+ * ledger recorded (the files archived or touched since the last audit). Files a kill left in the inbox need nothing here: their ledger rows
  * were written first, and ingesting them again finishes their moves.
  */
 export async function recoverAtStart(db: Database, config: Config, log: Logger): Promise<void> {
   removeStaleReadCopies(config, log);
-  await auditArchive(db, log);
+  await auditArchive(db, log, { full: false, acknowledged: config.ingest.acknowledgedArchiveFiles });
 }

@@ -26,6 +26,8 @@ export interface ScheduleHost {
   exclusive<T>(fn: (db: Database) => Promise<T>): Promise<T>;
   /** Asks for a delivery round now (retry of undelivered alerts). */
   deliverNow(): void;
+  /** The database changed outside a batch (an audit's findings): publish the read copy. */
+  republish(): void;
 }
 export type StartSchedules = (host: ScheduleHost) => { stop(): void | Promise<void> };
 
@@ -158,6 +160,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
           log,
           exclusive: (fn) => queue.exclusive(() => fn(db)),
           deliverNow: () => delivery.kick(),
+          republish,
         }) ?? null;
     }
   } catch (err) {

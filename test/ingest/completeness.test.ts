@@ -2,7 +2,6 @@ import { appendFileSync, existsSync, readdirSync, rmSync, utimesSync, writeFileS
 import path from 'node:path';
 import { brotliCompressSync, gzipSync } from 'node:zlib';
 import { afterEach, describe, expect, it } from 'vitest';
-import { auditArchive } from '../../src/ingest/archiveAudit.ts';
 import { ingestFile } from '../../src/ingest/ingestFile.ts';
 import { listInbox } from '../../src/watch/inboxFiles.ts';
 import { writeCsv } from '../helpers/files.ts';
@@ -165,23 +164,5 @@ describe('ingestFile: a positions snapshot that drops most holdings', () => {
     );
     expect(out).toMatchObject({ status: 'held', hold: { code: 'snapshot_drop' } });
     expect(out.hold?.reason).toContain('portfolio acct-income on 2026-04-10 keeps 2 of the 10 holdings of its snapshot of 2024-03-01');
-  });
-});
-
-describe('auditArchive', () => {
-  it('reports an archived file whose bytes changed after it was loaded, and one that vanished, once each', async () => {
-    ws = await tempWorkspace();
-    const a = await ingestFile(ws.db, ws.config, ws.log, writeCsv(ws.config.inbox, 'prices_a.csv', [['date', 'security_id', 'price'], ['2026-04-10', 'EQ-A', '1']]));
-    const b = await ingestFile(ws.db, ws.config, ws.log, writeCsv(ws.config.inbox, 'prices_b.csv', [['date', 'security_id', 'price'], ['2026-04-10', 'EQ-B', '1']]));
-    await ingestFile(ws.db, ws.config, ws.log, writeCsv(ws.config.inbox, 'prices_c.csv', [['date', 'security_id', 'price'], ['2026-04-10', 'EQ-C', '1']]));
-    expect(await auditArchive(ws.db, ws.log)).toEqual([]);
-    appendFileSync(a.movedTo, '2026-04-13,EQ-A,2\n');
-    rmSync(b.movedTo);
-    expect(await auditArchive(ws.db, ws.log)).toEqual([
-      { fileId: a.fileId, archivedPath: a.movedTo, finding: 'changed' },
-      { fileId: b.fileId, archivedPath: b.movedTo, finding: 'missing' },
-    ]);
-    expect(ws.logLines().filter((l) => l.level === 50 && l.stage === 'ingest').map((l) => l.finding)).toEqual(['changed', 'missing']);
-    expect(await auditArchive(ws.db, ws.log)).toEqual([]);
   });
 });
