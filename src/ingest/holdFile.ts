@@ -1,4 +1,4 @@
-import { statSync } from 'node:fs';
+import { lstatSync } from 'node:fs';
 import type { Logger } from 'pino';
 import { insertAlert } from '../alerts/outbox.ts';
 import type { FileKind } from '../config/schema.ts';
@@ -20,7 +20,7 @@ export async function holdFile(
   hold: HoldReason,
 ): Promise<IngestOutcome> {
   const { name, kind, sha256 } = delivery;
-  const news = await recordHold(db, { name, sha256, mtimeMs: statSync(filePath).mtimeMs, hold });
+  const news = await recordHold(db, { name, sha256, mtimeMs: lstatSync(filePath).mtimeMs, hold });
   if (news) {
     flog.warn({ code: hold.code, reason: hold.reason, sha256 }, 'file held in the inbox');
     if (hold.code === 'snapshot_drop') {

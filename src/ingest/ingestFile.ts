@@ -11,6 +11,7 @@ import { readColumnMapping, type ColumnMapping } from './header.ts';
 import { withFix } from './hints.ts';
 import { commitGuard } from './commitGuard.ts';
 import { holdFile } from './holdFile.ts';
+import { UNREAD } from './holds.ts';
 import { findIngested } from './ledger.ts';
 import { layoutOf, type KindLayout } from './layout.ts';
 import { loadFile } from './load.ts';
@@ -61,11 +62,8 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
   const matched = matchSource(config.sources, name);
   const base = { name, kind: matched?.kind ?? null, source: matched?.name ?? null, receivedAt };
   const refusal = await refusalOf(db, filePath, name);
-  if (refusal) {
-    // no ledger or hold row: both would need the file's bytes; it stays until replaced
-    flog.warn({ code: refusal.code }, `${name} left in the inbox: ${refusal.reason}`);
-    return { status: 'held', fileId: null, name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo: filePath, hold: refusal };
-  }
+  // no ledger row (it would need the file's bytes); a hold row without a digest, until the name goes or a copy of its own replaces it
+  if (refusal) return holdFile(db, flog, filePath, { ...base, sha256: UNREAD }, refusal);
   // hashing runs in this thread while DuckDB reads the file in its own
   const hashing = sha256OfFile(filePath);
   hashing.catch(() => undefined); // awaited below; a read error surfaces there, or first from the header

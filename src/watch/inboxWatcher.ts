@@ -9,10 +9,10 @@ import { companionOf, isDeliveryName, isPlainFile } from './inboxFiles.ts';
 /**
  * Watches the inbox (not its subfolders) and calls `onFile` once per delivery, after its
  * size has held for `watch.stableMs`: a file written slowly in chunks is announced once,
- * complete. Resolves when chokidar has read the folder, so nothing written after this
- * point is missed.
+ * complete; `onGone` when a name leaves it (a hold may be over). Resolves when chokidar
+ * has read the folder, so nothing written after this point is missed.
  */
-export async function watchInbox(config: Config, log: Logger, onFile: (file: string) => void): Promise<FSWatcher> {
+export async function watchInbox(config: Config, log: Logger, onFile: (file: string) => void, onGone: () => void = () => undefined): Promise<FSWatcher> {
   const wlog = log.child({ stage: 'watch' });
   const inbox = path.resolve(config.inbox);
   const watcher = watch(inbox, {
@@ -42,6 +42,7 @@ export async function watchInbox(config: Config, log: Logger, onFile: (file: str
   };
   // an overwrite in place after a file was announced is a new delivery under the same name
   watcher.on('add', announce).on('change', announce);
+  watcher.on('unlink', (file) => path.dirname(file) === inbox && onGone());
   watcher.on('error', (err) => wlog.error({ err }, 'watcher error'));
   await new Promise<void>((resolve) => watcher.once('ready', () => resolve()));
   wlog.info({ inbox }, 'watching the inbox');
