@@ -353,6 +353,14 @@ export const configSchema = z
           .min(0)
           .default(2000)
           .describe('Files landing within this long of each other form one batch (one run): it starts this long after the last arrival.'),
+        wholeDaySettleMs: z
+          .number()
+          .int()
+          .min(0)
+          .default(300)
+          .describe(
+            'Once a batch holds a file of every kind in schedule.missingData.expect, it starts this long after the last arrival instead of settleMs (a few watcher polls, to catch the rest of the same delivery).',
+          ),
         maxBatchWaitMs: z
           .number()
           .int()
@@ -368,7 +376,7 @@ export const configSchema = z
       })
       .strict()
       .refine((w) => w.settleMs <= w.maxBatchWaitMs, { message: 'settleMs must not exceed maxBatchWaitMs', path: ['settleMs'] })
-      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, maxBatchWaitMs: 30_000, publishRetryMs: 60_000 }),
+      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, wholeDaySettleMs: 300, maxBatchWaitMs: 30_000, publishRetryMs: 60_000 }),
     ingest: ingestSchema.default(ingestSchema.parse({})),
     risk: riskSchema.default(riskSchema.parse({})),
     benchmarks: z
