@@ -297,6 +297,12 @@ const ingestSchema = z
       .positive()
       .default(1e15)
       .describe('Largest accepted magnitude of a price, fx rate or quantity (refuses values that overflow a valuation).'),
+    benchmarkWeightTolerance: z
+      .number()
+      .positive()
+      .max(1)
+      .default(0.01)
+      .describe('A benchmarks file is refused when the weights of one benchmark and date add up to further than this from 1 (0.01 absorbs rounded published weights; common practice).'),
     doneMarker: z
       .enum(['none', 'done', 'ok'])
       .default('none')
