@@ -1,7 +1,6 @@
 import os from 'node:os';
-import { Worker } from 'node:worker_threads';
 import { threadsFor } from '../risk/runtime/costModel.ts';
-import { shared, sharedFields, WORKER_BOOT } from '../risk/runtime/parallelEstimates.ts';
+import { shared, sharedFields, workerThread } from '../risk/runtime/parallelEstimates.ts';
 import { historicalVarRows, type HistoricalInputs, type HistoricalSettings, type LossFailure } from './historicalVar.ts';
 import { HISTORICAL_WORKER_ROLE, type HistoricalReply, type HistoricalRequest } from './historicalWorker.ts';
 import type { VarRow } from './lossStage.ts';
@@ -42,10 +41,7 @@ export async function walkHistorical(
 
 /** One part in its own worker thread; the worker ends with it. */
 function walkInWorker(request: HistoricalRequest, emit: (row: VarRow, p: number, d: number) => void, fail: (failure: LossFailure) => void): Promise<void> {
-  const worker = new Worker(WORKER_BOOT, {
-    workerData: { role: HISTORICAL_WORKER_ROLE, module: new URL('./historicalWorker.ts', import.meta.url).href },
-    execArgv: [],
-  });
+  const worker = workerThread(import.meta.url, 'historicalWorker', { role: HISTORICAL_WORKER_ROLE });
   return new Promise<void>((resolve, reject) => {
     let settled = false;
     const finish = (err?: Error) => {

@@ -4,8 +4,18 @@ import type { ResultBatch } from '../walk/resultColumns.ts';
 import type { ComputeInputs, EstimateTask, WalkSettings } from '../walk/walkEstimate.ts';
 import { WORKER_ROLE, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
 
-/** The file a worker thread starts from (it registers tsx, then loads the worker module). */
-export const WORKER_BOOT = new URL('./estimateWorkerBoot.mjs', import.meta.url);
+/**
+ * A worker thread running the module `name` beside `callerUrl` (the caller's
+ * import.meta.url). Compiled (dist/, the built CLI) the module is plain JavaScript and
+ * starts directly; run from the sources (tests, or the CLI before a build) a worker
+ * thread does not inherit the tsx loader, so the boot file registers it first. execArgv
+ * empty: whatever flags this process ran with.
+ */
+export function workerThread(callerUrl: string, name: string, data: { role: string }): Worker {
+  if (!callerUrl.endsWith('.ts')) return new Worker(new URL(`./${name}.js`, callerUrl), { workerData: data, execArgv: [] });
+  const module = new URL(`./${name}.ts`, callerUrl).href;
+  return new Worker(new URL('./estimateWorkerBoot.mjs', import.meta.url), { workerData: { ...data, module }, execArgv: [] });
+}
 
 /**
  * Walks the estimates in `threads` worker threads. The inputs are shared, not copied
@@ -28,8 +38,7 @@ export async function walkInWorkers(
   const estimatorOf = tasks.map((t) => t.task.estimator);
   const workers = Array.from(
     { length: Math.min(threads, queue.length) },
-    // execArgv empty: the boot file registers tsx itself, whatever flags this process ran with
-    () => new Worker(WORKER_BOOT, { workerData: { role: WORKER_ROLE }, execArgv: [] }),
+    () => workerThread(import.meta.url, 'estimateWorker', { role: WORKER_ROLE }),
   );
   const states: EstimatorStates = {};
   try {
