@@ -14,7 +14,7 @@ import type { VarRow } from './lossStage.ts';
  */
 
 /** Multiply-adds one filtered scenario return costs beside one holding's (its exp and ratio). */
-const EXP_COST = 10;
+const EXP_COST = 20;
 
 /** Like historicalVarRows over the whole run; resolves once every row and failure is handed over. */
 export async function walkHistorical(
