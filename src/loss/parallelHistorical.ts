@@ -7,14 +7,21 @@ import type { VarRow } from './lossStage.ts';
 
 /**
  * The historical and filtered historical VaR of a run, on this thread or, when the run
- * is big enough to pay for starting workers (a backfill; the risk stage's threshold,
- * costModel.ts), split by dates into one contiguous part per core. A part holds every
- * portfolio, so each date's filtered scenarios are still made once; every row is the
- * same code on the same inputs, so the figures are the same whichever thread made them.
+ * is big enough to pay for starting workers (a backfill of more than a small book),
+ * split by dates into one contiguous part per core. A part holds every portfolio, so
+ * each date's filtered scenarios are still made once in it; every row is the same code
+ * on the same inputs, so the figures are the same whichever thread made them.
  */
 
 /** Multiply-adds one filtered scenario return costs beside one holding's (its exp and ratio). */
 const EXP_COST = 20;
+
+/**
+ * Below this much work (about a second on one core) the walk stays on this thread: its
+ * workers start for this stage alone, and from the sources each one loads tsx and
+ * transpiles its modules first, which on a busy machine costs more than it saves.
+ */
+const LOSS_PARALLEL_MIN_COST = 1e9;
 
 /** Like historicalVarRows over the whole run; resolves once every row and failure is handed over. */
 export async function walkHistorical(
@@ -26,7 +33,7 @@ export async function walkHistorical(
 ): Promise<void> {
   const costs = dateCosts(inputs, settings);
   const total = costs.reduce((a, b) => a + b, 0);
-  const parts = threads ?? threadsFor(total, costs.length, os.availableParallelism());
+  const parts = threads ?? (total >= LOSS_PARALLEL_MIN_COST ? threadsFor(total, costs.length, os.availableParallelism()) : 1);
   if (parts <= 1) return historicalVarRows(inputs, settings, emit, fail);
   const bounds = splitByCost(costs, parts).map((from) => from + inputs.fromRow);
   const common = {

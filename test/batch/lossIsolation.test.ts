@@ -1,15 +1,14 @@
-import { readFileSync, writeFileSync } from 'node:fs';
-import path from 'node:path';
+import { readFileSync } from 'node:fs';
 import { afterEach, describe, expect, it } from 'vitest';
 import { failingPortfolios } from '../../src/batch/portfolioIncident.ts';
 import { runRecompute } from '../../src/batch/runRecompute.ts';
 import type { Database } from '../../src/storage/database.ts';
 import { openWorkspace } from '../../src/storage/workspace.ts';
 import { runCli } from '../cli/cliProcess.ts';
-import { pricesCsv, writeCsv } from '../helpers/files.ts';
-import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
+import type { TempWorkspace } from '../helpers/workspace.ts';
+import { deskInInbox } from './isolationDesk.ts';
 
-// An invented desk of three portfolios on the same two securities. The fault hook
+// The invented desk of isolationDesk.ts (three portfolios on the same two securities). The fault hook
 // (src/faults.ts, `loss:<id>`) makes only the loss stage (src/loss) throw for acct-b,
 // after its risk was computed: the run must still write the other two.
 const FAULT = { RISKFOLD_FAULT_PORTFOLIO: 'loss:acct-b' };
@@ -27,16 +26,7 @@ describe('one portfolio whose loss figures cannot be computed', () => {
     (await d.all<{ portfolio_id: string }>(`select distinct portfolio_id from ${table} order by 1`)).map((r) => r.portfolio_id);
 
   it('fails only that portfolio, risk and loss rows alike, as its own incident until a run computes it again', async () => {
-    ws = await tempWorkspace({ limits: [{ portfolio: '*', window: 63, limit: 0.005 }] });
-    writeFileSync(path.join(ws.config.inbox, 'prices_2020.csv'), pricesCsv(70, 2));
-    writeCsv(ws.config.inbox, 'positions_2020.csv', [
-      ['date', 'portfolio_id', 'security_id', 'quantity'],
-      ...['acct-a', 'acct-b', 'acct-c'].flatMap((id, k) => [
-        ['2020-01-01', id, 'EQ-NORDWIND', 100 * (k + 1)],
-        ['2020-01-01', id, 'EQ-SALTMARSH', 50],
-      ]),
-    ]);
-    ws.closeDb();
+    ws = await deskInInbox();
     const ingest = runCli(['ingest', '--config', ws.config.configPath], 150_000, FAULT);
     expect(ingest.status, ingest.stderr).toBe(0);
     expect(ingest.stdout).toMatch(/^portfolio acct-b not computed \(from 2020-01-01\), its figures are those of its last good run: historical VaR: injected fault for portfolio acct-b$/m);

@@ -1,17 +1,15 @@
-import { readFileSync, writeFileSync } from 'node:fs';
-import path from 'node:path';
+import { readFileSync } from 'node:fs';
 import { afterEach, describe, expect, it } from 'vitest';
 import { failingPortfolios } from '../../src/batch/portfolioIncident.ts';
 import { runRecompute } from '../../src/batch/runRecompute.ts';
 import type { Database } from '../../src/storage/database.ts';
 import { openWorkspace } from '../../src/storage/workspace.ts';
 import { runCli } from '../cli/cliProcess.ts';
-import { pricesCsv, writeCsv } from '../helpers/files.ts';
-import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
+import type { TempWorkspace } from '../helpers/workspace.ts';
+import { deskInInbox } from './isolationDesk.ts';
 
-// An invented desk of three portfolios on the same two securities; every one of them
-// is over its (tiny) limit, so each computed portfolio raises a limit alert. The fault
-// hook (src/faults.ts) makes computing acct-b throw in the CLI process it is set for.
+// The invented desk of isolationDesk.ts: every portfolio is over its (tiny) limit, so
+// each computed portfolio raises a limit alert. The fault hook (src/faults.ts) makes computing acct-b throw in the CLI process it is set for.
 const FAULT = { RISKFOLD_FAULT_PORTFOLIO: 'acct-b' };
 
 interface AlertRow {
@@ -44,16 +42,7 @@ describe('one portfolio whose risk cannot be computed', () => {
     );
 
   it('stops only that portfolio: the others get risk and limit alerts, it gets its own incident until a run computes it again', async () => {
-    ws = await tempWorkspace({ limits: [{ portfolio: '*', window: 63, limit: 0.005 }] });
-    writeFileSync(path.join(ws.config.inbox, 'prices_2020.csv'), pricesCsv(70, 2));
-    writeCsv(ws.config.inbox, 'positions_2020.csv', [
-      ['date', 'portfolio_id', 'security_id', 'quantity'],
-      ...['acct-a', 'acct-b', 'acct-c'].flatMap((id, k) => [
-        ['2020-01-01', id, 'EQ-NORDWIND', 100 * (k + 1)],
-        ['2020-01-01', id, 'EQ-SALTMARSH', 50],
-      ]),
-    ]);
-    ws.closeDb();
+    ws = await deskInInbox();
     const cli = (args: string[], env = {}) => {
       const r = runCli([...args, '--config', ws!.config.configPath], 60_000, env);
       expect(r.status, r.stderr).toBe(0);

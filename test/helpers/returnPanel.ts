@@ -32,3 +32,29 @@ export function randomReturnPanel(random: Random, t: number, n: number, shape: P
     ...seriesLayouts(returns, t, n),
   };
 }
+
+/**
+ * Invented holdings of `portfolios` portfolios over t dates, as a PortfolioPanel's lists
+ * (offsets by slot p * t + d, securities sorted, weights adding up to 1): security 0
+ * (the caller's cash) always, and `size(p)` others drawn at random (repeats merged)
+ * every `every` dates.
+ */
+export function randomHoldings(random: Random, portfolios: number, t: number, n: number, every: number, size: (p: number) => number) {
+  const offsets = new Int32Array(portfolios * t + 1);
+  const security: number[] = [];
+  const weight: number[] = [];
+  for (let p = 0; p < portfolios; p++) {
+    let held: number[] = [];
+    for (let d = 0; d < t; d++) {
+      if (d % every === 0) held = [0, ...new Set(Array.from({ length: size(p) }, () => 1 + Math.floor(random.uniform() * (n - 1))))].sort((a, b) => a - b);
+      const raw = held.map(() => 0.2 + random.uniform());
+      const total = raw.reduce((a, b) => a + b, 0);
+      for (let a = 0; a < held.length; a++) {
+        security.push(held[a]);
+        weight.push(raw[a] / total);
+      }
+      offsets[p * t + d + 1] = security.length;
+    }
+  }
+  return { offsets, security: Int32Array.from(security), weight: Float64Array.from(weight) };
+}

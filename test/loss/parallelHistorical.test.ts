@@ -4,7 +4,7 @@ import { historicalVarRows, type HistoricalInputs, type LossFailure } from '../.
 import type { VarRow } from '../../src/loss/lossStage.ts';
 import { walkHistorical } from '../../src/loss/parallelHistorical.ts';
 import { securitySigmas } from '../../src/loss/securitySigmas.ts';
-import { randomReturnPanel } from '../helpers/returnPanel.ts';
+import { randomHoldings, randomReturnPanel } from '../helpers/returnPanel.ts';
 
 /**
  * Invented returns and holdings (test data, not a reference): 12 securities (one of them
@@ -22,22 +22,7 @@ function inputs(t = 620, n = 12): HistoricalInputs {
   returns.isCash[0] = 1;
   const ids = ['acct-a', 'acct-b', 'acct-c'];
   const slots = ids.length * t;
-  const offsets = new Int32Array(slots + 1);
-  const security: number[] = [];
-  const weight: number[] = [];
-  for (let p = 0; p < ids.length; p++) {
-    let held: number[] = [];
-    for (let d = 0; d < t; d++) {
-      if (d % 60 === 0) held = [0, ...new Set(Array.from({ length: 4 + p }, () => 1 + Math.floor(random.uniform() * (n - 1))))].sort((a, b) => a - b);
-      const raw = held.map(() => 0.2 + random.uniform());
-      const total = raw.reduce((a, b) => a + b, 0);
-      for (let a = 0; a < held.length; a++) {
-        security.push(held[a]);
-        weight.push(raw[a] / total);
-      }
-      offsets[p * t + d + 1] = security.length;
-    }
-  }
+  const { offsets, security, weight } = randomHoldings(random, ids.length, t, n, 60, (p) => 4 + p);
   const portfolios = {
     ids,
     firstRow: 0,
@@ -47,8 +32,8 @@ function inputs(t = 620, n = 12): HistoricalInputs {
     stale: Uint8Array.from({ length: slots }, (_, s) => (s % 97 === 0 ? 1 : 0)),
     logReturn: new Float64Array(slots),
     offsets,
-    security: Int32Array.from(security),
-    weight: Float64Array.from(weight),
+    security,
+    weight,
   };
   return { returns, portfolios, fromRow: 0, sigmaAfter: securitySigmas(returns, 0.94, 21) };
 }

@@ -8,7 +8,7 @@ import { readPortfolioPanel, readReturnPanel, readValuationDates } from '../../.
 import { DAILY_FIGURES } from '../../../src/risk/walk/figures.ts';
 import type { ResultBatch } from '../../../src/risk/walk/resultColumns.ts';
 import { createRandom } from '../../../src/demo/random.ts';
-import { randomReturnPanel } from '../../helpers/returnPanel.ts';
+import { randomHoldings, randomReturnPanel } from '../../helpers/returnPanel.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
 import { buildScenario, loadDays, RISK } from './scenario.ts';
 
@@ -53,22 +53,7 @@ function wideInputs(t = 420, n = 40): ComputeInputs {
   returns.isCash[0] = 1;
   const ids = ['acct-alder', 'acct-birch', 'acct-cedar'];
   const slots = ids.length * t;
-  const offsets = new Int32Array(slots + 1);
-  const security: number[] = [];
-  const weight: number[] = [];
-  for (let p = 0; p < ids.length; p++) {
-    let held: number[] = [];
-    for (let d = 0; d < t; d++) {
-      if (d % 50 === 0) held = [0, ...new Set(Array.from({ length: 6 + p }, () => 1 + Math.floor(random.uniform() * (n - 1))))].sort((a, b) => a - b);
-      const raw = held.map(() => 0.2 + random.uniform());
-      const total = raw.reduce((a, b) => a + b, 0);
-      for (let a = 0; a < held.length; a++) {
-        security.push(held[a]);
-        weight.push(raw[a] / total);
-      }
-      offsets[p * t + d + 1] = security.length;
-    }
-  }
+  const { offsets, security, weight } = randomHoldings(random, ids.length, t, n, 50, (p) => 6 + p);
   return {
     returns,
     portfolios: {
@@ -80,8 +65,8 @@ function wideInputs(t = 420, n = 40): ComputeInputs {
       stale: Uint8Array.from({ length: slots }, (_, s) => (s % 97 === 0 ? 1 : 0)),
       logReturn: Float64Array.from({ length: slots }, (_, s) => (s % t === 0 ? Number.NaN : 0.008 * random.normal())),
       offsets,
-      security: Int32Array.from(security),
-      weight: Float64Array.from(weight),
+      security,
+      weight,
     },
     benchmarks: halfWayBenchmark(random, t, ids.length),
     fromRow: 0,
