@@ -7,7 +7,8 @@ import { watchRetryRequests } from '../alerts/retryRequests.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { runBatch } from '../batch/runBatch.ts';
-import { markerSuffix } from '../ingest/completeness.ts';
+import { companionSuffixes } from '../ingest/completeness.ts';
+import { releaseVanished } from '../ingest/holds.ts';
 import { recoverAtStart } from '../ingest/recovery.ts';
 import type { Database } from '../storage/database.ts';
 import { openWorkspace, publishReadCopy, type PublishOutcome } from '../storage/workspace.ts';
@@ -26,6 +27,8 @@ export interface ScheduleHost {
   exclusive<T>(fn: (db: Database) => Promise<T>): Promise<T>;
   /** Asks for a delivery round now (retry of undelivered alerts). */
   deliverNow(): void;
+  /** The database changed outside a batch (an audit's findings): publish the read copy. */
+  republish(): void;
 }
 export type StartSchedules = (host: ScheduleHost) => { stop(): void | Promise<void> };
 
@@ -100,6 +103,26 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       (err: unknown) => wlog.debug({ err }, 'read copy not republished'),
     );
   };
+  // a name left the inbox: end its hold between batches (one sweep waiting at a time; our own moves trigger it too)
+  let sweepWaiting = false;
+  const endVanishedHolds = () => {
+    if (sweepWaiting || stopping) return;
+    sweepWaiting = true;
+    queue
+      .exclusive(() => {
+        sweepWaiting = false;
+        return releaseVanished(db, config.inbox);
+      })
+      .then(
+        (gone) => {
+          if (gone.length === 0) return;
+          wlog.info({ files: gone }, 'holds ended: the files left the inbox');
+          republish();
+        },
+        // refused while stopping: the next start sweeps
+        (err: unknown) => stopping || wlog.error({ err }, 'could not end the holds of files that left the inbox'),
+      );
+  };
   // one timer at a time; a batch in between publishes (or re-arms it) on its own
   let publishRetry: NodeJS.Timeout | null = null;
   const retryPublishLater = () => {
@@ -148,9 +171,9 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
 
   try {
     // new arrivals queue up (lane still closed) while the catch-up list is made
-    watcher = await watchInbox(config, log, (file) => arrivals.add(file));
+    watcher = await watchInbox(config, log, (file) => arrivals.add(file), endVanishedHolds);
     await recoverAtStart(db, config, log);
-    const present = listInbox(config.inbox, markerSuffix(config));
+    const present = listInbox(config.inbox, companionSuffixes(config));
     const stable = await Promise.all(present.map((f) => waitUntilStable(f, config.watch.stableMs, config.watch.pollMs)));
     const catchUp = present.filter((_, i) => stable[i]);
     wlog.info({ files: catchUp.map((f) => path.basename(f)) }, 'catching up on the inbox');
@@ -163,6 +186,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
           log,
           exclusive: (fn) => queue.exclusive(() => fn(db)),
           deliverNow: () => delivery.kick(),
+          republish,
         }) ?? null;
     }
   } catch (err) {
