@@ -37,6 +37,13 @@ export function startCli(args: string[], env: NodeJS.ProcessEnv = {}, wrapper: s
   return { child, logLines, exited };
 }
 
+/** Ends a child a test left running (SIGKILL: the test is over) and waits for its exit; nothing for one already gone. */
+export async function endCli(c: RunningCli | undefined): Promise<void> {
+  if (c === undefined) return;
+  if (c.child.exitCode === null && c.child.signalCode === null) c.child.kill('SIGKILL');
+  await c.exited;
+}
+
 /** Runs a one-off command to completion (sql, status); killed after `timeoutMs` so a hang fails the test instead of stalling it. */
 export function runCli(args: string[], timeoutMs = 60_000, env: NodeJS.ProcessEnv = {}): { status: number | null; stdout: string; stderr: string } {
   const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8', timeout: timeoutMs, killSignal: 'SIGKILL', env: { ...process.env, ...env } });

@@ -1,12 +1,13 @@
 import { appendFileSync, existsSync, readdirSync, utimesSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { gzipSync } from 'node:zlib';
-import { afterEach, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { openDatabase } from '../../src/storage/database.ts';
 import { runCli, startCli, type RunningCli } from '../cli/cliProcess.ts';
 import { pricesCsv } from '../helpers/files.ts';
 import { waitFor } from '../helpers/wait.ts';
-import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
+import { workerSlot } from '../helpers/workerFixture.ts';
+import { workerDir } from '../helpers/workspace.ts';
 
 /**
  * The attack on the worker, replayed on a real `riskfold watch` process with the inputs
@@ -17,21 +18,14 @@ import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
  * (killed*.test.ts, diskFull.test.ts, hardLink.test.ts, test/cli/sqlSandbox.test.ts).
  */
 describe('the attack on the worker, replayed', () => {
-  let wd: WorkerDir | undefined;
-  let worker: RunningCli | undefined;
-  afterEach(async () => {
-    if (worker && worker.child.exitCode === null && worker.child.signalCode === null) worker.child.kill('SIGKILL');
-    await worker?.exited;
-    worker = undefined;
-    wd?.cleanup();
-  });
+  const slot = workerSlot();
 
   const batchesDone = (c: RunningCli) => c.logLines().filter((l) => l.msg === 'batch done');
-  const put = (name: string, text: string | Buffer) => writeFileSync(path.join(wd!.config.inbox, name), text);
+  const put = (name: string, text: string | Buffer) => writeFileSync(path.join(slot.wd!.config.inbox, name), text);
 
   /** The worker's read copy (published after each batch), read while it runs. */
   async function fromReadCopy<T>(sql: string): Promise<T[]> {
-    const copy = await openDatabase(wd!.config.readCopy, { readOnly: true });
+    const copy = await openDatabase(slot.wd!.config.readCopy, { readOnly: true });
     try {
       return await copy.all<T>(sql);
     } finally {
@@ -40,7 +34,7 @@ describe('the attack on the worker, replayed', () => {
   }
 
   it('refuses each poisoned row at the door while risk keeps being computed, applies a late correction last, and reads returns of held securities only', async () => {
-    wd = workerDir({ ingest: { maxExpandedMB: 1 } });
+    const wd = (slot.wd = workerDir({ ingest: { maxExpandedMB: 1 } }));
     put('prices_history.csv', pricesCsv(60, 2, '2026-06-01'));
     put('positions_0601.csv', 'date,portfolio_id,security_id,quantity\n2026-06-01,acct-a,EQ-NORDWIND,100\n2026-06-01,acct-a,EQ-SALTMARSH,50\n');
     // 300 securities nobody holds: once they made every later day 30x slower
@@ -68,9 +62,9 @@ describe('the attack on the worker, replayed', () => {
     utimesSync(path.join(wd.config.inbox, 'prices_z_original.csv'), t0, t0);
     utimesSync(path.join(wd.config.inbox, 'prices_a_correction.csv'), t0 + 0.25, t0 + 0.25);
 
-    worker = startCli(['watch', '--config', wd.configPath], { RISKFOLD_LOG_LEVEL: 'debug' });
-    await waitFor(() => batchesDone(worker!).length >= 1, 90_000, 'the catch-up batch');
-    await waitFor(() => existsSync(wd!.config.readCopy), 10_000, 'the read copy');
+    const worker = (slot.worker = startCli(['watch', '--config', wd.configPath], { RISKFOLD_LOG_LEVEL: 'debug' }));
+    await waitFor(() => batchesDone(worker).length >= 1, 90_000, 'the catch-up batch');
+    await waitFor(() => existsSync(wd.config.readCopy), 10_000, 'the read copy');
 
     const ledger = await fromReadCopy<{ name: string; status: string; error: string | null }>('select name, status, error from ingested_files order by file_id');
     const status = Object.fromEntries(ledger.map((f) => [f.name, f.status]));
@@ -98,7 +92,7 @@ describe('the attack on the worker, replayed', () => {
 
     // later batches are not frozen: the next day's prices get their run too
     put('prices_next.csv', 'date,security_id,price\n2026-07-31,EQ-NORDWIND,105\n2026-07-31,EQ-SALTMARSH,103\n');
-    await waitFor(() => batchesDone(worker!).length >= 2, 60_000, 'the next batch');
+    await waitFor(() => batchesDone(worker).length >= 2, 60_000, 'the next batch');
     await waitFor(async () => (await fromReadCopy('select status from risk_runs order by run_id')).length === 2, 10_000, 'the next run in the read copy');
     expect(await fromReadCopy('select status from risk_runs order by run_id')).toEqual([{ status: 'done' }, { status: 'done' }]);
     expect(await fromReadCopy("select count(*)::integer as n from alerts where kind = 'run_failed'")).toEqual([{ n: 0 }]);
@@ -112,29 +106,29 @@ describe('the attack on the worker, replayed', () => {
 
   it('holds a positions snapshot cut at a line break by a long pause, loads it whole when the rest arrives, and keeps a CR/LF token out of everything', async () => {
     const token = 'tok3n-HEAD\r\nX-Injected: tok3n-TAIL';
-    wd = workerDir({
+    const wd = (slot.wd = workerDir({
       watch: { stableMs: 300, pollMs: 50 },
       alerts: { file: 'alerts.jsonl', webhook: { url: 'http://127.0.0.1:9/hook', tokenEnv: 'RISKFOLD_ATTACK_TOKEN', timeoutMs: 500, retryBaseMs: 60_000, retryMaxMs: 60_000 } },
-    });
+    }));
     const ids = Array.from({ length: 41 }, (_, i) => `EQ-${String(i).padStart(2, '0')}`);
     const prices = ids.flatMap((id, i) => Array.from({ length: 30 }, (_, d) => `2026-06-${String(d + 1).padStart(2, '0')},${id},${(50 + i + Math.sin(d + i)).toFixed(4)}`));
     put('prices_june.csv', `date,security_id,price\n${prices.join('\n')}\n`);
     put('positions_0601.csv', `date,portfolio_id,security_id,quantity\n${ids.map((id) => `2026-06-01,acct-b,${id},100`).join('\n')}\n`);
 
-    worker = startCli(['watch', '--config', wd.configPath], { RISKFOLD_ATTACK_TOKEN: token });
-    await waitFor(() => batchesDone(worker!).length >= 1, 90_000, 'the catch-up batch');
+    const worker = (slot.worker = startCli(['watch', '--config', wd.configPath], { RISKFOLD_ATTACK_TOKEN: token }));
+    await waitFor(() => batchesDone(worker).length >= 1, 90_000, 'the catch-up batch');
 
     // the sender writes 20 of 41 rows, each with its line break, then pauses past watch.stableMs
     const rows = ids.map((id) => `2026-06-15,acct-b,${id},100\n`);
     const cut = path.join(wd.config.inbox, 'positions_0615.csv');
     writeFileSync(cut, `date,portfolio_id,security_id,quantity\n${rows.slice(0, 20).join('')}`);
-    const held = await waitFor(() => worker!.logLines().find((l) => l.msg === 'file held in the inbox' && l.file === 'positions_0615.csv'), 30_000, 'the hold');
+    const held = await waitFor(() => worker.logLines().find((l) => l.msg === 'file held in the inbox' && l.file === 'positions_0615.csv'), 30_000, 'the hold');
     expect(held).toMatchObject({ code: 'snapshot_drop' });
     expect(String(held.reason)).toContain('keeps 20 of the 41 holdings');
     appendFileSync(cut, rows.slice(20).join(''));
-    await waitFor(() => worker!.logLines().find((l) => l.msg === 'file ingested' && l.file === 'positions_0615.csv'), 30_000, 'the whole file');
-    await waitFor(() => worker!.logLines().some((l) => l.stage === 'alerts' && JSON.stringify(l).includes('RISKFOLD_ATTACK_TOKEN')), 30_000, 'the refused delivery');
-    await waitFor(() => readdirSync(wd!.config.inbox).length === 0, 10_000, 'an empty inbox');
+    await waitFor(() => worker.logLines().find((l) => l.msg === 'file ingested' && l.file === 'positions_0615.csv'), 30_000, 'the whole file');
+    await waitFor(() => worker.logLines().some((l) => l.stage === 'alerts' && JSON.stringify(l).includes('RISKFOLD_ATTACK_TOKEN')), 30_000, 'the refused delivery');
+    await waitFor(() => readdirSync(wd.config.inbox).length === 0, 10_000, 'an empty inbox');
     worker.child.kill('SIGTERM');
     expect(await worker.exited).toEqual({ code: 0, signal: null });
 
