@@ -11,6 +11,7 @@ export type RejectionCode =
   | 'missing_column'
   | 'bad_value'
   | 'duplicate_key'
+  | 'weight_sum'
   | 'too_large'
   | 'manifest_mismatch'
   | 'unsupported_compression';

@@ -8,6 +8,7 @@ import { findIngested, recordFile, type EarlierDelivery, type FileRecord } from 
 import type { KindLayout } from './layout.ts';
 import type { Plausibility } from './plausibility.ts';
 import { badSql, summaryOf, summarySelect, type FileSummary } from './rules.ts';
+import { hasUnbalancedWeights } from './weightSums.ts';
 
 export type LoadAttempt =
   | { kind: 'loaded'; sha256: string; fileId: number; summary: FileSummary }
@@ -103,6 +104,9 @@ async function insertStaged(
   const earlier = await findIngested(db, sha256);
   if (earlier) throw new Abort({ kind: 'known', sha256, earlier });
   if (summary.rows === 0 || (summary.keys < summary.rows && (await keyRepeats(db, layout)))) {
+    throw new Abort({ kind: 'failed', sha256, cause: null });
+  }
+  if (layout.kind === 'benchmarks' && (await hasUnbalancedWeights(db, LOAD_TABLE, bounds.weightSumTolerance))) {
     throw new Abort({ kind: 'failed', sha256, cause: null });
   }
   const verdict = await guard(id, sha256, summary.rows);

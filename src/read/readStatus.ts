@@ -76,7 +76,7 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
       select file_id, name, kind, status, rows, received_at, error
       from ingested_files order by file_id desc`, [], 10),
     await section(db, 'openBreaches', 'open breaches', `
-      select breach_id, portfolio_id, metric, window_days, estimator, level, limit_value, opened_on, escalated_on, peak_value, peak_on
+      select breach_id, portfolio_id, metric, method, window_days, estimator, level, limit_value, opened_on, escalated_on, peak_value, peak_on
       from limit_breaches where closed_on is null and not retracted and ($1::varchar is null or portfolio_id = $1)
       order by opened_on, portfolio_id`, [portfolio]),
     await section(db, 'undeliveredAlerts', 'undelivered alerts', `

@@ -1,5 +1,7 @@
 import { lstatSync, readdirSync, statSync } from 'node:fs';
 import path from 'node:path';
+import type { Config } from '../config/load.ts';
+import { matchSource } from '../ingest/sourceMatch.ts';
 
 /**
  * Whether a name in the inbox is a delivery. Hidden files and names ending in .tmp or
@@ -60,4 +62,16 @@ export async function waitUntilStable(file: string, stableMs: number, pollMs: nu
     }
     await new Promise((resolve) => setTimeout(resolve, pollMs));
   }
+}
+
+/**
+ * Whether `files` hold a whole business day: a file of every kind the day needs
+ * (`schedule.missingData.expect`, the same list the missing-data check judges a day by).
+ * With no kind expected no batch counts as whole.
+ */
+export function holdsWholeDay(config: Config, files: readonly string[]): boolean {
+  const expected = config.schedule.missingData.expect;
+  if (expected.length === 0) return false;
+  const kinds = new Set(files.map((file) => matchSource(config.sources, path.basename(file))?.kind));
+  return expected.every((kind) => kinds.has(kind));
 }

@@ -14,7 +14,7 @@ import type { Database } from '../storage/database.ts';
 import { openWorkspace, publishReadCopy, type PublishOutcome } from '../storage/workspace.ts';
 import { ArrivalWindow } from '../watch/arrivalWindow.ts';
 import { DeliveryLoop } from './deliveryLoop.ts';
-import { listInbox, waitUntilStable } from '../watch/inboxFiles.ts';
+import { holdsWholeDay, listInbox, waitUntilStable } from '../watch/inboxFiles.ts';
 import { watchInbox } from '../watch/inboxWatcher.ts';
 import { describeHolder, removePidFile, writePidFile } from './workerPidFile.ts';
 import { WorkQueue } from './workQueue.ts';
@@ -84,7 +84,12 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
     }
   };
   const queue = new WorkQueue(handleBatch);
-  const arrivals = new ArrivalWindow(config.watch.settleMs, config.watch.maxBatchWaitMs, (files) => queue.addFiles(files));
+  const { settleMs, maxBatchWaitMs, wholeDaySettleMs } = config.watch;
+  const arrivals = new ArrivalWindow(
+    { settleMs, maxWaitMs: maxBatchWaitMs, wholeDayMs: wholeDaySettleMs },
+    (files) => holdsWholeDay(config, files),
+    (files) => queue.addFiles(files),
+  );
   const republish = () => {
     publishWanted = true;
     queue.exclusive(() => (publishWanted ? publishReadCopy(db, config, log) : Promise.resolve<PublishOutcome>({ published: true }))).then(
