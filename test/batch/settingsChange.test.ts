@@ -38,9 +38,9 @@ describe('a setting that shapes results changes between runs', () => {
     return w;
   }
 
-  function editConfig(w: WorkerDir, edit: (risk: Record<string, unknown>) => void): void {
+  function editConfig(w: WorkerDir, edit: (risk: Record<string, unknown>, raw: Record<string, unknown>) => void): void {
     const raw = JSON.parse(readFileSync(w.configPath, 'utf8')) as { risk: Record<string, unknown> };
-    edit(raw.risk);
+    edit(raw.risk, raw);
     writeFileSync(w.configPath, `${JSON.stringify(raw, null, 2)}\n`);
   }
 
@@ -81,6 +81,31 @@ describe('a setting that shapes results changes between runs', () => {
     expect(again.status, again.stderr).toBe(0);
     expect(again.stdout).not.toMatch(/setting/);
     expect(await lastRun(wd)).toMatchObject({ from_date: '2020-03-10', portfolios: ['acct-growth'], lambda: 0.97 });
+  });
+
+  it('a changed limit is named like any other setting, and its episodes are replayed over the full history', async () => {
+    wd = ingested();
+    const breaches = async () => {
+      const db = await openDatabase(wd!.config.database, { readOnly: true });
+      try {
+        return await db.all<{ limit_value: number; n: number }>('select limit_value, count(*)::integer as n from limit_breaches group by limit_value');
+      } finally {
+        db.close();
+      }
+    };
+    // the prices move about 0.1% a day: the configured 15% is never reached
+    expect(await breaches()).toEqual([]);
+    editConfig(wd, (_risk, raw) => (raw.limits = [{ portfolio: '*', window: 63, limit: 0.001, warning: 0.0009, clear: 0.0008 }]));
+    const changed = runCli(['recompute', '--config', wd.configPath, '--from', '2020-03-10', '--portfolio', 'acct-growth']);
+    expect(changed.status, changed.stderr).toBe(0);
+    expect(changed.stdout.split('\n')[0]).toBe(
+      'setting limits changed *:vol_ex_ante:sample:63=0.15/0.135/0.1275 -> *:vol_ex_ante:sample:63=0.001/0.0009/0.0008: recomputing full history',
+    );
+    expect(await lastRun(wd)).toMatchObject({ from_date: null, portfolios: null, rows_of_other_runs: 0 });
+    // every episode is judged against the new levels, from the first date with a 63-day figure
+    const after = await breaches();
+    expect(after.map((b) => b.limit_value)).toEqual([0.001]);
+    expect(after[0].n).toBeGreaterThan(0);
   });
 
   it('the worker, started on an empty inbox after a change of windows, recomputes everything and says so', async () => {
