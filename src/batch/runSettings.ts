@@ -1,4 +1,5 @@
 import type { Config, ResolvedLimit } from '../config/load.ts';
+import { limitKey } from '../limits/applicableLimits.ts';
 import type { Database } from '../storage/database.ts';
 
 /**
@@ -37,9 +38,9 @@ export function resultSettings(config: Config): ResultSettings {
   };
 }
 
-/** "*:vol_ex_ante:sample:63=0.15/0.135/0.1275": what is watched, then limit/warning/clear (defaults resolved). */
+/** "*|vol_ex_ante||63|sample=0.15/0.135/0.1275": the portfolio and the series watched, then limit/warning/clear (defaults resolved). */
 function limitSetting(limit: ResolvedLimit): string {
-  return `${limit.portfolio}:${limit.metric}:${limit.estimator}:${limit.window}=${limit.limit}/${limit.warning}/${limit.clear}`;
+  return `${limit.portfolio}|${limitKey(limit)}=${limit.limit}/${limit.warning}/${limit.clear}`;
 }
 
 /** One setting whose recorded value differs from the current one; `before` undefined: not recorded. */

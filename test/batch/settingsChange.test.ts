@@ -99,7 +99,7 @@ describe('a setting that shapes results changes between runs', () => {
     const changed = runCli(['recompute', '--config', wd.configPath, '--from', '2020-03-10', '--portfolio', 'acct-growth']);
     expect(changed.status, changed.stderr).toBe(0);
     expect(changed.stdout.split('\n')[0]).toBe(
-      'setting limits changed *:vol_ex_ante:sample:63=0.15/0.135/0.1275 -> *:vol_ex_ante:sample:63=0.001/0.0009/0.0008: recomputing full history',
+      'setting limits changed *|vol_ex_ante||63|sample=0.15/0.135/0.1275 -> *|vol_ex_ante||63|sample=0.001/0.0009/0.0008: recomputing full history',
     );
     expect(await lastRun(wd)).toMatchObject({ from_date: null, portfolios: null, rows_of_other_runs: 0 });
     // every episode is judged against the new levels, from the first date with a 63-day figure
