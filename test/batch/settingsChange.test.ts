@@ -1,12 +1,11 @@
 import { readFileSync, writeFileSync } from 'node:fs';
-import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.ts';
 import { memoryLogger } from '../../src/log/logger.ts';
 import { openDatabase } from '../../src/storage/database.ts';
 import { startWorker } from '../../src/worker/startWorker.ts';
 import { runCli } from '../cli/cliProcess.ts';
-import { pricesCsv, writeCsv } from '../helpers/files.ts';
+import { writeTwoHoldings } from '../helpers/files.ts';
 import { waitFor } from '../helpers/wait.ts';
 import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
 
@@ -26,12 +25,7 @@ describe('a setting that shapes results changes between runs', () => {
   /** Two securities over 80 days held by one account, loaded and computed by the ingest command. */
   function ingested(): WorkerDir {
     const w = workerDir();
-    writeFileSync(path.join(w.config.inbox, 'prices_all.csv'), pricesCsv(80, 2, '2020-01-01'));
-    writeCsv(w.config.inbox, 'positions_start.csv', [
-      ['date', 'portfolio_id', 'security_id', 'quantity'],
-      ['2020-01-01', 'acct-growth', 'EQ-NORDWIND', 100],
-      ['2020-01-01', 'acct-growth', 'EQ-SALTMARSH', 50],
-    ]);
+    writeTwoHoldings(w.config.inbox, { days: 80 });
     const first = runCli(['ingest', '--config', w.configPath]);
     expect(first.status, first.stderr).toBe(0);
     expect(first.stdout).not.toMatch(/setting/);
