@@ -2,7 +2,8 @@ import { Worker } from 'node:worker_threads';
 import { keepStates, type EstimatorStates } from '../estimators/estimator.ts';
 import type { ResultBatch } from '../walk/resultColumns.ts';
 import type { ComputeInputs, EstimateTask, WalkSettings } from '../walk/walkEstimate.ts';
-import { WORKER_ROLE, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
+import { estimatorModules } from '../estimators/registry.ts';
+import { WORKER_ROLE, type WorkerData, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
 
 // Compiled (dist/, the built CLI) the worker is plain JavaScript beside this file; run
 // from the sources (tests, or the CLI before a build) a worker thread does not inherit
@@ -15,8 +16,8 @@ const WORKER_ENTRY = import.meta.url.endsWith('.ts') ? './estimateWorkerBoot.mjs
  * whichever worker is free; every batch a worker posts goes to `onBatch` on this thread
  * as it arrives. Each walk is the same code as on the main thread, so the numbers are
  * the same bit for bit; only the order in which batches arrive differs.
- * Resolves with the states the estimators keep, as on the main thread. Only estimators
- * registered in registry.ts exist in the workers.
+ * Resolves with the states the estimators keep, as on the main thread. The workers have
+ * the estimators of registry.ts and those added by module URL (registerEstimatorModule).
  */
 export async function walkInWorkers(
   tasks: readonly { task: EstimateTask; cost: number }[],
@@ -31,7 +32,11 @@ export async function walkInWorkers(
   const workers = Array.from(
     { length: Math.min(threads, queue.length) },
     // execArgv empty: the boot file registers tsx itself, whatever flags this process ran with
-    () => new Worker(new URL(WORKER_ENTRY, import.meta.url), { workerData: { role: WORKER_ROLE }, execArgv: [] }),
+    () =>
+      new Worker(new URL(WORKER_ENTRY, import.meta.url), {
+        workerData: { role: WORKER_ROLE, estimatorModules: estimatorModules() } satisfies WorkerData,
+        execArgv: [],
+      }),
   );
   const states: EstimatorStates = {};
   try {
