@@ -12,7 +12,9 @@ export type RejectionCode =
   | 'bad_value'
   | 'duplicate_key'
   | 'weight_sum'
-  | 'too_large';
+  | 'too_large'
+  | 'manifest_mismatch'
+  | 'unsupported_compression';
 
 export interface Rejection {
   code: RejectionCode;

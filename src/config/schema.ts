@@ -240,6 +240,10 @@ const scheduleSchema = z
       .default({ cron: '0 22 * * 1-5', expect: ['prices', 'positions'] }),
     retryAlerts: z.string().default('*/5 * * * *').describe('Cron of the retry of undelivered alerts.'),
     checkpoint: z.string().default('30 2 * * *').describe('Cron of the nightly database checkpoint.'),
+    archiveAudit: z
+      .string()
+      .default('30 3 * * 6')
+      .describe('Cron of the full archive audit (every archived file hashed again); a start re-hashes only files whose size or mtime moved.'),
   })
   .strict();
 
@@ -307,6 +311,12 @@ const ingestSchema = z
       .enum(['none', 'done', 'ok'])
       .default('none')
       .describe('"done" or "ok": a delivery is loaded only once <name>.done (or <name>.ok) lies beside it; the marker is then removed.'),
+    manifest: z
+      .enum(['none', 'required'])
+      .default('none')
+      .describe(
+        '"required": a delivery is loaded only once <name>.manifest lies beside it (JSON: {"rows": data rows, "sha256": of the bytes as delivered}) and only if both match; a mismatch is quarantined. The manifest then moves with the file.',
+      ),
     snapshotKeepShare: z
       .number()
       .min(0)
@@ -317,6 +327,10 @@ const ingestSchema = z
       .array(z.string().min(1))
       .default([])
       .describe('File names whose suspect snapshot drop is confirmed as intended: they load.'),
+    acknowledgedArchiveFiles: z
+      .array(z.number().int().positive())
+      .default([])
+      .describe('file_ids whose archived copy operations no longer vouch for (its finding dealt with): the finding closes at the next audit and the file is not audited again.'),
     maxExpandedMB: z
       .number()
       .positive()
@@ -358,6 +372,14 @@ export const configSchema = z
           .min(0)
           .default(2000)
           .describe('Files landing within this long of each other form one batch (one run): it starts this long after the last arrival.'),
+        wholeDaySettleMs: z
+          .number()
+          .int()
+          .min(0)
+          .default(300)
+          .describe(
+            'Once a batch holds a file of every kind in schedule.missingData.expect, it starts this long after the last arrival instead of settleMs (a few watcher polls, to catch the rest of the same delivery).',
+          ),
         maxBatchWaitMs: z
           .number()
           .int()
@@ -373,7 +395,7 @@ export const configSchema = z
       })
       .strict()
       .refine((w) => w.settleMs <= w.maxBatchWaitMs, { message: 'settleMs must not exceed maxBatchWaitMs', path: ['settleMs'] })
-      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, maxBatchWaitMs: 30_000, publishRetryMs: 60_000 }),
+      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, wholeDaySettleMs: 300, maxBatchWaitMs: 30_000, publishRetryMs: 60_000 }),
     ingest: ingestSchema.default(ingestSchema.parse({})),
     risk: riskSchema.default(riskSchema.parse({})),
     benchmarks: z

@@ -3,7 +3,7 @@ import { existsSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
-import { starterConfig } from '../../src/cli/commands/init.ts';
+import { starterConfig } from '../../src/cli/actions/init.ts';
 import { loadConfig } from '../../src/config/load.ts';
 
 const ROOT = path.resolve(import.meta.dirname, '../..');

@@ -1,5 +1,5 @@
 import { afterEach, describe, expect, it } from 'vitest';
-import { describeOutcome } from '../../src/cli/commands/ingest.ts';
+import { describeOutcome } from '../../src/cli/actions/ingest.ts';
 import { ingestFile } from '../../src/ingest/ingestFile.ts';
 import { writeCsv } from '../helpers/files.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';

@@ -1,7 +1,5 @@
 import type { Command } from 'commander';
-import { RiskfoldError } from '../../errors.ts';
-import { writeFirmReport, writeReport } from '../../report/writeReport.ts';
-import { configFrom, withConfigOption } from '../context.ts';
+import { lazyAction, withConfigOption } from '../define.ts';
 
 export function registerReport(program: Command): void {
   withConfigOption(
@@ -11,19 +9,5 @@ export function registerReport(program: Command): void {
       .option('--portfolio <id>', 'portfolio id, as in the positions files')
       .option('--all', "every portfolio against its limits, open episodes and data problems, linking to each portfolio's page (written beside it)")
       .option('--out <file>', 'output file (default: report-<portfolio>-<as of date>.html, or report-all-<as of date>.html, in the current folder)'),
-  ).action(async (opts: { config?: string; portfolio?: string; all?: boolean; out?: string }) => {
-    if (Boolean(opts.all) === (opts.portfolio !== undefined)) {
-      throw new RiskfoldError('usage', 'report needs either --portfolio <id> or --all');
-    }
-    const config = configFrom(opts);
-    if (opts.all) {
-      const written = await writeFirmReport(config, { out: opts.out });
-      const note = written.source === 'read_copy' ? " (from the worker's published read copy)" : '';
-      process.stdout.write(`overview of ${written.pages.length} portfolio pages as of ${written.asOf} written to ${written.file}${note}\n`);
-      return;
-    }
-    const written = await writeReport(config, { portfolio: opts.portfolio!, out: opts.out });
-    const note = written.source === 'read_copy' ? " (from the worker's published read copy)" : '';
-    process.stdout.write(`report of ${opts.portfolio} as of ${written.asOf} written to ${written.file}${note}\n`);
-  });
+  ).action(lazyAction(async () => (await import('../actions/report.ts')).runReport));
 }

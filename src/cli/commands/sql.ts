@@ -1,8 +1,5 @@
 import type { Command } from 'commander';
-import { runReadOnlyQuery } from '../../read/readQuery.ts';
-import { openForReading } from '../../storage/workspace.ts';
-import { configFrom, withConfigOption } from '../context.ts';
-import { formatResult, noteReadCopy, parseFormat, writeResult } from '../format.ts';
+import { lazyAction, withConfigOption } from '../define.ts';
 
 export function registerSql(program: Command): void {
   withConfigOption(
@@ -17,16 +14,5 @@ export function registerSql(program: Command): void {
         (dir: string, dirs: string[]) => [...dirs, dir],
         [] as string[],
       ),
-  ).action(async (query: string, opts: { config?: string; format: string; readFiles: string[] }) => {
-    const format = parseFormat(opts.format);
-    const config = configFrom(opts);
-    const handle = await openForReading(config, opts.readFiles);
-    try {
-      noteReadCopy(handle, config);
-      const result = await runReadOnlyQuery(handle.db, query);
-      writeResult(formatResult(result, format), format);
-    } finally {
-      handle.db.close();
-    }
-  });
+  ).action(lazyAction(async () => (await import('../actions/sql.ts')).runSql));
 }

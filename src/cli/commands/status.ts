@@ -1,8 +1,5 @@
 import type { Command } from 'commander';
-import { readStatus } from '../../read/readStatus.ts';
-import { openForReading } from '../../storage/workspace.ts';
-import { configFrom, withConfigOption } from '../context.ts';
-import { formatSections, noteReadCopy, parseFormat, writeResult } from '../format.ts';
+import { lazyAction, withConfigOption } from '../define.ts';
 
 export function registerStatus(program: Command): void {
   withConfigOption(
@@ -12,16 +9,5 @@ export function registerStatus(program: Command): void {
       .option('--format <format>', 'table (percentages), csv or json (full precision)', 'table')
       .option('--portfolio <id>', 'only this portfolio')
       .option('--details', 'also list the files, open breaches, alerts and data problems row by row'),
-  ).action(async (opts: { config?: string; format: string; portfolio?: string; details?: boolean }) => {
-    const format = parseFormat(opts.format);
-    const config = configFrom(opts);
-    const handle = await openForReading(config);
-    try {
-      noteReadCopy(handle, config);
-      const sections = await readStatus(handle.db, config, { portfolio: opts.portfolio ?? null, details: opts.details === true, now: new Date() });
-      writeResult(formatSections(sections, format, handle.source), format);
-    } finally {
-      handle.db.close();
-    }
-  });
+  ).action(lazyAction(async () => (await import('../actions/status.ts')).runStatus));
 }

@@ -4,6 +4,11 @@ import type { ResultBatch } from '../walk/resultColumns.ts';
 import type { ComputeInputs, EstimateTask, WalkSettings } from '../walk/walkEstimate.ts';
 import { WORKER_ROLE, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
 
+// Compiled (dist/, the built CLI) the worker is plain JavaScript beside this file; run
+// from the sources (tests, or the CLI before a build) a worker thread does not inherit
+// the tsx loader, so a boot file registers it first.
+const WORKER_ENTRY = import.meta.url.endsWith('.ts') ? './estimateWorkerBoot.mjs' : './estimateWorker.js';
+
 /**
  * Walks the estimates in `threads` worker threads. The inputs are shared, not copied
  * (SharedArrayBuffer); the tasks are handed out one at a time, largest first, to
@@ -26,7 +31,7 @@ export async function walkInWorkers(
   const workers = Array.from(
     { length: Math.min(threads, queue.length) },
     // execArgv empty: the boot file registers tsx itself, whatever flags this process ran with
-    () => new Worker(new URL('./estimateWorkerBoot.mjs', import.meta.url), { workerData: { role: WORKER_ROLE }, execArgv: [] }),
+    () => new Worker(new URL(WORKER_ENTRY, import.meta.url), { workerData: { role: WORKER_ROLE }, execArgv: [] }),
   );
   const states: EstimatorStates = {};
   try {
