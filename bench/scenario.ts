@@ -20,7 +20,7 @@ export interface ScenarioSize {
 
 // 261 business days a year (52 weeks and a day); holidays are left out on purpose so
 // every valuation date has every price
-const YEAR = 261;
+export const YEAR = 261;
 
 export const SIZES: Record<SizeName, ScenarioSize> = {
   tiny: { name: 'tiny', securities: 12, portfolios: 2, holdingsPerPortfolio: 6, historyDays: 70, newDays: 2, windows: [21, 63], correctionDays: 3, runs: 1 },

@@ -16,3 +16,10 @@ create or replace macro is_cash_in(security_id, currency) as
 -- A cash balance in the base currency: zero return, no market risk.
 create or replace macro is_base_cash(security_id) as
   is_cash_in(security_id, (select base_currency from pipeline_settings));
+
+-- The value of a set of positions (a portfolio, an exposure bucket) from the sum of their
+-- values and how many there are and have one: unknown (null) when any position has no
+-- value, never the sum of the valued part. Called with aggregates or with windows over
+-- the same rows.
+create or replace macro positions_value(value_sum, n_positions, n_valued) as
+  case when n_valued = n_positions then value_sum end;

@@ -11,7 +11,10 @@ export type RejectionCode =
   | 'missing_column'
   | 'bad_value'
   | 'duplicate_key'
-  | 'too_large';
+  | 'weight_sum'
+  | 'too_large'
+  | 'manifest_mismatch'
+  | 'unsupported_compression';
 
 export interface Rejection {
   code: RejectionCode;

@@ -82,6 +82,7 @@ export async function measureWorker(scenario: GeneratedScenario, root: string): 
       note: `median of ${days} days (prices, fx, positions files each), until visible in the read copy`,
       details: {
         committed_seconds: median(committed),
+        // the stable-file wait (watch.stableMs) and the arrival window (watch.settleMs, or wholeDaySettleMs for a whole day)
         wait_seconds: median(phases.wait),
         // with more than one run per day, this phase also holds the earlier runs
         ingest_seconds: median(phases.ingest),
@@ -89,6 +90,7 @@ export async function measureWorker(scenario: GeneratedScenario, root: string): 
         publish_seconds: median(phases.publish),
         runs_per_day: Math.max(...runsPerDay),
         stable_ms_setting: ws.config.watch.stableMs,
+        whole_day_settle_ms_setting: ws.config.watch.wholeDaySettleMs,
       },
     });
     const memory =
@@ -99,7 +101,11 @@ export async function measureWorker(scenario: GeneratedScenario, root: string): 
             details: { catch_up_seconds: catchUpSeconds },
           });
     memory.details.stop = await stop(child, exit);
-    Object.assign(latency.details, phaseMedians(recomputePhasesAfter(logFile, catchUpEnd), 'run'));
+    Object.assign(
+      latency.details,
+      phaseMedians(timingsAfter(logFile, catchUpEnd, 'batch done', 'seconds'), 'batch'),
+      phaseMedians(timingsAfter(logFile, catchUpEnd, 'recompute done', 'phases'), 'run'),
+    );
     return [latency, memory];
   } finally {
     await stop(child, exit);
@@ -126,13 +132,17 @@ function watchExit(child: ChildProcess, logFile: string): { done: boolean; tail:
   return state;
 }
 
-/** The `phases` of the worker's "recompute done" log records after `sinceMs`: where a day's runs spend their time. */
-function recomputePhasesAfter(logFile: string, sinceMs: number): Record<string, number>[] {
+/**
+ * The timings (`field`) of the worker's `msg` log records after `sinceMs`: the runs'
+ * `phases` of "recompute done", the batches' `seconds` (ingest, run, deliver, publish) of "batch done".
+ */
+function timingsAfter(logFile: string, sinceMs: number, msg: string, field: string): Record<string, number>[] {
   const out: Record<string, number>[] = [];
   for (const line of readFileSync(logFile, 'utf8').split('\n')) {
-    if (!line.includes('"recompute done"')) continue;
-    const record = JSON.parse(line) as { time: number; phases?: Record<string, number> };
-    if (record.time >= sinceMs && record.phases) out.push(record.phases);
+    if (!line.includes(`"${msg}"`)) continue;
+    const record = JSON.parse(line) as Record<string, unknown> & { time: number };
+    const timings = record[field] as Record<string, number> | undefined;
+    if (record.time >= sinceMs && timings) out.push(timings);
   }
   return out;
 }

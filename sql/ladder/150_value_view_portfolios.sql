@@ -1,6 +1,7 @@
 -- Portfolio market value per valuation date (cash included). When a position has no
--- value the portfolio's value is unknown: value_base is null, value_base_priced keeps
--- the sum of the positions that have one, n_unpriced says how many lack it.
+-- value the portfolio's value is unknown (positions_value, sql/rules.sql): value_base is
+-- null, value_base_priced keeps the sum of the positions that have one, n_unpriced says
+-- how many lack it.
 create or replace view value_portfolios as
 with positions as (
   select portfolio_id, date, date_index, value_base, price_status
@@ -11,7 +12,7 @@ totals as (
   select
     portfolio_id,
     date,
-    case when count(*) = count(value_base) then sum(value_base) end as value_base,
+    positions_value(sum(value_base), count(*), count(value_base)) as value_base,
     sum(value_base) as value_base_priced,
     count(*)::integer as n_positions,
     (count(*) - count(value_base))::integer as n_unpriced,

@@ -37,8 +37,8 @@ buckets as (
     date,
     dimension,
     bucket,
-    case when count(*) = count(value_base) then sum(value_base) end as value_base,
-    case when count(*) = count(weight) then sum(weight) end as weight,
+    positions_value(sum(value_base), count(*), count(value_base)) as value_base,
+    positions_value(sum(weight), count(*), count(weight)) as weight,
     count(*)::integer as n_positions
   from by_dimension
   group by portfolio_id, date, dimension, bucket

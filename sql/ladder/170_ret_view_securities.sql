@@ -59,16 +59,13 @@ returns as (
   where prev_date_index is not null and date_index >= first_date_index
 ),
 
--- held, or a benchmark's constituent (its return enters the benchmark's)
+-- held, or a benchmark's constituent (its return enters the benchmark's); step 067 keeps
+-- the list, so no run scans the whole position history for it
 foreign_cash as (
   select security_id, cash_currency(security_id) as currency
-  from (
-    select security_id from clean_positions where quantity <> 0
-    union
-    select security_id from clean_benchmarks where weight <> 0
-  )
+  from derived_held_cash
   cross join settings
-  where is_cash(security_id) and not is_cash_in(security_id, settings.base_currency)
+  where not is_cash_in(security_id, settings.base_currency)
 ),
 
 -- align_fx has a row for every valuation date from a currency's first rate on

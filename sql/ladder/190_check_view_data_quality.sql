@@ -3,7 +3,7 @@
 -- problem of the whole portfolio.
 create or replace view check_data_quality as
 with settings as (
-  select base_currency, max_stale_days, list_max(windows) as longest_window
+  select base_currency, max_stale_days, history_days
   from pipeline_settings
 ),
 
@@ -14,21 +14,20 @@ positions as (
   from value_positions
 ),
 
--- returns available per security up to each date; the difference of two running
--- counts gives the count inside the window without a per-row subquery
-return_counts as (
+-- Enough history, the rule of the risk rows' coverage: a security is covered by an
+-- estimate needing h returns when its last h valuation dates all have one, i.e. its run
+-- of consecutive returns is at least h. A security's returns start the day after its
+-- first price, every later valuation date has a row, and the run restarts after a null.
+return_runs as (
   select
     security_id,
     date_index,
-    count(log_return) over (partition by security_id order by date_index rows between unbounded preceding and current row) as returns_so_far
+    date_index - coalesce(
+      max(date_index) filter (where log_return is null) over by_date,
+      min(date_index) over by_date - 1
+    ) as n_consecutive
   from ret_securities
-),
-
-returns_in_window as (
-  select c.security_id, c.date_index, c.returns_so_far - coalesce(e.returns_so_far, 0) as n_returns
-  from return_counts c
-  cross join settings
-  left join return_counts e on e.security_id = c.security_id and e.date_index = c.date_index - settings.longest_window
+  window by_date as (partition by security_id order by date_index rows between unbounded preceding and current row)
 ),
 
 stale_past_limit as (
@@ -84,15 +83,24 @@ missing_fx as (
   where p.fx_rate is null
 ),
 
-short_history as (
+-- the needs each held security falls short of; base-currency cash never needs a return,
+-- cash in another currency needs its fx returns
+history_short_of as (
   select
-    p.portfolio_id, p.date, p.security_id, 'short_history' as problem,
-    format('{} of the {} daily returns the longest window needs',
-      coalesce(r.n_returns, 0), settings.longest_window) as reason
+    p.portfolio_id, p.date, p.security_id, coalesce(r.n_consecutive, 0) as n_consecutive,
+    list_filter(settings.history_days, h -> h > coalesce(r.n_consecutive, 0)) as short_of
   from positions p
   cross join settings
-  left join returns_in_window r on r.security_id = p.security_id and r.date_index = p.date_index
-  where not p.is_cash and coalesce(r.n_returns, 0) < settings.longest_window
+  left join return_runs r on r.security_id = p.security_id and r.date_index = p.date_index
+  where not is_base_cash(p.security_id)
+),
+
+short_history as (
+  select
+    portfolio_id, date, security_id, 'short_history' as problem,
+    format('{} consecutive daily returns, short of a full history of {} days', n_consecutive, array_to_string(short_of, ', ')) as reason
+  from history_short_of
+  where len(short_of) > 0
 ),
 
 nonpositive_value as (

@@ -45,6 +45,8 @@ export interface BatchSummary {
   delivery: DeliverySummary | null;
   /** Why the read copy was not published (the disk too full), in one line; null when it was. */
   readCopyBehind: string | null;
+  /** Wall-clock seconds of the batch's steps: where a day's time goes. */
+  seconds: { ingest: number; run: number; deliver: number; publish: number };
 }
 
 /**
@@ -63,7 +65,24 @@ export async function runBatch(
   options: BatchOptions = {},
 ): Promise<BatchSummary> {
   const blog = log.child({ stage: 'batch' });
-  const summary: BatchSummary = { files: [], skipped: [], scope: null, settingChanges: [], run: null, runError: null, idle: null, delivery: null, readCopyBehind: null };
+  const summary: BatchSummary = {
+    files: [],
+    skipped: [],
+    scope: null,
+    settingChanges: [],
+    run: null,
+    runError: null,
+    idle: null,
+    delivery: null,
+    readCopyBehind: null,
+    seconds: { ingest: 0, run: 0, deliver: 0, publish: 0 },
+  };
+  let stepStarted = performance.now();
+  const endStep = (step: keyof BatchSummary['seconds']) => {
+    const now = performance.now();
+    summary.seconds[step] = (now - stepStarted) / 1000;
+    stepStarted = now;
+  };
 
   const interrupted = await markInterruptedRuns(db);
   if (interrupted.length > 0) blog.warn({ runIds: interrupted }, `run ${interrupted.join(', ')} marked interrupted: the process ended during it`);
@@ -84,6 +103,7 @@ export async function runBatch(
     summary.files.push(outcome);
     options.onFile?.(outcome);
   }
+  endStep('ingest');
 
   summary.scope = mergeScope(summary.files, await uncoveredFiles(db));
   summary.idle = summary.scope && !options.recompute ? await nothingToCompute(db, summary.scope) : null;
@@ -102,8 +122,11 @@ export async function runBatch(
     }
   }
 
+  endStep('run');
   if (options.deliver ?? true) summary.delivery = await deliverAlerts(db, config, log);
+  endStep('deliver');
   const published = await publishReadCopy(db, config, log);
+  endStep('publish');
   if (!published.published) {
     summary.readCopyBehind = published.reason;
     blog.warn({ kind: 'disk_full', readCopy: config.readCopy }, published.reason);
@@ -116,6 +139,7 @@ export async function runBatch(
       runError: summary.runError,
       idle: summary.idle,
       readCopyBehind: summary.readCopyBehind,
+      seconds: summary.seconds,
     },
     'batch done',
   );

@@ -2,10 +2,11 @@ import type { Database } from '../storage/database.ts';
 
 /**
  * Adds `suspect_price` to the status of the run's risk_daily rows whose window uses a
- * price flagged suspect and used (mode flag): a window of W returns ending at t reads the
- * prices of the valuation dates t-W .. t; an EWMA row (window 0) counts the longest
- * window. Runs in the risk stage's transaction, after its rows are written; set-based,
- * and nothing at all while no flag is open.
+ * price flagged suspect and used (mode flag): the portfolio holds the security, or its
+ * benchmark does (the tracking error reads the constituents' prices too). A window of W
+ * returns ending at t reads the prices of the valuation dates t-W .. t; an EWMA row
+ * (window 0) counts the longest window. Runs in the risk stage's transaction, after its
+ * rows are written; set-based, and nothing at all while no flag is open.
  */
 export async function markSuspectWindows(db: Database, runId: number): Promise<number> {
   const [{ open }] = await db.all<{ open: number }>('select count(*)::integer as open from price_checks where cleared_at is null and not held');
@@ -17,12 +18,24 @@ export async function markSuspectWindows(db: Database, runId: number): Promise<n
        where c.cleared_at is null and not c.held
      ),
      longest as (select list_max(windows) as days from pipeline_settings),
+     -- who reads a security's price on a date: a portfolio holding it, a benchmark weighting it
+     readers as (
+       select 'portfolio' as via, portfolio_id as reader, security_id, date, date_index from hold_daily_positions
+       union all
+       select 'benchmark', benchmark_id, security_id, date, date_index from hold_benchmark_weights
+     ),
+     -- the run's rows under the name each kind of reader goes by
+     run_rows as (
+       select 'portfolio' as via, portfolio_id as reader, portfolio_id, date, window_days, estimator from risk_daily where run_id = $1
+       union all
+       select 'benchmark', benchmark_id, portfolio_id, date, window_days, estimator from risk_daily where run_id = $1 and benchmark_id is not null
+     ),
      touched as (
        select distinct r.portfolio_id, r.date, r.window_days, r.estimator
        from suspects s
        cross join longest
-       join hold_daily_positions p on p.security_id = s.security_id and p.date_index between s.date_index and s.date_index + longest.days
-       join risk_daily r on r.portfolio_id = p.portfolio_id and r.date = p.date and r.run_id = $1
+       join readers p on p.security_id = s.security_id and p.date_index between s.date_index and s.date_index + longest.days
+       join run_rows r on r.via = p.via and r.reader = p.reader and r.date = p.date
        where p.date_index - s.date_index <= case when r.window_days = 0 then longest.days else r.window_days end
      )
      update risk_daily set status = case when risk_daily.status = 'ok' then 'suspect_price' else risk_daily.status || ',suspect_price' end

@@ -51,9 +51,8 @@ export async function alertUnvaluedPortfolios(db: Database, log: Logger, scope: 
        where date = (select max(date) from align_valuation_dates) and ${inScope} and value_base is null and quantity <> 0
      ),
      days as (
-       select portfolio_id, date, bool_or(value_base is null and quantity <> 0) as unvalued
-       from value_positions semi join missing using (portfolio_id)
-       group by all
+       select portfolio_id, date, value_base is null as unvalued
+       from value_portfolios semi join missing using (portfolio_id)
      ),
      since as (
        select portfolio_id, min(date) filter (where unvalued and date > coalesce(last_ok, '0001-01-01'::date)) as since

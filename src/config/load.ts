@@ -1,11 +1,12 @@
 import { existsSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import { z } from 'zod';
-import { configSchema, DEFAULT_SOURCES, limitLevels, sourceSchema, type LimitConfig, type ParsedConfig, type SourceConfig } from './schema.ts';
+import { configSchema, DEFAULT_SOURCES, sourceSchema, type ParsedConfig, type SourceConfig } from './schema.ts';
+import { resolveLimits, type ResolvedLimit } from './limitSeries.ts';
 import { RiskfoldError } from '../errors.ts';
 import { jsonErrorOffset, knownKeysAt, lineAndColumn, nearestKey } from './explain.ts';
 
-export type ResolvedLimit = Required<LimitConfig>;
+export type { ResolvedLimit };
 
 /** The config the stages receive: paths absolute, limit levels filled in, frozen. */
 export type Config = Readonly<
@@ -45,7 +46,7 @@ export function resolveConfig(raw: unknown, configPath: string): Config {
     database,
     readCopy: cfg.readCopy === undefined ? database.replace(/(\.duckdb)?$/, '.read.duckdb') : at(cfg.readCopy),
     alerts,
-    limits: cfg.limits.map((l) => ({ ...l, ...limitLevels(l) })),
+    limits: resolveLimits(cfg.limits, cfg.risk.historical.days),
   });
 }
 

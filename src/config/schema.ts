@@ -55,6 +55,9 @@ export const LIMIT_METRICS = ['vol_ex_ante', 'vol_realized', 'var_99_1d', 'backt
  */
 export const BACKTEST_ZONE_LEVELS = { limit: 10, warning: 5, clear: 4.5 } as const;
 export const ESTIMATORS = ['sample', 'ewma', 'shrunk'] as const;
+/** The VaR methods of var_daily and var_backtest (SPEC section 9). */
+export const VAR_METHODS = ['normal', 'historical', 'filtered_historical'] as const;
+export type VarMethod = (typeof VAR_METHODS)[number];
 export type Estimator = (typeof ESTIMATORS)[number];
 
 /** A limit level: positive; above 1 only for backtest_zone, whose levels count exceptions (checked with the metric below). */
@@ -67,9 +70,19 @@ export const limitSchema = z
       .enum(LIMIT_METRICS)
       .default('vol_ex_ante')
       .describe(
-        'Figure to watch: of risk_daily (var_99_1d as a fraction of portfolio value; tracking_error_ex_ante needs a benchmark), or backtest_zone, the exceptions in 250 days of the normal 1-day 99% VaR backtest (var_backtest) of this window and estimator.',
+        'Figure to watch: of risk_daily (var_99_1d as a fraction of portfolio value; tracking_error_ex_ante needs a benchmark), or backtest_zone, the exceptions in 250 days of a 1-day 99% VaR backtest (var_backtest).',
       ),
-    window: z.number().int().min(0).describe('Window in trading days (0 with estimator "ewma").'),
+    method: z
+      .enum(VAR_METHODS)
+      .optional()
+      .describe(
+        'backtest_zone only: the VaR method whose backtest is watched. Absent: every method, the normal VaR of this window and estimator plus the historical and filtered historical VaR of every risk.historical.days.',
+      ),
+    window: z
+      .number()
+      .int()
+      .min(0)
+      .describe('Window in trading days (0 with estimator "ewma"); with method historical or filtered_historical, the scenario days (one of risk.historical.days).'),
     estimator: z.enum(ESTIMATORS).default('sample').describe('Which estimate of risk_daily the limit reads.'),
     limit: levelSchema
       .optional()
@@ -227,6 +240,10 @@ const scheduleSchema = z
       .default({ cron: '0 22 * * 1-5', expect: ['prices', 'positions'] }),
     retryAlerts: z.string().default('*/5 * * * *').describe('Cron of the retry of undelivered alerts.'),
     checkpoint: z.string().default('30 2 * * *').describe('Cron of the nightly database checkpoint.'),
+    archiveAudit: z
+      .string()
+      .default('30 3 * * 6')
+      .describe('Cron of the full archive audit (every archived file hashed again); a start re-hashes only files whose size or mtime moved.'),
   })
   .strict();
 
@@ -284,10 +301,22 @@ const ingestSchema = z
       .positive()
       .default(1e15)
       .describe('Largest accepted magnitude of a price, fx rate or quantity (refuses values that overflow a valuation).'),
+    benchmarkWeightTolerance: z
+      .number()
+      .positive()
+      .max(1)
+      .default(0.01)
+      .describe('A benchmarks file is refused when the weights of one benchmark and date add up to further than this from 1 (0.01 absorbs rounded published weights; common practice).'),
     doneMarker: z
       .enum(['none', 'done', 'ok'])
       .default('none')
       .describe('"done" or "ok": a delivery is loaded only once <name>.done (or <name>.ok) lies beside it; the marker is then removed.'),
+    manifest: z
+      .enum(['none', 'required'])
+      .default('none')
+      .describe(
+        '"required": a delivery is loaded only once <name>.manifest lies beside it (JSON: {"rows": data rows, "sha256": of the bytes as delivered}) and only if both match; a mismatch is quarantined. The manifest then moves with the file.',
+      ),
     snapshotKeepShare: z
       .number()
       .min(0)
@@ -298,6 +327,10 @@ const ingestSchema = z
       .array(z.string().min(1))
       .default([])
       .describe('File names whose suspect snapshot drop is confirmed as intended: they load.'),
+    acknowledgedArchiveFiles: z
+      .array(z.number().int().positive())
+      .default([])
+      .describe('file_ids whose archived copy operations no longer vouch for (its finding dealt with): the finding closes at the next audit and the file is not audited again.'),
     maxExpandedMB: z
       .number()
       .positive()
@@ -339,6 +372,14 @@ export const configSchema = z
           .min(0)
           .default(2000)
           .describe('Files landing within this long of each other form one batch (one run): it starts this long after the last arrival.'),
+        wholeDaySettleMs: z
+          .number()
+          .int()
+          .min(0)
+          .default(300)
+          .describe(
+            'Once a batch holds a file of every kind in schedule.missingData.expect, it starts this long after the last arrival instead of settleMs (a few watcher polls, to catch the rest of the same delivery).',
+          ),
         maxBatchWaitMs: z
           .number()
           .int()
@@ -354,7 +395,7 @@ export const configSchema = z
       })
       .strict()
       .refine((w) => w.settleMs <= w.maxBatchWaitMs, { message: 'settleMs must not exceed maxBatchWaitMs', path: ['settleMs'] })
-      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, maxBatchWaitMs: 30_000, publishRetryMs: 60_000 }),
+      .default({ stableMs: 1000, pollMs: 100, settleMs: 2000, wholeDaySettleMs: 300, maxBatchWaitMs: 30_000, publishRetryMs: 60_000 }),
     ingest: ingestSchema.default(ingestSchema.parse({})),
     risk: riskSchema.default(riskSchema.parse({})),
     benchmarks: z
@@ -378,15 +419,19 @@ export const configSchema = z
     }
     const limitKeys = new Set<string>();
     cfg.limits.forEach((limit, i) => {
-      const key = [limit.portfolio, limit.metric, limit.window, limit.estimator].join('|');
+      const key = [limit.portfolio, limit.metric, limit.method ?? '', limit.window, limit.estimator].join('|');
       if (limitKeys.has(key)) {
         ctx.addIssue({
           code: 'custom',
           path: ['limits', i],
-          message: `a second limit for portfolio ${limit.portfolio}, ${limit.metric}, window ${limit.window}, ${limit.estimator}`,
+          message: `a second limit for portfolio ${limit.portfolio}, ${limit.metric}${limit.method ? ` ${limit.method}` : ''}, window ${limit.window}, ${limit.estimator}`,
         });
       }
       limitKeys.add(key);
+      if (limit.method !== undefined && limit.metric !== 'backtest_zone') {
+        ctx.addIssue({ code: 'custom', path: ['limits', i, 'method'], message: `"method" applies to backtest_zone limits only, not ${limit.metric}` });
+        return;
+      }
       if (limit.limit === undefined && limit.metric !== 'backtest_zone') {
         ctx.addIssue({ code: 'custom', path: ['limits', i, 'limit'], message: `a ${limit.metric} limit needs "limit"` });
         return;
@@ -412,17 +457,8 @@ export const configSchema = z
           message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${level}`,
         });
       }
-      const watched = limit.estimator === 'shrunk' ? { list: cfg.risk.shrunk.windows, name: 'risk.shrunk.windows' } : { list: cfg.risk.windows, name: 'risk.windows' };
-      if (limit.estimator === 'ewma' ? limit.window !== 0 : !watched.list.includes(limit.window)) {
-        ctx.addIssue({
-          code: 'custom',
-          path: ['limits', i, 'window'],
-          message:
-            limit.estimator === 'ewma'
-              ? 'an ewma limit has window 0'
-              : `window ${limit.window} is not in ${watched.name} (${watched.list.join(', ') || 'none'})`,
-        });
-      }
+      if (limit.method === 'historical' || limit.method === 'filtered_historical') checkScenarioWindow(limit, cfg.risk.historical.days, i, ctx);
+      else checkWindow(limit, cfg.risk, i, ctx);
     });
     cfg.risk.shrunk.windows.forEach((w, i) => {
       if (!cfg.risk.windows.includes(w)) {
@@ -435,6 +471,32 @@ export const configSchema = z
     });
     checkStressScenarios(cfg.stress.scenarios, cfg.baseCurrency, ctx);
   });
+
+/** A limit's window and estimator name an estimate of risk_daily. */
+function checkWindow(limit: LimitConfig, risk: { windows: number[]; shrunk: { windows: number[] } }, i: number, ctx: z.RefinementCtx): void {
+  const watched = limit.estimator === 'shrunk' ? { list: risk.shrunk.windows, name: 'risk.shrunk.windows' } : { list: risk.windows, name: 'risk.windows' };
+  if (limit.estimator === 'ewma' ? limit.window !== 0 : !watched.list.includes(limit.window)) {
+    ctx.addIssue({
+      code: 'custom',
+      path: ['limits', i, 'window'],
+      message: limit.estimator === 'ewma' ? 'an ewma limit has window 0' : `window ${limit.window} is not in ${watched.name} (${watched.list.join(', ') || 'none'})`,
+    });
+  }
+}
+
+/** A backtest_zone limit on a historical method: its window is the scenario days; the method has no covariance estimator. */
+function checkScenarioWindow(limit: LimitConfig, days: readonly number[], i: number, ctx: z.RefinementCtx): void {
+  if (!days.includes(limit.window)) {
+    ctx.addIssue({
+      code: 'custom',
+      path: ['limits', i, 'window'],
+      message: `window ${limit.window} is not in risk.historical.days (${days.join(', ')}): a ${limit.method} limit's window is its scenario days`,
+    });
+  }
+  if (limit.estimator !== 'sample') {
+    ctx.addIssue({ code: 'custom', path: ['limits', i, 'estimator'], message: `a ${limit.method} VaR has no covariance estimator: leave "estimator" out` });
+  }
+}
 
 /** A limit's levels with their defaults (backtest_zone: the Basel zone boundaries). */
 export function limitLevels(limit: Pick<LimitConfig, 'metric' | 'limit' | 'warning' | 'clear'>): { limit: number; warning: number; clear: number } {

@@ -1,13 +1,11 @@
-import { statSync } from 'node:fs';
+import { lstatSync } from 'node:fs';
 import type { Logger } from 'pino';
 import { insertAlert } from '../alerts/outbox.ts';
-import type { Config } from '../config/load.ts';
 import type { FileKind } from '../config/schema.ts';
 import type { Database } from '../storage/database.ts';
 import type { HoldReason } from './completeness.ts';
 import type { IngestOutcome } from './ingestFile.ts';
-import { recordHold, redeliveredAfterHold } from './holds.ts';
-import { snapshotDrop } from './snapshotDrop.ts';
+import { recordHold } from './holds.ts';
 
 /**
  * Leaves the file in the inbox and records why: a new hold is a warning in the log (and,
@@ -22,7 +20,7 @@ export async function holdFile(
   hold: HoldReason,
 ): Promise<IngestOutcome> {
   const { name, kind, sha256 } = delivery;
-  const news = await recordHold(db, { name, sha256, mtimeMs: statSync(filePath).mtimeMs, hold });
+  const news = await recordHold(db, { name, sha256, mtimeMs: lstatSync(filePath).mtimeMs, hold });
   if (news) {
     flog.warn({ code: hold.code, reason: hold.reason, sha256 }, 'file held in the inbox');
     if (hold.code === 'snapshot_drop') {
@@ -38,18 +36,4 @@ export async function holdFile(
     flog.debug({ code: hold.code }, 'file still held');
   }
   return { status: 'held', fileId: null, name, kind, rows: 0, minDate: null, portfolios: null, movedTo: filePath, hold };
-}
-
-/**
- * The check a positions file passes before its commit: unless confirmed (named in
- * `ingest.confirmedFiles`, or the same bytes delivered again after a hold), no portfolio
- * may drop most of its holdings.
- */
-export function snapshotGuard(db: Database, config: Config, filePath: string, name: string, kind: FileKind) {
-  const share = config.ingest.snapshotKeepShare;
-  return async (fileId: number, sha256: string): Promise<HoldReason | null> => {
-    if (kind !== 'positions' || share === 0 || config.ingest.confirmedFiles.includes(name)) return null;
-    if (await redeliveredAfterHold(db, name, sha256, statSync(filePath).mtimeMs)) return null;
-    return snapshotDrop(db, fileId, share);
-  };
 }

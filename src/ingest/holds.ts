@@ -1,5 +1,10 @@
+import { lstatSync } from 'node:fs';
+import path from 'node:path';
 import type { Database } from '../storage/database.ts';
 import type { HoldReason } from './completeness.ts';
+
+/** The digest of a delivery refused unread (a hard link, not a regular file): its bytes are never read. */
+export const UNREAD = '';
 
 export interface HeldDelivery {
   name: string;
@@ -27,6 +32,27 @@ export async function recordHold(db: Database, d: HeldDelivery): Promise<boolean
 /** A delivery of this name left the inbox (ingested or rejected): its holds are over. */
 export async function releaseHolds(db: Database, name: string): Promise<void> {
   await db.run('update held_files set released_at = now() where name = $1 and released_at is null', [name]);
+}
+
+/**
+ * Holds of deliveries no longer in the inbox (taken away or renamed by someone else: our
+ * own moves release theirs) are over. Returns the names released.
+ */
+export async function releaseVanished(db: Database, inbox: string): Promise<string[]> {
+  const open = await db.all<{ name: string }>('select distinct name from held_files where released_at is null order by name');
+  const gone = open.map((r) => r.name).filter((name) => !presentAt(path.join(inbox, name)));
+  for (const name of gone) await releaseHolds(db, name);
+  return gone;
+}
+
+/** lstat, not exists: a dangling symlink left in the inbox is still there. */
+function presentAt(file: string): boolean {
+  try {
+    lstatSync(file);
+    return true;
+  } catch {
+    return false;
+  }
 }
 
 /**

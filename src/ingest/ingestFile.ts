@@ -9,7 +9,9 @@ import { faultPoint } from '../faults.ts';
 import { sha256OfFile } from './fingerprint.ts';
 import { readColumnMapping, type ColumnMapping } from './header.ts';
 import { withFix } from './hints.ts';
-import { holdFile, snapshotGuard } from './holdFile.ts';
+import { commitGuard } from './commitGuard.ts';
+import { holdFile } from './holdFile.ts';
+import { UNREAD } from './holds.ts';
 import { findIngested } from './ledger.ts';
 import { layoutOf, type KindLayout } from './layout.ts';
 import { loadFile } from './load.ts';
@@ -60,11 +62,8 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
   const matched = matchSource(config.sources, name);
   const base = { name, kind: matched?.kind ?? null, source: matched?.name ?? null, receivedAt };
   const refusal = await refusalOf(db, filePath, name);
-  if (refusal) {
-    // no ledger or hold row: both would need the file's bytes; it stays until replaced
-    flog.warn({ code: refusal.code }, `${name} left in the inbox: ${refusal.reason}`);
-    return { status: 'held', fileId: null, name, kind: base.kind, rows: 0, minDate: null, portfolios: null, movedTo: filePath, hold: refusal };
-  }
+  // no ledger row (it would need the file's bytes); a hold row without a digest, until the name goes or a copy of its own replaces it
+  if (refusal) return holdFile(db, flog, filePath, { ...base, sha256: UNREAD }, refusal);
   // hashing runs in this thread while DuckDB reads the file in its own
   const hashing = sha256OfFile(filePath);
   hashing.catch(() => undefined); // awaited below; a read error surfaces there, or first from the header
@@ -82,9 +81,11 @@ export async function ingestFile(db: Database, config: Config, log: Logger, file
   if (prepared.ok) {
     const { source, layout, mapping } = prepared.value;
     const planned = freePath(archiveDir(config.archive, receivedAt), name);
-    const guard = snapshotGuard(db, config, filePath, name, source.kind);
+    const manifest = complete.state === 'complete' ? complete.manifest : null;
+    const guard = commitGuard(db, config, filePath, name, source.kind, manifest);
     const attempt = await loadFile(db, filePath, source, layout, mapping, bounds, hashing, { ...base, archivedPath: planned }, guard);
     if (attempt.kind === 'held') return holdFile(db, flog, filePath, { ...base, sha256: attempt.sha256 }, attempt.hold);
+    if (attempt.kind === 'refused') return recordRejected(db, config, flog, filePath, { ...base, sha256: attempt.sha256 }, attempt.rejection);
     if (attempt.kind === 'known') return alreadyLoaded(db, config, flog, filePath, attempt.earlier, { ...base, sha256: attempt.sha256 });
     if (attempt.kind === 'loaded') {
       // committed with its ledger row: from here a kill leaves the file in the inbox, and alreadyLoaded() finishes the move

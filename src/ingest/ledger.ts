@@ -1,5 +1,6 @@
 import type { FileKind } from '../config/schema.ts';
 import type { Database } from '../storage/database.ts';
+import { resolveByRedelivery } from './archiveAudit.ts';
 
 /** One `ingested_files` row as this stage writes it. */
 export interface FileRecord {
@@ -19,7 +20,7 @@ export interface FileRecord {
   duplicateOf: number | null;
 }
 
-/** Inserts the row and returns its file_id. */
+/** Inserts the row and returns its file_id; a loaded or duplicate delivery closes the archive findings it answers. */
 export async function recordFile(db: Database, r: FileRecord): Promise<number> {
   const [row] = await db.all<{ file_id: number }>(
     `insert into ingested_files
@@ -42,6 +43,7 @@ export async function recordFile(db: Database, r: FileRecord): Promise<number> {
       ...(r.fileId === undefined ? [] : [r.fileId]),
     ],
   );
+  if (r.status !== 'rejected') await resolveByRedelivery(db, row.file_id);
   return row.file_id;
 }
 

@@ -1,12 +1,14 @@
 import type { SourceConfig } from '../config/schema.ts';
 import type { Database } from '../storage/database.ts';
 import { ident, readCsvSql, typedSelect } from './csvSql.ts';
+import type { Rejection } from '../errors.ts';
 import type { HoldReason } from './completeness.ts';
 import type { ColumnMapping } from './header.ts';
 import { findIngested, recordFile, type EarlierDelivery, type FileRecord } from './ledger.ts';
 import type { KindLayout } from './layout.ts';
 import type { Plausibility } from './plausibility.ts';
 import { badSql, keyHashRepeats, summaryOf, summarySelect, type FileSummary } from './rules.ts';
+import { hasUnbalancedWeights } from './weightSums.ts';
 
 export type LoadAttempt =
   | { kind: 'loaded'; sha256: string; fileId: number; summary: FileSummary }
@@ -14,8 +16,16 @@ export type LoadAttempt =
   | { kind: 'known'; sha256: string; earlier: EarlierDelivery }
   /** The rows are readable but suspect (`guard` said why): rolled back, the file stays in the inbox. */
   | { kind: 'held'; sha256: string; hold: HoldReason }
+  /** The rows are readable but not what the sender stated (`guard` said why): rolled back, to quarantine. */
+  | { kind: 'refused'; sha256: string; rejection: Rejection }
   /** A row broke a rule, a key repeats, there are no rows or DuckDB could not read it: rolled back. */
   | { kind: 'failed'; sha256: string; cause: unknown };
+
+/** What a guard says of a file's inserted rows before the commit: nothing, hold the file back, or refuse it. */
+export type GuardVerdict = null | { kind: 'held'; hold: HoldReason } | { kind: 'refused'; rejection: Rejection };
+
+/** Looks at the inserted rows (by file_id), the bytes' hash and the row count before the commit. */
+export type CommitGuard = (fileId: number, sha256: string, rows: number) => Promise<GuardVerdict>;
 
 export type LoadRecord = Omit<FileRecord, 'fileId' | 'sha256' | 'rows' | 'status' | 'error' | 'minDate' | 'maxDate' | 'duplicateOf'>;
 
@@ -48,8 +58,7 @@ export async function loadFile(
   bounds: Plausibility,
   hashing: Promise<string>,
   record: LoadRecord,
-  /** Looks at the inserted rows (by file_id) before the commit; a reason holds the file back. */
-  guard: (fileId: number, sha256: string) => Promise<HoldReason | null> = async () => null,
+  guard: CommitGuard = async () => null,
 ): Promise<LoadAttempt> {
   try {
     // read_csv ... with ordinality reads on one thread; CREATE TABLE AS reads in parallel
@@ -76,7 +85,7 @@ async function insertStaged(
   bounds: Plausibility,
   hashing: Promise<string>,
   record: LoadRecord,
-  guard: (fileId: number, sha256: string) => Promise<HoldReason | null>,
+  guard: CommitGuard,
 ): Promise<LoadAttempt> {
   const [{ id }] = await db.all<{ id: number }>(`select nextval('file_id_seq')::integer as id`);
   const columns = layout.fields.map((f) => ident(f.name));
@@ -97,8 +106,11 @@ async function insertStaged(
   if (summary.rows === 0 || ((await keyHashRepeats(db, LOAD_TABLE, layout)) && (await keyRepeats(db, layout)))) {
     throw new Abort({ kind: 'failed', sha256, cause: null });
   }
-  const hold = await guard(id, sha256);
-  if (hold) throw new Abort({ kind: 'held', sha256, hold });
+  if (layout.kind === 'benchmarks' && (await hasUnbalancedWeights(db, LOAD_TABLE, bounds.weightSumTolerance))) {
+    throw new Abort({ kind: 'failed', sha256, cause: null });
+  }
+  const verdict = await guard(id, sha256, summary.rows);
+  if (verdict) throw new Abort({ ...verdict, sha256 });
   await recordFile(db, {
     ...record,
     fileId: id,

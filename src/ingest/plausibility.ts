@@ -15,12 +15,14 @@ export interface Plausibility {
   minMagnitude: number;
   /** Largest magnitude of a price, rate or quantity. */
   maxMagnitude: number;
+  /** How far a benchmark snapshot's weights may add up away from 1. */
+  weightSumTolerance: number;
 }
 
 export function plausibilityFor(config: Config, receivedAt: Date): Plausibility {
-  const { earliestDate, maxDaysAhead, minMagnitude, maxMagnitude } = config.ingest;
+  const { earliestDate, maxDaysAhead, minMagnitude, maxMagnitude, benchmarkWeightTolerance } = config.ingest;
   // counted from the receiving day in local time, as the archive folder is named
   const latest = new Date(receivedAt.getFullYear(), receivedAt.getMonth(), receivedAt.getDate() + maxDaysAhead);
-  return { earliestDate, latestDate: localDay(latest), minMagnitude, maxMagnitude };
+  return { earliestDate, latestDate: localDay(latest), minMagnitude, maxMagnitude, weightSumTolerance: benchmarkWeightTolerance };
 }
 

@@ -1,4 +1,4 @@
-import { renameSync, rmSync } from 'node:fs';
+import { existsSync, renameSync, rmSync } from 'node:fs';
 import path from 'node:path';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
@@ -11,7 +11,8 @@ import { finishMove, unfinishedMove } from './finishMove.ts';
 import { releaseHolds } from './holds.ts';
 import type { IngestOutcome } from './ingestFile.ts';
 import { portfoliosOf, recordFile, updateArchivedPath, type EarlierDelivery } from './ledger.ts';
-import { archiveDir, freePath, writeReasonFile } from './moves.ts';
+import { MANIFEST_SUFFIX } from './manifest.ts';
+import { archiveDir, freePath, moveWithoutOverwrite, writeReasonFile } from './moves.ts';
 
 export interface Delivery {
   name: string;
@@ -89,8 +90,9 @@ export async function alreadyLoaded(
 
 /**
  * Moves a recorded file out of the inbox to its recorded place (or, if that was taken
- * meanwhile, the next free name, then corrected in the ledger); its holds end and its
- * done-marker goes.
+ * meanwhile, the next free name, then corrected in the ledger); its holds end, its
+ * done-marker goes and its manifest follows it (after it: a kill in between leaves the
+ * manifest, which a later delivery of the name without one of its own fails to match).
  */
 export async function settle(db: Database, config: Config, filePath: string, target: string, fileId: number): Promise<string> {
   const movedTo = finishMove(filePath, target);
@@ -99,5 +101,9 @@ export async function settle(db: Database, config: Config, filePath: string, tar
   await releaseHolds(db, path.basename(filePath));
   const marker = markerSuffix(config);
   if (marker !== null) rmSync(`${filePath}${marker}`, { force: true });
+  const manifest = `${filePath}${MANIFEST_SUFFIX}`;
+  if (config.ingest.manifest === 'required' && existsSync(manifest)) {
+    moveWithoutOverwrite(manifest, path.dirname(movedTo), `${path.basename(movedTo)}${MANIFEST_SUFFIX}`);
+  }
   return movedTo;
 }

@@ -6,12 +6,14 @@ import type { FieldSpec, KindLayout } from './layout.ts';
 import type { Plausibility } from './plausibility.ts';
 import { badSql, explain, keyHashRepeats, summaryOf, summarySelect } from './rules.ts';
 import { STAGE_TABLE, textColumn } from './stage.ts';
+import { unbalancedWeightsRejection } from './weightSums.ts';
 
 /**
  * Finds why the staged file cannot be loaded: one scan for every field's rule, counted
  * by its first failing row, with the row count; one pass over the keys' hashes, and only
  * when two are equal a query that looks for the repeated key. The earliest failing
- * row wins (ties: the field order of the layout). Null: nothing wrong.
+ * row wins (ties: the field order of the layout); a benchmarks file whose rows all pass
+ * is then checked for a snapshot whose weights do not add up to 1. Null: nothing wrong.
  */
 export async function findFirstProblem(
   db: Database,
@@ -39,7 +41,10 @@ export async function findFirstProblem(
     // a hash collision without a real repeat leaves `repeat` null
     if (repeat) failures.push({ row: repeat.row, rejection: async () => duplicateRejection(layout, file, repeat) });
   }
-  if (failures.length === 0) return null;
+  // a snapshot's sum is judged only once its every row holds a weight
+  if (failures.length === 0) {
+    return layout.kind === 'benchmarks' ? unbalancedWeightsRejection(db, STAGE_TABLE, bounds.weightSumTolerance, file) : null;
+  }
   const first = failures.reduce((a, b) => (b.row < a.row ? b : a));
   return first.rejection();
 }

@@ -1,8 +1,11 @@
 import type { ResolvedLimit } from '../config/load.ts';
 
-/** What a limit watches: one series of risk_daily for one portfolio. */
-export function limitKey(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>): string {
-  return `${limit.metric}|${limit.window}|${limit.estimator}`;
+/** The fields that name what a limit watches: one series of risk_daily, or of var_backtest by method. */
+export type Series = Pick<ResolvedLimit, 'metric' | 'method' | 'window' | 'estimator'>;
+
+/** What a limit watches, for one portfolio: `metric|method|window|estimator` (method and estimator may be empty). */
+export function limitKey(limit: Series): string {
+  return `${limit.metric}|${limit.method ?? ''}|${limit.window}|${limit.estimator ?? ''}`;
 }
 
 /** Whether a metric's levels are counts (a backtest's exceptions), not fractions of value. */
@@ -12,7 +15,7 @@ export function isCountMetric(metric: string): boolean {
 
 /**
  * The limits that apply to one portfolio: its own entries, plus each `*` entry whose
- * metric, window and estimator it has no own entry for (a specific id overrides `*`).
+ * series (metric, method, window, estimator) it has no own entry for (a specific id overrides `*`).
  */
 export function applicableLimits(limits: readonly ResolvedLimit[], portfolioId: string): ResolvedLimit[] {
   const own = limits.filter((l) => l.portfolio === portfolioId);

@@ -2,7 +2,7 @@ import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
 import type { ResolvedLimit } from '../config/load.ts';
 import { ChunkAppender, readColumns } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';
-import { limitKey } from './applicableLimits.ts';
+import { limitKey, type Series } from './applicableLimits.ts';
 import type { Episode, LimitLevel, MetricPoint } from './episodes.ts';
 import type { EpisodeFacts } from './limitAlerts.ts';
 import type { StoredEpisode } from './matchEpisodes.ts';
@@ -14,26 +14,27 @@ import type { StoredEpisode } from './matchEpisodes.ts';
  * backfill of 50 portfolios then costs a handful of statements, not a few per episode.
  */
 
-type Limit = Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>;
-
-/**
- * The figure a limit watches and the rows it is read from: risk_daily (VaR compared as a
- * fraction of value), or for backtest_zone the exceptions in 250 tested days of the
- * normal VaR's backtest, null until 250 days have been tested (no zone yet).
- */
-export const METRIC_SQL: Record<ResolvedLimit['metric'], { value: string; rows: string }> = {
-  vol_ex_ante: { value: 'vol_ex_ante', rows: 'risk_daily' },
-  vol_realized: { value: 'vol_realized', rows: 'risk_daily' },
-  var_99_1d: { value: 'var_99_1d / nullif(portfolio_value, 0)', rows: 'risk_daily' },
-  backtest_zone: {
-    value: 'case when zone is not null then exceptions_250 end',
-    rows: `(select * from var_backtest where method = 'normal')`,
-  },
-  tracking_error_ex_ante: { value: 'tracking_error_ex_ante', rows: 'risk_daily' },
+const RISK_DAILY_FIGURES: Record<Exclude<ResolvedLimit['metric'], 'backtest_zone'>, string> = {
+  vol_ex_ante: 'vol_ex_ante',
+  vol_realized: 'vol_realized',
+  var_99_1d: 'var_99_1d / nullif(portfolio_value, 0)',
+  tracking_error_ex_ante: 'tracking_error_ex_ante',
 };
 
-/** `portfolio|metric|window|estimator`: one limit's series of one portfolio. */
-export function seriesKey(portfolioId: string, limit: Limit): string {
+/**
+ * The figure a limit watches and the rows it is read from (with portfolio_id, date,
+ * window_days and estimator): risk_daily (VaR compared as a fraction of value), or for
+ * backtest_zone the exceptions in 250 tested days of its method's backtest, null until
+ * 250 days have been tested (no zone yet).
+ */
+export function metricSql(s: Series): { value: string; rows: string } {
+  if (s.metric !== 'backtest_zone') return { value: RISK_DAILY_FIGURES[s.metric], rows: 'risk_daily' };
+  // the method is one of VAR_METHODS (checked by the config schema)
+  return { value: 'case when zone is not null then exceptions_250 end', rows: `(select * from var_backtest where method = '${s.method ?? 'normal'}')` };
+}
+
+/** `portfolio|metric|method|window|estimator`: one limit's series of one portfolio. */
+export function seriesKey(portfolioId: string, limit: Series): string {
   return `${portfolioId}|${limitKey(limit)}`;
 }
 
@@ -47,14 +48,15 @@ const scopeParam = (portfolios: readonly string[] | null) => (portfolios === nul
  */
 export async function loadMetricSeries(
   db: Database,
-  limit: Limit,
+  limit: Series,
   portfolios: readonly string[] | null,
   fromDate: string | null,
 ): Promise<Map<string, MetricPoint[]>> {
+  const { value, rows: from } = metricSql(limit);
   const { rows, columns } = await readColumns(
     db,
-    `select portfolio_id, date::varchar, ${METRIC_SQL[limit.metric].value} as value from ${METRIC_SQL[limit.metric].rows}
-     where ${IN_SCOPE} and window_days = $2 and estimator = $3 and ($4::date is null or date >= $4::date)
+    `select portfolio_id, date::varchar, ${value} as value from ${from}
+     where ${IN_SCOPE} and window_days = $2 and estimator is not distinct from $3 and ($4::date is null or date >= $4::date)
      order by portfolio_id, date`,
     [scopeParam(portfolios), limit.window, limit.estimator, fromDate],
     { portfolio_id: 'text', date: 'text', value: 'double' },
@@ -71,12 +73,21 @@ export async function loadMetricSeries(
 
 export type RecordedEpisode = StoredEpisode & EpisodeFacts;
 
-interface BreachRow {
-  breach_id: number;
-  portfolio_id: string;
+/** The series columns of a limit_breaches row. */
+export interface SeriesRow {
   metric: ResolvedLimit['metric'];
+  method: ResolvedLimit['method'];
   window_days: number;
   estimator: ResolvedLimit['estimator'];
+}
+
+export function seriesOf(r: SeriesRow): Series {
+  return { metric: r.metric, method: r.method, window: r.window_days, estimator: r.estimator };
+}
+
+interface BreachRow extends SeriesRow {
+  breach_id: number;
+  portfolio_id: string;
   opened_on: string;
   closed_on: string | null;
   escalated_on: string | null;
@@ -92,7 +103,7 @@ interface BreachRow {
  */
 export async function loadEpisodesInScope(db: Database, portfolios: readonly string[] | null, from: string | null): Promise<Map<string, RecordedEpisode[]>> {
   const rows = await db.all<BreachRow>(
-    `select breach_id, portfolio_id, metric, window_days, estimator, opened_on, closed_on, escalated_on, level, peak_value, peak_on
+    `select breach_id, portfolio_id, metric, method, window_days, estimator, opened_on, closed_on, escalated_on, level, peak_value, peak_on
      from limit_breaches
      where ${IN_SCOPE} and not retracted and ($2::date is null or closed_on is null or closed_on >= $2::date)
      order by opened_on`,
@@ -100,7 +111,7 @@ export async function loadEpisodesInScope(db: Database, portfolios: readonly str
   );
   const byKey = new Map<string, RecordedEpisode[]>();
   for (const r of rows) {
-    const key = seriesKey(r.portfolio_id, { metric: r.metric, window: r.window_days, estimator: r.estimator });
+    const key = seriesKey(r.portfolio_id, seriesOf(r));
     let list = byKey.get(key);
     if (!list) byKey.set(key, (list = []));
     list.push({
@@ -122,13 +133,13 @@ export async function loadEpisodesInScope(db: Database, portfolios: readonly str
  * episode was open, so a replay can start there. A key without one replays everything.
  */
 export async function lastClosingsBefore(db: Database, portfolios: readonly string[] | null, from: string): Promise<Map<string, string>> {
-  const rows = await db.all<{ portfolio_id: string; metric: ResolvedLimit['metric']; window_days: number; estimator: ResolvedLimit['estimator']; closed_on: string }>(
-    `select portfolio_id, metric, window_days, estimator, max(closed_on) as closed_on from limit_breaches
+  const rows = await db.all<SeriesRow & { portfolio_id: string; closed_on: string }>(
+    `select portfolio_id, metric, method, window_days, estimator, max(closed_on) as closed_on from limit_breaches
      where ${IN_SCOPE} and not retracted and closed_on < $2::date
      group by all`,
     [scopeParam(portfolios), from],
   );
-  return new Map(rows.map((r) => [seriesKey(r.portfolio_id, { metric: r.metric, window: r.window_days, estimator: r.estimator }), r.closed_on]));
+  return new Map(rows.map((r) => [seriesKey(r.portfolio_id, seriesOf(r)), r.closed_on]));
 }
 
 /** Per breach_id in scope, the kinds of alert already raised: each transition is alerted at most once. */
@@ -161,15 +172,15 @@ export async function saveEpisodes(db: Database, writes: readonly EpisodeWrite[]
   let next = 0;
   const breachIds = writes.map((w) => w.breachId ?? ids[next++].id);
   await db.run(`create or replace temp table limit_stage_episodes (
-    breach_id integer, portfolio_id varchar, metric varchar, window_days integer, estimator varchar,
+    breach_id integer, portfolio_id varchar, metric varchar, method varchar, window_days integer, estimator varchar,
     limit_value double, warning_value double, clear_value double, level varchar, opened_on varchar, escalated_on varchar,
     closed_on varchar, peak_value double, peak_on varchar)`);
   const stage = await ChunkAppender.open(db, 'limit_stage_episodes', [
-    INTEGER, VARCHAR, VARCHAR, INTEGER, VARCHAR, DOUBLE, DOUBLE, DOUBLE, VARCHAR, VARCHAR, VARCHAR, VARCHAR, DOUBLE, VARCHAR,
+    INTEGER, VARCHAR, VARCHAR, VARCHAR, INTEGER, VARCHAR, DOUBLE, DOUBLE, DOUBLE, VARCHAR, VARCHAR, VARCHAR, VARCHAR, DOUBLE, VARCHAR,
   ]);
   writes.forEach((w, i) => {
     const { limit, episode: e } = w;
-    const values = [breachIds[i], w.portfolioId, limit.metric, limit.window, limit.estimator, limit.limit, limit.warning, limit.clear, e.level, e.openedOn, e.escalatedOn, e.closedOn, e.peakValue, e.peakOn];
+    const values = [breachIds[i], w.portfolioId, limit.metric, limit.method, limit.window, limit.estimator, limit.limit, limit.warning, limit.clear, e.level, e.openedOn, e.escalatedOn, e.closedOn, e.peakValue, e.peakOn];
     values.forEach((v, c) => stage.set(c, v));
     stage.endRow();
   });
@@ -183,8 +194,8 @@ export async function saveEpisodes(db: Database, writes: readonly EpisodeWrite[]
     [runId],
   );
   await db.run(
-    `insert into limit_breaches (breach_id, portfolio_id, metric, window_days, estimator, ${facts.join(', ')}, run_id)
-     select s.breach_id, s.portfolio_id, s.metric, s.window_days, s.estimator, ${facts.map(value).join(', ')}, $1
+    `insert into limit_breaches (breach_id, portfolio_id, metric, method, window_days, estimator, ${facts.join(', ')}, run_id)
+     select s.breach_id, s.portfolio_id, s.metric, s.method, s.window_days, s.estimator, ${facts.map(value).join(', ')}, $1
      from limit_stage_episodes s anti join limit_breaches b on b.breach_id = s.breach_id
      order by s.breach_id`,
     [runId],

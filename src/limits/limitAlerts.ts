@@ -3,6 +3,7 @@ import type { NewAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
 import type { Episode, Transition } from './episodes.ts';
 import { isCountMetric } from './applicableLimits.ts';
+import { seriesLabel } from '../labels.ts';
 import { stateAfter, type EpisodeState } from './toldState.ts';
 import { volChangeSentence, type VolChangeFacts } from './volChangeText.ts';
 
@@ -51,7 +52,7 @@ export interface LimitAlertInput {
 /** An alert for a dated transition (opened, escalated, closed) of an episode. */
 export function transitionAlert(input: LimitAlertInput, t: Transition): NewAlert {
   const { portfolioId, limit, episode } = input;
-  const label = `${portfolioId}: ${metricLabel(limit)} ${fmt(limit, t.value)}`;
+  const label = `${portfolioId}: ${seriesLabel(limit)} ${fmt(limit, t.value)}`;
   const peak = `peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn}`;
   let text: string;
   if (limit.metric === 'backtest_zone') {
@@ -95,7 +96,7 @@ export function stateAlert(input: LimitAlertInput, change: StateChange): NewAler
       : `${now.level} since ${now.level === 'breach' ? (episode.escalatedOn ?? now.openedOn) : now.openedOn} (episode opened ${now.openedOn}, ` +
         `peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn})`;
   const before = told === null ? 'not alerted before' : `last told: ${describe(told)}`;
-  const text = `${portfolioId}: ${metricLabel(limit)}${value}: ${state}; ${before}; caught up from a delivery covering ${change.datesCovered} business days`;
+  const text = `${portfolioId}: ${seriesLabel(limit)}${value}: ${state}; ${before}; caught up from a delivery covering ${change.datesCovered} business days`;
   const facts = {
     value: last.value,
     value_on: last.date,
@@ -108,7 +109,7 @@ export function stateAlert(input: LimitAlertInput, change: StateChange): NewAler
 /** A recorded episode that corrected data no longer show; `episode` is the recorded one. */
 export function retractionAlert(input: LimitAlertInput, state: EpisodeState): NewAlert {
   const { portfolioId, limit, episode } = input;
-  const text = `${portfolioId}: the ${metricLabel(limit)} episode recorded from ${episode.openedOn} is withdrawn; corrected data no longer show it`;
+  const text = `${portfolioId}: the ${seriesLabel(limit)} episode recorded from ${episode.openedOn} is withdrawn; corrected data no longer show it`;
   return buildAlert(input, 'limit_retracted', episode.openedOn, `limit_retracted-${episode.openedOn}`, state, { value: null, value_on: null }, text, false);
 }
 
@@ -131,7 +132,7 @@ function buildAlert(
   const named = withContributors && contributors.length > 0;
   const drivers = named ? `; largest contributors ${contributors.map((c) => `${c.security_id} ${pct(c.pct, 0)}`).join(', ')}` : '';
   const change = withContributors && input.volChange ? input.volChange : null;
-  const moved = change ? `. ${volChangeSentence(metricLabel(limit), change)}` : '';
+  const moved = change ? `. ${volChangeSentence(seriesLabel(limit), change)}` : '';
   return {
     alertId: `breach-${input.breachId}-${what}`,
     kind,
@@ -142,6 +143,7 @@ function buildAlert(
     payload: {
       portfolio: portfolioId,
       metric: limit.metric,
+      ...(limit.method === null ? {} : { method: limit.method }),
       window_days: limit.window,
       estimator: limit.estimator,
       level: state.level,
@@ -163,27 +165,16 @@ function buildAlert(
   };
 }
 
-/** "63-day volatility", "EWMA realized volatility", "63-day 99% 1-day VaR (of value)", "63-day tracking error". */
-export function metricLabel(limit: Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>): string {
-  const span = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day${limit.estimator === 'shrunk' ? ' shrunk' : ''}`;
-  if (limit.metric === 'vol_realized') return `${span} realized volatility`;
-  if (limit.metric === 'var_99_1d') return `${span} 99% 1-day VaR (of value)`;
-  if (limit.metric === 'backtest_zone') return `${span} normal 99% VaR backtest`;
-  if (limit.metric === 'tracking_error_ex_ante') return `${span} tracking error`;
-  return `${span} volatility`;
-}
-
 /** A limit's figure as text: a fraction as a percentage, a backtest's exceptions as a count. */
 function fmt(limit: Pick<ResolvedLimit, 'metric'>, value: number): string {
   return isCountMetric(limit.metric) ? `${value} exceptions in 250 days` : pct(value);
 }
 
-/** "acct: the 63-day normal 99% VaR had 5 exceptions in its last 250 tested days on <date>: yellow zone (red from 10)". */
+/** "acct: the 99% VaR backtest (historical, 250 scenarios) had 5 exceptions in its last 250 tested days on <date>: yellow zone (red from 10)". */
 function zoneText(portfolioId: string, limit: ResolvedLimit, t: Transition): string {
   const zone = t.kind === 'limit_closed' ? 'green' : t.value >= limit.limit ? 'red' : 'yellow';
-  const model = limit.estimator === 'ewma' ? 'EWMA' : `${limit.window}-day`;
   const bounds = zone === 'red' ? `red from ${limit.limit}` : zone === 'yellow' ? `yellow from ${limit.warning}, red from ${limit.limit}` : `green below ${limit.warning}`;
-  return `${portfolioId}: the ${model} normal 99% VaR had ${t.value} exceptions in its last 250 tested days on ${t.date}: ${zone} zone (${bounds})`;
+  return `${portfolioId}: the ${seriesLabel(limit)} had ${t.value} exceptions in its last 250 tested days on ${t.date}: ${zone} zone (${bounds})`;
 }
 
 /** The Basel zone a backtest_zone episode's state stands for: open at warning = yellow, at breach = red, else green. */

@@ -1,4 +1,4 @@
-import { filteredReturns, historicalLoss, scenarioPnlAt, type ScenarioPnl } from '../risk/math/historicalSimulation.ts';
+import { filteredReturns, historicalLoss, isScenarioReturn, scenarioPnlAt, type ScenarioPnl } from '../risk/math/historicalSimulation.ts';
 import type { PortfolioPanel, ReturnPanel } from '../risk/inputs/panels.ts';
 import type { VarRow } from './lossStage.ts';
 
@@ -25,6 +25,9 @@ export interface HistoricalInputs {
   sigmaAfter: Float64Array;
 }
 
+type Method = VarRow['method'];
+const METHODS: readonly Method[] = ['historical', 'filtered_historical'];
+
 export const VAR_LEVEL = 0.99;
 export const ES_LEVEL = 0.975;
 
@@ -37,11 +40,19 @@ export function historicalVarRows(inputs: HistoricalInputs, settings: Historical
   // each return the run's scenarios use converted once, by security: every portfolio and date revalues under them
   const firstDate = Math.max(fromRow, portfolios.firstRow);
   const simple = new Float64Array(t * returns.securityIds.length);
+  // gaps[j (t + 1) + row]: the rows before `row` without a return, so a lookback's gaps are one difference
+  const gaps = new Int32Array((t + 1) * returns.securityIds.length);
   for (let j = 0; j < returns.securityIds.length; j++) {
     for (let row = Math.max(0, firstDate - longest + 1); row < t; row++) simple[j * t + row] = Math.expm1(returns.returnsBySecurity[j * t + row]);
+    for (let row = 0; row < t; row++) gaps[j * (t + 1) + row + 1] = gaps[j * (t + 1) + row] + (isScenarioReturn(simple[j * t + row]) ? 0 : 1);
   }
   const filtered = new FilteredScenarios(inputs, longest);
   let at = new Int32Array(0);
+  let full = new Uint8Array(0);
+  let values = new Float64Array(0);
+  /** Whether holding a (security j) has a return in each of the n scenarios ending at d. */
+  const complete = (method: Method, j: number, d: number, n: number) =>
+    method === 'historical' ? gaps[j * (t + 1) + d + 1] === gaps[j * (t + 1) + d + 1 - n] : filtered.lastGap(j) < longest - n;
   for (let d = firstDate; d < t; d++) {
     filtered.moveTo(d);
     for (let p = 0; p < portfolios.ids.length; p++) {
@@ -51,13 +62,13 @@ export function historicalVarRows(inputs: HistoricalInputs, settings: Historical
       const start = portfolios.offsets[slot];
       const held = portfolios.security.subarray(start, portfolios.offsets[slot + 1]);
       const h = held.length;
-      const values = portfolios.weight.subarray(start, start + h).map((w) => w * value);
+      if (values.length < h) [values, at, full] = [new Float64Array(h), new Int32Array(h), new Uint8Array(h)];
+      for (let a = 0; a < h; a++) values[a] = portfolios.weight[start + a] * value;
       const stale = portfolios.stale[slot] === 1;
       const reason = portfolios.unpriced[slot] === 1 || !Number.isFinite(value) ? 'unpriced' : value <= 0 ? 'value_not_positive' : null;
       // row 0 has no return: N scenarios need N + 1 dates
       const usable = reason === null ? days.filter((n) => d - n + 1 >= 1) : [];
-      if (at.length < h) at = new Int32Array(h);
-      for (const method of ['historical', 'filtered_historical'] as const) {
+      for (const method of METHODS) {
         const source = method === 'historical' ? simple : filtered.scenarios;
         if (usable.length > 0) {
           // where each holding's scenarios of the longest lookback start in `source`, oldest
@@ -76,10 +87,13 @@ export function historicalVarRows(inputs: HistoricalInputs, settings: Historical
             continue;
           }
           // with nothing missing over the longest lookback, a shorter one is the tail of its P&L
-          const result: ScenarioPnl =
-            widest !== null && widest.missing.length === 0
-              ? { ...widest, pnl: widest.pnl.subarray(usable[0] - n) }
-              : scenarioPnlAt(values, source, { at: at.subarray(0, h), stride: 1, first: usable[0] - n }, n);
+          let result: ScenarioPnl;
+          if (widest !== null && widest.missing.length === 0) result = { ...widest, pnl: widest.pnl.subarray(usable[0] - n) };
+          else {
+            for (let a = 0; a < h; a++) full[a] = at[a] < 0 || complete(method, held[a], d, n) ? 1 : 0;
+            const layout = { at: at.subarray(0, h), stride: 1, first: usable[0] - n, full: full.subarray(0, h) };
+            result = scenarioPnlAt(values.subarray(0, h), source, layout, n);
+          }
           widest ??= result;
           emit({ ...base, ...figures(result, held, returns.securityIds, settings.minCoverage, stale) }, p, d);
         }
@@ -120,6 +134,8 @@ function withStale(reason: string, stale: boolean): string {
 class FilteredScenarios {
   private d = -1;
   private readonly done: Int32Array;
+  /** Per security, the last position of its current column without a return (-1: none). */
+  private readonly gapAt: Int32Array;
   private readonly out: Float64Array;
   private readonly r: Float64Array;
   private readonly past: Float64Array;
@@ -131,6 +147,7 @@ class FilteredScenarios {
   ) {
     const n = inputs.returns.securityIds.length;
     this.done = new Int32Array(n).fill(-1);
+    this.gapAt = new Int32Array(n);
     this.out = new Float64Array(n * longest);
     this.r = new Float64Array(longest);
     this.past = new Float64Array(longest);
@@ -143,6 +160,11 @@ class FilteredScenarios {
   /** Every security's filtered simple returns of the current date: `longest` per security, oldest first. */
   get scenarios(): Float64Array {
     return this.out;
+  }
+
+  /** The last position of security j's column (computed by columnStart) without a return; -1: none. */
+  lastGap(j: number): number {
+    return this.gapAt[j];
   }
 
   /** Where security j's scenarios of the current date start in `scenarios`, computing them on first use. */
@@ -165,7 +187,12 @@ class FilteredScenarios {
       this.today[0] = Number.isFinite(today) ? today : 0;
       const column = this.out.subarray(start, start + longest);
       filteredReturns(this.r, longest, this.past, this.today, column);
-      for (let s = 0; s < longest; s++) column[s] = Math.expm1(column[s]);
+      let gap = -1;
+      for (let s = 0; s < longest; s++) {
+        column[s] = Math.expm1(column[s]);
+        if (!isScenarioReturn(column[s])) gap = s;
+      }
+      this.gapAt[j] = gap;
       this.done[j] = d;
     }
     return start;

@@ -1,10 +1,8 @@
 import type { Config, ResolvedLimit } from '../config/load.ts';
-import { applicableLimits, limitKey } from '../limits/applicableLimits.ts';
-import { METRIC_SQL, seriesKey } from '../limits/breachStore.ts';
+import { applicableLimits, limitKey, type Series } from '../limits/applicableLimits.ts';
+import { metricSql, seriesKey, seriesOf, type SeriesRow } from '../limits/breachStore.ts';
 import type { QueryResult, Unit } from './readQuery.ts';
 import type { Database } from '../storage/database.ts';
-
-type Series = Pick<ResolvedLimit, 'metric' | 'window' | 'estimator'>;
 
 interface LatestRow {
   portfolio_id: string;
@@ -12,14 +10,10 @@ interface LatestRow {
   portfolio_value: number | null;
   coverage: number | null;
   status: string;
-  value: number | null;
 }
 
-interface EpisodeRow {
+interface EpisodeRow extends SeriesRow {
   portfolio_id: string;
-  metric: ResolvedLimit['metric'];
-  window_days: number;
-  estimator: ResolvedLimit['estimator'];
   level: string;
   opened_on: string;
   escalated_on: string | null;
@@ -35,11 +29,12 @@ interface EpisodeRow {
  */
 export async function readPortfolioStatus(db: Database, config: Config, portfolio: string | null): Promise<QueryResult> {
   const series = watchedSeries(config);
-  const headline = series[0] ?? { metric: 'vol_ex_ante', window: config.risk.windows[0], estimator: 'sample' };
-  const base = await latestRows(db, headline, portfolio);
+  // a historical VaR's backtest has no risk_daily estimate of its own
+  const estimate = series.find((s) => s.method === null || s.method === 'normal') ?? { window: config.risk.windows[0], estimator: 'sample' };
+  const base = await latestRows(db, estimate, portfolio);
   const asOf = await latestDates(db, portfolio);
-  const figures: Map<string, LatestRow>[] = [];
-  for (const s of series) figures.push(new Map((await latestRows(db, s, portfolio)).map((r) => [r.portfolio_id, r])));
+  const figures: Map<string, number | null>[] = [];
+  for (const s of series) figures.push(await latestFigures(db, s, portfolio));
   const episodes = await latestEpisodes(db, portfolio);
   const baseById = new Map(base.map((r) => [r.portfolio_id, r]));
 
@@ -65,7 +60,7 @@ export async function readPortfolioStatus(db: Database, config: Config, portfoli
         row.push(null, null, null, 'not watched', null);
         return;
       }
-      const value = figures[i].get(id)?.value ?? null;
+      const value = figures[i].get(id) ?? null;
       const episode = episodes.get(seriesKey(id, s));
       row.push(value, limit.limit, value === null ? null : limit.limit - value, ...episodeState(episode));
     });
@@ -78,13 +73,14 @@ export async function readPortfolioStatus(db: Database, config: Config, portfoli
 /** Each distinct figure some limit watches, in config order. */
 function watchedSeries(config: Config): Series[] {
   const seen = new Map<string, Series>();
-  for (const l of config.limits) if (!seen.has(limitKey(l))) seen.set(limitKey(l), { metric: l.metric, window: l.window, estimator: l.estimator });
+  for (const l of config.limits) if (!seen.has(limitKey(l))) seen.set(limitKey(l), { metric: l.metric, method: l.method, window: l.window, estimator: l.estimator });
   return [...seen.values()];
 }
 
-/** `vol_ex_ante_63d`, `vol_ex_ante_ewma`: the column stem of one watched figure. */
+/** `vol_ex_ante_63d`, `vol_ex_ante_ewma`, `backtest_zone_historical_250d`: the column stem of one watched figure. */
 function seriesName(s: Series): string {
-  return s.estimator === 'ewma' ? `${s.metric}_ewma` : `${s.metric}_${s.window}d`;
+  const stem = s.method === null ? s.metric : `${s.metric}_${s.method}`;
+  return s.estimator === 'ewma' ? `${stem}_ewma` : `${stem}_${s.window}d`;
 }
 
 /** `breach` since its escalation, `warning` since it opened, `clear` since the last episode closed (null: never opened). */
@@ -103,30 +99,39 @@ async function latestDates(db: Database, portfolio: string | null): Promise<Map<
   return new Map(rows.map((r) => [r.portfolio_id, r.date]));
 }
 
-/** Per portfolio, the latest risk_daily row of one estimate and the watched figure on it. */
-async function latestRows(db: Database, s: Series, portfolio: string | null): Promise<LatestRow[]> {
+/** Per portfolio, the latest risk_daily row of one estimate. */
+async function latestRows(db: Database, s: Pick<Series, 'window' | 'estimator'>, portfolio: string | null): Promise<LatestRow[]> {
   return db.all<LatestRow>(
-    // the watched figure comes from its own rows (risk_daily, or var_backtest for backtest_zone)
-    `select d.portfolio_id, d.date, d.portfolio_value, d.coverage, d.status, m.value
-     from risk_daily d
-     left join (select portfolio_id, date, window_days, estimator, ${METRIC_SQL[s.metric].value} as value from ${METRIC_SQL[s.metric].rows}) m
-       using (portfolio_id, date, window_days, estimator)
-     where d.window_days = $1 and d.estimator = $2 and ($3::varchar is null or d.portfolio_id = $3)
-     qualify row_number() over (partition by d.portfolio_id order by d.date desc) = 1`,
+    `select portfolio_id, date, portfolio_value, coverage, status from risk_daily
+     where window_days = $1 and estimator = $2 and ($3::varchar is null or portfolio_id = $3)
+     qualify row_number() over (partition by portfolio_id order by date desc) = 1`,
     [s.window, s.estimator, portfolio],
   );
 }
 
-/** The latest episode, not retracted, of each watched series, keyed `portfolio|metric|window|estimator`. */
+/**
+ * Per portfolio, the watched figure on its latest valuation date, from the figure's own
+ * rows (risk_daily, or var_backtest for backtest_zone); absent when that date has none.
+ */
+async function latestFigures(db: Database, s: Series, portfolio: string | null): Promise<Map<string, number | null>> {
+  const { value, rows: from } = metricSql(s);
+  const rows = await db.all<{ portfolio_id: string; value: number | null }>(
+    `select m.portfolio_id, ${value} as value from ${from} m
+     join (select portfolio_id, max(date) as date from risk_daily group by portfolio_id) latest using (portfolio_id, date)
+     where m.window_days = $1 and m.estimator is not distinct from $2 and ($3::varchar is null or m.portfolio_id = $3)`,
+    [s.window, s.estimator, portfolio],
+  );
+  return new Map(rows.map((r) => [r.portfolio_id, r.value]));
+}
+
+/** The latest episode, not retracted, of each watched series, keyed by seriesKey. */
 async function latestEpisodes(db: Database, portfolio: string | null): Promise<Map<string, EpisodeRow>> {
   const rows = await db.all<EpisodeRow>(
-    `select portfolio_id, metric, window_days, estimator, level, opened_on, escalated_on, closed_on
+    `select portfolio_id, metric, method, window_days, estimator, level, opened_on, escalated_on, closed_on
      from limit_breaches
      where not retracted and ($1::varchar is null or portfolio_id = $1)
-     qualify row_number() over (partition by portfolio_id, metric, window_days, estimator order by opened_on desc) = 1`,
+     qualify row_number() over (partition by portfolio_id, metric, method, window_days, estimator order by opened_on desc) = 1`,
     [portfolio],
   );
-  return new Map(
-    rows.map((r) => [seriesKey(r.portfolio_id, { metric: r.metric, window: r.window_days, estimator: r.estimator }), r]),
-  );
+  return new Map(rows.map((r) => [seriesKey(r.portfolio_id, seriesOf(r)), r]));
 }

@@ -76,7 +76,7 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
       select file_id, name, kind, status, rows, received_at, error
       from ingested_files order by file_id desc`, [], 10),
     await section(db, 'openBreaches', 'open breaches', `
-      select breach_id, portfolio_id, metric, window_days, estimator, level, limit_value, opened_on, escalated_on, peak_value, peak_on
+      select breach_id, portfolio_id, metric, method, window_days, estimator, level, limit_value, opened_on, escalated_on, peak_value, peak_on
       from limit_breaches where closed_on is null and not retracted and ($1::varchar is null or portfolio_id = $1)
       order by opened_on, portfolio_id`, [portfolio]),
     await section(db, 'undeliveredAlerts', 'undelivered alerts', `
@@ -92,16 +92,21 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
 
 /**
  * Deliveries operations must look at: held in the inbox (not complete yet, or a suspect
- * snapshot drop) until a delivery of that name is ingested or rejected, and archived
- * files whose bytes changed or vanished after they were loaded (the start's audit).
+ * snapshot drop) or refused unread (a hard link, not a regular file) until a delivery of
+ * that name is ingested or rejected or the name leaves the inbox, and archived
+ * files whose bytes changed or vanished after they were loaded (the archive audit), until
+ * restored, delivered again or acknowledged (ingest.acknowledgedArchiveFiles).
  */
 const FILE_PROBLEMS = `
-  select name, 'held: ' || code as problem, reason, held_at as since from held_files where released_at is null
+  select name, case when code in ('hard_link', 'not_regular_file') then 'not read: ' else 'held: ' end || code as problem, reason, held_at as since
+  from held_files where released_at is null
   union all
   select coalesce(f.name, a.archived_path) as name, 'archive: ' || a.finding as problem,
-         a.archived_path || case a.finding when 'changed' then ' no longer matches the bytes that were loaded' else ' is gone' end as reason,
+         a.archived_path || ' (file_id ' || a.file_id || ')' ||
+           case a.finding when 'changed' then ' no longer matches the bytes that were loaded' else ' is gone' end as reason,
          a.found_at as since
-  from archive_findings a left join ingested_files f on f.file_id = a.file_id`;
+  from archive_findings a left join ingested_files f on f.file_id = a.file_id
+  where a.resolved_at is null`;
 
 async function dataQualitySection(db: Database, portfolio: string | null, shape: 'summary' | 'rows'): Promise<StatusSection> {
   const key = shape === 'summary' ? 'dataProblems' : 'dataProblemRows';

@@ -1,7 +1,8 @@
 import { barChart } from './charts/barChart.ts';
 import { correlationColor, heatmap } from './charts/heatmap.ts';
 import { legend, lineChart, type DateBand, type DateMarker, type LineSeries, type ReferenceLine } from './charts/lineChart.ts';
-import { escapeHtml, formatPercent, estimateLabel } from './format.ts';
+import { escapeHtml, formatPercent } from './format.ts';
+import { estimateLabel } from '../labels.ts';
 import type { Estimator } from '../config/schema.ts';
 import type { ReportData } from './reportData.ts';
 import { PALETTE } from './style.ts';
@@ -25,7 +26,7 @@ function limitLines(data: ReportData, estimates: Estimate[]): ReferenceLine[] {
   const limits = data.limits.filter((l) => l.metric === 'vol_ex_ante' && estimates.some((e) => e.estimator === l.estimator && e.window === l.window));
   const many = limits.length > 1;
   return limits.flatMap((l) => {
-    const tag = many ? ` ${estimateName({ estimator: l.estimator, window: l.window })}` : '';
+    const tag = many ? ` ${estimateLabel(l.estimator, l.window)}` : '';
     return [
       { label: `limit${tag} ${pct1(l.limit)}`, value: l.limit, color: PALETTE.limit },
       { label: `warning${tag} ${pct1(l.warning)}`, value: l.warning, color: PALETTE.warning, dashed: true },

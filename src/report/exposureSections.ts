@@ -1,4 +1,5 @@
-import { cell, escapeHtml, formatMoney, formatNumber, formatPercent, table, estimateLabel } from './format.ts';
+import { cell, escapeHtml, formatMoney, formatNumber, formatPercent, table } from './format.ts';
+import { estimateLabel } from '../labels.ts';
 import type { ReportData } from './reportData.ts';
 
 

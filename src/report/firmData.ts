@@ -1,15 +1,13 @@
 import type { Config } from '../config/load.ts';
 import { readPortfolioStatus } from '../read/portfolioStatus.ts';
 import type { QueryResult } from '../read/readQuery.ts';
+import type { SeriesRow } from '../limits/breachStore.ts';
 import type { Database } from '../storage/database.ts';
 import { knownPortfolios } from './reportData.ts';
 
 /** An episode still open, of any portfolio. */
-export interface OpenEpisode {
+export interface OpenEpisode extends SeriesRow {
   portfolio_id: string;
-  metric: string;
-  window_days: number;
-  estimator: string;
   level: string;
   opened_on: string;
   escalated_on: string | null;
@@ -46,7 +44,7 @@ const SECURITIES_NAMED = 4;
 export async function loadFirmData(db: Database, config: Config, database = db.path): Promise<FirmData> {
   const [{ as_of: asOf }] = await db.all<{ as_of: string | null }>('select max(date)::varchar as as_of from risk_daily');
   const openEpisodes = await db.all<OpenEpisode>(
-    `select portfolio_id, metric, window_days, estimator, level, opened_on::varchar as opened_on, escalated_on::varchar as escalated_on,
+    `select portfolio_id, metric, method, window_days, estimator, level, opened_on::varchar as opened_on, escalated_on::varchar as escalated_on,
             peak_value, peak_on::varchar as peak_on, limit_value
      from limit_breaches where closed_on is null and not retracted
      order by level = 'breach' desc, opened_on, portfolio_id`,

@@ -1,5 +1,7 @@
 import { escapeHtml, formatMoney, formatPercent, formatLimitFigure } from './format.ts';
 import type { FirmData } from './firmData.ts';
+import { seriesLabel } from '../labels.ts';
+import { seriesOf } from '../limits/breachStore.ts';
 import { htmlPage } from './htmlPage.ts';
 import { cautionsSection } from './tableSections.ts';
 
@@ -67,7 +69,7 @@ function episodesSection(data: FirmData, link: Link): string {
   const rows = data.openEpisodes.map((e) =>
     [
       cell(link(e.portfolio_id)),
-      cell(escapeHtml(e.estimator === 'ewma' ? `${e.metric}, EWMA` : `${e.metric}, ${e.window_days}-day ${e.estimator}`)),
+      cell(escapeHtml(seriesLabel(seriesOf(e)))),
       cell(`<span class="chip chip-${escapeHtml(e.level)}">${escapeHtml(e.level)}</span>`),
       cell(escapeHtml(e.opened_on)),
       cell(escapeHtml(e.escalated_on ?? '-')),

@@ -38,8 +38,3 @@ export function formatLimitFigure(metric: string, value: number | null, digits?:
   return isCountMetric(metric) ? String(value) : formatPercent(value, digits);
 }
 
-/** How the report names an estimate: "EWMA", "63-day" (sample covariance), "63-day shrunk". */
-export function estimateLabel(estimator: string | null, windowDays: number): string {
-  if (estimator === 'ewma') return 'EWMA';
-  return `${windowDays}-day${estimator === 'shrunk' ? ' shrunk' : ''}`;
-}

@@ -1,5 +1,6 @@
 import { legend, lineChart, type LineSeries } from './charts/lineChart.ts';
-import { escapeHtml, formatMoney, formatNumber, formatPercent, estimateLabel } from './format.ts';
+import { escapeHtml, formatMoney, formatNumber, formatPercent } from './format.ts';
+import { varMethodLabel } from '../labels.ts';
 import type { LossData } from './lossData.ts';
 import type { ReportData } from './reportData.ts';
 import { PALETTE } from './style.ts';
@@ -16,14 +17,6 @@ const table = (labels: string[], numeric: ReadonlySet<number>, rows: string[][])
     .map((r) => `<tr>${r.join('')}</tr>`)
     .join('')}</tbody></table>`;
 
-const METHOD_LABEL: Record<string, string> = { normal: 'normal', historical: 'historical', filtered_historical: 'filtered historical' };
-
-/** "normal, 63-day", "normal, EWMA", "historical, 250 scenarios". */
-function methodLabel(r: { method: string; window_days: number; estimator: string | null }): string {
-  const method = METHOD_LABEL[r.method] ?? r.method;
-  if (r.method !== 'normal') return `${method}, ${r.window_days} scenarios`;
-  return `${method}, ${estimateLabel(r.estimator, r.window_days)}`;
-}
 
 export function lossSection(data: ReportData): string {
   const { losses } = data;
@@ -40,7 +33,7 @@ function methodsTable(losses: LossData): string {
     ['method', 'VaR 99% 1d', 'ES 97.5% 1d', 'coverage', 'status'],
     new Set([1, 2, 3]),
     losses.methods.map((r) => [
-      cell(methodLabel(r)),
+      cell(varMethodLabel(r)),
       cell(formatMoney(r.var_99_1d), true),
       cell(formatMoney(r.es_975_1d), true),
       cell(formatPercent(r.coverage, 1), true),
@@ -70,7 +63,7 @@ function backtestSection(data: ReportData): string {
           { label: 'exception (loss above VaR)', color: PALETTE.breachBand, kind: 'band' },
         ]);
   const rows = backtests.map((b) => [
-    cell(methodLabel(b)),
+    cell(varMethodLabel(b)),
     cell(String(b.tested_days), true),
     cell(String(b.exceptions_250), true),
     cell(formatNumber(b.kupiec_lr), true),

@@ -4,6 +4,7 @@ import type { Config, ResolvedLimit } from '../config/load.ts';
 import type { Estimator } from '../config/schema.ts';
 import { RiskfoldError } from '../errors.ts';
 import { applicableLimits } from '../limits/applicableLimits.ts';
+import type { SeriesRow } from '../limits/breachStore.ts';
 import { sqlString, type Database } from '../storage/database.ts';
 import { correlationOfReturns, type CorrelationResult, type ReturnObservation } from './correlation.ts';
 import { loadCurrencySplits, type CurrencySplit } from './currencySplit.ts';
@@ -42,11 +43,8 @@ export interface Contribution {
   pct: number | null;
 }
 
-export interface Breach {
+export interface Breach extends SeriesRow {
   breach_id: number;
-  metric: string;
-  window_days: number;
-  estimator: string;
   limit_value: number;
   level: 'warning' | 'breach';
   opened_on: string;

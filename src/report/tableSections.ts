@@ -1,5 +1,7 @@
 import { CAUTIONS } from './cautions.ts';
-import { escapeHtml, formatMoney, formatNumber, formatPercent, estimateLabel, formatLimitFigure } from './format.ts';
+import { escapeHtml, formatMoney, formatNumber, formatPercent, formatLimitFigure } from './format.ts';
+import { estimateLabel, seriesLabel } from '../labels.ts';
+import { seriesOf } from '../limits/breachStore.ts';
 import type { Breach, ReportData } from './reportData.ts';
 
 const cell = (text: string, num = false) => `<td${num ? ' class="num"' : ''}>${escapeHtml(text)}</td>`;
@@ -82,7 +84,7 @@ export function breachTable(data: ReportData): string {
   }
   const rows = data.breaches.map((b) =>
     [
-      cell(`${b.metric}, ${estimateLabel(b.estimator, b.window_days)}`),
+      cell(seriesLabel(seriesOf(b))),
       cell(b.level),
       cell(b.opened_on),
       cell(b.escalated_on ?? '-'),

@@ -2,6 +2,7 @@ import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import type { FileKind } from '../config/schema.ts';
 import { insertAlert } from '../alerts/outbox.ts';
+import { auditArchive, type AuditOutcome } from '../ingest/archiveAudit.ts';
 import type { Database } from '../storage/database.ts';
 import { localDate, previousBusinessDay } from './calendar.ts';
 
@@ -61,6 +62,11 @@ export async function latestDeliveredDate(db: Database, kind: FileKind): Promise
     [kind],
   );
   return latest;
+}
+
+/** The full archive audit: every archived file hashed again, whatever its size and mtime say. */
+export async function auditArchiveInFull(db: Database, config: Config, log: Logger): Promise<AuditOutcome> {
+  return auditArchive(db, log, { full: true, acknowledged: config.ingest.acknowledgedArchiveFiles });
 }
 
 /**

@@ -3,11 +3,11 @@ import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import type { ScheduleHost } from '../worker/startWorker.ts';
-import { checkMissingData, checkpointDatabase } from './jobs.ts';
+import { auditArchiveInFull, checkMissingData, checkpointDatabase } from './jobs.ts';
 
 /**
  * Starts the cron jobs in config.schedule.timezone: the missing-data check, the retry
- * of undelivered alerts, the nightly checkpoint. The job bodies are plain functions of
+ * of undelivered alerts, the nightly checkpoint, the full archive audit. The job bodies are plain functions of
  * (db, config, log, now) in ./jobs.ts; here they are only timed and handed to the
  * worker: jobs that write run through `host.exclusive` (the worker's serial queue,
  * between batches); delivery goes through `host.deliverNow`, beside the queue, so a
@@ -16,7 +16,7 @@ import { checkMissingData, checkpointDatabase } from './jobs.ts';
 export function startSchedules(host: ScheduleHost): { stop(): void } {
   const { config } = host;
   const log = host.log.child({ stage: 'schedule' });
-  const { timezone, missingData, retryAlerts, checkpoint } = config.schedule;
+  const { timezone, missingData, retryAlerts, checkpoint, archiveAudit } = config.schedule;
   checkSchedule(config);
 
   const every = (name: string, expression: string, body: (now: Date) => Promise<void>): ScheduledTask =>
@@ -39,6 +39,10 @@ export function startSchedules(host: ScheduleHost): { stop(): void } {
     }),
     every('retry-alerts', retryAlerts, async () => host.deliverNow()),
     every('checkpoint', checkpoint, (now) => host.exclusive((db) => checkpointDatabase(db, config, log, now))),
+    every('archive-audit', archiveAudit, async () => {
+      const outcome = await host.exclusive((db) => auditArchiveInFull(db, config, log));
+      if (outcome.found.length > 0 || outcome.resolved.length > 0) host.republish();
+    }),
   ];
   log.info({ timezone, jobs: tasks.map((t) => t.name) }, 'schedules started');
   return {
@@ -54,6 +58,7 @@ function checkSchedule(config: Config): void {
     ['schedule.missingData.cron', config.schedule.missingData.cron],
     ['schedule.retryAlerts', config.schedule.retryAlerts],
     ['schedule.checkpoint', config.schedule.checkpoint],
+    ['schedule.archiveAudit', config.schedule.archiveAudit],
   ];
   for (const [field, expression] of fields) {
     if (!cron.validate(expression)) {

@@ -28,12 +28,11 @@ export async function openWorkspace(config: Config, log: Logger): Promise<Databa
     await applyMigrations(db, log);
     await db.transaction(async () => {
       await db.run('delete from pipeline_settings');
-      await db.run('insert into pipeline_settings values ($1, $2, $3, $4::integer[])', [
-        config.baseCurrency,
-        config.risk.maxStaleDays,
-        config.risk.tradingDaysPerYear,
-        `[${config.risk.windows.join(',')}]`,
-      ]);
+      await db.run(
+        `insert into pipeline_settings (base_currency, max_stale_days, trading_days_per_year, windows, history_days)
+         values ($1, $2, $3, $4::integer[], $5::integer[])`,
+        [config.baseCurrency, config.risk.maxStaleDays, config.risk.tradingDaysPerYear, `[${config.risk.windows.join(',')}]`, `[${historyDays(config).join(',')}]`],
+      );
     });
     await applyViews(db, log);
     await prepareHistory(db, log);
@@ -44,6 +43,16 @@ export async function openWorkspace(config: Config, log: Logger): Promise<Databa
     throw err;
   }
   return db;
+}
+
+/**
+ * The consecutive daily returns each risk_daily estimate needs before a security counts
+ * as covered (hasFullHistory in src/risk/inputs/panels.ts): its window, or the EWMA's
+ * seed. check_data_quality reads them to flag a held security short of any.
+ */
+function historyDays(config: Config): number[] {
+  const needs = [...config.risk.windows, ...(config.risk.ewma.enabled ? [config.risk.ewma.seedDays] : [])];
+  return [...new Set(needs)].sort((a, b) => a - b);
 }
 
 /** Whether the read copy now holds the latest commit; if not, why, in one line. */

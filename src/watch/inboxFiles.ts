@@ -1,5 +1,7 @@
 import { lstatSync, readdirSync, statSync } from 'node:fs';
 import path from 'node:path';
+import type { Config } from '../config/load.ts';
+import { matchSource } from '../ingest/sourceMatch.ts';
 
 /**
  * Whether a name in the inbox is a delivery. Hidden files and names ending in .tmp or
@@ -19,15 +21,16 @@ export function isPlainFile(file: string): boolean {
   }
 }
 
-/** With a done-marker convention (`marker` '.done' or '.ok'): the delivery a marker name stands for, else null. */
-export function markedDelivery(name: string, marker: string | null): string | null {
-  return marker !== null && name.endsWith(marker) && name.length > marker.length ? name.slice(0, -marker.length) : null;
+/** The delivery a companion file (a done-marker `<name>.done`, a manifest `<name>.manifest`; `suffixes` from the config) stands for, else null. */
+export function companionOf(name: string, suffixes: readonly string[]): string | null {
+  const suffix = suffixes.find((s) => name.endsWith(s) && name.length > s.length);
+  return suffix === undefined ? null : name.slice(0, -suffix.length);
 }
 
-/** The deliveries already in the inbox, oldest first (name breaks ties), for the catch-up at start; markers are not deliveries. */
-export function listInbox(inbox: string, marker: string | null = null): string[] {
+/** The deliveries already in the inbox, oldest first (name breaks ties), for the catch-up at start; companion files are not deliveries. */
+export function listInbox(inbox: string, companions: readonly string[] = []): string[] {
   const files = readdirSync(inbox, { withFileTypes: true })
-    .filter((d) => d.isFile() && isDeliveryName(d.name) && markedDelivery(d.name, marker) === null)
+    .filter((d) => d.isFile() && isDeliveryName(d.name) && companionOf(d.name, companions) === null)
     .map((d) => {
       const file = path.join(inbox, d.name);
       return { file, mtime: statSync(file).mtimeMs };
@@ -59,4 +62,16 @@ export async function waitUntilStable(file: string, stableMs: number, pollMs: nu
     }
     await new Promise((resolve) => setTimeout(resolve, pollMs));
   }
+}
+
+/**
+ * Whether `files` hold a whole business day: a file of every kind the day needs
+ * (`schedule.missingData.expect`, the same list the missing-data check judges a day by).
+ * With no kind expected no batch counts as whole.
+ */
+export function holdsWholeDay(config: Config, files: readonly string[]): boolean {
+  const expected = config.schedule.missingData.expect;
+  if (expected.length === 0) return false;
+  const kinds = new Set(files.map((file) => matchSource(config.sources, path.basename(file))?.kind));
+  return expected.every((kind) => kinds.has(kind));
 }

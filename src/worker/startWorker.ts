@@ -7,13 +7,14 @@ import { watchRetryRequests } from '../alerts/retryRequests.ts';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { runBatch } from '../batch/runBatch.ts';
-import { markerSuffix } from '../ingest/completeness.ts';
+import { companionSuffixes } from '../ingest/completeness.ts';
+import { releaseVanished } from '../ingest/holds.ts';
 import { recoverAtStart } from '../ingest/recovery.ts';
 import type { Database } from '../storage/database.ts';
 import { openWorkspace, publishReadCopy, type PublishOutcome } from '../storage/workspace.ts';
 import { ArrivalWindow } from '../watch/arrivalWindow.ts';
 import { DeliveryLoop } from './deliveryLoop.ts';
-import { listInbox, waitUntilStable } from '../watch/inboxFiles.ts';
+import { holdsWholeDay, listInbox, waitUntilStable } from '../watch/inboxFiles.ts';
 import { watchInbox } from '../watch/inboxWatcher.ts';
 import { describeHolder, removePidFile, writePidFile } from './workerPidFile.ts';
 import { WorkQueue } from './workQueue.ts';
@@ -26,6 +27,8 @@ export interface ScheduleHost {
   exclusive<T>(fn: (db: Database) => Promise<T>): Promise<T>;
   /** Asks for a delivery round now (retry of undelivered alerts). */
   deliverNow(): void;
+  /** The database changed outside a batch (an audit's findings): publish the read copy. */
+  republish(): void;
 }
 export type StartSchedules = (host: ScheduleHost) => { stop(): void | Promise<void> };
 
@@ -81,7 +84,12 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
     }
   };
   const queue = new WorkQueue(handleBatch);
-  const arrivals = new ArrivalWindow(config.watch.settleMs, config.watch.maxBatchWaitMs, (files) => queue.addFiles(files));
+  const { settleMs, maxBatchWaitMs, wholeDaySettleMs } = config.watch;
+  const arrivals = new ArrivalWindow(
+    { settleMs, maxWaitMs: maxBatchWaitMs, wholeDayMs: wholeDaySettleMs },
+    (files) => holdsWholeDay(config, files),
+    (files) => queue.addFiles(files),
+  );
   const republish = () => {
     publishWanted = true;
     queue.exclusive(() => (publishWanted ? publishReadCopy(db, config, log) : Promise.resolve<PublishOutcome>({ published: true }))).then(
@@ -94,6 +102,26 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
       },
       (err: unknown) => wlog.debug({ err }, 'read copy not republished'),
     );
+  };
+  // a name left the inbox: end its hold between batches (one sweep waiting at a time; our own moves trigger it too)
+  let sweepWaiting = false;
+  const endVanishedHolds = () => {
+    if (sweepWaiting || stopping) return;
+    sweepWaiting = true;
+    queue
+      .exclusive(() => {
+        sweepWaiting = false;
+        return releaseVanished(db, config.inbox);
+      })
+      .then(
+        (gone) => {
+          if (gone.length === 0) return;
+          wlog.info({ files: gone }, 'holds ended: the files left the inbox');
+          republish();
+        },
+        // refused while stopping: the next start sweeps
+        (err: unknown) => stopping || wlog.error({ err }, 'could not end the holds of files that left the inbox'),
+      );
   };
   // one timer at a time; a batch in between publishes (or re-arms it) on its own
   let publishRetry: NodeJS.Timeout | null = null;
@@ -143,9 +171,9 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
 
   try {
     // new arrivals queue up (lane still closed) while the catch-up list is made
-    watcher = await watchInbox(config, log, (file) => arrivals.add(file));
+    watcher = await watchInbox(config, log, (file) => arrivals.add(file), endVanishedHolds);
     await recoverAtStart(db, config, log);
-    const present = listInbox(config.inbox, markerSuffix(config));
+    const present = listInbox(config.inbox, companionSuffixes(config));
     const stable = await Promise.all(present.map((f) => waitUntilStable(f, config.watch.stableMs, config.watch.pollMs)));
     const catchUp = present.filter((_, i) => stable[i]);
     wlog.info({ files: catchUp.map((f) => path.basename(f)) }, 'catching up on the inbox');
@@ -158,6 +186,7 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
           log,
           exclusive: (fn) => queue.exclusive(() => fn(db)),
           deliverNow: () => delivery.kick(),
+          republish,
         }) ?? null;
     }
   } catch (err) {

@@ -64,7 +64,7 @@ describe('checkPrices in the pipeline', () => {
     expect((await statusOn('2008-10-14')).map((r) => r.status)).toEqual(['ok']);
   });
 
-  it('checks the prices of a benchmark constituent nobody holds, since they enter the tracking error', async () => {
+  it('checks the prices of a benchmark constituent nobody holds, and marks the status of the portfolios measured against it', async () => {
     ws = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252 }, limits: [], benchmarks: { 'acct-broad': 'bm-broad' } });
     await deliver('positions_2008.csv', [['date', 'portfolio_id', 'security_id', 'quantity'], ['2008-01-04', 'acct-broad', 'EQ-BROAD', 100]]);
     await deliver('benchmarks_2008.csv', [['date', 'benchmark_id', 'security_id', 'weight'], ['2008-01-04', 'bm-broad', 'EQ-TRACKED', 1]]);
@@ -72,6 +72,9 @@ describe('checkPrices in the pipeline', () => {
     expect(await ws.db.all('select * from price_checks')).toEqual([]);
     await deliver('prices_20081014.csv', prices([[SP500_DATES[SLIP_DAY], 'EQ-BROAD', SP500_CLOSES[SLIP_DAY]], [SP500_DATES[SLIP_DAY], 'EQ-TRACKED', SP500_CLOSES[SLIP_DAY] * 10]]));
     expect(await ws.db.all('select security_id, rules from price_checks')).toEqual([{ security_id: 'EQ-TRACKED', rules: 'jump,power_of_ten' }]);
+    // the tracking error reads EQ-TRACKED's price, so acct-broad's figures of that date are suspect too
+    expect(await statusOn('2008-10-14')).toEqual([{ window_days: 21, status: 'suspect_price' }]);
+    expect(await statusOn(SP500_DATES[SLIP_DAY - 1])).toEqual([{ window_days: 21, status: 'ok' }]);
   });
 
   it('holds a decimal-separator slip out of risk (hold mode: previous price carried, stale) until a repeated delivery confirms it', async () => {

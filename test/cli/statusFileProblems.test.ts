@@ -16,7 +16,7 @@ describe('status lists the deliveries operations must look at', () => {
     inbox('prices_a.csv', pricesCsv(5, 2, '2020-01-01'));
     inbox('prices_b.csv', pricesCsv(5, 2, '2020-02-01'));
     await runBatch(ws.db, ws.config, ws.log, ['prices_a.csv', 'prices_b.csv'].map((f) => path.join(ws!.config.inbox, f)));
-    const archived = await ws.db.all<{ name: string; archived_path: string }>('select name, archived_path from ingested_files order by name');
+    const archived = await ws.db.all<{ file_id: number; name: string; archived_path: string }>('select file_id, name, archived_path from ingested_files order by name');
     expect(archived.map((f) => f.name)).toEqual(['prices_a.csv', 'prices_b.csv']);
     ws.closeDb();
     // a sender that went on writing into a file already taken, and one archived file lost
@@ -50,6 +50,6 @@ describe('status lists the deliveries operations must look at', () => {
     expect(held.reason).toMatch(/last line has no line break/);
     expect(Number.isNaN(Date.parse(held.since))).toBe(false);
     const changed = json.fileProblemRows.rows.find((r) => r.name === 'prices_a.csv')!;
-    expect(changed.reason).toBe(`${archived[0].archived_path} no longer matches the bytes that were loaded`);
+    expect(changed.reason).toBe(`${archived[0].archived_path} (file_id ${archived[0].file_id}) no longer matches the bytes that were loaded`);
   });
 });

@@ -44,7 +44,7 @@ describe('nearestKey', () => {
 
 describe('knownKeysAt', () => {
   it('walks through defaults and arrays to the object at a path', () => {
-    expect(knownKeysAt(configSchema, ['limits', 0])).toEqual(['portfolio', 'metric', 'window', 'estimator', 'limit', 'warning', 'clear']);
+    expect(knownKeysAt(configSchema, ['limits', 0])).toEqual(['portfolio', 'metric', 'method', 'window', 'estimator', 'limit', 'warning', 'clear']);
     expect(knownKeysAt(configSchema, ['risk', 'ewma'])).toEqual(['enabled', 'lambda', 'seedDays']);
     expect(knownKeysAt(configSchema, ['inbox'])).toBeNull();
   });

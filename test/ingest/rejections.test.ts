@@ -128,6 +128,34 @@ describe('ingestFile: rejected files', () => {
     expect(missing).toMatchObject({ code: 'missing_column', column: 'benchmark_id' });
   });
 
+  it('rejects a benchmarks file whose weights of one benchmark and date do not add up to 1 within the tolerance, naming the sum', async () => {
+    const header = ['date', 'benchmark_id', 'security_id', 'weight'];
+    // bm-core on 2026-04-10 adds up (0.6 + 0.4); bm-core on 2026-04-13 lacks a constituent: 0.55 + 0.42 = 0.97
+    const short = await rejectRows('benchmarks_sum.csv', [
+      header,
+      ['2026-04-10', 'bm-core', 'EQ-A', '0.6'],
+      ['2026-04-10', 'bm-core', 'EQ-B', '0.4'],
+      ['2026-04-13', 'bm-core', 'EQ-A', '0.55'],
+      ['2026-04-13', 'bm-core', 'EQ-B', '0.42'],
+    ]);
+    expect(short).toMatchObject({ code: 'weight_sum', row: 3, column: 'weight', value: '0.97' });
+    expect(formatRejection(short)).toBe(
+      'benchmarks_sum.csv line 4, column weight: the 2 weights of benchmark "bm-core" on 2026-04-13 add up to 0.97, not 1 (within 0.01)',
+    );
+    // 0.995 is within 0.01 of 1; a negative weight counts by its sign: 1 + 0.2 - 0.2 adds up
+    const ok = writeCsv(current().config.inbox, 'benchmarks_ok.csv', [header, ['2026-04-10', 'bm-core', 'EQ-A', '0.995'], ['2026-04-10', 'bm-wide', 'EQ-A', '1'], ['2026-04-10', 'bm-wide', 'EQ-B', '0.2'], ['2026-04-10', 'bm-wide', 'EQ-C', '-0.2']]);
+    expect((await ingestFile(current().db, current().config, current().log, ok)).status).toBe('ingested');
+  });
+
+  it('takes the benchmark weight tolerance from ingest.benchmarkWeightTolerance', async () => {
+    await workspace({ ingest: { benchmarkWeightTolerance: 0.05 } });
+    const header = ['date', 'benchmark_id', 'security_id', 'weight'];
+    const within = writeCsv(current().config.inbox, 'benchmarks_w.csv', [header, ['2026-04-13', 'bm-core', 'EQ-A', '0.55'], ['2026-04-13', 'bm-core', 'EQ-B', '0.42']]);
+    expect((await ingestFile(current().db, current().config, current().log, within)).status).toBe('ingested');
+    const beyond = await rejectRows('benchmarks_x.csv', [header, ['2026-04-14', 'bm-core', 'EQ-A', '0.5'], ['2026-04-14', 'bm-core', 'EQ-B', '0.4']]);
+    expect(beyond.message).toBe('the 2 weights of benchmark "bm-core" on 2026-04-14 add up to 0.9, not 1 (within 0.05)');
+  });
+
   it('rejects an empty portfolio id and a cash id without a valid currency code', async () => {
     const header = ['date', 'portfolio_id', 'security_id', 'quantity'];
     expect(await rejectRows('positions_a.csv', [header, ['2026-04-10', '  ', 'EQ-NORDWIND', '1']])).toMatchObject({ row: 1, column: 'portfolio_id', expected: 'a non-empty id' });

@@ -67,7 +67,7 @@ describe('replayEpisodes', () => {
 });
 
 describe('applicableLimits', () => {
-  const base = { metric: 'vol_ex_ante', estimator: 'sample', warning: 0.09, clear: 0.085 } as const;
+  const base = { metric: 'vol_ex_ante', method: null, estimator: 'sample', warning: 0.09, clear: 0.085 } as const;
   const limits: ResolvedLimit[] = [
     { ...base, portfolio: '*', window: 63, limit: 0.1 },
     { ...base, portfolio: '*', window: 21, limit: 0.1 },

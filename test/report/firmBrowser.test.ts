@@ -79,7 +79,7 @@ describe('riskfold report --all in a real browser', () => {
     ]);
     expect(limits.links.map((l) => l.text)).toEqual(['acct-growth', 'acct-income', 'acct-unpriced']);
     expect(episodes.title).toBe('Open limit episodes');
-    expect(episodes.rows.map((r) => [r[0], r[1], r[2]])).toEqual([['acct-growth', 'vol_ex_ante, 63-day sample', 'breach']]);
+    expect(episodes.rows.map((r) => [r[0], r[1], r[2]])).toEqual([['acct-growth', '63-day volatility', 'breach']]);
     expect(problems.title).toBe('Data problems');
     expect(problems.rows.find((r) => r[0] === 'acct-unpriced')?.[4]).toBe('EQ-NOWHERE');
 

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { estimateLabel, formatLimitFigure } from '../../src/report/format.ts';
+import { formatLimitFigure } from '../../src/report/format.ts';
+import { estimateLabel } from '../../src/labels.ts';
 
 describe('report labels', () => {
   it('tells a shrunk estimate from the sample one of the same window, and names the EWMA without a window', () => {

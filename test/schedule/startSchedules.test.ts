@@ -1,9 +1,12 @@
+import { appendFileSync } from 'node:fs';
 import { afterEach, describe, expect, it, vi } from 'vitest';
 import type { Logger } from 'pino';
 import { resolveConfig, type Config } from '../../src/config/load.ts';
 import { RiskfoldError } from '../../src/errors.ts';
+import { ingestFile } from '../../src/ingest/ingestFile.ts';
 import { startSchedules } from '../../src/schedule/startSchedules.ts';
 import type { Database } from '../../src/storage/database.ts';
+import { writeCsv } from '../helpers/files.ts';
 import { MINIMAL_CONFIG, tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
 describe('startSchedules', () => {
@@ -25,7 +28,8 @@ describe('startSchedules', () => {
       ran.push(done);
       return done;
     };
-    return { host: { config, log, exclusive, deliverNow }, ran, deliverNow };
+    const republish = vi.fn();
+    return { host: { config, log, exclusive, deliverNow, republish }, ran, deliverNow, republish };
   }
 
   it('runs the missing-data check at its cron time in the configured zone: on Monday it checks Friday', async () => {
@@ -81,6 +85,22 @@ describe('startSchedules', () => {
     expect(worker.deliverNow).toHaveBeenCalledTimes(3);
   });
 
+  it('runs the full archive audit at its cron time on the queue and republishes the read copy when it found something', async () => {
+    const off = '0 0 1 1 *';
+    ws = await tempWorkspace({ schedule: { archiveAudit: '0 4 * * *', retryAlerts: off, checkpoint: off, missingData: { cron: off, expect: [] } } });
+    const { db, config, log } = ws;
+    const loaded = await ingestFile(db, config, log, writeCsv(config.inbox, 'prices_a.csv', [['date', 'security_id', 'price'], ['2026-03-09', 'EQ-A', '1']]));
+    appendFileSync(loaded.movedTo, '2026-03-10,EQ-A,2\n');
+    vi.useFakeTimers({ now: new Date('2026-03-10T03:59:50Z'), toFake: ['setTimeout', 'clearTimeout', 'Date'] });
+    const worker = host(db, config, log);
+    stop = startSchedules(worker.host).stop;
+    await vi.advanceTimersByTimeAsync(11_000);
+    expect(worker.ran).toHaveLength(1);
+    vi.useRealTimers();
+    await expect(worker.ran[0]).resolves.toMatchObject({ found: [{ fileId: loaded.fileId, finding: 'changed' }], hashed: 1 });
+    await vi.waitFor(() => expect(worker.republish).toHaveBeenCalledTimes(1));
+  });
+
   it('names the config field of a wrong cron expression or time zone', async () => {
     ws = await tempWorkspace();
     const { db, log } = ws;
@@ -88,6 +108,7 @@ describe('startSchedules', () => {
     const start = (schedule: object) => () => startSchedules(host(db, resolveConfig({ ...MINIMAL_CONFIG, schedule }, configPath), log).host);
     expect(start({ checkpoint: '61 2 * * *' })).toThrow(RiskfoldError);
     expect(start({ checkpoint: '61 2 * * *' })).toThrow(/schedule\.checkpoint "61 2 \* \* \*" is not a cron expression/);
+    expect(start({ archiveAudit: 'weekly' })).toThrow(/schedule\.archiveAudit "weekly" is not a cron expression/);
     expect(start({ timezone: 'Mars/Olympus' })).toThrow(/schedule\.timezone "Mars\/Olympus" is not an IANA time zone/);
   });
 });

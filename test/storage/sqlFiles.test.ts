@@ -54,6 +54,7 @@ describe('the ordered SQL runner', () => {
     expect(steps.filter((s) => s.kind === 'stored').map((s) => s.object)).toEqual([
       'derived_snapshots',
       'derived_held_securities',
+      'derived_held_cash',
       'derived_valuation_dates',
       'derived_held_out_prices',
       'derived_aligned_prices',
@@ -108,7 +109,7 @@ describe('the ordered SQL runner', () => {
     db = await openDatabase(':memory:');
     const { log } = memoryLogger();
     await applyMigrations(db, log);
-    await db.run("insert into pipeline_settings values ('USD', 5, 252, [250]::integer[])");
+    await db.run("insert into pipeline_settings (base_currency, max_stale_days, trading_days_per_year, windows) values ('USD', 5, 252, [250]::integer[])");
     await applyViews(db, log, folder({}));
     // cash is CASH:<ISO 4217 code>, price 1 in its own currency (SPEC.md, "Cash")
     const rows = await db.all<{ id: string; cash: boolean; currency: string | null; base: boolean; eur: boolean }>(

@@ -1,4 +1,5 @@
 import { afterEach, describe, expect, it } from 'vitest';
+import { runRecompute } from '../../src/batch/runRecompute.ts';
 import { insertFx, insertPositions, insertPrices } from '../helpers/rawRows.ts';
 import { defaultsWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
@@ -66,8 +67,8 @@ describe('check_data_quality', () => {
     ]);
   });
 
-  it('flags a held security whose return history is shorter than the longest window', async () => {
-    ws = await defaultsWorkspace({ risk: { windows: [2, 3] } });
+  it('flags a held security whose run of returns is shorter than a window, naming the windows it falls short of', async () => {
+    ws = await defaultsWorkspace({ risk: { windows: [2, 3], ewma: { seedDays: 2 } } });
     await insertPositions(ws.db, 1, [['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100]]);
     // EQ-NORDWIND is priced from Monday but only bought on Thursday
     await insertPositions(ws.db, 2, [
@@ -78,10 +79,43 @@ describe('check_data_quality', () => {
     const rows = await problems("problem = 'short_history'");
     // returns exist from Tuesday on: Mon 0, Tue 1, Wed 2, Thu 3 (= the window of 3: no problem)
     expect(rows.map((r) => [r.date, r.security_id, r.reason])).toEqual([
-      ['2024-03-04', 'EQ-SALTMARSH', '0 of the 3 daily returns the longest window needs'],
-      ['2024-03-05', 'EQ-SALTMARSH', '1 of the 3 daily returns the longest window needs'],
-      ['2024-03-06', 'EQ-SALTMARSH', '2 of the 3 daily returns the longest window needs'],
+      ['2024-03-04', 'EQ-SALTMARSH', '0 consecutive daily returns, short of a full history of 2, 3 days'],
+      ['2024-03-05', 'EQ-SALTMARSH', '1 consecutive daily returns, short of a full history of 2, 3 days'],
+      ['2024-03-06', 'EQ-SALTMARSH', '2 consecutive daily returns, short of a full history of 3 days'],
     ]);
+  });
+
+  it('counts history as the risk rows do: per estimate (the EWMA seed too), cash in another currency by its fx returns', async () => {
+    // Before one rule served both, this view counted returns over the longest window only
+    // and skipped every cash balance: here it would have flagged EQ-SALTMARSH on Monday
+    // and Tuesday only, while the risk rows left CASH:EUR uncovered too, and both of them
+    // uncovered by the EWMA (seed 3) on Wednesday.
+    ws = await defaultsWorkspace({ risk: { windows: [2], ewma: { seedDays: 3 }, contributions: 'all' } });
+    await insertPositions(ws.db, 1, [
+      ['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100],
+      ['2024-03-04', 'acct-growth', 'CASH:EUR', 50],
+    ]);
+    await insertPrices(ws.db, 2, week.map((d, i) => [d, 'EQ-SALTMARSH', 10 + i, null]));
+    await insertFx(ws.db, 3, week.map((d, i) => [d, 'EUR', 1.1 + i / 100]));
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+
+    // by hand: both series have returns from Tuesday on, so runs of 0, 1, 2, 3, 4
+    const rows = await problems("problem = 'short_history'");
+    expect(rows.map((r) => [r.date, r.security_id, r.reason])).toEqual([
+      ['2024-03-04', 'CASH:EUR', '0 consecutive daily returns, short of a full history of 2, 3 days'],
+      ['2024-03-04', 'EQ-SALTMARSH', '0 consecutive daily returns, short of a full history of 2, 3 days'],
+      ['2024-03-05', 'CASH:EUR', '1 consecutive daily returns, short of a full history of 2, 3 days'],
+      ['2024-03-05', 'EQ-SALTMARSH', '1 consecutive daily returns, short of a full history of 2, 3 days'],
+      ['2024-03-06', 'CASH:EUR', '2 consecutive daily returns, short of a full history of 3 days'],
+      ['2024-03-06', 'EQ-SALTMARSH', '2 consecutive daily returns, short of a full history of 3 days'],
+    ]);
+    // and the risk rows agree: on each date the estimate with the longest need leaves
+    // uncovered exactly the securities flagged here
+    const uncovered = await ws.db.all<{ date: string; most: number }>(
+      `select date::varchar as date, max(n_holdings - n_covered)::integer as most from risk_daily group by date order by date`,
+    );
+    const flagged = week.map((d) => rows.filter((r) => r.date === d).length);
+    expect(uncovered.map((u) => [u.date, u.most])).toEqual(week.map((d, i) => [d, flagged[i]]));
   });
 
   it('flags a snapshot whose portfolio value is zero or negative', async () => {
@@ -103,7 +137,7 @@ describe('check_data_quality', () => {
   });
 
   it('reports nothing once a fully priced portfolio has a full window of returns', async () => {
-    ws = await defaultsWorkspace({ risk: { windows: [2] } });
+    ws = await defaultsWorkspace({ risk: { windows: [2], ewma: { seedDays: 2 } } });
     await insertPositions(ws.db, 1, [['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100]]);
     await insertPrices(ws.db, 2, week.map((d, i) => [d, 'EQ-SALTMARSH', 10 + i, null]));
     // Monday has no return and Tuesday one: short of 2; from Wednesday on nothing to report

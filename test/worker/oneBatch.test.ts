@@ -23,11 +23,13 @@ describe('the worker and one business day\'s files landing together', () => {
     await worker.idle();
     const inbox = wd.config.inbox;
     const pause = () => new Promise((resolve) => setTimeout(resolve, 400));
+    // positions first and prices last: the day (prices and positions, the default
+    // schedule.missingData.expect) is whole only with the last file, so each pause is the settle window's
     writeFileSync(path.join(inbox, 'positions_0410.csv'), 'date,portfolio_id,security_id,quantity\n2020-01-01,acct-growth,EQ-NORDWIND,10\n');
     await pause();
-    writeFileSync(path.join(inbox, 'prices_0410.csv'), pricesCsv(30, 2, '2020-01-01'));
-    await pause();
     writeFileSync(path.join(inbox, 'securities_0410.csv'), 'security_id,currency\nEQ-NORDWIND,USD\n');
+    await pause();
+    writeFileSync(path.join(inbox, 'prices_0410.csv'), pricesCsv(30, 2, '2020-01-01'));
     const batches = await waitFor(() => {
       const done = lines().filter((l) => l.msg === 'batch done');
       return done.length >= 2 ? done : null;
@@ -36,5 +38,22 @@ describe('the worker and one business day\'s files landing together', () => {
     expect(batches[1].runId).not.toBeNull();
     await worker.idle();
     expect(lines().filter((l) => l.msg === 'batch done')).toHaveLength(2);
+  });
+
+  it('starts the batch of a whole day (prices and positions) watch.wholeDaySettleMs after its last file, not settleMs', async () => {
+    // a settle window far beyond the wait below: only the early close can start this batch in time
+    wd = workerDir({ watch: { stableMs: 200, pollMs: 50, settleMs: 60_000, wholeDaySettleMs: 300, maxBatchWaitMs: 60_000 } });
+    const { log, lines } = memoryLogger();
+    worker = await startWorker(wd.config, log);
+    await worker.idle();
+    const inbox = wd.config.inbox;
+    writeFileSync(path.join(inbox, 'prices_0410.csv'), pricesCsv(30, 2, '2020-01-01'));
+    writeFileSync(path.join(inbox, 'positions_0410.csv'), 'date,portfolio_id,security_id,quantity\n2020-01-01,acct-growth,EQ-NORDWIND,10\n');
+    const batches = await waitFor(() => {
+      const done = lines().filter((l) => l.msg === 'batch done');
+      return done.length >= 2 ? done : null;
+    }, 15_000, 'the whole day\'s batch well before watch.settleMs');
+    expect((batches[1].files as { name: string }[]).map((f) => f.name)).toEqual(['prices_0410.csv', 'positions_0410.csv']);
+    expect(batches[1].runId).not.toBeNull();
   });
 });

@@ -2,7 +2,7 @@ import { lstatSync } from 'node:fs';
 import path from 'node:path';
 import { formatRejection, RiskfoldError } from '../../errors.ts';
 import { recoverAtStart } from '../../ingest/recovery.ts';
-import { markerSuffix } from '../../ingest/completeness.ts';
+import { companionSuffixes } from '../../ingest/completeness.ts';
 import type { IngestOutcome } from '../../ingest/ingestFile.ts';
 import { runBatch } from '../../batch/runBatch.ts';
 import { describeChange } from '../../batch/runSettings.ts';
@@ -26,7 +26,7 @@ export async function runIngest(files: string[], opts: { config?: string; strict
   const db = await openWorkspace(config, log);
   try {
     await recoverAtStart(db, config, log);
-    const batch = given.length > 0 ? given : listInbox(config.inbox, markerSuffix(config));
+    const batch = given.length > 0 ? given : listInbox(config.inbox, companionSuffixes(config));
     if (batch.length === 0) process.stdout.write(`no files in ${path.relative(process.cwd(), config.inbox) || '.'}\n`);
     const summary = await runBatch(db, config, log, batch, { deliver: true, onFile: (o) => process.stdout.write(`${describeOutcome(o)}\n`) });
     for (const skipped of summary.skipped) process.stdout.write(`skipped    ${path.basename(skipped)}: gone before its turn\n`);

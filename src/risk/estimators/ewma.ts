@@ -1,6 +1,7 @@
 import { annualizedVolatility } from '../math/annualize.ts';
 import { upperSubMatrixVector } from '../math/covariance.ts';
 import { ewmaUpperUpdateInPlace } from '../math/ewma.ts';
+import { hasFullHistory } from '../inputs/fullHistory.ts';
 import type { ReturnPanel } from '../inputs/panels.ts';
 import { rowsCost } from '../runtime/costModel.ts';
 import { ewmaStateStore } from '../store/ewmaState.ts';
@@ -83,7 +84,7 @@ export class EwmaEstimate implements DateEstimate<EwmaState> {
     ewmaUpperUpdateInPlace(this.s, n, r, this.lambda, live.subarray(0, liveCount));
     const newcomers: number[] = [];
     for (let j = 0; j < n; j++) {
-      if (active[j] === 0 && panel.runLength[d * n + j] >= this.seedDays) newcomers.push(j);
+      if (active[j] === 0 && hasFullHistory(panel, d, j, this.seedDays)) newcomers.push(j);
     }
     if (newcomers.length > 0) this.seed(d, newcomers);
     if (d === this.t - 2) this.beforeLast = this.snapshot();

@@ -3,6 +3,7 @@ import { annualizedReturn, annualizedVolatility } from '../math/annualize.ts';
 import { centredTimesWeights, centreSeriesInto } from '../math/covariance.ts';
 import { mean, sampleVariance } from '../math/moments.ts';
 import { SlidingCovariance } from '../math/slidingCovariance.ts';
+import { hasFullHistory } from '../inputs/fullHistory.ts';
 import type { ReturnPanel } from '../inputs/panels.ts';
 import { rowsCost, type RunLoad } from '../runtime/costModel.ts';
 import type { DateEstimate, EstimatorPlugin } from './estimator.ts';
@@ -110,7 +111,7 @@ export class SampleEstimate implements DateEstimate {
     const sliding = this.sliding;
     if (this.centred && d >= windowDays - 1) centreSeriesInto(panel.returnsBySecurity, t, d - windowDays + 1, windowDays, this.centredMeans, this.centred);
     for (let j = 0; j < n; j++) {
-      if (panel.runLength[d * n + j] < windowDays) {
+      if (!hasFullHistory(panel, d, j, windowDays)) {
         this.means[j] = Number.NaN;
         this.variances[j] = Number.NaN;
       } else if (sliding) {
@@ -131,7 +132,7 @@ export class SampleEstimate implements DateEstimate {
   }
 
   covered(j: number): boolean {
-    return this.panel.runLength[this.row * this.n + j] >= this.windowDays;
+    return hasFullHistory(this.panel, this.row, j, this.windowDays);
   }
 
   variance(j: number): number {

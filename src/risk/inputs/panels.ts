@@ -151,37 +151,38 @@ export async function readPortfolioPanel(
 
   // One pass over value_weights gives the holdings and, per slot, the portfolio value
   // (sum of the position values, in security order so every run adds them alike),
-  // whether a position has no value, and whether a price is stale. Sorted by slot
-  // then security, so every sum over a portfolio's holdings runs in the same order in
-  // every run (full or incremental).
+  // whether it is unknown (the view's portfolio_value_base is null: the rule is
+  // positions_value in sql/rules.sql), and whether a price is stale. Sorted by slot then
+  // security, so every sum over a portfolio's holdings runs in the same order in every
+  // run (full or incremental).
   const holdings = new WeightRows(1 << 16);
   const offsets = shared(Int32Array, slots + 1);
   await streamColumns(
     db,
-    `select p.k, w.date_index, s.k as j, w.weight::double, w.value_base::double, w.price_status = 'stale'
+    `select p.k, w.date_index, s.k as j, w.weight::double, w.value_base::double,
+            w.portfolio_value_base is null as unvalued, w.price_status = 'stale'
      from value_weights_since($1) w
      join risk_in_portfolios p using (portfolio_id)
      -- left: a holding missing from the securities read is a fault (a null j fails the read), never dropped
      left join risk_in_securities s using (security_id)
      order by p.k, w.date_index, j`,
     [firstRow + 1],
-    { k: 'int', date_index: 'int', j: 'int', weight: 'double', value_base: 'double', is_stale: 'bool' },
+    { k: 'int', date_index: 'int', j: 'int', weight: 'double', value_base: 'double', unvalued: 'bool', is_stale: 'bool' },
     (c, n) => {
       holdings.append(c.j, c.weight, n);
       for (let i = 0; i < n; i++) {
         const slot = c.k[i] * dateCount + c.date_index[i] - 1;
         offsets[slot + 1]++;
         present[slot] = 1;
-        // NaN (no value) propagates into the sum: the portfolio value is unknown
         value[slot] += c.value_base[i];
-        if (Number.isNaN(c.value_base[i])) unpriced[slot] = 1;
+        if (c.unvalued[i] === 1) unpriced[slot] = 1;
         if (c.is_stale[i] === 1) stale[slot] = 1;
       }
     },
   );
   for (let slot = 0; slot < slots; slot++) {
     offsets[slot + 1] += offsets[slot];
-    if (present[slot] === 0) value[slot] = Number.NaN;
+    if (present[slot] === 0 || unpriced[slot] === 1) value[slot] = Number.NaN;
   }
   return {
     ids,
