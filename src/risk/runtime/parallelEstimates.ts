@@ -5,10 +5,18 @@ import type { ComputeInputs, EstimateTask, WalkSettings } from '../walk/walkEsti
 import { estimatorModules } from '../estimators/registry.ts';
 import { WORKER_ROLE, type WorkerData, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
 
-// Compiled (dist/, the built CLI) the worker is plain JavaScript beside this file; run
-// from the sources (tests, or the CLI before a build) a worker thread does not inherit
-// the tsx loader, so a boot file registers it first.
-const WORKER_ENTRY = import.meta.url.endsWith('.ts') ? './estimateWorkerBoot.mjs' : './estimateWorker.js';
+/**
+ * A worker thread running the module `name` beside `callerUrl` (the caller's
+ * import.meta.url). Compiled (dist/, the built CLI) the module is plain JavaScript and
+ * starts directly; run from the sources (tests, or the CLI before a build) a worker
+ * thread does not inherit the tsx loader, so the boot file registers it first. execArgv
+ * empty: whatever flags this process ran with.
+ */
+export function workerThread(callerUrl: string, name: string, data: { role: string }): Worker {
+  if (!callerUrl.endsWith('.ts')) return new Worker(new URL(`./${name}.js`, callerUrl), { workerData: data, execArgv: [] });
+  const module = new URL(`./${name}.ts`, callerUrl).href;
+  return new Worker(new URL('./estimateWorkerBoot.mjs', import.meta.url), { workerData: { ...data, module }, execArgv: [] });
+}
 
 /**
  * Walks the estimates in `threads` worker threads. The inputs are shared, not copied
@@ -31,12 +39,7 @@ export async function walkInWorkers(
   const estimatorOf = tasks.map((t) => t.task.estimator);
   const workers = Array.from(
     { length: Math.min(threads, queue.length) },
-    // execArgv empty: the boot file registers tsx itself, whatever flags this process ran with
-    () =>
-      new Worker(new URL(WORKER_ENTRY, import.meta.url), {
-        workerData: { role: WORKER_ROLE, estimatorModules: estimatorModules() } satisfies WorkerData,
-        execArgv: [],
-      }),
+    () => workerThread(import.meta.url, 'estimateWorker', { role: WORKER_ROLE, estimatorModules: estimatorModules() } satisfies WorkerData),
   );
   const states: EstimatorStates = {};
   try {
@@ -95,14 +98,15 @@ function shareInputs(input: ComputeInputs): ComputeInputs {
 }
 
 /** A panel with each of its typed-array fields shared. */
-function sharedFields<T extends object>(panel: T): T {
+export function sharedFields<T extends object>(panel: T): T {
   const fields = Object.entries(panel).map(([key, value]) => [key, value instanceof Uint8Array || value instanceof Int32Array || value instanceof Float64Array ? shared(value) : value]);
   return Object.fromEntries(fields) as T;
 }
 
 type Typed = Uint8Array | Int32Array | Float64Array;
 
-function shared<A extends Typed>(a: A): A {
+/** The array itself when already on a SharedArrayBuffer, else a shared copy. */
+export function shared<A extends Typed>(a: A): A {
   if (a.buffer instanceof SharedArrayBuffer) return a;
   const copy = new (a.constructor as new (buffer: SharedArrayBuffer) => A)(new SharedArrayBuffer(a.byteLength));
   copy.set(a as never);
