@@ -12,7 +12,7 @@ import { WORKER_ROLE, type WorkerData, type WorkerReply, type WorkerRequest } fr
  * thread does not inherit the tsx loader, so the boot file registers it first. execArgv
  * empty: whatever flags this process ran with.
  */
-export function workerThread(callerUrl: string, name: string, data: { role: string }): Worker {
+export function workerThread<Data extends { role: string }>(callerUrl: string, name: string, data: Data): Worker {
   if (!callerUrl.endsWith('.ts')) return new Worker(new URL(`./${name}.js`, callerUrl), { workerData: data, execArgv: [] });
   const module = new URL(`./${name}.ts`, callerUrl).href;
   return new Worker(new URL('./estimateWorkerBoot.mjs', import.meta.url), { workerData: { ...data, module }, execArgv: [] });
