@@ -108,13 +108,18 @@ export class ResultStage {
   /** After `close`: drops the rows staged for the failed portfolios (a failure may come after some of their dates); returns the risk_daily rows left. */
   async dropFailed(db: Database): Promise<number> {
     if (this.failures.size === 0) return this.daily.rows;
-    const failed = `(${[...this.failures.keys()].join(', ')})`;
-    for (const table of ['daily', 'contributions', 'active', 'vol_change', 'vol_change_securities']) {
-      await db.run(`delete from risk_stage_${table} where p in ${failed}`);
-    }
-    const [{ n }] = await db.all<{ n: number }>('select count(*)::integer as n from risk_stage_daily');
-    return n;
+    return dropStagedPortfolios(db, [...this.failures.keys()]);
   }
+}
+
+/** Drops the rows staged for portfolios (panel indices) that will not be written; returns the risk_daily rows left. */
+export async function dropStagedPortfolios(db: Database, portfolios: readonly number[]): Promise<number> {
+  const failed = `(${portfolios.map((p) => Math.trunc(p)).join(', ')})`;
+  for (const table of ['daily', 'contributions', 'active', 'vol_change', 'vol_change_securities']) {
+    await db.run(`delete from risk_stage_${table} where p in ${failed}`);
+  }
+  const [{ n }] = await db.all<{ n: number }>('select count(*)::integer as n from risk_stage_daily');
+  return n;
 }
 
 /** A (portfolio, date, window, estimator, security, values...) staging table from one kind of SecurityRows. */
@@ -186,7 +191,16 @@ export async function replaceResults(db: Database, scope: ReplaceScope): Promise
     [scope.runId],
   );
   await replaceVolChange(db, scope, inScope, params);
-  await db.run('delete from security_stats where ($1::date is null or date >= $1::date)', [scope.from]);
+  // a run over some portfolios read only their securities' returns: it replaces the stats
+  // of those, and drops those of a security no longer held anywhere (a full run would have
+  // none); the other securities' stats stay, their returns unchanged
+  await db.run(
+    `delete from security_stats
+     where ($1::date is null or date >= $1::date)
+       and ($2::boolean or security_id in (select security_id from risk_in_securities)
+            or security_id not in (select security_id from derived_held_securities))`,
+    [scope.from, scope.portfolios === null],
+  );
   await db.run(
     `insert into security_stats (date, window_days, security_id, ann_return, ann_vol, run_id)
      select d.date, s.window_days, sec.security_id, s.ann_return, s.ann_vol, $1
