@@ -8,7 +8,7 @@ export function formatResult(result: BenchResult): string {
   const s = result.scenario;
   const out: string[] = [
     `riskfold bench, size ${result.size}: ${s.securities} securities, ${s.portfolios} portfolios x ${s.holdingsPerPortfolio} holdings, ` +
-      `${s.historyDays} business days (${s.firstDate} .. ${s.lastDate}), windows ${s.config.risk?.windows?.join('/')} and EWMA`,
+      `${s.historyDays} business days (${s.firstDate} .. ${s.lastDate}), windows ${s.config.risk?.windows?.join('/')}, EWMA, shrunk ${s.config.risk?.shrunk?.windows?.join('/') || 'none'}`,
     `history rows: ${Object.entries(s.historyRows)
       .map(([kind, n]) => `${kind} ${n.toLocaleString('en-US')}`)
       .join(', ')}; generated in ${formatNumber(s.generateSeconds)} s`,

@@ -24,11 +24,13 @@ export function faultPoint(step: FaultStep): void {
 /**
  * Tests set RISKFOLD_FAULT_PORTFOLIO to a portfolio id to make computing that portfolio's
  * risk throw, as a bug or a bad holding would, and check that the other portfolios of
- * the run still get theirs; without the variable this does nothing. Read once: the
- * check runs for every row of a backfill.
+ * the run still get theirs; `loss:<id>` makes only its loss figures (src/loss) throw.
+ * Without the variable this does nothing. Read once: the check runs for every row of a
+ * backfill.
  */
 const FAULTY_PORTFOLIO = process.env.RISKFOLD_FAULT_PORTFOLIO;
 
-export function portfolioFault(portfolioId: string): void {
-  if (FAULTY_PORTFOLIO === portfolioId) throw new Error(`injected fault for portfolio ${portfolioId}`);
+export function portfolioFault(portfolioId: string, stage: 'risk' | 'loss' = 'risk'): void {
+  const wanted = stage === 'risk' ? portfolioId : `${stage}:${portfolioId}`;
+  if (FAULTY_PORTFOLIO === wanted) throw new Error(`injected fault for portfolio ${portfolioId}`);
 }

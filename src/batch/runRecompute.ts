@@ -5,8 +5,9 @@ import { RiskfoldError } from '../errors.ts';
 import { phaseClock } from '../log/phaseClock.ts';
 import { computeLosses } from '../loss/computeLosses.ts';
 import { dropLossStage } from '../loss/lossStage.ts';
-import { computeRun, type PortfolioRiskFailure } from '../risk/computeRun.ts';
-import { dropStaging } from '../risk/store/staging.ts';
+import type { LossFailure } from '../loss/historicalVar.ts';
+import { computeRun, type ComputedRisk, type PortfolioRiskFailure } from '../risk/computeRun.ts';
+import { dropStagedPortfolios, dropStaging } from '../risk/store/staging.ts';
 import type { Database } from '../storage/database.ts';
 import { refreshDerived } from '../storage/derived.ts';
 import { markRunDone, recordRunFailure, startRun } from './runRecord.ts';
@@ -66,8 +67,9 @@ export async function runRecompute(
     // an explicit step: the readers of the views never rebuild what they read
     await phases.time('refresh_derived', () => refreshDerived(db, log));
     // the panels are let go once the loss stage has staged its rows: the write step does not need them
-    const { inputs, ...risk } = await computeRun(db, config, log, { runId, from, portfolios, settings }, phases);
-    await phases.time('losses', () => computeLosses(db, config, log, inputs));
+    const { inputs, ...computed } = await computeRun(db, config, log, { runId, from, portfolios, settings }, phases);
+    const losses = await phases.time('losses', () => computeLosses(db, config, log, inputs));
+    const risk = await withLossFailures(db, rlog, computed, losses.failures, inputs);
     const run: RunContext = { runId, from, portfolios, settings, trigger: request.trigger, config, log, risk, alertsRaised: 0 };
     await db.transaction(async () => {
       for (const writer of writers) await phases.time(writer.name, () => writer.write(db, run));
@@ -96,6 +98,28 @@ export async function runRecompute(
     await dropStaging(db).catch(() => undefined);
     await dropLossStage(db).catch(() => undefined);
   }
+}
+
+/**
+ * A portfolio whose loss figures failed fails the run for that portfolio as a risk
+ * failure does: none of its rows (risk or loss) are written, its stored ones stay, and
+ * it gets its incident (portfolioIncident.ts); the other portfolios are written.
+ */
+async function withLossFailures(
+  db: Database,
+  log: Logger,
+  risk: Omit<ComputedRisk, 'inputs'>,
+  failures: readonly LossFailure[],
+  inputs: ComputedRisk['inputs'],
+): Promise<Omit<ComputedRisk, 'inputs'>> {
+  const known = new Set(risk.failures.map((f) => f.portfolioId));
+  const added = failures.filter((f) => !known.has(inputs.portfolios.ids[f.p]));
+  if (added.length === 0) return risk;
+  const described = added.map((f) => ({ portfolioId: inputs.portfolios.ids[f.p], date: inputs.returns.dates[f.d], error: f.message }));
+  for (const f of described) log.error({ portfolio: f.portfolioId, date: f.date, error: f.error }, 'loss figures of this portfolio not computed; the others go on');
+  const riskRows = await dropStagedPortfolios(db, added.map((f) => f.p));
+  const all = [...risk.failures, ...described].sort((a, b) => (a.portfolioId < b.portfolioId ? -1 : 1));
+  return { ...risk, riskRows, failures: all };
 }
 
 /** 'YYYY-MM-DD' naming a real calendar date; anything else is a usage error. */

@@ -1,7 +1,7 @@
 import { BacktestWindow, exceptions } from '../risk/math/backtest.ts';
 import type { PortfolioPanel } from '../risk/inputs/panels.ts';
 import type { BacktestRow } from './lossStage.ts';
-import { VAR_LEVEL } from './historicalVar.ts';
+import { VAR_LEVEL, type LossFailure } from './historicalVar.ts';
 
 /**
  * var_backtest rows (SPEC section 9, formulas in src/risk/math/backtest.ts): each
@@ -47,35 +47,52 @@ export function backtestRows(
   fromRow: number,
   priorFlags: ReadonlyMap<string, readonly number[]>,
   emit: (row: BacktestRow) => void,
+  fail: (failure: LossFailure) => void,
+): void {
+  for (const [id, series] of history.series) {
+    try {
+      backtestSeries(series, portfolios, dates, fromRow, priorFlags.get(id) ?? [], emit);
+    } catch (err) {
+      fail({ p: series.p, d: fromRow, message: `VaR backtest: ${err instanceof Error ? err.message : String(err)}` });
+    }
+  }
+}
+
+/** One series' rows. */
+function backtestSeries(
+  series: VarSeriesKey & { var99: Float64Array },
+  portfolios: PortfolioPanel,
+  dates: readonly string[],
+  fromRow: number,
+  priorFlags: readonly number[],
+  emit: (row: BacktestRow) => void,
 ): void {
   const t = dates.length;
-  for (const [id, series] of history.series) {
-    const window = new BacktestWindow();
-    for (const flag of priorFlags.get(id) ?? []) window.push(flag);
-    for (let d = Math.max(fromRow, 1); d < t; d++) {
-      const predicted = series.var99[d - 1];
-      const pnl = portfolios.value[series.p * t + d - 1] * Math.expm1(portfolios.logReturn[series.p * t + d]);
-      if (!Number.isFinite(predicted) || !Number.isFinite(pnl)) continue;
-      const exception = exceptions(Float64Array.of(pnl), Float64Array.of(predicted))[0];
-      window.push(exception);
-      const summary = window.summary(VAR_LEVEL);
-      emit({
-        portfolioId: portfolios.ids[series.p],
-        date: dates[d],
-        method: series.method,
-        windowDays: series.windowDays,
-        estimator: series.estimator,
-        var99: predicted,
-        pnl,
-        exception: exception === 1,
-        testedDays: summary.days,
-        exceptions: summary.exceptions,
-        kupiecLr: summary.kupiec.lr,
-        kupiecP: summary.kupiec.p,
-        christoffersenLr: summary.independence?.lr ?? Number.NaN,
-        christoffersenP: summary.independence?.p ?? Number.NaN,
-        zone: summary.zone,
-      });
-    }
+  const window = new BacktestWindow();
+  for (const flag of priorFlags) window.push(flag);
+  for (let d = Math.max(fromRow, 1); d < t; d++) {
+    const predicted = series.var99[d - 1];
+    const pnl = portfolios.value[series.p * t + d - 1] * Math.expm1(portfolios.logReturn[series.p * t + d]);
+    if (!Number.isFinite(predicted) || !Number.isFinite(pnl)) continue;
+    const exception = exceptions(Float64Array.of(pnl), Float64Array.of(predicted))[0];
+    window.push(exception);
+    const summary = window.summary(VAR_LEVEL);
+    emit({
+      portfolioId: portfolios.ids[series.p],
+      date: dates[d],
+      method: series.method,
+      windowDays: series.windowDays,
+      estimator: series.estimator,
+      var99: predicted,
+      pnl,
+      exception: exception === 1,
+      testedDays: summary.days,
+      exceptions: summary.exceptions,
+      kupiecLr: summary.kupiec.lr,
+      kupiecP: summary.kupiec.p,
+      christoffersenLr: summary.independence?.lr ?? Number.NaN,
+      christoffersenP: summary.independence?.p ?? Number.NaN,
+      zone: summary.zone,
+    });
   }
 }

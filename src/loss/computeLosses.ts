@@ -5,8 +5,9 @@ import type { PortfolioPanel, ReturnPanel } from '../risk/inputs/panels.ts';
 import { readColumns } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';
 import { backtestRows, seriesId, VarHistory } from './backtestRows.ts';
-import { historicalVarRows } from './historicalVar.ts';
-import { LossStage } from './lossStage.ts';
+import type { LossFailure } from './historicalVar.ts';
+import { LossStage, type VarRow } from './lossStage.ts';
+import { walkHistorical } from './parallelHistorical.ts';
 import { securitySigmas } from './securitySigmas.ts';
 import { stressRows, type StressBook } from './stressRows.ts';
 import { WORST_WINDOW_DAYS, worstWindowsUpTo, type WorstWindows } from './worstWindows.ts';
@@ -31,6 +32,8 @@ export interface LossSummary {
   varRows: number;
   backtestRows: number;
   stressRows: number;
+  /** Portfolios whose loss figures could not be computed (by date row of the first failure); the others are staged. */
+  failures: LossFailure[];
 }
 
 /** Reads, computes and stages; call after the risk stage has staged its rows (risk_stage_daily). */
@@ -44,11 +47,18 @@ export async function computeLosses(db: Database, config: Config, log: Logger, i
     await readPredictedVar(db, inputs, history);
     const sigmaAfter = securitySigmas(returns, config.risk.ewma.lambda, config.risk.ewma.seedDays);
     const settings = { days: config.risk.historical.days, minCoverage: config.risk.minCoverage };
-    historicalVarRows({ returns, portfolios, fromRow, sigmaAfter }, settings, (row, p, d) => {
+    // the first failure of each portfolio; its rows are staged all the same and left out when written
+    const failures = new Map<number, LossFailure>();
+    const fail = (f: LossFailure) => {
+      const known = failures.get(f.p);
+      if (!known || f.d < known.d) failures.set(f.p, f);
+    };
+    const emit = (row: VarRow, p: number, d: number) => {
       stage.addVar(row);
       history.set({ p, method: row.method, windowDays: row.windowDays, estimator: null }, d, row.var99);
-    });
-    backtestRows(history, portfolios, returns.dates, fromRow, await readPriorFlags(db, inputs), (row) => stage.addBacktest(row));
+    };
+    await walkHistorical({ returns, portfolios, fromRow, sigmaAfter }, settings, emit, fail);
+    backtestRows(history, portfolios, returns.dates, fromRow, await readPriorFlags(db, inputs), (row) => stage.addBacktest(row), fail);
     if (fromRow < t) {
       const books = await readLatestBooks(db, inputs);
       const stored = await readStoredWorst(db, inputs);
@@ -57,15 +67,19 @@ export async function computeLosses(db: Database, config: Config, log: Logger, i
       const continues = fromRow - Math.max(...WORST_WINDOW_DAYS) >= portfolios.firstRow && [...books.keys()].every((p) => stored.has(p));
       const series = continues ? portfolios.logReturn : await readPortfolioReturns(db, portfolios, t);
       for (const [p, book] of books) {
-        const worst = worstWindowsUpTo(series.subarray(p * t, (p + 1) * t), book.d, fromRow, continues ? stored.get(p)! : null);
-        stressRows({ portfolioId: portfolios.ids[p], d: book.d, holdings: book.holdings, returns, worst }, config.stress.scenarios, config.baseCurrency, (row) =>
-          stage.addStress(row),
-        );
+        if (failures.has(p)) continue;
+        try {
+          const worst = worstWindowsUpTo(series.subarray(p * t, (p + 1) * t), book.d, fromRow, continues ? stored.get(p)! : null);
+          const stress = { portfolioId: portfolios.ids[p], d: book.d, holdings: book.holdings, returns, worst };
+          stressRows(stress, config.stress.scenarios, config.baseCurrency, (row) => stage.addStress(row));
+        } catch (err) {
+          fail({ p, d: book.d, message: `stress scenarios: ${err instanceof Error ? err.message : String(err)}` });
+        }
       }
     }
     closed = true;
-    const summary = stage.close();
-    log.debug({ stage: 'loss', ...summary }, 'loss rows staged');
+    const summary = { ...stage.close(), failures: [...failures.values()].sort((a, b) => a.p - b.p) };
+    log.debug({ stage: 'loss', ...summary, failures: summary.failures.length }, 'loss rows staged');
     return summary;
   } finally {
     if (!closed) stage.close();

@@ -1,4 +1,5 @@
 import { filteredReturns, historicalLoss, isScenarioReturn, scenarioPnlAt, type ScenarioPnl } from '../risk/math/historicalSimulation.ts';
+import { portfolioFault } from '../faults.ts';
 import type { PortfolioPanel, ReturnPanel } from '../risk/inputs/panels.ts';
 import type { VarRow } from './lossStage.ts';
 
@@ -21,6 +22,8 @@ export interface HistoricalInputs {
   portfolios: PortfolioPanel;
   /** First date row of the run. */
   fromRow: number;
+  /** One past the last date row to walk; absent: to the last date. */
+  toRow?: number;
   /** securitySigmas(): EWMA sigma after each row, T x N. */
   sigmaAfter: Float64Array;
 }
@@ -31,10 +34,27 @@ const METHODS: readonly Method[] = ['historical', 'filtered_historical'];
 export const VAR_LEVEL = 0.99;
 export const ES_LEVEL = 0.975;
 
-/** Walks the run's dates; `emit` receives each row, and the VaR by (portfolio, method, N) for the backtest. */
-export function historicalVarRows(inputs: HistoricalInputs, settings: HistoricalSettings, emit: (row: VarRow, p: number, d: number) => void): void {
+/** A portfolio whose loss figures could not be computed: at row d, with the error's text. */
+export interface LossFailure {
+  p: number;
+  d: number;
+  message: string;
+}
+
+/**
+ * Walks the run's dates (or rows fromRow .. toRow - 1 of them, a part of the run);
+ * `emit` receives each row, and the VaR by (portfolio, method, N) for the backtest. A
+ * portfolio whose rows throw goes to `fail` and is left out from then on; the others go on.
+ */
+export function historicalVarRows(
+  inputs: HistoricalInputs,
+  settings: HistoricalSettings,
+  emit: (row: VarRow, p: number, d: number) => void,
+  fail: (failure: LossFailure) => void,
+): void {
   const { returns, portfolios, fromRow } = inputs;
   const t = returns.dates.length;
+  const endRow = inputs.toRow ?? t;
   const days = [...settings.days].sort((a, b) => b - a);
   const longest = days[0];
   // each return the run's scenarios use converted once, by security: every portfolio and date revalues under them
@@ -53,50 +73,60 @@ export function historicalVarRows(inputs: HistoricalInputs, settings: Historical
   /** Whether holding a (security j) has a return in each of the n scenarios ending at d. */
   const complete = (method: Method, j: number, d: number, n: number) =>
     method === 'historical' ? gaps[j * (t + 1) + d + 1] === gaps[j * (t + 1) + d + 1 - n] : filtered.lastGap(j) < longest - n;
-  for (let d = firstDate; d < t; d++) {
+  const rowsAt = (p: number, d: number) => {
+    const slot = p * t + d;
+    const value = portfolios.value[slot];
+    const start = portfolios.offsets[slot];
+    const held = portfolios.security.subarray(start, portfolios.offsets[slot + 1]);
+    const h = held.length;
+    if (values.length < h) [values, at, full] = [new Float64Array(h), new Int32Array(h), new Uint8Array(h)];
+    for (let a = 0; a < h; a++) values[a] = portfolios.weight[start + a] * value;
+    const stale = portfolios.stale[slot] === 1;
+    const reason = portfolios.unpriced[slot] === 1 || !Number.isFinite(value) ? 'unpriced' : value <= 0 ? 'value_not_positive' : null;
+    // row 0 has no return: N scenarios need N + 1 dates
+    const usable = reason === null ? days.filter((n) => d - n + 1 >= 1) : [];
+    for (const method of METHODS) {
+      const source = method === 'historical' ? simple : filtered.scenarios;
+      if (usable.length > 0) {
+        // where each holding's scenarios of the longest lookback start in `source`, oldest
+        // first (a shorter lookback is their tail); cash in the base currency never moves
+        const n = usable[0];
+        for (let a = 0; a < h; a++) {
+          const j = held[a];
+          at[a] = returns.isCash[j] === 1 ? -1 : method === 'historical' ? j * t + d - n + 1 : filtered.columnStart(j) + longest - n;
+        }
+      }
+      let widest: ScenarioPnl | null = null;
+      for (const n of days) {
+        const base = { portfolioId: portfolios.ids[p], date: returns.dates[d], method, windowDays: n };
+        if (reason !== null || !usable.includes(n)) {
+          emit({ ...base, ...empty(reason ?? 'insufficient_history', stale) }, p, d);
+          continue;
+        }
+        // with nothing missing over the longest lookback, a shorter one is the tail of its P&L
+        let result: ScenarioPnl;
+        if (widest !== null && widest.missing.length === 0) result = { ...widest, pnl: widest.pnl.subarray(usable[0] - n) };
+        else {
+          for (let a = 0; a < h; a++) full[a] = at[a] < 0 || complete(method, held[a], d, n) ? 1 : 0;
+          const layout = { at: at.subarray(0, h), stride: 1, first: usable[0] - n, full: full.subarray(0, h) };
+          result = scenarioPnlAt(values.subarray(0, h), source, layout, n);
+        }
+        widest ??= result;
+        emit({ ...base, ...figures(result, held, returns.securityIds, settings.minCoverage, stale) }, p, d);
+      }
+    }
+  };
+  const failed = new Uint8Array(portfolios.ids.length);
+  for (let d = firstDate; d < endRow; d++) {
     filtered.moveTo(d);
     for (let p = 0; p < portfolios.ids.length; p++) {
-      const slot = p * t + d;
-      if (portfolios.present[slot] === 0) continue;
-      const value = portfolios.value[slot];
-      const start = portfolios.offsets[slot];
-      const held = portfolios.security.subarray(start, portfolios.offsets[slot + 1]);
-      const h = held.length;
-      if (values.length < h) [values, at, full] = [new Float64Array(h), new Int32Array(h), new Uint8Array(h)];
-      for (let a = 0; a < h; a++) values[a] = portfolios.weight[start + a] * value;
-      const stale = portfolios.stale[slot] === 1;
-      const reason = portfolios.unpriced[slot] === 1 || !Number.isFinite(value) ? 'unpriced' : value <= 0 ? 'value_not_positive' : null;
-      // row 0 has no return: N scenarios need N + 1 dates
-      const usable = reason === null ? days.filter((n) => d - n + 1 >= 1) : [];
-      for (const method of METHODS) {
-        const source = method === 'historical' ? simple : filtered.scenarios;
-        if (usable.length > 0) {
-          // where each holding's scenarios of the longest lookback start in `source`, oldest
-          // first (a shorter lookback is their tail); cash in the base currency never moves
-          const n = usable[0];
-          for (let a = 0; a < h; a++) {
-            const j = held[a];
-            at[a] = returns.isCash[j] === 1 ? -1 : method === 'historical' ? j * t + d - n + 1 : filtered.columnStart(j) + longest - n;
-          }
-        }
-        let widest: ScenarioPnl | null = null;
-        for (const n of days) {
-          const base = { portfolioId: portfolios.ids[p], date: returns.dates[d], method, windowDays: n };
-          if (reason !== null || !usable.includes(n)) {
-            emit({ ...base, ...empty(reason ?? 'insufficient_history', stale) }, p, d);
-            continue;
-          }
-          // with nothing missing over the longest lookback, a shorter one is the tail of its P&L
-          let result: ScenarioPnl;
-          if (widest !== null && widest.missing.length === 0) result = { ...widest, pnl: widest.pnl.subarray(usable[0] - n) };
-          else {
-            for (let a = 0; a < h; a++) full[a] = at[a] < 0 || complete(method, held[a], d, n) ? 1 : 0;
-            const layout = { at: at.subarray(0, h), stride: 1, first: usable[0] - n, full: full.subarray(0, h) };
-            result = scenarioPnlAt(values.subarray(0, h), source, layout, n);
-          }
-          widest ??= result;
-          emit({ ...base, ...figures(result, held, returns.securityIds, settings.minCoverage, stale) }, p, d);
-        }
+      if (portfolios.present[p * t + d] === 0 || failed[p] === 1) continue;
+      try {
+        portfolioFault(portfolios.ids[p], 'loss');
+        rowsAt(p, d);
+      } catch (err) {
+        failed[p] = 1;
+        fail({ p, d, message: `historical VaR: ${err instanceof Error ? err.message : String(err)}` });
       }
     }
   }

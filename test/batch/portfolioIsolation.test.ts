@@ -54,11 +54,12 @@ describe('one portfolio whose risk cannot be computed', () => {
       ]),
     ]);
     ws.closeDb();
-    const cli = (args: string[], env = {}) => {
+    const cli = (args: string[], env = {}, status = 0) => {
       const r = runCli([...args, '--config', ws!.config.configPath], 60_000, env);
-      expect(r.status, r.stderr).toBe(0);
+      expect(r.status, r.stderr).toBe(status);
       return r;
     };
+    const strictLine = /^riskfold: --strict: portfolio acct-b not computed \(from 2020-01-01\): 63-day sample estimate: injected fault for portfolio acct-b$/;
 
     // run 1: the delivery, with acct-b failing
     const ingest = cli(['ingest'], FAULT);
@@ -99,8 +100,10 @@ describe('one portfolio whose risk cannot be computed', () => {
     db.close();
     db = undefined;
 
-    // run 3 fails acct-b again: the same episode, no second alert
-    cli(['recompute'], FAULT);
+    // run 3 fails acct-b again: the same episode, no second alert; --strict exits 1 and names it
+    const strict = cli(['recompute', '--strict'], FAULT, 1);
+    expect(strict.stdout).toMatch(/^portfolio acct-b not computed/m);
+    expect(strict.stderr.trim().split('\n').at(-1)).toMatch(strictLine);
     db = await openWorkspace(ws.config, ws.log);
     expect((await runFailedAlerts(db)).map((a) => a.alert_id)).toEqual(['run-failed-1-portfolio-acct-b-open']);
     expect(await db.all(`select run_id, portfolio_id from portfolio_failures order by run_id`)).toEqual([
@@ -122,5 +125,13 @@ describe('one portfolio whose risk cannot be computed', () => {
     ]);
     for (const k of [0, 1]) expect(after[k * 2].vol).toBe(first[k].vol);
     expect(await failingPortfolios(db)).toEqual([]);
+    db.close();
+    db = undefined;
+
+    // ingest --strict: every file loaded and the run made, then exit 1 naming the portfolio left out
+    writeFileSync(path.join(ws.config.inbox, 'prices_2020_more.csv'), pricesCsv(72, 2));
+    const strictIngest = cli(['ingest', '--strict'], FAULT, 1);
+    expect(strictIngest.stdout).toMatch(/^ingested\s+prices_2020_more\.csv/m);
+    expect(strictIngest.stderr.trim().split('\n').at(-1)).toMatch(/^riskfold: --strict: portfolio acct-b not computed \(from [\d-]+\): .*injected fault for portfolio acct-b$/);
   });
 });

@@ -2,12 +2,21 @@ import { Worker } from 'node:worker_threads';
 import { keepStates, type EstimatorStates } from '../estimators/estimator.ts';
 import type { ResultBatch } from '../walk/resultColumns.ts';
 import type { ComputeInputs, EstimateTask, WalkSettings } from '../walk/walkEstimate.ts';
-import { WORKER_ROLE, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
+import { estimatorModules } from '../estimators/registry.ts';
+import { WORKER_ROLE, type WorkerData, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
 
-// Compiled (dist/, the built CLI) the worker is plain JavaScript beside this file; run
-// from the sources (tests, or the CLI before a build) a worker thread does not inherit
-// the tsx loader, so a boot file registers it first.
-const WORKER_ENTRY = import.meta.url.endsWith('.ts') ? './estimateWorkerBoot.mjs' : './estimateWorker.js';
+/**
+ * A worker thread running the module `name` beside `callerUrl` (the caller's
+ * import.meta.url). Compiled (dist/, the built CLI) the module is plain JavaScript and
+ * starts directly; run from the sources (tests, or the CLI before a build) a worker
+ * thread does not inherit the tsx loader, so the boot file registers it first. execArgv
+ * empty: whatever flags this process ran with.
+ */
+export function workerThread<Data extends { role: string }>(callerUrl: string, name: string, data: Data): Worker {
+  if (!callerUrl.endsWith('.ts')) return new Worker(new URL(`./${name}.js`, callerUrl), { workerData: data, execArgv: [] });
+  const module = new URL(`./${name}.ts`, callerUrl).href;
+  return new Worker(new URL('./estimateWorkerBoot.mjs', import.meta.url), { workerData: { ...data, module }, execArgv: [] });
+}
 
 /**
  * Walks the estimates in `threads` worker threads. The inputs are shared, not copied
@@ -15,8 +24,8 @@ const WORKER_ENTRY = import.meta.url.endsWith('.ts') ? './estimateWorkerBoot.mjs
  * whichever worker is free; every batch a worker posts goes to `onBatch` on this thread
  * as it arrives. Each walk is the same code as on the main thread, so the numbers are
  * the same bit for bit; only the order in which batches arrive differs.
- * Resolves with the states the estimators keep, as on the main thread. Only estimators
- * registered in registry.ts exist in the workers.
+ * Resolves with the states the estimators keep, as on the main thread. The workers have
+ * the estimators of registry.ts and those added by module URL (registerEstimatorModule).
  */
 export async function walkInWorkers(
   tasks: readonly { task: EstimateTask; cost: number }[],
@@ -30,8 +39,7 @@ export async function walkInWorkers(
   const estimatorOf = tasks.map((t) => t.task.estimator);
   const workers = Array.from(
     { length: Math.min(threads, queue.length) },
-    // execArgv empty: the boot file registers tsx itself, whatever flags this process ran with
-    () => new Worker(new URL(WORKER_ENTRY, import.meta.url), { workerData: { role: WORKER_ROLE }, execArgv: [] }),
+    () => workerThread(import.meta.url, 'estimateWorker', { role: WORKER_ROLE, estimatorModules: estimatorModules() } satisfies WorkerData),
   );
   const states: EstimatorStates = {};
   try {
@@ -90,14 +98,15 @@ function shareInputs(input: ComputeInputs): ComputeInputs {
 }
 
 /** A panel with each of its typed-array fields shared. */
-function sharedFields<T extends object>(panel: T): T {
+export function sharedFields<T extends object>(panel: T): T {
   const fields = Object.entries(panel).map(([key, value]) => [key, value instanceof Uint8Array || value instanceof Int32Array || value instanceof Float64Array ? shared(value) : value]);
   return Object.fromEntries(fields) as T;
 }
 
 type Typed = Uint8Array | Int32Array | Float64Array;
 
-function shared<A extends Typed>(a: A): A {
+/** The array itself when already on a SharedArrayBuffer, else a shared copy. */
+export function shared<A extends Typed>(a: A): A {
   if (a.buffer instanceof SharedArrayBuffer) return a;
   const copy = new (a.constructor as new (buffer: SharedArrayBuffer) => A)(new SharedArrayBuffer(a.byteLength));
   copy.set(a as never);

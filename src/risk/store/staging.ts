@@ -108,13 +108,18 @@ export class ResultStage {
   /** After `close`: drops the rows staged for the failed portfolios (a failure may come after some of their dates); returns the risk_daily rows left. */
   async dropFailed(db: Database): Promise<number> {
     if (this.failures.size === 0) return this.daily.rows;
-    const failed = `(${[...this.failures.keys()].join(', ')})`;
-    for (const table of ['daily', 'contributions', 'active', 'vol_change', 'vol_change_securities']) {
-      await db.run(`delete from risk_stage_${table} where p in ${failed}`);
-    }
-    const [{ n }] = await db.all<{ n: number }>('select count(*)::integer as n from risk_stage_daily');
-    return n;
+    return dropStagedPortfolios(db, [...this.failures.keys()]);
   }
+}
+
+/** Drops the rows staged for portfolios (panel indices) that will not be written; returns the risk_daily rows left. */
+export async function dropStagedPortfolios(db: Database, portfolios: readonly number[]): Promise<number> {
+  const failed = `(${portfolios.map((p) => Math.trunc(p)).join(', ')})`;
+  for (const table of ['daily', 'contributions', 'active', 'vol_change', 'vol_change_securities']) {
+    await db.run(`delete from risk_stage_${table} where p in ${failed}`);
+  }
+  const [{ n }] = await db.all<{ n: number }>('select count(*)::integer as n from risk_stage_daily');
+  return n;
 }
 
 /** A (portfolio, date, window, estimator, security, values...) staging table from one kind of SecurityRows. */
