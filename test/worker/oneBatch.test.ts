@@ -1,26 +1,15 @@
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
-import { afterEach, describe, expect, it } from 'vitest';
-import { memoryLogger } from '../../src/log/logger.ts';
-import { startWorker, type Worker } from '../../src/worker/startWorker.ts';
+import { describe, expect, it } from 'vitest';
 import { pricesCsv } from '../helpers/files.ts';
 import { waitFor } from '../helpers/wait.ts';
-import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
+import { inProcessWorker } from '../helpers/workerFixture.ts';
 
 describe('the worker and one business day\'s files landing together', () => {
-  let wd: WorkerDir | undefined;
-  let worker: Worker | undefined;
-  afterEach(async () => {
-    await worker?.stop();
-    worker = undefined;
-    wd?.cleanup();
-  });
+  const workers = inProcessWorker();
 
   it('makes one batch of files landing within watch.settleMs of each other, prices before positions, and one run', async () => {
-    wd = workerDir({ watch: { stableMs: 200, pollMs: 50, settleMs: 1500, maxBatchWaitMs: 10_000 } });
-    const { log, lines } = memoryLogger();
-    worker = await startWorker(wd.config, log);
-    await worker.idle();
+    const { wd, worker, lines } = await workers.start({ watch: { stableMs: 200, pollMs: 50, settleMs: 1500, maxBatchWaitMs: 10_000 } });
     const inbox = wd.config.inbox;
     const pause = () => new Promise((resolve) => setTimeout(resolve, 400));
     // positions first and prices last: the day (prices and positions, the default
@@ -42,10 +31,7 @@ describe('the worker and one business day\'s files landing together', () => {
 
   it('starts the batch of a whole day (prices and positions) watch.wholeDaySettleMs after its last file, not settleMs', async () => {
     // a settle window far beyond the wait below: only the early close can start this batch in time
-    wd = workerDir({ watch: { stableMs: 200, pollMs: 50, settleMs: 600_000, wholeDaySettleMs: 300, maxBatchWaitMs: 600_000 } });
-    const { log, lines } = memoryLogger();
-    worker = await startWorker(wd.config, log);
-    await worker.idle();
+    const { wd, worker, lines } = await workers.start({ watch: { stableMs: 200, pollMs: 50, settleMs: 600_000, wholeDaySettleMs: 300, maxBatchWaitMs: 600_000 } });
     const inbox = wd.config.inbox;
     writeFileSync(path.join(inbox, 'prices_0410.csv'), pricesCsv(30, 2, '2020-01-01'));
     writeFileSync(path.join(inbox, 'positions_0410.csv'), 'date,portfolio_id,security_id,quantity\n2020-01-01,acct-growth,EQ-NORDWIND,10\n');
