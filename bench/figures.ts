@@ -9,6 +9,7 @@ export const FIGURE_KEYS = [
   'new_day_latency_seconds',
   'worker_peak_memory_mib',
   'naive_vs_incremental',
+  'riskfold_vs_numpy',
   'history_growth_mib',
 ] as const;
 export type FigureKey = (typeof FIGURE_KEYS)[number];
@@ -50,6 +51,8 @@ export const GOALS: Record<FigureKey, Goal | null> = {
   new_day_latency_seconds: { kind: 'max', value: 2, sizes: REAL_SIZES },
   worker_peak_memory_mib: { kind: 'max', value: 2048, sizes: REAL_SIZES },
   naive_vs_incremental: null,
+  // issue 13: at the medium size, riskfold no slower than the numpy script
+  riskfold_vs_numpy: { kind: 'max', value: 1, sizes: ['medium'] },
   history_growth_mib: null,
 };
 
@@ -60,6 +63,7 @@ export const LABELS: Record<FigureKey, { label: string; unit: string }> = {
   new_day_latency_seconds: { label: 'One new business day: files land -> risk committed', unit: 's' },
   worker_peak_memory_mib: { label: 'Worker peak resident memory (VmHWM)', unit: 'MiB' },
   naive_vs_incremental: { label: 'Naive backfill time / incremental backfill time', unit: 'x' },
+  riskfold_vs_numpy: { label: 'riskfold ingest + backfill time / numpy script time', unit: 'x' },
   history_growth_mib: { label: 'Database growth over a year of daily corrections (history kept)', unit: 'MiB' },
 };
 

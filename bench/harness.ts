@@ -5,12 +5,13 @@ import type { Logger } from 'pino';
 import type { ConfigInput } from '../src/config/schema.ts';
 import { FIGURE_KEYS, unavailable, type Figure, type FigureKey } from './figures.ts';
 import { generateScenario, type GeneratedScenario } from './generate.ts';
-import { machineInfo, type MachineInfo } from './measure.ts';
+import { machineInfo, median, type MachineInfo } from './measure.ts';
 import { NAIVE_SIZE, SIZES, type SizeName } from './scenario.ts';
 import { measureBackfill, type BackfillMeasurement } from './stages/backfill.ts';
 import { measureHistoryGrowth } from './stages/history.ts';
 import { ingestHistory, measureIngest } from './stages/ingest.ts';
 import { measureNaive } from './stages/naive.ts';
+import { measureNumpyReference } from './stages/numpyReference.ts';
 import { measureWorker } from './stages/worker.ts';
 import { benchConfig, createBenchWorkspace, type BenchWorkspace } from './workspace.ts';
 
@@ -94,6 +95,17 @@ export async function runBench(options: BenchOptions): Promise<BenchResult> {
       keep([await naiveComparison(options, root, size.name === 'medium' || size.name === 'large' ? null : { ws: ingested, backfill })]);
     } catch (err) {
       failed(['naive_vs_incremental'], err);
+    }
+
+    stage('numpy reference: the same CSVs, sample and EWMA volatilities');
+    try {
+      const ingestSeconds = found.get('ingest_vs_read_csv')?.details.ingest_seconds;
+      if (!ingested || !backfill || typeof ingestSeconds !== 'number') throw new Error('needs the ingest and backfill times');
+      // its dense arrays (the positions file read whole, dates x dates per portfolio) want several GiB at the large size
+      if (size.name === 'large') throw new Error('skipped: run at the medium size (the comparison issue 13 sets)');
+      keep([await measureNumpyReference(scenario, ingested.config, { ingestSeconds, backfillSeconds: median(backfill.seconds) })]);
+    } catch (err) {
+      failed(['riskfold_vs_numpy'], err);
     }
 
     stage('history: a year of daily corrections');

@@ -64,7 +64,8 @@ if (values.growth || values.scaling) {
       };
   const result = await runSweep({
     ...sweep,
-    resultsDir,
+    // tiny is a smoke run, as below
+    resultsDir: values.growth && size === 'tiny' ? null : resultsDir,
     log,
     onPoint: (p, cost) =>
       process.stderr.write(

@@ -59,6 +59,7 @@ export type ErrorKind =
   | 'query_refused'
   | 'not_found'
   | 'input_rejected'
+  | 'portfolio_failed'
   | 'schema_outdated';
 
 export class RiskfoldError extends Error {

@@ -1,6 +1,7 @@
--- Backs the carried prices (step 090): every security with a non-zero quantity in a
+-- Backs the carried prices (step 090, which leaves cash aside) and the fx returns of
+-- cash in another currency (step 170): every security with a non-zero quantity in a
 -- snapshot in force or a non-zero weight in a benchmark snapshot in force (tracking
--- error needs the constituents' returns), cash aside, and the first such snapshot date.
+-- error needs the constituents' returns), cash included, and the first such snapshot date.
 -- Refilled from the date in the variable derived_from (src/storage/derived.ts sets it;
 -- '-infinity' rebuilds all): a security first held before it keeps its row, since the
 -- snapshots before that date did not change; the others are derived from the snapshots
@@ -12,11 +13,11 @@ insert into derived_held_securities
 with held_rows as (
   select security_id, date
   from clean_positions
-  where quantity <> 0 and not is_cash(security_id) and date >= getvariable('derived_from')
+  where quantity <> 0 and date >= getvariable('derived_from')
   union all
   select security_id, date
   from clean_benchmarks
-  where weight <> 0 and not is_cash(security_id) and date >= getvariable('derived_from')
+  where weight <> 0 and date >= getvariable('derived_from')
 ),
 
 first_held as (

@@ -17,10 +17,12 @@ with valuation_dates as (
   from derived_valuation_dates
 ),
 
--- benchmark constituents too (step 066): tracking error needs their returns
+-- benchmark constituents too (step 066): tracking error needs their returns; cash has
+-- no price (its returns are the fx rates')
 held_securities as (
   select security_id, first_held_on < getvariable('derived_from') as keeps_earlier_rows
   from derived_held_securities
+  where not is_cash(security_id)
 ),
 
 -- the rows kept before derived_from end on derived_carry_from: what each carries in

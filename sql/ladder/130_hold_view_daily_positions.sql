@@ -10,9 +10,13 @@ with valuation_dates as (
   where date_index >= first_date_index
 ),
 
+-- only the snapshots still in effect on or after the first date: one replaced before it
+-- (held_until on or before that date) is never the latest on a date read, and joining
+-- every date to every older snapshot made the read grow with history
 snapshots as (
   select portfolio_id, snapshot_date
   from clean_snapshots
+  where held_until is null or held_until > (select min(date) from valuation_dates)
 ),
 
 first_snapshot as (

@@ -59,13 +59,13 @@ returns as (
   where prev_date_index is not null and date_index >= first_date_index
 ),
 
--- held, or a benchmark's constituent (its return enters the benchmark's); step 067 keeps
+-- held, or a benchmark's constituent (its return enters the benchmark's); step 066 keeps
 -- the list, so no run scans the whole position history for it
 foreign_cash as (
   select security_id, cash_currency(security_id) as currency
-  from derived_held_cash
+  from derived_held_securities
   cross join settings
-  where not is_cash_in(security_id, settings.base_currency)
+  where is_cash(security_id) and not is_cash_in(security_id, settings.base_currency)
 ),
 
 -- align_fx has a row for every valuation date from a currency's first rate on

@@ -1,4 +1,5 @@
-import type { Config } from '../config/load.ts';
+import type { Config, ResolvedLimit } from '../config/load.ts';
+import { limitKey } from '../limits/applicableLimits.ts';
 import type { Database } from '../storage/database.ts';
 
 /**
@@ -6,13 +7,17 @@ import type { Database } from '../storage/database.ts';
  * (the JSON text is compared as recorded). Settings that only steer the worker
  * (folders, watch, alerts, schedules) are not here: changing them leaves results valid.
  */
-export type ResultSettings = Record<string, string | number | boolean | number[]>;
+export type ResultSettings = Record<string, string | number | boolean | number[] | string[]>;
 
 export function resultSettings(config: Config): ResultSettings {
   const { risk } = config;
   // recorded only when set, so results made before benchmarks existed stay current
   const mapped = Object.entries(config.benchmarks).sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
   const benchmarks: ResultSettings = mapped.length > 0 ? { benchmarks: mapped.map(([portfolio, benchmark]) => `${portfolio}=${benchmark}`).join(',') } : {};
+  // the limits shape limit_breaches (which series is watched, at which levels its episodes
+  // open, escalate and close); recorded only when set, as the benchmarks. alerts.maxAgeDays
+  // only decides which transitions alert, so it is not here
+  const limits: ResultSettings = config.limits.length > 0 ? { limits: config.limits.map(limitSetting).sort() } : {};
   return {
     baseCurrency: config.baseCurrency,
     // as the risk stage uses them: each window once, ascending
@@ -29,7 +34,13 @@ export function resultSettings(config: Config): ResultSettings {
     // the loss stage's lookbacks shape var_daily and var_backtest (the stress rows are rewritten by every run)
     'risk.historical.days': [...new Set(risk.historical.days)].sort((a, b) => a - b),
     ...benchmarks,
+    ...limits,
   };
+}
+
+/** "*|vol_ex_ante||63|sample=0.15/0.135/0.1275": the portfolio and the series watched, then limit/warning/clear (defaults resolved). */
+function limitSetting(limit: ResolvedLimit): string {
+  return `${limit.portfolio}|${limitKey(limit)}=${limit.limit}/${limit.warning}/${limit.clear}`;
 }
 
 /** One setting whose recorded value differs from the current one; `before` undefined: not recorded. */

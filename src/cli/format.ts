@@ -1,7 +1,7 @@
 import { statSync } from 'node:fs';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
-import type { QueryResult, Unit } from '../read/readQuery.ts';
+import { unitAt, type QueryResult, type Unit } from '../read/readQuery.ts';
 import type { StatusSection } from '../read/readStatus.ts';
 import type { ReadHandle } from '../storage/workspace.ts';
 import { forTableCell, forTerminal, jsonForTerminal } from './terminalText.ts';
@@ -45,7 +45,7 @@ function csvField(text: string): string {
  * count. csv and json are the formats that keep full precision.
  */
 export function toTable(result: QueryResult): string {
-  const cells = result.rows.map((row) => row.map((v, i) => tableCell(v, result.units?.[i] ?? null)));
+  const cells = result.rows.map((row, r) => row.map((v, i) => tableCell(v, unitAt(result, r, i))));
   const numeric = result.columns.map((_, i) => result.rows.length > 0 && result.rows.every((r) => r[i] === null || typeof r[i] === 'number'));
   const headers = result.columns.map(forTableCell);
   const widths = headers.map((h, i) => Math.max(h.length, ...cells.map((r) => r[i].length)));

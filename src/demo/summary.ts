@@ -1,6 +1,7 @@
 import { existsSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import type { Config } from '../config/load.ts';
+import { seriesLabel } from '../labels.ts';
 import { CAUTIONS } from '../report/cautions.ts';
 import { formatMoney, formatPercent } from '../report/format.ts';
 import type { Breach } from '../report/reportData.ts';
@@ -108,7 +109,7 @@ function episodeText(e: EpisodeSummary): string {
 
 function backtestText(b: NonNullable<AccountSummary['backtest']>): string {
   const zone = b.zone ? `${b.zone} zone` : `no zone before 250 tested days (${b.tested_days} so far)`;
-  return `${DEMO_LIMIT_WINDOW}-day normal 99% VaR, ${b.exceptions_250} exceptions in the last 250 tested days: ${zone}`;
+  return `${seriesLabel({ metric: 'backtest_zone', method: 'normal', window: DEMO_LIMIT_WINDOW, estimator: 'sample' })}: ${b.exceptions_250} exceptions in the last 250 tested days, ${zone}`;
 }
 
 const pad = (text: string, width: number) => text.padEnd(width);

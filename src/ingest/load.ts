@@ -7,7 +7,7 @@ import type { ColumnMapping } from './header.ts';
 import { findIngested, recordFile, type EarlierDelivery, type FileRecord } from './ledger.ts';
 import type { KindLayout } from './layout.ts';
 import type { Plausibility } from './plausibility.ts';
-import { badSql, summaryOf, summarySelect, type FileSummary } from './rules.ts';
+import { badSql, keyHashRepeats, summaryOf, summarySelect, type FileSummary } from './rules.ts';
 import { hasUnbalancedWeights } from './weightSums.ts';
 
 export type LoadAttempt =
@@ -42,9 +42,10 @@ class Abort extends Error {
 /**
  * The whole load in one pass over the file and ONE transaction: read_csv fills a
  * temporary table with the typed rows; from it they go into the raw table, checked on
- * the way (a row that breaks a rule raises, and the statement fails); then the ids' rule,
- * a summary of the file (count, dates, portfolios, distinct keys), the duplicate check on
- * the hash (computed meanwhile in this thread) and the `ingested_files` row. Anything
+ * the way (a row that breaks a rule raises, and the statement fails); then the ids' rule
+ * and a summary of the file (count, dates, portfolios) in one scan, a sorted pass over the
+ * keys' hashes for a repeated key, the duplicate check on the file's sha256 (computed
+ * meanwhile in this thread) and the `ingested_files` row. Anything
  * wrong rolls it all back and the caller finds out which row it was; a good file, the
  * common case, costs one read.
  */
@@ -97,13 +98,12 @@ async function insertStaged(
   } catch (cause) {
     throw new Abort({ kind: 'failed', sha256: await hashing, cause });
   }
-  if (await badIdIn(db, layout, bounds)) throw new Abort({ kind: 'failed', sha256: await hashing, cause: null });
-  const [row] = await db.all<Record<string, unknown>>(`select ${summarySelect(layout).join(', ')} from ${LOAD_TABLE}`);
-  const summary = summaryOf(row);
+  const { summary, badId } = await summarizeStaged(db, layout, bounds);
+  if (badId) throw new Abort({ kind: 'failed', sha256: await hashing, cause: null });
   const sha256 = await hashing;
   const earlier = await findIngested(db, sha256);
   if (earlier) throw new Abort({ kind: 'known', sha256, earlier });
-  if (summary.rows === 0 || (summary.keys < summary.rows && (await keyRepeats(db, layout)))) {
+  if (summary.rows === 0 || ((await keyHashRepeats(db, LOAD_TABLE, layout)) && (await keyRepeats(db, layout)))) {
     throw new Abort({ kind: 'failed', sha256, cause: null });
   }
   if (layout.kind === 'benchmarks' && (await hasUnbalancedWeights(db, LOAD_TABLE, bounds.weightSumTolerance))) {
@@ -126,19 +126,23 @@ async function insertStaged(
 }
 
 /**
+ * The file's summary and whether an id breaks its rule, in one scan of the staged rows.
  * Ids repeat on nearly every row, and their rule holds a regular expression (printable
- * characters): it runs once per distinct id of the file instead of once per row.
+ * characters): it runs once per distinct id of the file (their lists, gathered in the
+ * same scan as the summary) instead of once per row. list() leaves nulls out: counted apart.
  */
-async function badIdIn(db: Database, layout: KindLayout, bounds: Plausibility): Promise<boolean> {
-  for (const field of layout.fields.filter((f) => f.type === 'id')) {
-    const col = ident(field.name);
-    const hit = await db.all(`select 1 from (select distinct ${col} from ${LOAD_TABLE}) where ${badSql(field, bounds)} limit 1`);
-    if (hit.length > 0) return true;
-  }
-  return false;
+async function summarizeStaged(db: Database, layout: KindLayout, bounds: Plausibility): Promise<{ summary: FileSummary; badId: boolean }> {
+  const ids = layout.fields.filter((f) => f.type === 'id');
+  const gathered = ids.flatMap((f, i) => [`list(distinct ${ident(f.name)}) as ids_${i}`, `count(*) - count(${ident(f.name)}) as nulls_${i}`]);
+  const bad = ids.map((f, i) => `nulls_${i} > 0 or exists (select 1 from (select unnest(ids_${i}) as ${ident(f.name)}) where ${badSql(f, bounds)})`);
+  const [row] = await db.all<Record<string, unknown>>(
+    `select n_rows, min_date, max_date, portfolios, ${bad.length > 0 ? bad.join(' or ') : 'false'} as bad_id
+     from (select ${[...summarySelect(layout), ...gathered].join(', ')} from ${LOAD_TABLE})`,
+  );
+  return { summary: summaryOf(row), badId: row.bad_id === true };
 }
 
-/** The exact test behind a short count of key hashes (which a hash collision could also cause). */
+/** The exact test behind a repeated key hash (which a hash collision could also cause). */
 async function keyRepeats(db: Database, layout: KindLayout): Promise<boolean> {
   const keys = layout.key.map(ident).join(', ');
   const rows = await db.all(`select 1 from ${LOAD_TABLE} group by ${keys} having count(*) > 1 limit 1`);

@@ -4,14 +4,14 @@ import type { Database } from '../storage/database.ts';
 import { ident } from './csvSql.ts';
 import type { FieldSpec, KindLayout } from './layout.ts';
 import type { Plausibility } from './plausibility.ts';
-import { badSql, explain, summaryOf, summarySelect } from './rules.ts';
+import { badSql, explain, keyHashRepeats, summaryOf, summarySelect } from './rules.ts';
 import { STAGE_TABLE, textColumn } from './stage.ts';
 import { unbalancedWeightsRejection } from './weightSums.ts';
 
 /**
- * Finds why the staged file cannot be loaded, in one scan: every field's rule, counted
- * by its first failing row, with the row count and the count of distinct keys. Only when
- * that count shows a repeated key does a second query look for it. The earliest failing
+ * Finds why the staged file cannot be loaded: one scan for every field's rule, counted
+ * by its first failing row, with the row count; one pass over the keys' hashes, and only
+ * when two are equal a query that looks for the repeated key. The earliest failing
  * row wins (ties: the field order of the layout); a benchmarks file whose rows all pass
  * is then checked for a snapshot whose weights do not add up to 1. Null: nothing wrong.
  */
@@ -36,7 +36,7 @@ export async function findFirstProblem(
     const at = row[`bad_${i}`] as number | null;
     if (at !== null) failures.push({ row: at, rejection: () => valueRejection(db, c.field, source, bounds, file, at) });
   });
-  if (summary.keys < summary.rows) {
+  if (await keyHashRepeats(db, STAGE_TABLE, layout)) {
     const repeat = await firstRepeatedKey(db, layout);
     // a hash collision without a real repeat leaves `repeat` null
     if (repeat) failures.push({ row: repeat.row, rejection: async () => duplicateRejection(layout, file, repeat) });

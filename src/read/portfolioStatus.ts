@@ -1,5 +1,5 @@
-import type { Config, ResolvedLimit } from '../config/load.ts';
-import { applicableLimits, limitKey, type Series } from '../limits/applicableLimits.ts';
+import type { Config } from '../config/load.ts';
+import { applicableLimits, isCountMetric, limitKey, type Series } from '../limits/applicableLimits.ts';
 import { metricSql, seriesKey, seriesOf, type SeriesRow } from '../limits/breachStore.ts';
 import type { QueryResult, Unit } from './readQuery.ts';
 import type { Database } from '../storage/database.ts';
@@ -20,53 +20,92 @@ interface EpisodeRow extends SeriesRow {
   closed_on: string | null;
 }
 
+/** One watched figure of one portfolio on its latest valuation date. */
+export interface WatchedFigure {
+  series: Series;
+  /** The figure (null: no value on that date); a fraction, or a count for backtest_zone. */
+  value: number | null;
+  limit: number;
+  /** Limit minus figure. */
+  headroom: number | null;
+  /** `clear`, `warning` or `breach`, since `since` (null: never opened). */
+  episode: string;
+  since: string | null;
+}
+
+/** A portfolio against its limits: what `status` and the firm page show first. */
+export interface PortfolioStanding {
+  portfolioId: string;
+  asOf: string;
+  value: number | null;
+  coverage: number | null;
+  status: string;
+  /** Per watched series (`watchedSeries` order), its figure, or null: no limit applies to this portfolio. */
+  figures: (WatchedFigure | null)[];
+}
+
 /**
- * One row per portfolio, what an operator checks first: the latest valuation date, the
- * value in base currency, each watched figure against its limit with the headroom left
- * and the state of its episode, then coverage and status. Coverage and status are those
- * of the first watched estimate (without limits: the first configured window, sample).
- * `portfolio` narrows it to one portfolio.
+ * Each portfolio on its latest valuation date: the value in base currency, each watched
+ * figure against its limit with the headroom left and the state of its episode, then
+ * coverage and status. Coverage and status are those of the first watched estimate of
+ * risk_daily (without one: the first configured window, sample). `portfolio` narrows it
+ * to one portfolio.
  */
-export async function readPortfolioStatus(db: Database, config: Config, portfolio: string | null): Promise<QueryResult> {
+export async function readStandings(db: Database, config: Config, portfolio: string | null): Promise<{ series: Series[]; standings: PortfolioStanding[] }> {
   const series = watchedSeries(config);
   // a historical VaR's backtest has no risk_daily estimate of its own
   const estimate = series.find((s) => s.method === null || s.method === 'normal') ?? { window: config.risk.windows[0], estimator: 'sample' };
-  const base = await latestRows(db, estimate, portfolio);
+  const base = new Map((await latestRows(db, estimate, portfolio)).map((r) => [r.portfolio_id, r]));
   const asOf = await latestDates(db, portfolio);
   const figures: Map<string, number | null>[] = [];
   for (const s of series) figures.push(await latestFigures(db, s, portfolio));
   const episodes = await latestEpisodes(db, portfolio);
-  const baseById = new Map(base.map((r) => [r.portfolio_id, r]));
+  const standings = [...asOf].map(([id, date]): PortfolioStanding => {
+    const head = base.get(id);
+    const limits = applicableLimits(config.limits, id);
+    return {
+      portfolioId: id,
+      asOf: date,
+      value: head?.portfolio_value ?? null,
+      coverage: head?.coverage ?? null,
+      status: head?.status ?? 'no_risk_rows',
+      figures: series.map((s, i) => {
+        const limit = limits.find((l) => limitKey(l) === limitKey(s));
+        if (!limit) return null;
+        const value = figures[i].get(id) ?? null;
+        const [episode, since] = episodeState(episodes.get(seriesKey(id, s)));
+        return { series: s, value, limit: limit.limit, headroom: value === null ? null : limit.limit - value, episode, since };
+      }),
+    };
+  });
+  return { series, standings };
+}
 
+/**
+ * `status`'s first table: one row per portfolio, five columns per watched figure
+ * (figure, limit, headroom, episode, since; "not watched" where no limit applies).
+ */
+export async function readPortfolioStatus(db: Database, config: Config, portfolio: string | null): Promise<QueryResult> {
+  const { series, standings } = await readStandings(db, config, portfolio);
   const columns = ['portfolio_id', 'as_of', 'value_base'];
   const units: (Unit | null)[] = [null, null, 'amount'];
   for (const s of series) {
     const name = seriesName(s);
     columns.push(name, `${name}_limit`, `${name}_headroom`, `${name}_episode`, `${name}_since`);
     // a backtest zone watches a count of exceptions, every other figure a fraction
-    const unit = s.metric === 'backtest_zone' ? null : 'percent';
+    const unit = isCountMetric(s.metric) ? null : 'percent';
     units.push(unit, unit, unit, null, null);
   }
   columns.push('coverage', 'status');
   units.push('percent', null);
-
-  const rows = [...asOf.keys()].map((id) => {
-    const head = baseById.get(id);
-    const row: unknown[] = [id, asOf.get(id), head?.portfolio_value ?? null];
-    const limits = applicableLimits(config.limits, id);
-    series.forEach((s, i) => {
-      const limit = limits.find((l) => limitKey(l) === limitKey(s));
-      if (!limit) {
-        row.push(null, null, null, 'not watched', null);
-        return;
-      }
-      const value = figures[i].get(id) ?? null;
-      const episode = episodes.get(seriesKey(id, s));
-      row.push(value, limit.limit, value === null ? null : limit.limit - value, ...episodeState(episode));
-    });
-    row.push(head?.coverage ?? null, head?.status ?? 'no_risk_rows');
-    return row;
-  });
+  const rows = standings.map((p) => [
+    p.portfolioId,
+    p.asOf,
+    p.value,
+    ...p.figures.flatMap((f) => (f === null ? [null, null, null, 'not watched', null] : [f.value, f.limit, f.headroom, f.episode, f.since])),
+    p.coverage,
+    p.status,
+  ]);
   return { columns, rows, units };
 }
 

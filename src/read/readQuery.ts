@@ -11,6 +11,13 @@ export interface QueryResult {
   rows: unknown[][];
   /** Per column, how a table shows it; csv and json always print the full value. */
   units?: (Unit | null)[];
+  /** Per row, units replacing `units` for that row (a row whose levels are counts, not fractions); null: `units`. */
+  rowUnits?: ((Unit | null)[] | null)[];
+}
+
+/** How a table shows one cell: its row's units, else its column's. */
+export function unitAt(result: QueryResult, row: number, column: number): Unit | null {
+  return (result.rowUnits?.[row] ?? result.units)?.[column] ?? null;
 }
 
 // Statement types that only read. DuckDB reports describe/show/summarize/pragma table_info

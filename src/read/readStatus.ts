@@ -1,6 +1,7 @@
 import type { DuckDBValue } from '@duckdb/node-api';
 import { FAILING_PORTFOLIOS_SQL } from '../batch/portfolioIncident.ts';
 import type { Config } from '../config/load.ts';
+import { isCountMetric } from '../limits/applicableLimits.ts';
 import { readDeliveryStatus } from './deliveryStatus.ts';
 import { readPortfolioStatus } from './portfolioStatus.ts';
 import { requireKnownPortfolios } from './portfolios.ts';
@@ -127,12 +128,16 @@ async function dataQualitySection(db: Database, portfolio: string | null, shape:
   return section(db, key, title, sql, [portfolio]);
 }
 
-// limit levels and episode peaks are fractions (0.15 = 15%): a table shows them as percentages
+// limit levels and episode peaks are fractions (0.15 = 15%): a table shows them as
+// percentages, except on a row whose metric counts (a backtest zone's exceptions)
 const FRACTION_COLUMNS = new Set(['limit_value', 'peak_value']);
 
 async function section(db: Database, key: string, title: string, sql: string, params: DuckDBValue[], limit = SHOWN): Promise<StatusSection> {
   const [{ n }] = await db.all<{ n: string }>(`select count(*)::varchar as n from (${sql})`, params);
   const result = await readTable(db, `${sql} limit ${limit}`, params);
-  result.units = result.columns.map((c) => (FRACTION_COLUMNS.has(c) ? 'percent' : null));
+  const units = result.columns.map((c) => (FRACTION_COLUMNS.has(c) ? 'percent' : null));
+  const metric = result.columns.indexOf('metric');
+  result.units = units;
+  if (metric >= 0) result.rowUnits = result.rows.map((row) => (isCountMetric(String(row[metric])) ? units.map(() => null) : null));
   return { key, title, result, total: Number(n) };
 }

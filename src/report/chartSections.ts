@@ -127,7 +127,7 @@ export function contributionsSection(data: ReportData): string {
   const { rows, date } = data.contributions;
   const bars = rows
     .filter((r) => r.pct !== null)
-    .map((r) => ({ label: r.name ?? r.security_id, detail: `(weight ${formatPercent(r.weight, 1)})`, value: r.pct as number }));
+    .map((r) => ({ label: r.security_id, detail: `(${r.name ? `${r.name}, ` : ''}weight ${formatPercent(r.weight, 1)})`, value: r.pct as number }));
   const chart = barChart({
     id: 'contributions',
     title: 'Contribution to risk by holding',

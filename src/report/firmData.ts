@@ -1,6 +1,5 @@
 import type { Config } from '../config/load.ts';
-import { readPortfolioStatus } from '../read/portfolioStatus.ts';
-import type { QueryResult } from '../read/readQuery.ts';
+import { readStandings, type PortfolioStanding } from '../read/portfolioStatus.ts';
 import type { SeriesRow } from '../limits/breachStore.ts';
 import type { Database } from '../storage/database.ts';
 import { knownPortfolios } from './reportData.ts';
@@ -31,8 +30,8 @@ export interface FirmData {
   /** The latest date any portfolio has figures for; null before the first run. */
   asOf: string | null;
   portfolios: string[];
-  /** Every portfolio against its limits: the table of `riskfold status`. */
-  status: QueryResult;
+  /** Every portfolio against its limits, as `riskfold status` reads them. */
+  standings: PortfolioStanding[];
   openEpisodes: OpenEpisode[];
   problems: PortfolioProblem[];
   database: string;
@@ -60,7 +59,7 @@ export async function loadFirmData(db: Database, config: Config, database = db.p
   return {
     asOf,
     portfolios: await knownPortfolios(db),
-    status: await readPortfolioStatus(db, config, null),
+    standings: (await readStandings(db, config, null)).standings,
     openEpisodes,
     problems,
     database,

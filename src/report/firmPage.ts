@@ -35,31 +35,53 @@ ${cautionsSection()}
 type Link = (portfolioId: string) => string;
 
 const cell = (html: string, num = false) => `<td${num ? ' class="num"' : ''}>${html}</td>`;
-// column names keep their underscores (they are the names `status` and SQL use) and may break after them
-const table = (labels: string[], numeric: ReadonlySet<number>, rows: string[]) =>
-  `<div class="wide"><table class="firm"><thead><tr>${labels
-    .map((l, i) => `<th${numeric.has(i) ? ' class="num"' : ''}>${escapeHtml(l).replaceAll('_', '_<wbr>')}</th>`)
-    .join('')}</tr></thead><tbody>${rows.map((r) => `<tr>${r}</tr>`).join('')}</tbody></table></div>`;
+/** `rows`: whole `<tr>` elements. */
+const table = (labels: string[], numeric: ReadonlySet<number>, rows: string[], id?: string) =>
+  `<div class="wide"${id ? ` id="${id}"` : ''}><table class="firm"><thead><tr>${labels
+    .map((l, i) => `<th${numeric.has(i) ? ' class="num"' : ''}>${escapeHtml(l)}</th>`)
+    .join('')}</tr></thead><tbody>${rows.join('')}</tbody></table></div>`;
 
-/** The status table, column for column (names as `riskfold status` prints them), each portfolio a link. */
+/**
+ * Every portfolio against its limits, one row per portfolio and watched figure (so the
+ * table stays as wide as one figure however many are watched); the portfolio's own
+ * cells (as of, value, coverage, status) span its rows.
+ */
 function limitsSection(data: FirmData, link: Link): string {
-  const { columns, rows, units = [] } = data.status;
-  const numeric = new Set(units.flatMap((u, i) => (u ? [i] : [])));
-  const body = rows.map((row) =>
-    row
-      .map((v, i) => {
-        if (i === 0) return cell(link(String(v)));
-        if (units[i] === 'percent') return cell(escapeHtml(formatPercent(v as number | null)), true);
-        if (units[i] === 'amount') return cell(escapeHtml(formatMoney(v as number | null)), true);
-        return cell(escapeHtml(v === null || v === undefined ? '-' : String(v)));
-      })
-      .join(''),
-  );
+  const { standings } = data;
+  const body = standings.flatMap((p) => {
+    const figures = p.figures.filter((f) => f !== null);
+    const span = Math.max(1, figures.length);
+    const spanned = (html: string, cls = '') => `<td${cls ? ` class="${cls}"` : ''}${span > 1 ? ` rowspan="${span}"` : ''}>${html}</td>`;
+    const own = [spanned(link(p.portfolioId)), spanned(escapeHtml(p.asOf), 'date'), spanned(escapeHtml(formatMoney(p.value)), 'num')];
+    const tail = [spanned(escapeHtml(formatPercent(p.coverage)), 'num'), spanned(breakable(p.status))];
+    if (figures.length === 0) return [`<tr data-portfolio="${escapeHtml(p.portfolioId)}">${own.join('')}<td colspan="6">no limit applies</td>${tail.join('')}</tr>`];
+    return figures.map((f, i) => {
+      const metric = f.series.metric;
+      const cells = [
+        cell(escapeHtml(seriesLabel(f.series))),
+        cell(escapeHtml(formatLimitFigure(metric, f.value)), true),
+        cell(escapeHtml(formatLimitFigure(metric, f.limit)), true),
+        cell(escapeHtml(formatLimitFigure(metric, f.headroom)), true),
+        cell(f.episode === 'clear' ? 'clear' : `<span class="chip chip-${escapeHtml(f.episode)}">${escapeHtml(f.episode)}</span>`),
+        `<td class="date">${escapeHtml(f.since ?? '-')}</td>`,
+      ];
+      const row = i === 0 ? [...own.slice(0, 3), ...cells, ...tail] : cells;
+      return `<tr data-portfolio="${escapeHtml(p.portfolioId)}">${row.join('')}</tr>`;
+    });
+  });
   const lede =
-    rows.length === 0
+    standings.length === 0
       ? 'No portfolio has risk figures yet.'
-      : 'Each portfolio on its latest valuation date: every figure a limit watches, the limit, the headroom left (limit minus figure) and the state of its episode since the date shown; then coverage and status. "not watched": no limit applies to that portfolio.';
-  return `<section><h2>Portfolios against their limits</h2><p class="lede">${escapeHtml(lede)}</p>${rows.length ? table(columns, numeric, body) : ''}</section>`;
+      : 'Each portfolio on its latest valuation date, one row per figure a limit watches: the figure, its limit, the headroom left (limit minus figure) and the state of its episode since the date shown; a backtest zone counts exceptions in 250 days. Coverage and status are the portfolio\'s.';
+  const labels = ['portfolio', 'as of', 'value', 'figure', 'now', 'limit', 'headroom', 'episode', 'since', 'coverage', 'status'];
+  return `<section><h2>Portfolios against their limits</h2><p class="lede">${escapeHtml(lede)}</p>${
+    standings.length ? table(labels, new Set([2, 4, 5, 6, 9]), body, 'standings') : ''
+  }</section>`;
+}
+
+/** A status such as "partial_history,suspect_price" may break after its commas and underscores. */
+function breakable(text: string): string {
+  return escapeHtml(text).replace(/([,_])/g, '$1<wbr>');
 }
 
 function episodesSection(data: FirmData, link: Link): string {
@@ -76,10 +98,10 @@ function episodesSection(data: FirmData, link: Link): string {
       cell(escapeHtml(`${formatLimitFigure(e.metric, e.peak_value)} on ${e.peak_on}`), true),
       cell(escapeHtml(formatLimitFigure(e.metric, e.limit_value, 1)), true),
     ].join(''),
-  );
+  ).map((r) => `<tr>${r}</tr>`);
   return `<section><h2>Open limit episodes</h2><p class="lede">${escapeHtml(
     'Episodes not yet closed, breaches first: opened at the warning level (or the limit), escalated once the limit was reached; an episode closes on the first day below its clear level.',
-  )}</p>${table(['portfolio', 'metric', 'level', 'opened', 'escalated', 'peak', 'limit'], new Set([5, 6]), rows)}</section>`;
+  )}</p>${table(['portfolio', 'figure', 'level', 'opened', 'escalated', 'peak', 'limit'], new Set([5, 6]), rows)}</section>`;
 }
 
 function problemsSection(data: FirmData, link: Link): string {
@@ -95,7 +117,7 @@ function problemsSection(data: FirmData, link: Link): string {
       cell(escapeHtml(p.securities ?? '(portfolio)')),
       cell(escapeHtml(p.example)),
     ].join(''),
-  );
+  ).map((r) => `<tr>${r}</tr>`);
   return `<section><h2>Data problems</h2><p class="lede">${escapeHtml(
     "What check_data_quality flags on each portfolio's latest valuation date, by kind: how many rows, the first securities concerned and one reason.",
   )}</p>${table(['portfolio', 'date', 'problem', 'rows', 'securities', 'reason'], new Set([3]), rows)}</section>`;

@@ -46,7 +46,7 @@ function backtestSection(data: ReportData): string {
   const { chart, backtests } = data.losses;
   const loss: LineSeries = { label: 'loss of the day (holdings)', color: PALETTE.realized, points: chart.points.map((p) => ({ date: p.date, value: -p.pnl })) };
   const predicted: LineSeries = {
-    label: `normal ${chart.window}-day VaR 99%, predicted the day before`,
+    label: `99% VaR (${varMethodLabel({ method: 'normal', window_days: chart.window, estimator: 'sample' })}), predicted the day before`,
     color: PALETTE.exAnte,
     points: chart.points.map((p) => ({ date: p.date, value: p.var_99_1d })),
   };

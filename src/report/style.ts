@@ -31,7 +31,7 @@ h1 { font-size: 26px; margin: 2px 0 4px; font-weight: 600; }
 .subtitle { color: ${PALETTE.muted}; margin: 0; }
 h2 { font-size: 16px; margin: 0 0 4px; font-weight: 600; }
 .wide { overflow-x: auto; }
-table.firm td { white-space: nowrap; }
+table.firm td.num, table.firm td.date { white-space: nowrap; }
 h3 { font-size: 13px; margin: 12px 0 4px; font-weight: 600; }
 section { margin: 26px 0; break-inside: avoid; page-break-inside: avoid; }
 section > .lede { color: ${PALETTE.muted}; margin: 0 0 10px; font-size: 13px; }

@@ -64,7 +64,7 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   // windows); security returns from the first date: the loss stage's EWMA-filtered
   // scenarios and stress ranges reach back that far
   const firstRow = Math.max(0, fromRow - longest + 1);
-  const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, firstRow));
+  const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, firstRow, scope.portfolios));
   const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, firstRow, scope.portfolios));
   const benchmarks = await phases.time('read_benchmarks', () => readBenchmarkPanel(db, config, portfolios.ids, dates.length, firstRow));
   for (const id of scope.portfolios ?? []) {

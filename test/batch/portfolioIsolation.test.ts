@@ -1,10 +1,12 @@
-import { readFileSync } from 'node:fs';
+import { readFileSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { failingPortfolios } from '../../src/batch/portfolioIncident.ts';
 import { runRecompute } from '../../src/batch/runRecompute.ts';
 import type { Database } from '../../src/storage/database.ts';
 import { openWorkspace } from '../../src/storage/workspace.ts';
 import { runCli } from '../cli/cliProcess.ts';
+import { pricesCsv } from '../helpers/files.ts';
 import type { TempWorkspace } from '../helpers/workspace.ts';
 import { deskInInbox } from './isolationDesk.ts';
 
@@ -43,11 +45,12 @@ describe('one portfolio whose risk cannot be computed', () => {
 
   it('stops only that portfolio: the others get risk and limit alerts, it gets its own incident until a run computes it again', async () => {
     ws = await deskInInbox();
-    const cli = (args: string[], env = {}) => {
+    const cli = (args: string[], env = {}, status = 0) => {
       const r = runCli([...args, '--config', ws!.config.configPath], 60_000, env);
-      expect(r.status, r.stderr).toBe(0);
+      expect(r.status, r.stderr).toBe(status);
       return r;
     };
+    const strictLine = /^riskfold: --strict: portfolio acct-b not computed \(from 2020-01-01\): 63-day sample estimate: injected fault for portfolio acct-b$/;
 
     // run 1: the delivery, with acct-b failing
     const ingest = cli(['ingest'], FAULT);
@@ -88,8 +91,10 @@ describe('one portfolio whose risk cannot be computed', () => {
     db.close();
     db = undefined;
 
-    // run 3 fails acct-b again: the same episode, no second alert
-    cli(['recompute'], FAULT);
+    // run 3 fails acct-b again: the same episode, no second alert; --strict exits 1 and names it
+    const strict = cli(['recompute', '--strict'], FAULT, 1);
+    expect(strict.stdout).toMatch(/^portfolio acct-b not computed/m);
+    expect(strict.stderr.trim().split('\n').at(-1)).toMatch(strictLine);
     db = await openWorkspace(ws.config, ws.log);
     expect((await runFailedAlerts(db)).map((a) => a.alert_id)).toEqual(['run-failed-1-portfolio-acct-b-open']);
     expect(await db.all(`select run_id, portfolio_id from portfolio_failures order by run_id`)).toEqual([
@@ -111,5 +116,13 @@ describe('one portfolio whose risk cannot be computed', () => {
     ]);
     for (const k of [0, 1]) expect(after[k * 2].vol).toBe(first[k].vol);
     expect(await failingPortfolios(db)).toEqual([]);
+    db.close();
+    db = undefined;
+
+    // ingest --strict: every file loaded and the run made, then exit 1 naming the portfolio left out
+    writeFileSync(path.join(ws.config.inbox, 'prices_2020_more.csv'), pricesCsv(72, 2));
+    const strictIngest = cli(['ingest', '--strict'], FAULT, 1);
+    expect(strictIngest.stdout).toMatch(/^ingested\s+prices_2020_more\.csv/m);
+    expect(strictIngest.stderr.trim().split('\n').at(-1)).toMatch(/^riskfold: --strict: portfolio acct-b not computed \(from [\d-]+\): .*injected fault for portfolio acct-b$/);
   });
 });

@@ -1,10 +1,8 @@
-import path from 'node:path';
-import { writeFileSync } from 'node:fs';
 import { afterEach, describe, expect, it } from 'vitest';
 import { runBatch } from '../../src/batch/runBatch.ts';
 import { runRecompute } from '../../src/batch/runRecompute.ts';
 import { RUN_WRITERS, type RunWriter } from '../../src/batch/runWriters.ts';
-import { pricesCsv, writeCsv } from '../helpers/files.ts';
+import { writeTwoHoldings } from '../helpers/files.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
 describe('runRecompute: the write step', () => {
@@ -14,14 +12,7 @@ describe('runRecompute: the write step', () => {
   /** Two securities over 80 days, held by one account: enough for the 63-day window. */
   async function loaded(): Promise<TempWorkspace> {
     const w = await tempWorkspace();
-    const prices = path.join(w.config.inbox, 'prices_all.csv');
-    writeFileSync(prices, pricesCsv(80, 2, '2020-01-01'));
-    const positions = writeCsv(w.config.inbox, 'positions_start.csv', [
-      ['date', 'portfolio_id', 'security_id', 'quantity'],
-      ['2020-01-01', 'acct-growth', 'EQ-NORDWIND', 100],
-      ['2020-01-01', 'acct-growth', 'EQ-SALTMARSH', 50],
-    ]);
-    const batch = await runBatch(w.db, w.config, w.log, [prices, positions]);
+    const batch = await runBatch(w.db, w.config, w.log, writeTwoHoldings(w.config.inbox, { days: 80 }));
     expect(batch.runError).toBeNull();
     return w;
   }

@@ -1,12 +1,11 @@
 import { readFileSync, writeFileSync } from 'node:fs';
-import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.ts';
 import { memoryLogger } from '../../src/log/logger.ts';
 import { openDatabase } from '../../src/storage/database.ts';
 import { startWorker } from '../../src/worker/startWorker.ts';
 import { runCli } from '../cli/cliProcess.ts';
-import { pricesCsv, writeCsv } from '../helpers/files.ts';
+import { writeTwoHoldings } from '../helpers/files.ts';
 import { waitFor } from '../helpers/wait.ts';
 import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
 
@@ -26,21 +25,16 @@ describe('a setting that shapes results changes between runs', () => {
   /** Two securities over 80 days held by one account, loaded and computed by the ingest command. */
   function ingested(): WorkerDir {
     const w = workerDir();
-    writeFileSync(path.join(w.config.inbox, 'prices_all.csv'), pricesCsv(80, 2, '2020-01-01'));
-    writeCsv(w.config.inbox, 'positions_start.csv', [
-      ['date', 'portfolio_id', 'security_id', 'quantity'],
-      ['2020-01-01', 'acct-growth', 'EQ-NORDWIND', 100],
-      ['2020-01-01', 'acct-growth', 'EQ-SALTMARSH', 50],
-    ]);
+    writeTwoHoldings(w.config.inbox, { days: 80 });
     const first = runCli(['ingest', '--config', w.configPath]);
     expect(first.status, first.stderr).toBe(0);
     expect(first.stdout).not.toMatch(/setting/);
     return w;
   }
 
-  function editConfig(w: WorkerDir, edit: (risk: Record<string, unknown>) => void): void {
+  function editConfig(w: WorkerDir, edit: (risk: Record<string, unknown>, raw: Record<string, unknown>) => void): void {
     const raw = JSON.parse(readFileSync(w.configPath, 'utf8')) as { risk: Record<string, unknown> };
-    edit(raw.risk);
+    edit(raw.risk, raw);
     writeFileSync(w.configPath, `${JSON.stringify(raw, null, 2)}\n`);
   }
 
@@ -81,6 +75,31 @@ describe('a setting that shapes results changes between runs', () => {
     expect(again.status, again.stderr).toBe(0);
     expect(again.stdout).not.toMatch(/setting/);
     expect(await lastRun(wd)).toMatchObject({ from_date: '2020-03-10', portfolios: ['acct-growth'], lambda: 0.97 });
+  });
+
+  it('a changed limit is named like any other setting, and its episodes are replayed over the full history', async () => {
+    wd = ingested();
+    const breaches = async () => {
+      const db = await openDatabase(wd!.config.database, { readOnly: true });
+      try {
+        return await db.all<{ limit_value: number; n: number }>('select limit_value, count(*)::integer as n from limit_breaches group by limit_value');
+      } finally {
+        db.close();
+      }
+    };
+    // the prices move about 0.1% a day: the configured 15% is never reached
+    expect(await breaches()).toEqual([]);
+    editConfig(wd, (_risk, raw) => (raw.limits = [{ portfolio: '*', window: 63, limit: 0.001, warning: 0.0009, clear: 0.0008 }]));
+    const changed = runCli(['recompute', '--config', wd.configPath, '--from', '2020-03-10', '--portfolio', 'acct-growth']);
+    expect(changed.status, changed.stderr).toBe(0);
+    expect(changed.stdout.split('\n')[0]).toBe(
+      'setting limits changed *|vol_ex_ante||63|sample=0.15/0.135/0.1275 -> *|vol_ex_ante||63|sample=0.001/0.0009/0.0008: recomputing full history',
+    );
+    expect(await lastRun(wd)).toMatchObject({ from_date: null, portfolios: null, rows_of_other_runs: 0 });
+    // every episode is judged against the new levels, from the first date with a 63-day figure
+    const after = await breaches();
+    expect(after.map((b) => b.limit_value)).toEqual([0.001]);
+    expect(after[0].n).toBeGreaterThan(0);
   });
 
   it('the worker, started on an empty inbox after a change of windows, recomputes everything and says so', async () => {

@@ -7,7 +7,10 @@ import { FIGURE_KEYS, figure, unavailable } from '../../bench/figures.ts';
 import { runBench } from '../../bench/harness.ts';
 import { median, peakResidentBytes } from '../../bench/measure.ts';
 import { formatResult } from '../../bench/report.ts';
+import { numpyAvailable } from '../../bench/stages/numpyReference.ts';
 import { memoryLogger } from '../../src/log/logger.ts';
+
+const hasNumpy = numpyAvailable();
 
 // Timings are never asserted: CI machines differ. These tests check the shape of what
 // the harness reports and the arithmetic of its verdicts.
@@ -69,12 +72,15 @@ describe('runBench at the tiny size', () => {
 
     expect(result.figures.map((f) => f.key)).toEqual([...FIGURE_KEYS]);
     // a stage that throws leaves its figures "unavailable" with the error as the note:
-    // only the memory figure may be missing, and only where /proc does not exist
+    // only the memory figure may be missing, and only where /proc does not exist, and the
+    // numpy comparison where Python or numpy is
     const missing = result.figures.filter((f) => f.verdict === 'unavailable');
+    const mayMiss = [...(process.platform === 'linux' ? [] : ['worker_peak_memory_mib']), ...(hasNumpy ? [] : ['riskfold_vs_numpy'])];
     expect(
       missing.map((f) => f.key),
       missing.map((f) => `${f.key}: ${f.note}`).join('; '),
-    ).toEqual(process.platform === 'linux' ? [] : ['worker_peak_memory_mib']);
+    ).toEqual(FIGURE_KEYS.filter((k) => mayMiss.includes(k)));
+    if (!hasNumpy) expect(result.figures.find((f) => f.key === 'riskfold_vs_numpy')?.note).toMatch(/^skipped: /);
     const measured = new Map(result.figures.filter((f) => f.verdict !== 'unavailable').map((f) => [f.key, f]));
     for (const f of measured.values()) {
       expect(f.runs.length, f.key).toBeGreaterThan(0);
@@ -127,6 +133,17 @@ describe('runBench at the tiny size', () => {
     expect(naive.details.max_abs_difference as number).toBeLessThan(1e-9);
     expect(naive.details.incremental_seconds).toBe(get('backfill_seconds').value);
     close(naive.value!, (naive.details.naive_seconds as number) / (naive.details.incremental_seconds as number), 'naive / incremental');
+
+    // the numpy comparison: riskfold's ingest and backfill, as measured above, over the script's time
+    if (hasNumpy) {
+      const numpy = get('riskfold_vs_numpy');
+      expect(numpy.details).toMatchObject({
+        riskfold_ingest_seconds: details('ingest_vs_read_csv', 'ingest_seconds'),
+        riskfold_backfill_seconds: get('backfill_seconds').value,
+      });
+      expect(numpy.details.numpy_figures as number).toBeGreaterThan(0);
+      close(numpy.value!, (details('ingest_vs_read_csv', 'ingest_seconds') + get('backfill_seconds').value!) / (numpy.details.numpy_seconds as number), 'riskfold / numpy');
+    }
 
     // history: each correction of the latest date replaces every portfolio's rows of that
     // date, one per estimate, and they are kept

@@ -10,9 +10,13 @@ export interface RunningCli {
   exited: Promise<{ code: number | null; signal: NodeJS.Signals | null }>;
 }
 
-/** Starts `riskfold <args>` as a real child process, the way a user or a supervisor would. */
-export function startCli(args: string[], env: NodeJS.ProcessEnv = {}): RunningCli {
-  const child = spawn(process.execPath, [CLI, ...args], { env: { ...process.env, ...env }, stdio: ['ignore', 'pipe', 'pipe'] });
+/**
+ * Starts `riskfold <args>` as a real child process, the way a user or a supervisor would;
+ * `wrapper` is a command that ends by exec'ing the rest (so the child's pid is the worker's).
+ */
+export function startCli(args: string[], env: NodeJS.ProcessEnv = {}, wrapper: string[] = []): RunningCli {
+  const [command, ...rest] = [...wrapper, process.execPath, CLI, ...args];
+  const child = spawn(command, rest, { env: { ...process.env, ...env }, stdio: ['ignore', 'pipe', 'pipe'] });
   let stderr = '';
   child.stderr!.on('data', (chunk: Buffer) => (stderr += chunk.toString()));
   child.stdout!.resume();
@@ -31,6 +35,13 @@ export function startCli(args: string[], env: NodeJS.ProcessEnv = {}): RunningCl
         }
       });
   return { child, logLines, exited };
+}
+
+/** Ends a child a test left running (SIGKILL: the test is over) and waits for its exit; nothing for one already gone. */
+export async function endCli(c: RunningCli | undefined): Promise<void> {
+  if (c === undefined) return;
+  if (c.child.exitCode === null && c.child.signalCode === null) c.child.kill('SIGKILL');
+  await c.exited;
 }
 
 /** Runs a one-off command to completion (sql, status); killed after `timeoutMs` so a hang fails the test instead of stalling it. */

@@ -47,6 +47,10 @@ describe('riskfold status and sql with no worker running', () => {
     writeCsv(w.config.inbox, 'fx_latest.csv', [['date', 'currency', 'rate'], [expectedFor, 'EUR', 1.1]]);
     writeCsv(w.config.inbox, 'positions_bad.csv', [['date', 'portfolio_id', 'security_id'], ['2020-01-01', 'acct-wide', 'EQ-NORDWIND']]);
     await runBatch(w.db, w.config, w.log, ['prices_2020.csv', 'positions_2020.csv', 'fx_latest.csv', 'positions_bad.csv'].map((f) => path.join(w.config.inbox, f)));
+    // an open episode of a backtest zone (historical VaR, 7 exceptions: yellow), as the limit check records one
+    await w.db.run(`insert into limit_breaches (portfolio_id, metric, method, window_days, estimator, limit_value, warning_value, clear_value,
+        level, opened_on, peak_value, peak_on, run_id)
+      values ('acct-wide', 'backtest_zone', 'historical', 250, null, 10, 5, 4.5, 'warning', '2020-03-02', 7, '2020-03-04', 1)`);
     w.closeDb(); // free the primary file, as when no worker runs
     // the same reading twice gives the same answer: spawn each command line once
     const seen = new Map<string, ReturnType<typeof runCli>>();
@@ -69,7 +73,7 @@ describe('riskfold status and sql with no worker running', () => {
     const { cli } = loaded();
     const figures = latestFigures(cli);
     const details = JSON.parse(cli('status', '--details', '--format', 'json').stdout) as { openBreaches: { rows: Record<string, string>[] } };
-    const [breach] = details.openBreaches.rows;
+    const breach = details.openBreaches.rows.find((r) => r.portfolio_id === 'acct-tight')!;
     expect(breach.portfolio_id).toBe('acct-tight');
     const r = cli('status');
     expect(r.status).toBe(0);
@@ -137,8 +141,12 @@ describe('riskfold status and sql with no worker running', () => {
     const plain = cli('status').stdout;
     expect(plain).not.toContain('== last files');
     // the open episode's limit and peak as percentages, like the portfolio table
-    const breachLine = cli('status', '--details').stdout.split('== open breaches\n')[1].split('\n')[2];
+    const breachLines = cli('status', '--details').stdout.split('== open breaches\n')[1].split('\n');
+    const breachLine = breachLines.find((l) => l.includes('acct-tight'));
     expect(breachLine).toMatch(/acct-tight\s+vol_ex_ante\s+63\s+sample\s+breach\s+0\.50%\s+[\d-]+\s+([\d-]+\s+)?\d+\.\d\d%/);
+    // a backtest zone's limit and peak count exceptions: 10 and 7, not 1000.00% and 700.00%
+    const zoneLine = breachLines.find((l) => l.includes('backtest_zone'));
+    expect(zoneLine).toMatch(/acct-wide\s+backtest_zone\s+historical\s+250\s+warning\s+10\s+2020-03-02\s+7\s+2020-03-04$/);
     const body = JSON.parse(cli('status', '--details', '--format', 'json').stdout) as Record<string, { rows: Record<string, unknown>[] }>;
     expect(body.lastFiles.rows.find((f) => f.name === 'positions_bad.csv')).toMatchObject({ kind: 'positions', status: 'rejected' });
     expect(Object.keys(body)).toEqual([

@@ -6,7 +6,7 @@ import { pidFilePath } from '../../src/worker/workerPidFile.ts';
 import { waitFor } from '../helpers/wait.ts';
 import { pricesCsv } from '../helpers/files.ts';
 import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
-import { runCli, startCli, type RunningCli } from './cliProcess.ts';
+import { endCli, runCli, startCli, type RunningCli } from './cliProcess.ts';
 
 const BIG_DAYS = 5000;
 const BIG_SECURITIES = 100; // 500,000 rows, about 17 MB: an ingest that takes a while
@@ -20,10 +20,7 @@ describe('riskfold watch as a real process', () => {
   afterEach(async () => {
     reader?.close();
     reader = undefined;
-    for (const c of children.splice(0)) {
-      if (c.child.exitCode === null && c.child.signalCode === null) c.child.kill('SIGKILL');
-      await c.exited;
-    }
+    for (const c of children.splice(0)) await endCli(c);
     wd?.cleanup();
   });
 

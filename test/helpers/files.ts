@@ -45,3 +45,23 @@ export function pricesCsv(days: number, securities = 4, start = '2020-01-01'): s
   }
   return `${lines.join('\n')}\n`;
 }
+
+/**
+ * The smallest book with a risk figure: prices of EQ-NORDWIND and EQ-SALTMARSH over
+ * `days` days from 2020-01-01 and one portfolio holding 100 and 50 of them from the first
+ * day, written to `inbox`. Returns the two paths, prices first.
+ */
+export function writeTwoHoldings(
+  inbox: string,
+  { days, portfolio = 'acct-growth', prices = 'prices_all.csv', positions = 'positions_start.csv' }: { days: number; portfolio?: string; prices?: string; positions?: string },
+): [string, string] {
+  mkdirSync(inbox, { recursive: true });
+  const pricesFile = path.join(inbox, prices);
+  writeFileSync(pricesFile, pricesCsv(days, 2));
+  const positionsFile = writeCsv(inbox, positions, [
+    ['date', 'portfolio_id', 'security_id', 'quantity'],
+    ['2020-01-01', portfolio, 'EQ-NORDWIND', 100],
+    ['2020-01-01', portfolio, 'EQ-SALTMARSH', 50],
+  ]);
+  return [pricesFile, positionsFile];
+}

@@ -1,10 +1,9 @@
-import { writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { expect } from 'vitest';
 import { runBatch } from '../../src/batch/runBatch.ts';
 import type { ConfigInput } from '../../src/config/schema.ts';
 import type { Database } from '../../src/storage/database.ts';
-import { pricesCsv, writeCsv } from '../helpers/files.ts';
+import { writeCsv, writeTwoHoldings } from '../helpers/files.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
 // Invented data for the history suites: 100 days of two securities held by one portfolio,
@@ -25,14 +24,8 @@ export const ORDER: Record<Kept, string> = {
 export async function loadedWorkspace(overrides: Partial<ConfigInput> = {}): Promise<TempWorkspace> {
   const limits = [{ portfolio: '*', window: 21, limit: 0.01 }];
   const ws = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252 }, limits, ...overrides });
-  const prices = path.join(ws.config.inbox, 'prices_first.csv');
-  writeFileSync(prices, pricesCsv(100, 2, '2020-01-01'));
-  const positions = writeCsv(ws.config.inbox, 'positions_first.csv', [
-    ['date', 'portfolio_id', 'security_id', 'quantity'],
-    ['2020-01-01', 'acct-harbour', 'EQ-NORDWIND', 100],
-    ['2020-01-01', 'acct-harbour', 'EQ-SALTMARSH', 50],
-  ]);
-  expect((await runBatch(ws.db, ws.config, ws.log, [prices, positions])).runError).toBeNull();
+  const first = writeTwoHoldings(ws.config.inbox, { days: 100, portfolio: 'acct-harbour', prices: 'prices_first.csv', positions: 'positions_first.csv' });
+  expect((await runBatch(ws.db, ws.config, ws.log, first)).runError).toBeNull();
   return ws;
 }
 

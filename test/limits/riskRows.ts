@@ -1,3 +1,5 @@
+import type { SeriesRow } from '../../src/limits/breachStore.ts';
+import type { Breach } from '../../src/report/reportData.ts';
 import type { Database } from '../../src/storage/database.ts';
 
 export interface RiskSeries {
@@ -63,17 +65,8 @@ export async function alertRows(db: Database): Promise<(AlertRow & { data: Recor
   return rows.map((r) => ({ ...r, data: JSON.parse(r.payload) as Record<string, unknown> }));
 }
 
-export interface BreachRow {
-  breach_id: number;
-  portfolio_id: string;
-  level: string;
-  opened_on: string;
-  escalated_on: string | null;
-  closed_on: string | null;
-  peak_value: number;
-  peak_on: string;
-  retracted: boolean;
-}
+/** A limit_breaches row as the report reads it, less what the series is, with its portfolio. */
+export type BreachRow = Omit<Breach, keyof SeriesRow | 'limit_value'> & { portfolio_id: string };
 
 export async function breachRows(db: Database): Promise<BreachRow[]> {
   return db.all<BreachRow>(

@@ -29,9 +29,13 @@ describe('riskfold report --all in a real browser', () => {
     browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
     ws = await tempWorkspace({
       risk: RISK,
+      // several watched figures (a backtest zone of every method among them): the table must still fit the page
       limits: [
         { portfolio: '*', window: 63, limit: 0.9 },
         { portfolio: 'acct-growth', window: 63, limit: 0.02 },
+        { portfolio: '*', metric: 'vol_realized', window: 63, limit: 0.9 },
+        { portfolio: '*', metric: 'var_99_1d', window: 63, limit: 0.5 },
+        { portfolio: '*', metric: 'backtest_zone', window: 63 },
       ],
     });
     const s = buildScenario();
@@ -67,16 +71,30 @@ describe('riskfold report --all in a real browser', () => {
     );
     const [limits, episodes, problems] = tables;
     expect(limits.title).toBe('Portfolios against their limits');
-    expect(limits.header.slice(0, 3)).toEqual(['portfolio_id', 'as_of', 'value_base']);
-    expect(limits.header).toContain('vol_ex_ante_63d_episode');
-    const episodeColumn = limits.header.indexOf('vol_ex_ante_63d_episode');
-    const statusColumn = limits.header.indexOf('status');
-    expect(limits.rows.map((r) => [r[0], r[episodeColumn], r[statusColumn]])).toEqual([
-      ['acct-growth', 'breach', 'ok'],
+    expect(limits.header).toEqual(['portfolio', 'as of', 'value', 'figure', 'now', 'limit', 'headroom', 'episode', 'since', 'coverage', 'status']);
+    // one row per portfolio and watched figure; the portfolio's own cells span its rows
+    const figureRows = await page.evaluate(() =>
+      [...document.querySelectorAll('#standings tbody tr')].map((tr) => {
+        const cells = [...tr.querySelectorAll('td')].map((td) => td.textContent ?? '');
+        const own = tr.querySelector('a') !== null;
+        return { portfolio: tr.getAttribute('data-portfolio'), figure: cells[own ? 3 : 0], episode: cells[own ? 7 : 4], status: own ? cells[10] : null };
+      }),
+    );
+    const watched = ['63-day volatility', '63-day realized volatility', '63-day 99% 1-day VaR (of value)', '99% VaR backtest (normal, 63-day)'];
+    const backtests = ['historical', 'filtered historical'].flatMap((m) => [250, 500].map((n) => `99% VaR backtest (${m}, ${n} scenarios)`));
+    expect(figureRows.filter((r) => r.portfolio === 'acct-growth').map((r) => r.figure)).toEqual([...watched, ...backtests]);
+    expect(figureRows.filter((r) => r.status !== null).map((r) => [r.portfolio, r.figure, r.episode, r.status])).toEqual([
+      ['acct-growth', '63-day volatility', 'breach', 'ok'],
       // the income account's EQ-FERNHOLT lost its history in the scenario's long gap
-      ['acct-income', 'clear', 'partial_history'],
-      ['acct-unpriced', 'clear', 'unpriced'],
+      ['acct-income', '63-day volatility', 'clear', 'partial_history'],
+      ['acct-unpriced', '63-day volatility', 'clear', 'unpriced'],
     ]);
+    // nine watched figures and no sideways scrolling at a laptop's width
+    const overflow = await page.evaluate(() => {
+      const box = document.querySelector('#standings')!;
+      return box.scrollWidth - box.clientWidth;
+    });
+    expect(overflow).toBe(0);
     expect(limits.links.map((l) => l.text)).toEqual(['acct-growth', 'acct-income', 'acct-unpriced']);
     expect(episodes.title).toBe('Open limit episodes');
     expect(episodes.rows.map((r) => [r[0], r[1], r[2]])).toEqual([['acct-growth', '63-day volatility', 'breach']]);

@@ -11,7 +11,6 @@ import { buildScenario, correctPrice, scenarioDeliveries, type Scenario } from '
 const TABLES: Record<string, string> = {
   derived_snapshots: 'portfolio_id, snapshot_date',
   derived_held_securities: 'security_id',
-  derived_held_cash: 'security_id',
   derived_held_out_prices: 'security_id, date',
   derived_valuation_dates: 'date',
   derived_aligned_prices: 'security_id, date',

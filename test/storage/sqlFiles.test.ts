@@ -54,7 +54,6 @@ describe('the ordered SQL runner', () => {
     expect(steps.filter((s) => s.kind === 'stored').map((s) => s.object)).toEqual([
       'derived_snapshots',
       'derived_held_securities',
-      'derived_held_cash',
       'derived_valuation_dates',
       'derived_held_out_prices',
       'derived_aligned_prices',

@@ -3,25 +3,19 @@ import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { ingestFile } from '../../src/ingest/ingestFile.ts';
 import { openDatabase } from '../../src/storage/database.ts';
-import { runCli, startCli, type RunningCli } from '../cli/cliProcess.ts';
+import { runCli, startCli } from '../cli/cliProcess.ts';
 import { pricesCsv } from '../helpers/files.ts';
 import { waitFor } from '../helpers/wait.ts';
-import { tempWorkspace, workerDir, type TempWorkspace, type WorkerDir } from '../helpers/workspace.ts';
+import { workerSlot } from '../helpers/workerFixture.ts';
+import { tempWorkspace, workerDir, type TempWorkspace } from '../helpers/workspace.ts';
 
 // stands for a system file outside the inbox; its first line must end up nowhere
 const SECRET = 'operator:SECRET-FIRST-LINE:0:0\nsecond line\n';
 
 describe('a delivery that is not a file of its own', () => {
-  let wd: WorkerDir | undefined;
+  const slot = workerSlot();
   let ws: TempWorkspace | undefined;
-  let worker: RunningCli | undefined;
-  afterEach(async () => {
-    if (worker && worker.child.exitCode === null && worker.child.signalCode === null) worker.child.kill('SIGKILL');
-    await worker?.exited;
-    worker = undefined;
-    wd?.cleanup();
-    ws?.cleanup();
-  });
+  afterEach(() => ws?.cleanup());
 
   /** `status --details` of the running worker (from its read copy): the file problems, summed and listed. */
   function fileProblems(configPath: string) {
@@ -33,7 +27,7 @@ describe('a delivery that is not a file of its own', () => {
   }
 
   it('a hard link to a file outside the inbox is left unread where it is, named in one line, and the other files still load', async () => {
-    wd = workerDir();
+    const wd = (slot.wd = workerDir());
     const system = path.join(wd.dir, 'etc', 'accounts');
     mkdirSync(path.dirname(system));
     writeFileSync(system, SECRET);
@@ -64,23 +58,23 @@ describe('a delivery that is not a file of its own', () => {
   });
 
   it('riskfold watch shows a refused hard link in status until the link leaves the inbox', async () => {
-    wd = workerDir();
+    const wd = (slot.wd = workerDir());
     const system = path.join(wd.dir, 'etc', 'accounts');
     mkdirSync(path.dirname(system));
     writeFileSync(system, SECRET);
     const link = path.join(wd.config.inbox, 'prices_20200102.csv');
     linkSync(system, link);
-    worker = startCli(['watch', '--config', wd.configPath]);
-    await waitFor(() => worker!.logLines().some((l) => l.msg === 'batch done'), 30_000, 'the catch-up batch');
-    await waitFor(() => existsSync(wd!.config.readCopy), 10_000, 'the read copy');
+    const worker = (slot.worker = startCli(['watch', '--config', wd.configPath]));
+    await waitFor(() => worker.logLines().some((l) => l.msg === 'batch done'), 30_000, 'the catch-up batch');
+    await waitFor(() => existsSync(wd.config.readCopy), 10_000, 'the read copy');
     expect(fileProblems(wd.configPath)).toEqual({
       summary: [['not read: hard_link', 1]],
       rows: [['prices_20200102.csv', 'not read: hard_link', 'a hard link (2 names for one file, the others outside the inbox): not read; deliver a copy of its own']],
     });
 
     rmSync(link);
-    await waitFor(() => worker!.logLines().some((l) => l.msg === 'holds ended: the files left the inbox'), 10_000, 'the hold to end');
-    await waitFor(() => fileProblems(wd!.configPath).rows.length === 0, 30_000, 'status without the link');
+    await waitFor(() => worker.logLines().some((l) => l.msg === 'holds ended: the files left the inbox'), 10_000, 'the hold to end');
+    await waitFor(() => fileProblems(wd.configPath).rows.length === 0, 30_000, 'status without the link');
     expect(fileProblems(wd.configPath).summary).toEqual([]);
     expect(JSON.stringify(worker.logLines())).not.toContain('SECRET');
     worker.child.kill('SIGTERM');

@@ -1,34 +1,22 @@
 import { appendFileSync, existsSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
-import { afterEach, describe, expect, it } from 'vitest';
-import { memoryLogger } from '../../src/log/logger.ts';
+import { describe, expect, it } from 'vitest';
 import { openDatabase } from '../../src/storage/database.ts';
-import { startWorker, type Worker } from '../../src/worker/startWorker.ts';
 import { waitFor } from '../helpers/wait.ts';
-import { workerDir, type WorkerDir } from '../helpers/workspace.ts';
+import { inProcessWorker } from '../helpers/workerFixture.ts';
 
 describe('the worker and a delivery written in two goes', () => {
-  let wd: WorkerDir | undefined;
-  let worker: Worker | undefined;
-  afterEach(async () => {
-    await worker?.stop();
-    worker = undefined;
-    wd?.cleanup();
-  });
+  const workers = inProcessWorker();
 
   it('holds the half written before a pause longer than watch.stableMs, and loads the whole file once the rest arrives', async () => {
-    wd = workerDir();
-    const { log, lines } = memoryLogger();
-    worker = await startWorker(wd.config, log);
-    await worker.idle();
+    const { wd, lines } = await workers.start();
     const file = path.join(wd.config.inbox, 'prices_0410.csv');
     writeFileSync(file, 'date,security_id,price\n2026-04-10,EQ-NORDWIND,102\n2026-04-10,EQ-SALTMARSH,3293');
     await waitFor(() => lines().find((l) => l.msg === 'file held in the inbox' && l.file === 'prices_0410.csv'), 10_000, 'the hold');
     expect(existsSync(file)).toBe(true);
     appendFileSync(file, '04.23\n');
     await waitFor(() => lines().find((l) => l.msg === 'file ingested' && l.file === 'prices_0410.csv'), 10_000, 'the load');
-    await worker.stop();
-    worker = undefined;
+    await workers.stop();
     const db = await openDatabase(wd.config.database, { readOnly: true });
     try {
       expect(await db.all('select security_id, price from prices order by security_id')).toEqual([

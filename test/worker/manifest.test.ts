@@ -4,31 +4,21 @@ import path from 'node:path';
 import { gzipSync } from 'node:zlib';
 import { afterEach, describe, expect, it } from 'vitest';
 import { ingestFile } from '../../src/ingest/ingestFile.ts';
-import { memoryLogger } from '../../src/log/logger.ts';
 import { openDatabase } from '../../src/storage/database.ts';
-import { startWorker, type Worker } from '../../src/worker/startWorker.ts';
 import { pricesCsv } from '../helpers/files.ts';
 import { waitFor } from '../helpers/wait.ts';
-import { tempWorkspace, workerDir, type TempWorkspace, type WorkerDir } from '../helpers/workspace.ts';
+import { inProcessWorker } from '../helpers/workerFixture.ts';
+import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
 // the digests are computed by node:crypto (OpenSSL's SHA-256, FIPS 180-4), not by riskfold
 const sha256 = (bytes: string | Buffer) => createHash('sha256').update(bytes).digest('hex');
 const manifestOf = (rows: number, bytes: string | Buffer) => JSON.stringify({ rows, sha256: sha256(bytes) });
 
 describe('the worker with ingest.manifest "required"', () => {
-  let wd: WorkerDir | undefined;
-  let worker: Worker | undefined;
-  afterEach(async () => {
-    await worker?.stop();
-    worker = undefined;
-    wd?.cleanup();
-  });
+  const workers = inProcessWorker();
 
   it('holds a file until its manifest arrives, loads it when rows and sha256 match, and quarantines one cut short naming expected and actual', async () => {
-    wd = workerDir({ ingest: { manifest: 'required' } });
-    const { log, lines } = memoryLogger();
-    worker = await startWorker(wd.config, log);
-    await worker.idle();
+    const { wd, lines } = await workers.start({ ingest: { manifest: 'required' } });
     const whole = pricesCsv(10, 2, '2020-01-01'); // 20 data rows
     const a = path.join(wd.config.inbox, 'prices_a.csv');
     writeFileSync(a, whole);
@@ -44,8 +34,7 @@ describe('the worker with ingest.manifest "required"', () => {
     writeFileSync(`${b}.manifest`, manifestOf(20, full));
     writeFileSync(b, cut);
     await waitFor(() => lines().find((l) => l.msg === 'file rejected' && l.file === 'prices_b.csv'), 10_000, 'the rejection');
-    await worker.stop();
-    worker = undefined;
+    await workers.stop();
 
     expect(readdirSync(wd.config.inbox)).toEqual([]);
     expect(readdirSync(path.dirname(String(loaded.movedTo))).sort()).toEqual(['prices_a.csv', 'prices_a.csv.manifest']);

@@ -11,13 +11,15 @@ import { listInbox } from '../../watch/inboxFiles.ts';
 import { contextFrom } from '../context.ts';
 import { forTerminal } from '../terminalText.ts';
 import { describeRun } from './recompute.ts';
+import { strictFailure } from '../strict.ts';
 
 /**
  * `riskfold ingest [FILE...]`: the given files or the inbox, through the same batch as
  * the worker (applied securities, fx, prices, then positions, by arrival within a kind): ingest each, one recompute, limits,
- * alerts, read copy. A rejected file is data, not a failure: it is printed and the exit
- * code stays 0 (non-zero with --strict, after every file has had its turn); a missing
- * file, a locked database or a failed recompute exit non-zero.
+ * alerts, read copy. A rejected file, or a portfolio the run could not compute, is data,
+ * not a failure: it is printed and the exit code stays 0 (non-zero with --strict, after
+ * every file has had its turn); a missing file, a locked database or a failed recompute
+ * exit non-zero.
  */
 export async function runIngest(files: string[], opts: { config?: string; strict?: boolean }): Promise<void> {
   const { config, log } = contextFrom(opts);
@@ -37,7 +39,8 @@ export async function runIngest(files: string[], opts: { config?: string; strict
     if (summary.idle) process.stdout.write(`${summary.idle}\n`);
     if (summary.readCopyBehind !== null) process.stdout.write(`${summary.readCopyBehind}\n`);
     if (summary.runError !== null) throw new Error(`the files are loaded but the recompute failed: ${summary.runError}`);
-    if (opts.strict && rejected > 0) throw new RiskfoldError('input_rejected', `--strict: ${rejected} of ${summary.files.length} files rejected`);
+    const failure = opts.strict ? strictFailure({ count: rejected, of: summary.files.length }, summary.run) : null;
+    if (failure) throw failure;
   } finally {
     db.close();
   }

@@ -6,14 +6,19 @@ import { requireKnownPortfolios } from '../../read/portfolios.ts';
 import type { Database } from '../../storage/database.ts';
 import { openWorkspace } from '../../storage/workspace.ts';
 import { contextFrom } from '../context.ts';
+import { strictFailure } from '../strict.ts';
 
 interface RecomputeOptions {
   config?: string;
   from?: string;
   portfolio: string[];
+  strict?: boolean;
 }
 
-/** `riskfold recompute [--from DATE] [--portfolio ID]...`: a full backfill without --from. */
+/**
+ * `riskfold recompute [--from DATE] [--portfolio ID]... [--strict]`: a full backfill
+ * without --from; --strict exits non-zero when a portfolio could not be computed.
+ */
 export async function runRecomputeCommand(opts: RecomputeOptions): Promise<void> {
   if (opts.from !== undefined) requireIsoDate(opts.from);
   const { config, log } = contextFrom(opts);
@@ -27,6 +32,8 @@ export async function runRecomputeCommand(opts: RecomputeOptions): Promise<void>
     if (batch.run === null) throw new Error(`recompute failed: ${batch.runError}`);
     process.stdout.write(`${describeRun(batch.run)}\n`);
     if (batch.readCopyBehind !== null) process.stdout.write(`${batch.readCopyBehind}\n`);
+    const failure = opts.strict ? strictFailure(null, batch.run) : null;
+    if (failure) throw failure;
   } finally {
     db.close();
   }

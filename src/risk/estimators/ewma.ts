@@ -65,10 +65,13 @@ export class EwmaEstimate implements DateEstimate<EwmaState> {
     // c_u for u = t - seedDays + 1 .. t, oldest first
     this.seedWeights = Float64Array.from({ length: seedDays }, (_, k) => (1 - lambda) * lambda ** (seedDays - 1 - k));
     this.newcomerScale = 1 / Math.sqrt(1 - lambda ** seedDays);
-    this.row = state ? state.row : -1;
+    // a state that misses a security in the matrix at its date (one the run that stored
+    // it did not read) cannot be continued: replay from the first date
+    const usable = state !== null && this.covers(state) ? state : null;
+    this.row = usable ? usable.row : -1;
     this.startRow = this.row + 1;
-    this.beforeLast = state?.row === this.t - 2 ? state : null;
-    if (state) this.restore(state);
+    this.beforeLast = usable?.row === this.t - 2 ? usable : null;
+    if (usable) this.restore(usable);
   }
 
   advance(d: number): void {
@@ -128,18 +131,31 @@ export class EwmaEstimate implements DateEstimate<EwmaState> {
     return { row: this.row, securityIds: members.map((j) => this.panel.securityIds[j]), matrix };
   }
 
+  /**
+   * Whether the state holds every security of this run that is in the matrix at its
+   * date: by the entry and exit rules, exactly those with seedDays consecutive returns
+   * up to that date.
+   */
+  private covers(state: EwmaState): boolean {
+    const stored = new Set(state.securityIds);
+    const { n, panel, seedDays } = this;
+    for (let j = 0; j < n; j++) {
+      if (panel.runLength[state.row * n + j] >= seedDays && !stored.has(panel.securityIds[j])) return false;
+    }
+    return true;
+  }
+
+  /** The stored co-moments of this run's securities; a stored security the run did not read is left out (S_jk involves j and k alone). */
   private restore(state: EwmaState): void {
     const position = new Map(this.panel.securityIds.map((id, j) => [id, j]));
-    const members = state.securityIds.map((id) => {
-      const j = position.get(id);
-      if (j === undefined) throw new Error(`EWMA state names ${id}, which has no returns now`);
-      return j;
-    });
+    const members = state.securityIds.map((id) => position.get(id) ?? -1);
     const k = members.length;
+    if (state.matrix.length !== k * k) throw new Error(`EWMA state: a matrix of ${state.matrix.length} values for ${k} securities`);
     members.forEach((i, a) => {
+      if (i < 0) return;
       this.active[i] = 1;
       members.forEach((j, b) => {
-        if (i <= j) this.s[i * this.n + j] = state.matrix[a * k + b];
+        if (j >= 0 && i <= j) this.s[i * this.n + j] = state.matrix[a * k + b];
       });
     });
   }

@@ -64,22 +64,34 @@ export async function readValuationDates(db: Database): Promise<string[]> {
 
 /**
  * Reads the security returns of every date row (the loss stage's EWMA-filtered scenarios
- * and stress ranges reach back to the first). The securities are those with a return, a
- * position from `holdingsFromRow` on (the rows whose holdings the run reads) or a place
- * in a benchmark.
+ * and stress ranges reach back to the first). The securities: for a run over every
+ * portfolio, those with a return (every security ever held), a position from
+ * `holdingsFromRow` on or a place in a benchmark; for a run over some portfolios (null:
+ * all), only those the portfolios in scope hold from `holdingsFromRow` on and the
+ * benchmarks' constituents, so a correction of one portfolio reads no other returns.
  */
-export async function readReturnPanel(db: Database, dates: string[], holdingsFromRow: number): Promise<ReturnPanel> {
-  await db.run('create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities');
+export async function readReturnPanel(
+  db: Database,
+  dates: string[],
+  holdingsFromRow: number,
+  portfolios: readonly string[] | null = null,
+): Promise<ReturnPanel> {
+  const returnsSql = 'create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities';
+  // every portfolio: the view once, its ids among the securities; some: the view for their securities only
+  if (portfolios === null) await db.run(returnsSql);
+  // ids bound as JSON: DuckDB cannot type an empty JS list
   await db.run(
     `create or replace temp table risk_in_securities as
      select security_id, (row_number() over (order by security_id) - 1)::integer as k
      from (
-       select security_id from risk_in_returns
-       union select security_id from hold_daily_positions_since($1)
+       ${portfolios === null ? 'select security_id from risk_in_returns union' : ''}
+       select security_id from hold_daily_positions_since($1)
+       ${portfolios === null ? '' : `where list_contains(from_json($2, '["VARCHAR"]'), portfolio_id)`}
        union select security_id from clean_benchmarks
      )`,
-    [holdingsFromRow + 1],
+    portfolios === null ? [holdingsFromRow + 1] : [holdingsFromRow + 1, JSON.stringify(portfolios)],
   );
+  if (portfolios !== null) await db.run(`${returnsSql} semi join risk_in_securities using (security_id)`);
   const ids = await readColumns(
     db,
     `select security_id, is_base_cash(security_id) from risk_in_securities order by k`,

@@ -1,4 +1,5 @@
 import { parentPort, workerData } from 'node:worker_threads';
+import { registerEstimatorModule } from '../estimators/registry.ts';
 import { batchBuffers, type ResultBatch } from '../walk/resultColumns.ts';
 import { walkEstimate, type ComputeInputs, type EstimateTask, type WalkSettings } from '../walk/walkEstimate.ts';
 
@@ -11,6 +12,12 @@ import { walkEstimate, type ComputeInputs, type EstimateTask, type WalkSettings 
 
 export const WORKER_ROLE = 'riskfold-estimates';
 
+/** What a worker thread is started with: its role, and the estimator modules added at run time, to import first. */
+export interface WorkerData {
+  role: typeof WORKER_ROLE;
+  estimatorModules: string[];
+}
+
 export type WorkerRequest = { type: 'init'; input: ComputeInputs; settings: WalkSettings } | { type: 'run'; taskId: number; task: EstimateTask };
 
 export type WorkerReply =
@@ -19,8 +26,10 @@ export type WorkerReply =
   | { type: 'failed'; taskId: number; message: string; stack?: string };
 
 // only as the risk stage's worker: a test runner's own worker thread may import this file too
-if (parentPort && (workerData as { role?: string } | null)?.role === WORKER_ROLE) {
+if (parentPort && (workerData as Partial<WorkerData> | null)?.role === WORKER_ROLE) {
   const port = parentPort;
+  // before the first message is handled (messages wait in the port until a listener is added)
+  for (const href of (workerData as WorkerData).estimatorModules) await registerEstimatorModule(href);
   let context: { input: ComputeInputs; settings: WalkSettings } | null = null;
   port.on('message', (request: WorkerRequest) => {
     if (request.type === 'init') {

@@ -2,7 +2,8 @@ import { Worker } from 'node:worker_threads';
 import { keepStates, type EstimatorStates } from '../estimators/estimator.ts';
 import type { ResultBatch } from '../walk/resultColumns.ts';
 import type { ComputeInputs, EstimateTask, WalkSettings } from '../walk/walkEstimate.ts';
-import { WORKER_ROLE, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
+import { estimatorModules } from '../estimators/registry.ts';
+import { WORKER_ROLE, type WorkerData, type WorkerReply, type WorkerRequest } from './estimateWorker.ts';
 
 /**
  * A worker thread running the module `name` beside `callerUrl` (the caller's
@@ -11,7 +12,7 @@ import { WORKER_ROLE, type WorkerReply, type WorkerRequest } from './estimateWor
  * thread does not inherit the tsx loader, so the boot file registers it first. execArgv
  * empty: whatever flags this process ran with.
  */
-export function workerThread(callerUrl: string, name: string, data: { role: string }): Worker {
+export function workerThread<Data extends { role: string }>(callerUrl: string, name: string, data: Data): Worker {
   if (!callerUrl.endsWith('.ts')) return new Worker(new URL(`./${name}.js`, callerUrl), { workerData: data, execArgv: [] });
   const module = new URL(`./${name}.ts`, callerUrl).href;
   return new Worker(new URL('./estimateWorkerBoot.mjs', import.meta.url), { workerData: { ...data, module }, execArgv: [] });
@@ -23,8 +24,8 @@ export function workerThread(callerUrl: string, name: string, data: { role: stri
  * whichever worker is free; every batch a worker posts goes to `onBatch` on this thread
  * as it arrives. Each walk is the same code as on the main thread, so the numbers are
  * the same bit for bit; only the order in which batches arrive differs.
- * Resolves with the states the estimators keep, as on the main thread. Only estimators
- * registered in registry.ts exist in the workers.
+ * Resolves with the states the estimators keep, as on the main thread. The workers have
+ * the estimators of registry.ts and those added by module URL (registerEstimatorModule).
  */
 export async function walkInWorkers(
   tasks: readonly { task: EstimateTask; cost: number }[],
@@ -38,7 +39,7 @@ export async function walkInWorkers(
   const estimatorOf = tasks.map((t) => t.task.estimator);
   const workers = Array.from(
     { length: Math.min(threads, queue.length) },
-    () => workerThread(import.meta.url, 'estimateWorker', { role: WORKER_ROLE }),
+    () => workerThread(import.meta.url, 'estimateWorker', { role: WORKER_ROLE, estimatorModules: estimatorModules() } satisfies WorkerData),
   );
   const states: EstimatorStates = {};
   try {

@@ -191,7 +191,16 @@ export async function replaceResults(db: Database, scope: ReplaceScope): Promise
     [scope.runId],
   );
   await replaceVolChange(db, scope, inScope, params);
-  await db.run('delete from security_stats where ($1::date is null or date >= $1::date)', [scope.from]);
+  // a run over some portfolios read only their securities' returns: it replaces the stats
+  // of those, and drops those of a security no longer held anywhere (a full run would have
+  // none); the other securities' stats stay, their returns unchanged
+  await db.run(
+    `delete from security_stats
+     where ($1::date is null or date >= $1::date)
+       and ($2::boolean or security_id in (select security_id from risk_in_securities)
+            or security_id not in (select security_id from derived_held_securities))`,
+    [scope.from, scope.portfolios === null],
+  );
   await db.run(
     `insert into security_stats (date, window_days, security_id, ann_return, ann_vol, run_id)
      select d.date, s.window_days, sec.security_id, s.ann_return, s.ann_vol, $1

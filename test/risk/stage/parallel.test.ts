@@ -148,8 +148,10 @@ describe('computeRisk in worker threads', () => {
 
   it('reports a failure inside a worker as the run failing, with the reason', async () => {
     const input = await inputsFor(RISK);
-    const broken = { ...input, fromRow: 100, states: { ewma: { row: 99, securityIds: ['EQ-NOWHERE'], matrix: Float64Array.from([1e-4]) } } };
-    await expect(run(broken, 2)).rejects.toThrow(/worker thread: EWMA state names EQ-NOWHERE, which has no returns now/);
+    // every security named (so the state is continued), but one value for all of them
+    const ids = input.returns.securityIds;
+    const broken = { ...input, fromRow: 100, states: { ewma: { row: 99, securityIds: ids, matrix: Float64Array.from([1e-4]) } } };
+    await expect(run(broken, 2)).rejects.toThrow(new RegExp(`worker thread: EWMA state: a matrix of 1 values for ${ids.length} securities`));
   });
 });
 

@@ -1,46 +1,18 @@
-import { afterEach, describe, expect, it } from 'vitest';
+import os from 'node:os';
+import { afterEach, describe, expect, it, vi } from 'vitest';
 import { runRecompute } from '../../../src/batch/runRecompute.ts';
-import type { DateEstimate, EstimatorPlugin } from '../../../src/risk/estimators/estimator.ts';
-import { registerEstimator } from '../../../src/risk/estimators/registry.ts';
+import { registerEstimator, registerEstimatorModule } from '../../../src/risk/estimators/registry.ts';
 import { readBenchmarkPanel } from '../../../src/risk/inputs/benchmarkPanel.ts';
 import { readPortfolioPanel, readReturnPanel, readValuationDates } from '../../../src/risk/inputs/panels.ts';
 import { computeRisk } from '../../../src/risk/runtime/computeRisk.ts';
 import { referenceViews } from '../../helpers/referenceViews.ts';
 import { tempWorkspace, type TempWorkspace } from '../../helpers/workspace.ts';
 import { expectSameRows, readDaily } from './compare.ts';
+import { estimator as constantDiagonal, SIGMA } from './constantDiagonal.ts';
 import { buildScenario, loadDays, RISK, scenarioDeliveries } from './scenario.ts';
 
 // as in incremental.test.ts: DuckDB's parallel sums may move the last bits of the views between two runs
 const AGREE = 1e-10;
-
-/** Daily volatility of every security in the toy estimate, uncorrelated: S = SIGMA^2 I. */
-const SIGMA = 0.01;
-
-/** A covariance that is the same diagonal on every date: every security covered, no state. */
-class ConstantDiagonal implements DateEstimate {
-  readonly windowDays = 0;
-  constructor(readonly startRow: number) {}
-  advance(): void {}
-  covered(): boolean {
-    return true;
-  }
-  variance(): number {
-    return SIGMA * SIGMA;
-  }
-  product(idx: Int32Array, w: Float64Array, out = new Float64Array(idx.length)): Float64Array {
-    for (let a = 0; a < idx.length; a++) out[a] = SIGMA * SIGMA * w[a];
-    return out;
-  }
-  forEachSecurity(): void {}
-}
-
-const constantDiagonal: EstimatorPlugin<null> = {
-  name: 'constant_diagonal',
-  realized: { volatility: false, trackingError: false },
-  windows: () => [0],
-  plan: () => ({ params: null, cost: 0 }),
-  open: (_params, _windowDays, input) => new ConstantDiagonal(Math.max(0, input.fromRow - 1)),
-};
 
 describe('the estimator registry', () => {
   let ws: TempWorkspace | undefined;
@@ -51,16 +23,29 @@ describe('the estimator registry', () => {
     await ws?.cleanup();
   });
 
-  it('runs an estimator registered by one line: its rows reach risk_daily, the other estimators rows stay as they were', async () => {
+  /** The threads of the run's compute, from its 'risk compute plan' log record. */
+  const threadsOfLastRun = (w: TempWorkspace) => w.logLines().filter((l) => l.msg === 'risk compute plan').at(-1)?.threads;
+
+  it('runs an estimator registered by its module, on the main thread and in worker threads: its rows reach risk_daily, the other estimators rows stay as they were', async () => {
     const s = buildScenario();
     ws = await tempWorkspace({ risk: RISK });
     await loadDays(ws.db, s, 0, s.dates.length - 1);
+    const cores = vi.spyOn(os, 'availableParallelism').mockReturnValue(1);
     await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
     const without = await readDaily(ws.db);
 
-    unregister = registerEstimator(constantDiagonal);
+    unregister = await registerEstimatorModule(new URL('./constantDiagonal.ts', import.meta.url));
     await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    expect(threadsOfLastRun(ws)).toBe(1);
     const all = await readDaily(ws.db);
+    // the toy's cost reaches the cost model's threshold: with cores, the run takes worker threads
+    cores.mockReturnValue(4);
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
+    cores.mockRestore();
+    expect(threadsOfLastRun(ws)).toBeGreaterThan(1);
+    const threaded = await readDaily(ws.db);
+    expectSameRows(threaded, all, AGREE);
+
     const toy = all.filter((r) => r.estimator === 'constant_diagonal');
     expectSameRows(
       all.filter((r) => r.estimator !== 'constant_diagonal'),
@@ -98,7 +83,7 @@ describe('the estimator registry', () => {
     expect(() => registerEstimator({ ...constantDiagonal, name: 'sample' })).toThrow('estimator sample is registered twice');
   });
 
-  it('says so when a run sends an estimator registered at run time to a worker thread, which has only the registry file', async () => {
+  it('says so when a run sends an estimator registered at run time by its object, not its module, to a worker thread', async () => {
     const s = buildScenario(60);
     ws = await tempWorkspace({ risk: RISK });
     await loadDays(ws.db, s, 0, s.dates.length - 1);
@@ -109,6 +94,6 @@ describe('the estimator registry', () => {
     unregister = registerEstimator(constantDiagonal);
     const quiet = { advance: () => undefined, finish: () => undefined };
     const run = computeRisk({ returns, portfolios, benchmarks, fromRow: 0, states: {} }, ws.config, () => undefined, quiet, ws.log, { threads: 2 });
-    await expect(run).rejects.toThrow(/worker thread: no estimator named constant_diagonal is registered in this thread/);
+    await expect(run).rejects.toThrow(/worker thread: no estimator named constant_diagonal is registered in this thread \(one added at run time reaches the worker threads through registerEstimatorModule\)/);
   });
 });
