@@ -1,6 +1,7 @@
 import { existsSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import type { Config } from '../config/load.ts';
+import type { Estimator, VarMethod } from '../config/schema.ts';
 import { seriesLabel } from '../labels.ts';
 import { CAUTIONS } from '../report/cautions.ts';
 import { formatMoney, formatPercent } from '../report/format.ts';
@@ -23,8 +24,20 @@ export interface AccountSummary {
   status: 'within limit' | 'warning' | 'breach';
   /** Episodes of the volatility limit (the backtest zone's are told by `backtest`). */
   episodes: EpisodeSummary[];
-  /** The latest backtest of the limit window's normal VaR: zone and exceptions in the last 250 tested days. */
-  backtest: { zone: string | null; exceptions_250: number; tested_days: number } | null;
+  /**
+   * The latest backtest of each VaR the demo's zone limit watches (the limit window's
+   * normal VaR and every historical lookback): zone and exceptions in the last 250 tested days.
+   */
+  backtests: BacktestSummary[];
+}
+
+export interface BacktestSummary {
+  method: VarMethod;
+  window_days: number;
+  estimator: Estimator | null;
+  zone: string | null;
+  exceptions_250: number;
+  tested_days: number;
 }
 
 export interface DemoSummary {
@@ -54,10 +67,13 @@ export async function readDemoSummary(db: Database, config: Config): Promise<Dem
        where portfolio_id = $1 and window_days = $2 and metric = 'vol_ex_ante' and estimator = 'sample' order by opened_on`,
       [account.id, DEMO_LIMIT_WINDOW],
     );
-    const [backtest] = await db.all<NonNullable<AccountSummary['backtest']>>(
-      `select zone, exceptions_250, (count(*) over ())::integer as tested_days from var_backtest
-       where portfolio_id = $1 and method = 'normal' and window_days = $2 and estimator = 'sample'
-       qualify row_number() over (order by date desc) = 1`,
+    const backtests = await db.all<BacktestSummary>(
+      `select method, window_days, estimator, zone, exceptions_250,
+              (count(*) over (partition by method, window_days, estimator))::integer as tested_days
+       from var_backtest
+       where portfolio_id = $1 and (method <> 'normal' or (window_days = $2 and estimator = 'sample'))
+       qualify row_number() over (partition by method, window_days, estimator order by date desc) = 1
+       order by method = 'normal' desc, method, window_days`,
       [account.id, DEMO_LIMIT_WINDOW],
     );
     const open = episodes.find((e) => e.closed_on === null && !e.retracted);
@@ -71,7 +87,7 @@ export async function readDemoSummary(db: Database, config: Config): Promise<Dem
       limit: limit?.limit ?? account.volLimit,
       status: open ? open.level : 'within limit',
       episodes,
-      backtest: backtest ?? null,
+      backtests,
     });
   }
   const alerts = await db.all<DemoSummary['alerts'][number]>(
@@ -107,9 +123,10 @@ function episodeText(e: EpisodeSummary): string {
   return `${e.level} opened ${e.opened_on}, ${end}, peak ${formatPercent(e.peak_value)} on ${e.peak_on}`;
 }
 
-function backtestText(b: NonNullable<AccountSummary['backtest']>): string {
+function backtestText(b: BacktestSummary): string {
   const zone = b.zone ? `${b.zone} zone` : `no zone before 250 tested days (${b.tested_days} so far)`;
-  return `${seriesLabel({ metric: 'backtest_zone', method: 'normal', window: DEMO_LIMIT_WINDOW, estimator: 'sample' })}: ${b.exceptions_250} exceptions in the last 250 tested days, ${zone}`;
+  const series = { metric: 'backtest_zone' as const, method: b.method, window: b.window_days, estimator: b.estimator };
+  return `${seriesLabel(series)}: ${b.exceptions_250} exceptions in the last 250 tested days, ${zone}`;
 }
 
 const pad = (text: string, width: number) => text.padEnd(width);
@@ -141,7 +158,7 @@ export function formatSummary(summary: DemoSummary, places: SummaryPlaces): stri
       `  ${pad(a.portfolioId, 14)} ${pad(a.mandate, 9)} ${padLeft(formatMoney(a.value), 13)} ${padLeft(formatPercent(a.vol), 8)} ${padLeft(formatPercent(a.limit), 8)}  ${a.status}`,
     );
     for (const e of a.episodes) lines.push(`  ${' '.repeat(14)} episode: ${episodeText(e)}`);
-    if (a.backtest) lines.push(`  ${' '.repeat(14)} backtest: ${backtestText(a.backtest)}`);
+    for (const b of a.backtests) lines.push(`  ${' '.repeat(14)} backtest: ${backtestText(b)}`);
   }
   lines.push('', `Alerts raised: ${summary.alerts.length} (${summary.alertsInFile} lines in ${config.alerts.file ?? 'no alert file'})`);
   for (const a of summary.alerts) lines.push(`  ${a.as_of ?? '----------'}  ${pad(a.kind, 16)} ${a.text ?? ''}`);

@@ -82,31 +82,26 @@ export async function readStandings(db: Database, config: Config, portfolio: str
 }
 
 /**
- * `status`'s first table: one row per portfolio, five columns per watched figure
- * (figure, limit, headroom, episode, since; "not watched" where no limit applies).
+ * `status`'s first table: one row per portfolio and watched figure (figure, limit,
+ * headroom, episode, since), the portfolio's date, value, coverage and status on each of
+ * its rows, so the table stays as narrow with ten watched figures as with one; a
+ * portfolio no limit applies to has one row with no figure.
  */
 export async function readPortfolioStatus(db: Database, config: Config, portfolio: string | null): Promise<QueryResult> {
-  const { series, standings } = await readStandings(db, config, portfolio);
-  const columns = ['portfolio_id', 'as_of', 'value_base'];
-  const units: (Unit | null)[] = [null, null, 'amount'];
-  for (const s of series) {
-    const name = seriesName(s);
-    columns.push(name, `${name}_limit`, `${name}_headroom`, `${name}_episode`, `${name}_since`);
-    // a backtest zone watches a count of exceptions, every other figure a fraction
-    const unit = isCountMetric(s.metric) ? null : 'percent';
-    units.push(unit, unit, unit, null, null);
+  const { standings } = await readStandings(db, config, portfolio);
+  const columns = ['portfolio_id', 'as_of', 'value_base', 'watching', 'figure', 'limit', 'headroom', 'episode', 'since', 'coverage', 'status'];
+  const rows: unknown[][] = [];
+  const rowUnits: (Unit | null)[][] = [];
+  for (const p of standings) {
+    const watched = p.figures.filter((f) => f !== null);
+    for (const f of watched.length > 0 ? watched : [null]) {
+      rows.push([p.portfolioId, p.asOf, p.value, f && seriesName(f.series), f?.value ?? null, f?.limit ?? null, f?.headroom ?? null, f?.episode ?? null, f?.since ?? null, p.coverage, p.status]);
+      // a backtest zone watches a count of exceptions, every other figure a fraction
+      const unit = f && isCountMetric(f.series.metric) ? null : 'percent';
+      rowUnits.push([null, null, 'amount', null, unit, unit, unit, null, null, 'percent', null]);
+    }
   }
-  columns.push('coverage', 'status');
-  units.push('percent', null);
-  const rows = standings.map((p) => [
-    p.portfolioId,
-    p.asOf,
-    p.value,
-    ...p.figures.flatMap((f) => (f === null ? [null, null, null, 'not watched', null] : [f.value, f.limit, f.headroom, f.episode, f.since])),
-    p.coverage,
-    p.status,
-  ]);
-  return { columns, rows, units };
+  return { columns, rows, units: rowUnits[0] ?? [], rowUnits };
 }
 
 /** Each distinct figure some limit watches, in config order. */

@@ -69,7 +69,7 @@ describe('riskfold status and sql with no worker running', () => {
     return Object.fromEntries(rows.map((row) => [row.portfolio_id, row]));
   }
 
-  it('opens with one row per portfolio: value, volatility against its limit, headroom, episode, coverage (percentages)', () => {
+  it('opens with one row per portfolio and watched figure: value, the figure against its limit, headroom, episode, coverage (percentages)', () => {
     const { cli } = loaded();
     const figures = latestFigures(cli);
     const details = JSON.parse(cli('status', '--details', '--format', 'json').stdout) as { openBreaches: { rows: Record<string, string>[] } };
@@ -86,6 +86,7 @@ describe('riskfold status and sql with no worker running', () => {
       'acct-tight',
       figures['acct-tight'].date,
       figures['acct-tight'].value.toLocaleString('en-US', { minimumFractionDigits: 2, maximumFractionDigits: 2 }),
+      'vol_ex_ante_63d',
       pct(figures['acct-tight'].vol),
       '0.50%',
       pct(0.005 - figures['acct-tight'].vol),
@@ -96,7 +97,7 @@ describe('riskfold status and sql with no worker running', () => {
     ]);
     expect(breach.level).toBe('breach');
     const wide = r.stdout.split('\n').find((l) => l.startsWith('acct-wide'))!.split(/\s{2,}/);
-    expect(wide.slice(3, 7)).toEqual([pct(figures['acct-wide'].vol), '15.00%', pct(0.15 - figures['acct-wide'].vol), 'clear']);
+    expect(wide.slice(3, 8)).toEqual(['vol_ex_ante_63d', pct(figures['acct-wide'].vol), '15.00%', pct(0.15 - figures['acct-wide'].vol), 'clear']);
   });
 
   it('says per file kind whether the last business day arrived, and counts alerts and problems by kind', () => {
@@ -119,11 +120,11 @@ describe('riskfold status and sql with no worker running', () => {
     const { cli } = loaded();
     const figures = latestFigures(cli);
     const body = JSON.parse(cli('status', '--format', 'json').stdout) as { portfolios: { rows: Record<string, unknown>[] } };
-    const tight = body.portfolios.rows.find((r) => r.portfolio_id === 'acct-tight')!;
-    expect(tight.vol_ex_ante_63d).toBe(figures['acct-tight'].vol);
-    expect(tight.vol_ex_ante_63d_headroom).toBe(0.005 - figures['acct-tight'].vol);
+    const tight = body.portfolios.rows.find((r) => r.portfolio_id === 'acct-tight' && r.watching === 'vol_ex_ante_63d')!;
+    expect(tight.figure).toBe(figures['acct-tight'].vol);
+    expect(tight.headroom).toBe(0.005 - figures['acct-tight'].vol);
     expect(tight.value_base).toBe(figures['acct-tight'].value);
-    expect(cli('status', '--format', 'csv').stdout).toContain(`acct-tight,${figures['acct-tight'].date},${figures['acct-tight'].value},${figures['acct-tight'].vol},0.005,`);
+    expect(cli('status', '--format', 'csv').stdout).toContain(`acct-tight,${figures['acct-tight'].date},${figures['acct-tight'].value},vol_ex_ante_63d,${figures['acct-tight'].vol},0.005,`);
   });
 
   it('--portfolio narrows every section; an unknown id exits non-zero with one line', () => {

@@ -17,6 +17,17 @@ describe('a delivery that is not a file of its own', () => {
   let ws: TempWorkspace | undefined;
   afterEach(() => ws?.cleanup());
 
+  /** A worker folder whose inbox holds a hard link to a "system" file outside it that holds SECRET. */
+  function inboxLinkedToSecret() {
+    const wd = (slot.wd = workerDir());
+    const system = path.join(wd.dir, 'etc', 'accounts');
+    mkdirSync(path.dirname(system));
+    writeFileSync(system, SECRET);
+    const link = path.join(wd.config.inbox, 'prices_20200102.csv');
+    linkSync(system, link);
+    return { wd, system, link };
+  }
+
   /** `status --details` of the running worker (from its read copy): the file problems, summed and listed. */
   function fileProblems(configPath: string) {
     const run = runCli(['status', '--details', '--format', 'json', '--config', configPath]);
@@ -27,12 +38,7 @@ describe('a delivery that is not a file of its own', () => {
   }
 
   it('a hard link to a file outside the inbox is left unread where it is, named in one line, and the other files still load', async () => {
-    const wd = (slot.wd = workerDir());
-    const system = path.join(wd.dir, 'etc', 'accounts');
-    mkdirSync(path.dirname(system));
-    writeFileSync(system, SECRET);
-    const link = path.join(wd.config.inbox, 'prices_20200102.csv');
-    linkSync(system, link);
+    const { wd, system } = inboxLinkedToSecret();
     writeFileSync(path.join(wd.config.inbox, 'prices_good.csv'), pricesCsv(30, 2, '2020-01-01'));
 
     const run = runCli(['ingest', '--config', wd.configPath]);
@@ -58,12 +64,7 @@ describe('a delivery that is not a file of its own', () => {
   });
 
   it('riskfold watch shows a refused hard link in status until the link leaves the inbox', async () => {
-    const wd = (slot.wd = workerDir());
-    const system = path.join(wd.dir, 'etc', 'accounts');
-    mkdirSync(path.dirname(system));
-    writeFileSync(system, SECRET);
-    const link = path.join(wd.config.inbox, 'prices_20200102.csv');
-    linkSync(system, link);
+    const { wd, system, link } = inboxLinkedToSecret();
     const worker = (slot.worker = startCli(['watch', '--config', wd.configPath]));
     await waitFor(() => worker.logLines().some((l) => l.msg === 'batch done'), 30_000, 'the catch-up batch');
     await waitFor(() => existsSync(wd.config.readCopy), 10_000, 'the read copy');
