@@ -107,8 +107,9 @@ describe('runBench at the tiny size', () => {
       'ingest / read_csv',
     );
 
-    // backfill: one risk_daily row per portfolio, history date and estimate (each window and the EWMA)
-    const estimates = result.scenario.config.risk!.windows!.length + 1;
+    // backfill: one risk_daily row per portfolio, history date and estimate (each window, the EWMA and each shrunk window)
+    const risk = result.scenario.config.risk!;
+    const estimates = risk.windows!.length + 1 + (risk.shrunk?.windows?.length ?? 0);
     expect(get('backfill_seconds').details).toMatchObject({
       portfolios: result.scenario.portfolios,
       risk_rows: result.scenario.portfolios * result.scenario.historyDays * estimates,
