@@ -158,15 +158,18 @@ async function readLatestBooks(db: Database, inputs: LossInputs): Promise<Map<nu
   });
   const books = new Map<number, { d: number; holdings: StressBook[] }>();
   if (latest.size === 0) return books;
+  // date_index counts valuation dates from 1, the panels' rows from 0
+  const dateIndexes = [...latest.values()].map((d) => d + 1);
   const rows = await db.all<{ portfolio_id: string; security_id: string; currency: string; is_cash: boolean; asset_class: string | null; value_base: number }>(
     `with wanted as (select unnest(from_json($1, '["VARCHAR"]')) as portfolio_id, unnest(from_json($2, '["INTEGER"]')) as date_index)
      select w.portfolio_id, w.security_id, w.currency, w.is_cash, s.asset_class, w.value_base::double as value_base
-     from value_weights w
+     -- the date-bounded twin: the plain view would value every date of the history first
+     from value_weights_since($3) w
      join wanted using (portfolio_id, date_index)
      left join clean_securities s using (security_id)
      where w.value_base is not null
      order by w.portfolio_id, w.security_id`,
-    [JSON.stringify([...latest.keys()]), JSON.stringify([...latest.values()].map((d) => d + 1))],
+    [JSON.stringify([...latest.keys()]), JSON.stringify(dateIndexes), Math.min(...dateIndexes)],
   );
   const index = new Map(portfolios.ids.map((id, p) => [id, p]));
   for (const r of rows) {
