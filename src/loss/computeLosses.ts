@@ -3,6 +3,7 @@ import type { Config } from '../config/load.ts';
 import { readEarlierReturns, type PortfolioPanel, type ReturnPanel } from '../risk/inputs/panels.ts';
 import { readColumns } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';
+import { BASEL_OBSERVATIONS } from '../risk/math/backtest.ts';
 import { backtestRows, seriesId, VarHistory } from './backtestRows.ts';
 import type { LossFailure } from './historicalVar.ts';
 import { LossStage, type VarRow } from './lossStage.ts';
@@ -63,7 +64,8 @@ export async function computeLosses(db: Database, config: Config, log: Logger, i
       history.set({ p, method: row.method, windowDays: row.windowDays, estimator: null }, d, row.var99);
     };
     await walkHistorical({ returns, portfolios, fromRow, sigmaAfter }, settings, emit, fail);
-    backtestRows(history, portfolios, returns.dates, fromRow, await readPriorFlags(db, inputs), (row) => stage.addBacktest(row), fail);
+    const prior = await readPriorFlags(db, inputs, history);
+    backtestRows(history, portfolios, returns.dates, fromRow, prior.flags, (row) => stage.addBacktest(row), fail);
     let worst: LossState['worst'] = null;
     if (fromRow < t) {
       const books = await readLatestBooks(db, inputs);
@@ -91,7 +93,7 @@ export async function computeLosses(db: Database, config: Config, log: Logger, i
         }
       }
       worst = worstRowsToKeep(returns.dates, portfolios.ids, at, keep);
-      log.debug({ stage: 'loss', sigmaFromState: sigma.fromState, worstFromState: continues }, 'loss state read');
+      log.debug({ stage: 'loss', sigmaFromState: sigma.fromState, worstFromState: continues, flagsReadAgain: prior.readAgain }, 'loss state read');
     }
     closed = true;
     const state: LossState = { sigma: fromRow < t ? sigmaRowsToKeep(returns, sigma.variances, config) : null, worst };
@@ -133,28 +135,42 @@ async function readPredictedVar(db: Database, inputs: LossInputs, history: VarHi
   }
 }
 
-/** Per series, the exception flags of the last 249 tested days before the run, oldest first. */
-async function readPriorFlags(db: Database, inputs: LossInputs): Promise<Map<string, number[]>> {
+/**
+ * Per series, the exception flags of the last 249 tested days before the run, oldest
+ * first. Read from the last 2 x 250 dates first (a read of every date grows with the
+ * history); a series of the run with fewer flags there (young, or untested for a while)
+ * is read again over every date before the run, as its window may reach further back.
+ */
+async function readPriorFlags(db: Database, inputs: LossInputs, history: VarHistory): Promise<{ flags: Map<string, number[]>; readAgain: number }> {
   const { fromRow, returns, portfolios } = inputs;
   const flags = new Map<string, number[]>();
-  if (fromRow < 1 || fromRow >= returns.dates.length) return flags;
-  const rows = await db.all<{ portfolio_id: string; method: string; window_days: number; estimator: string | null; flags: boolean[] }>(
-    `select portfolio_id, method, window_days, estimator, list(exception order by date) as flags
-     from (
-       select *, row_number() over (partition by portfolio_id, method, window_days, estimator order by date desc) as back
-       from var_backtest
-       where date < $1::date and list_contains(from_json($2::varchar, '["VARCHAR"]'), portfolio_id)
-     )
-     where back < 250
-     group by all`,
-    [returns.dates[fromRow], JSON.stringify(portfolios.ids)],
-  );
+  if (fromRow < 1 || fromRow >= returns.dates.length) return { flags, readAgain: 0 };
   const index = new Map(portfolios.ids.map((id, p) => [id, p]));
-  for (const r of rows) {
-    const key = { p: index.get(r.portfolio_id)!, method: r.method, windowDays: r.window_days, estimator: r.estimator };
-    flags.set(seriesId(key), r.flags.map((f) => (f ? 1 : 0)));
-  }
-  return flags;
+  const kept = BASEL_OBSERVATIONS - 1;
+  const bound = Math.max(0, fromRow - 2 * BASEL_OBSERVATIONS);
+  const read = async (since: string | null, ids: readonly string[]) => {
+    const rows = await db.all<{ portfolio_id: string; method: string; window_days: number; estimator: string | null; flags: boolean[] }>(
+      `select portfolio_id, method, window_days, estimator, list(exception order by date) as flags
+       from (
+         select *, row_number() over (partition by portfolio_id, method, window_days, estimator order by date desc) as back
+         from var_backtest
+         where date < $1::date and ($3::date is null or date >= $3::date) and list_contains(from_json($2::varchar, '["VARCHAR"]'), portfolio_id)
+       )
+       where back <= $4
+       group by all`,
+      [returns.dates[fromRow], JSON.stringify(ids), since, kept],
+    );
+    for (const r of rows) {
+      const key = { p: index.get(r.portfolio_id)!, method: r.method, windowDays: r.window_days, estimator: r.estimator };
+      flags.set(seriesId(key), r.flags.map((f) => (f ? 1 : 0)));
+    }
+  };
+  await read(bound > 0 ? returns.dates[bound] : null, portfolios.ids);
+  if (bound === 0) return { flags, readAgain: 0 };
+  const short = new Set<number>();
+  for (const [id, series] of history.series) if ((flags.get(id)?.length ?? 0) < kept) short.add(series.p);
+  if (short.size > 0) await read(null, [...short].map((p) => portfolios.ids[p]));
+  return { flags, readAgain: short.size };
 }
 
 /**

@@ -145,7 +145,7 @@ export async function saveLossState(
     // ids as JSON: an empty JS list cannot be bound (DuckDB cannot type a list of nothing)
     await db.run(
       `insert into loss_sigma_state (first_date, dates, decay, seed_days, settings, security_ids, variances, run_id)
-       select $1::date, $2, $3, $4, $5::json, from_json($6, '["VARCHAR"]'), $7, $8`,
+       values ($1::date, $2, $3, $4, $5::json, from_json($6, '["VARCHAR"]'), $7, $8)`,
       [
         sigma.firstDate,
         sigma.rows,

@@ -158,6 +158,30 @@ describe('the loss stage state', () => {
     await expectFullAgrees(ws, s);
   }, 120_000);
 
+  it('on a long history, reads the backtest flags of the last 500 dates, and every date for a portfolio with a series too young to fill them, with the figures of a full recompute', async () => {
+    const s = buildScenario(560);
+    const last = s.dates.length - 1;
+    const ws = await tempWorkspace(CONFIG);
+    open.push(ws);
+    await loadDays(ws.db, s, 0, last - 1);
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'history' });
+    await loadDays(ws.db, s, last, last);
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'new day', from: s.dates[last] });
+    // every series tested since its first 60 dates at most: 249 flags among the last 500 dates
+    expect(stateReads(ws).at(-1)).toMatchObject({ sigmaFromState: true, worstFromState: true, flagsReadAgain: 0 });
+    await expectFullAgrees(ws, s);
+
+    // a 400-day window is tested from its 401st date on: fewer than 249 flags among the last 500, read again over every date
+    const young = await tempWorkspace({ ...CONFIG, risk: { ...CONFIG.risk, windows: [21, 63, 400] } });
+    open.push(young);
+    await loadDays(young.db, s, 0, last - 1);
+    await runRecompute(young.db, young.config, young.log, { trigger: 'history' });
+    await loadDays(young.db, s, last, last);
+    await runRecompute(young.db, young.config, young.log, { trigger: 'new day', from: s.dates[last] });
+    expect(stateReads(young).at(-1)).toMatchObject({ sigmaFromState: true, worstFromState: true, flagsReadAgain: 2 });
+    await expectFullAgrees(young, s);
+  }, 240_000);
+
   it('after a run for one portfolio (a positions correction), the next day reads every date again and replays the variances, with the figures of a full recompute', async () => {
     const s = buildScenario();
     const last = s.dates.length - 1;
