@@ -67,8 +67,8 @@ describe('the loss stage state', () => {
   afterEach(() => {
     for (const ws of open.splice(0)) ws.cleanup();
   });
-  const workspace = async (s: Scenario, days: number) => {
-    const ws = await tempWorkspace(CONFIG);
+  const workspace = async (s: Scenario, days: number, config = CONFIG) => {
+    const ws = await tempWorkspace(config);
     open.push(ws);
     await loadDays(ws.db, s, 0, days);
     await runRecompute(ws.db, ws.config, ws.log, { trigger: 'history' });
@@ -161,23 +161,18 @@ describe('the loss stage state', () => {
   it('on a long history, reads the backtest flags of the last 500 dates, and every date for a portfolio with a series too young to fill them, with the figures of a full recompute', async () => {
     const s = buildScenario(560);
     const last = s.dates.length - 1;
-    const ws = await tempWorkspace(CONFIG);
-    open.push(ws);
-    await loadDays(ws.db, s, 0, last - 1);
-    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'history' });
-    await loadDays(ws.db, s, last, last);
-    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'new day', from: s.dates[last] });
+    const lastDayOn = async (config: typeof CONFIG) => {
+      const ws = await workspace(s, last - 1, config);
+      await loadDays(ws.db, s, last, last);
+      await runRecompute(ws.db, ws.config, ws.log, { trigger: 'new day', from: s.dates[last] });
+      return ws;
+    };
+    const ws = await lastDayOn(CONFIG);
     // every series tested since its first 60 dates at most: 249 flags among the last 500 dates
     expect(stateReads(ws).at(-1)).toMatchObject({ sigmaFromState: true, worstFromState: true, flagsReadAgain: 0 });
     await expectFullAgrees(ws, s);
-
     // a 400-day window is tested from its 401st date on: fewer than 249 flags among the last 500, read again over every date
-    const young = await tempWorkspace({ ...CONFIG, risk: { ...CONFIG.risk, windows: [21, 63, 400] } });
-    open.push(young);
-    await loadDays(young.db, s, 0, last - 1);
-    await runRecompute(young.db, young.config, young.log, { trigger: 'history' });
-    await loadDays(young.db, s, last, last);
-    await runRecompute(young.db, young.config, young.log, { trigger: 'new day', from: s.dates[last] });
+    const young = await lastDayOn({ ...CONFIG, risk: { ...CONFIG.risk, windows: [21, 63, 400] } });
     expect(stateReads(young).at(-1)).toMatchObject({ sigmaFromState: true, worstFromState: true, flagsReadAgain: 2 });
     await expectFullAgrees(young, s);
   }, 240_000);
