@@ -108,7 +108,8 @@ async function readReturns(
   states: Record<string, unknown>,
 ): Promise<ReturnPanel> {
   const plugins = keepingState(config);
-  const lookback = Math.max(...config.risk.windows, config.risk.ewma.seedDays, ...config.risk.historical.days) + 1;
+  const windows = registeredEstimators().flatMap((plugin) => plugin.windows(config));
+  const lookback = Math.max(...windows, config.risk.ewma.seedDays, ...config.risk.historical.days) + 1;
   const returnsFrom = plugins.every((plugin) => plugin.name in states) ? Math.max(0, fromRow - lookback) : 0;
   const returns = await readReturnPanel(db, dates, firstRow, portfolios, returnsFrom);
   if (returnsFrom === 0) return returns;
