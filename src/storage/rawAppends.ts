@@ -10,11 +10,11 @@ import type { Database } from './database.ts';
 export const rawMarkSql = (table: string) => `(select count(*) || ':' || coalesce(max(file_id), 0) from ${table})`;
 
 /**
- * What `table` gained since its mark was `before`: the count and earliest date of the
- * rows with a file_id above the old highest, or null when it changed otherwise (rows
+ * What `table` gained since its mark was `before`: the earliest date of the rows with a
+ * file_id above the old highest (null: none), or null when it changed otherwise (rows
  * gone, an unreadable mark) and only a reader starting over is right.
  */
-export async function appendedSince(db: Database, table: string, before: string, now: string): Promise<{ rows: number; first: string | null } | null> {
+export async function appendedSince(db: Database, table: string, before: string, now: string): Promise<{ first: string | null } | null> {
   const old = parseMark(before);
   const current = parseMark(now);
   if (old === null || current === null) return null;
@@ -22,7 +22,7 @@ export async function appendedSince(db: Database, table: string, before: string,
     `select count(*) as added, min(date)::varchar as first from ${table} where file_id > $1`,
     [old.maxFile],
   );
-  return current.rows === old.rows + Number(added) ? { rows: Number(added), first } : null;
+  return current.rows === old.rows + Number(added) ? { first } : null;
 }
 
 function parseMark(mark: string): { rows: number; maxFile: number } | null {
