@@ -47,7 +47,7 @@ const REAL_SIZES: readonly SizeName[] = ['small', 'medium', 'large'];
 export const GOALS: Record<FigureKey, Goal | null> = {
   ingest_rows_per_second: { kind: 'min', value: 1_000_000, sizes: ['large'] },
   ingest_vs_read_csv: { kind: 'max', value: 1.5, sizes: REAL_SIZES },
-  backfill_seconds: { kind: 'max', value: 60, sizes: ['large'] },
+  backfill_seconds: { kind: 'max', value: 30, sizes: ['large'] },
   new_day_latency_seconds: { kind: 'max', value: 2, sizes: REAL_SIZES },
   worker_peak_memory_mib: { kind: 'max', value: 2048, sizes: REAL_SIZES },
   naive_vs_incremental: null,

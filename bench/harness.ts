@@ -27,7 +27,13 @@ export interface BenchOptions {
   /** Called as each stage starts and as each figure is known, for progress output on long runs. */
   onStage?: (name: string) => void;
   onFigure?: (figure: Figure) => void;
+  /** Stages left out (their figures say so): at the large size a full run takes hours. */
+  skip?: ReadonlySet<SkippableStage>;
 }
+
+/** The stages `--skip` can leave out; ingest and backfill feed the others and always run. */
+export const SKIPPABLE_STAGES = ['naive', 'numpy', 'history', 'worker'] as const;
+export type SkippableStage = (typeof SKIPPABLE_STAGES)[number];
 
 export interface BenchResult {
   size: SizeName;
@@ -66,6 +72,16 @@ export async function runBench(options: BenchOptions): Promise<BenchResult> {
       options.onFigure?.(f);
     });
   const failed = (keys: FigureKey[], err: unknown) => keep(keys.map((k) => unavailable(k, reasonOf(err))));
+  // a stage left out by --skip, or one that fails, leaves its figures unavailable with the reason
+  const attempt = async (name: SkippableStage, label: string, keys: FigureKey[], run: () => Promise<void>) => {
+    if (options.skip?.has(name)) return keep(keys.map((k) => unavailable(k, `skipped (--skip ${name})`)));
+    stage(label);
+    try {
+      await run();
+    } catch (err) {
+      failed(keys, err);
+    }
+  };
   try {
     stage('generating the scenario');
     const scenario = await generateScenario(size, path.join(root, 'scenario'));
@@ -90,38 +106,26 @@ export async function runBench(options: BenchOptions): Promise<BenchResult> {
       failed(['backfill_seconds'], err);
     }
 
-    stage('naive backfill for comparison');
-    try {
+    await attempt('naive', 'naive backfill for comparison', ['naive_vs_incremental'], async () => {
       keep([await naiveComparison(options, root, size.name === 'medium' || size.name === 'large' ? null : { ws: ingested, backfill })]);
-    } catch (err) {
-      failed(['naive_vs_incremental'], err);
-    }
+    });
 
-    stage('numpy reference: the same CSVs, sample and EWMA volatilities');
-    try {
+    await attempt('numpy', 'numpy reference: the same CSVs, sample and EWMA volatilities', ['riskfold_vs_numpy'], async () => {
       const ingestSeconds = found.get('ingest_vs_read_csv')?.details.ingest_seconds;
       if (!ingested || !backfill || typeof ingestSeconds !== 'number') throw new Error('needs the ingest and backfill times');
       // its dense arrays (the positions file read whole, dates x dates per portfolio) want several GiB at the large size
       if (size.name === 'large') throw new Error('skipped: run at the medium size (the comparison issue 13 sets)');
       keep([await measureNumpyReference(scenario, ingested.config, { ingestSeconds, backfillSeconds: median(backfill.seconds) })]);
-    } catch (err) {
-      failed(['riskfold_vs_numpy'], err);
-    }
+    });
 
-    stage('history: a year of daily corrections');
-    try {
+    await attempt('history', 'history: a year of daily corrections', ['history_growth_mib'], async () => {
       if (!ingested || !backfill) throw new Error('needs the ingested history and its backfill');
       keep([await measureHistoryGrowth(ingested, size.name, size.correctionDays, options.log)]);
-    } catch (err) {
-      failed(['history_growth_mib'], err);
-    }
+    });
 
-    stage('worker: catch-up, new days, peak memory');
-    try {
+    await attempt('worker', 'worker: catch-up, new days, peak memory', ['new_day_latency_seconds', 'worker_peak_memory_mib'], async () => {
       keep(await measureWorker(scenario, root));
-    } catch (err) {
-      failed(['new_day_latency_seconds', 'worker_peak_memory_mib'], err);
-    }
+    });
 
     const figures = FIGURE_KEYS.map((k) => found.get(k) ?? unavailable(k, 'not measured'));
     const result: BenchResult = {

@@ -2,13 +2,13 @@ import path from 'node:path';
 import { parseArgs } from 'node:util';
 import { createLogger } from '../src/log/logger.ts';
 import { formatNumber } from './figures.ts';
-import { runBench } from './harness.ts';
+import { runBench, SKIPPABLE_STAGES, type SkippableStage } from './harness.ts';
 import { formatResult } from './report.ts';
 import { SIZE_NAMES, SIZES, type SizeName } from './scenario.ts';
 import { formatSweep, GROWTH_YEARS, growthPoints, runSweep, scalingBase, scalingPoints, type SweepOptions } from './sweeps.ts';
 
 /**
- * `npm run bench [-- --size small|medium|large] [--runs N] [--keep]`: prints the figures and writes
+ * `npm run bench [-- --size small|medium|large] [--runs N] [--keep] [--skip naive,numpy,history,worker]`: prints the figures and writes
  * bench/results/<size>-latest.json. A missed goal is reported, never an exit code, so
  * CI can run the small size without failing on a slow machine.
  * `--growth [--years 3,6,10]`: the size's book over histories of those lengths (new day,
@@ -24,10 +24,17 @@ const { values } = parseArgs({
     years: { type: 'string' },
     scaling: { type: 'boolean', default: false },
     'full-grid': { type: 'boolean', default: false },
+    skip: { type: 'string' },
   },
 });
 if (!(SIZE_NAMES as readonly string[]).includes(values.size)) {
   process.stderr.write(`bench: --size must be one of ${SIZE_NAMES.join(', ')}, got "${values.size}"\n`);
+  process.exit(2);
+}
+const skip = values.skip === undefined ? [] : values.skip.split(',');
+const unknownStage = skip.find((s) => !(SKIPPABLE_STAGES as readonly string[]).includes(s));
+if (unknownStage !== undefined) {
+  process.stderr.write(`bench: --skip takes ${SKIPPABLE_STAGES.join(', ')} (comma-separated), got "${unknownStage}"\n`);
   process.exit(2);
 }
 const runs = values.runs === undefined ? undefined : Number(values.runs);
@@ -82,6 +89,7 @@ const result = await runBench({
   log,
   runs,
   keep: values.keep,
+  skip: new Set(skip as SkippableStage[]),
   onStage: (name) => process.stderr.write(`bench: ${name}\n`),
   onFigure: (f) => process.stderr.write(`bench:   ${f.label}: ${f.value === null ? f.note : `${formatNumber(f.value)} ${f.unit}`}\n`),
 });

@@ -166,4 +166,20 @@ describe('runBench at the tiny size', () => {
     for (const f of result.figures) expect(text).toContain(f.label);
     // a real worker and a few recomputes run; on a busy 2-core machine that takes a while
   }, 600_000);
+
+  it('leaves out the stages --skip names, saying so in their figures, and still measures ingest and backfill', async () => {
+    const { log } = memoryLogger('warn');
+    const result = await runBench({ size: 'tiny', resultsDir: null, log, skip: new Set(['naive', 'numpy', 'history', 'worker'] as const) });
+    const notes = Object.fromEntries(result.figures.filter((f) => f.verdict === 'unavailable').map((f) => [f.key, f.note]));
+    expect(notes).toEqual({
+      naive_vs_incremental: 'skipped (--skip naive)',
+      riskfold_vs_numpy: 'skipped (--skip numpy)',
+      history_growth_mib: 'skipped (--skip history)',
+      new_day_latency_seconds: 'skipped (--skip worker)',
+      worker_peak_memory_mib: 'skipped (--skip worker)',
+    });
+    for (const key of ['ingest_rows_per_second', 'ingest_vs_read_csv', 'backfill_seconds'] as const) {
+      expect(result.figures.find((f) => f.key === key)!.value, key).toBeGreaterThan(0);
+    }
+  }, 300_000);
 });
