@@ -11,6 +11,16 @@ where date >= getvariable('derived_from')
      select security_id from derived_held_securities where first_held_on < getvariable('derived_from')
    );
 
+-- the securities derived whole (first held on or after derived_from), as a constant: a
+-- filter on it reaches the scan of the raw prices, where a join would come only after
+-- the latest delivery of every price ever delivered was found (a whole-table window on
+-- every new day). A full rebuild reads every price anyway and filters nothing.
+set variable derived_whole_securities = (
+  select coalesce(list(security_id), []::varchar[])
+  from derived_held_securities
+  where first_held_on >= getvariable('derived_from') and not is_cash(security_id)
+);
+
 insert into derived_aligned_prices
 with valuation_dates as (
   select date, date_index
@@ -35,8 +45,9 @@ carried_in as (
 
 -- a suspect price held out of risk (checks.suspectPrices.mode hold; step 085) is skipped
 -- here, so the previous price is carried over its date, stale, until a delivery repeats
--- or corrects it
-delivered_prices as (
+-- or corrects it. Not materialized: each use below takes its own date bound into
+-- clean_prices, so a new day reads the recent prices, not the whole table
+delivered_prices as not materialized (
   select p.date, p.security_id, p.price, p.currency
   from clean_prices p
   anti join derived_held_out_prices o on o.security_id = p.security_id and o.date = p.date
@@ -53,6 +64,7 @@ held_prices as (
   select p.*
   from delivered_prices p
   semi join held_securities h on h.security_id = p.security_id and not h.keeps_earlier_rows
+  where getvariable('derived_from') = '-infinity'::date or list_contains(getvariable('derived_whole_securities'), p.security_id)
 ),
 
 -- how many valuation dates had passed when the price was observed: staleness is
@@ -97,4 +109,8 @@ carried as (
   asof join observed o on o.security_id = d.security_id and d.date >= o.date
 )
 
-select * from carried;
+-- in date order: a full rebuild then lies in the table as a new day's rows are appended
+-- (by date), so a reader of a few dates (the carry-in above, align_prices by date_index)
+-- skips the row groups of the others
+select * from carried
+order by date, security_id;

@@ -3,6 +3,7 @@ import { insertAlert } from '../alerts/outbox.ts';
 import type { Config } from '../config/load.ts';
 import type { Database } from '../storage/database.ts';
 import { readColumns } from '../storage/columnar.ts';
+import { refreshCheckedSecurities } from './checkedSecurities.ts';
 import { priceSuspectAlert } from './priceAlerts.ts';
 import { findSuspectPrices, marketMoves, type PricePoint, type SuspectPrice } from './suspectPrices.ts';
 
@@ -36,23 +37,20 @@ interface OpenCheck {
 export async function checkPrices(db: Database, config: Config, log: Logger, scope: { from: string | null }): Promise<PriceCheckOutcome> {
   const rules = config.checks.suspectPrices;
   const clog = log.child({ stage: 'checks' });
+  await refreshCheckedSecurities(db);
   const { rows, columns: c } = await readColumns(
     db,
-    // the raw positions and benchmark weights (superseded snapshots too): a superset of what
-    // was ever held or is a benchmark's constituent, read without rebuilding the snapshots in force
-    `with held as (
-       select security_id from positions where quantity <> 0 and not is_cash(security_id)
-       union
-       select security_id from benchmarks where weight <> 0 and not is_cash(security_id)
-     ),
-     latest as (
+    // price_check_securities: the securities of the raw positions and benchmark weights
+    // (superseded snapshots too), a superset of what was ever held or is a benchmark's
+    // constituent, kept from the rows added since the last check
+    `with latest as (
        select security_id, date, price, coalesce(currency, '') as market, file_id
-       from clean_prices semi join held using (security_id)
+       from clean_prices semi join price_check_securities using (security_id)
        where $1::date is null or date >= $1::date - ${LOOKBACK_DAYS}
      ),
      repeated as (
        select p.security_id, p.date from prices p join latest l using (security_id, date)
-       where p.price = l.price and p.file_id <> l.file_id
+       where p.price = l.price and p.file_id <> l.file_id and ($1::date is null or p.date >= $1::date - ${LOOKBACK_DAYS})
        group by all
      )
      select l.security_id, l.date::varchar as date, l.price, l.market, r.security_id is not null as confirmed
@@ -81,7 +79,8 @@ export async function checkPrices(db: Database, config: Config, log: Logger, sco
       const self = i > 0 && s.prices[i] !== s.prices[i - 1] ? 1 : 0;
       return { date, price: s.prices[i], confirmed: s.confirmed[i], marketMoved: (movers.get(date) ?? 0) - self > 0 };
     });
-    points.forEach((p) => current.set(key(s.securityId, p.date), { price: p.price, confirmed: p.confirmed }));
+    // the open checks looked up below are those from `from` on
+    for (const p of points) if (scope.from === null || p.date >= scope.from) current.set(key(s.securityId, p.date), { price: p.price, confirmed: p.confirmed });
     for (const flag of findSuspectPrices(points, rules)) {
       if (scope.from !== null && flag.date < scope.from) continue;
       found.set(key(s.securityId, flag.date), { securityId: s.securityId, price: points[flag.index].price, flag });

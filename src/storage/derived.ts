@@ -1,5 +1,6 @@
 import type { Logger } from 'pino';
 import type { Database } from './database.ts';
+import { appendedSince, rawMarkSql } from './rawAppends.ts';
 import { LADDER_DIR, listLadder } from './sqlFiles.ts';
 
 /**
@@ -25,7 +26,7 @@ const HELD_OUT_SQL = 'select distinct security_id, date from price_checks where 
  */
 const FINGERPRINT_SQL = `
   select concat_ws('|',
-    ${RAW_TABLES.map((t) => `(select count(*) || ':' || coalesce(max(file_id), 0) from ${t})`).join(',\n    ')},
+    ${RAW_TABLES.map(rawMarkSql).join(',\n    ')},
     (select count(*) || ':' || count(*) filter (where held and cleared_at is null) || ':' || coalesce(sum(check_id) filter (where held and cleared_at is null), 0)
      from price_checks)) as fingerprint`;
 
@@ -100,20 +101,13 @@ const NOTHING = Symbol('nothing to refill');
 async function changedFrom(db: Database, before: string, now: string): Promise<string | typeof FULL | typeof NOTHING> {
   const old = before.split('|');
   const current = now.split('|');
-  const pair = (part: string) => part.split(':').map(Number);
-  if (old.length !== RAW_TABLES.length + 1 || old.slice(0, RAW_TABLES.length).some((p) => pair(p).length !== 2 || pair(p).some((x) => !Number.isSafeInteger(x)))) {
-    return FULL;
-  }
+  if (old.length !== RAW_TABLES.length + 1) return FULL;
   const firsts: (string | null)[] = [];
   for (const [i, table] of RAW_TABLES.entries()) {
     if (old[i] === current[i]) continue;
-    const [oldRows, oldMaxFile] = pair(old[i]);
-    const [{ added, first }] = await db.all<{ added: string; first: string | null }>(
-      `select count(*) as added, min(date)::varchar as first from ${table} where file_id > $1`,
-      [oldMaxFile],
-    );
-    if (first === null || pair(current[i])[0] !== oldRows + Number(added)) return FULL;
-    firsts.push(first);
+    const added = await appendedSince(db, table, old[i], current[i]);
+    if (added === null || added.first === null) return FULL;
+    firsts.push(added.first);
   }
   if (old[RAW_TABLES.length] !== current[RAW_TABLES.length]) {
     const [{ first }] = await db.all<{ first: string | null }>(
