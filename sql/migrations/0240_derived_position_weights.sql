@@ -1,0 +1,29 @@
+-- Each position's value and weight per valuation date (step 155), stored so a new day
+-- values its own dates only and a run reads the others as rows. Unlike the other derived
+-- tables it depends on settings (base_currency, max_stale_days) and the securities'
+-- currencies: the refresh's fingerprint carries them and a change rebuilds it in full.
+-- Written only by src/storage/derived.ts.
+create table derived_position_weights (
+  portfolio_id         varchar not null,
+  date                 date not null,
+  security_id          varchar not null,
+  is_cash              boolean not null,
+  value_base           double,
+  weight               double,
+  price_status         varchar not null,
+  currency             varchar,
+  quantity             double not null,
+  portfolio_value_base double,
+  date_index           integer not null
+);
+
+-- The securities' currencies the stored values were computed with (step 156): a refresh
+-- compares them with clean_securities and refills from the first date a security whose
+-- currency changed was held. Written only by src/storage/derived.ts.
+create table derived_security_currencies (
+  security_id varchar not null,
+  currency    varchar
+);
+
+-- the other derived tables were built without it: the next refresh rebuilds them all
+delete from derived_state;
