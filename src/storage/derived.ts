@@ -6,11 +6,11 @@ import { LADDER_DIR, listLadder } from './sqlFiles.ts';
 /**
  * The derived tables (migrations 0030, 0080, 0240) store the layers every view shares:
  * snapshots in force, the securities ever held, the valuation calendar, carried prices
- * and fx rates, position values and weights; the ladder's stored steps
- * (sql/ladder/NNN_<layer>_stored_<stem>.sql) fill them. They are brought up to date whenever the raw tables' fingerprint differs
- * from the one recorded with them, so whoever changed the raw tables (ingest, a test, an
- * outside client, a crash half way) the views never read a layer older than its inputs
- * once this has run.
+ * and fx rates, position values and weights, portfolio returns; the ladder's stored steps
+ * (sql/ladder/NNN_<layer>_stored_<stem>.sql) fill them. They are brought up to date
+ * whenever the raw tables' fingerprint differs from the one recorded with them, so
+ * whoever changed the raw tables (ingest, a test, an outside client, a crash half way)
+ * the views never read a layer older than its inputs once this has run.
  */
 
 /** The raw tables the derived layers read, each with a `date` and the `file_id` of its delivery. */
@@ -20,8 +20,9 @@ const RAW_TABLES = ['prices', 'positions', 'fx_rates', 'benchmarks'] as const;
 const HELD_OUT_SQL = 'select distinct security_id, date from price_checks where held and cleared_at is null';
 
 /**
- * The settings the stored position values (step 155) apply: a change rebuilds in full.
- * The securities' currencies they apply too are followed by the securities' mark.
+ * The settings the stored position values and portfolio returns (steps 155, 175) apply:
+ * a change rebuilds in full. The securities' currencies they apply too are followed by
+ * the securities' mark.
  */
 const VALUATION_SQL = `coalesce((select base_currency || ':' || max_stale_days from pipeline_settings), '')`;
 
