@@ -68,9 +68,9 @@ export async function runRecompute(
     await phases.time('refresh_derived', () => refreshDerived(db, log));
     // the panels are let go once the loss stage has staged its rows: the write step does not need them
     const { inputs, ...computed } = await computeRun(db, config, log, { runId, from, portfolios, settings }, phases);
-    const losses = await phases.time('losses', () => computeLosses(db, config, log, inputs));
+    const losses = await phases.time('losses', () => computeLosses(db, config, log, { ...inputs, settings }));
     const risk = await withLossFailures(db, rlog, computed, losses.failures, inputs);
-    const run: RunContext = { runId, from, portfolios, settings, trigger: request.trigger, config, log, risk, alertsRaised: 0 };
+    const run: RunContext = { runId, from, portfolios, settings, trigger: request.trigger, config, log, risk, lossState: losses.state, alertsRaised: 0 };
     await db.transaction(async () => {
       for (const writer of writers) await phases.time(writer.name, () => writer.write(db, run));
       await markRunDone(db, runId, risk.riskRows);

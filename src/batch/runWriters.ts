@@ -4,6 +4,7 @@ import { alertUnvaluedPortfolios } from '../checks/unvaluedPortfolios.ts';
 import type { Config } from '../config/load.ts';
 import { HOLD_BEFORE, KEEP_REPLACED, PRUNE_HISTORY } from '../history/historyWriters.ts';
 import { checkLimits } from '../limits/checkLimits.ts';
+import { saveLossState, type LossState } from '../loss/lossState.ts';
 import { writeLosses } from '../loss/lossStage.ts';
 import { saveEstimatorStates, type ComputedRisk, type RiskScope } from '../risk/computeRun.ts';
 import { replaceResults } from '../risk/store/staging.ts';
@@ -18,6 +19,8 @@ export interface RunContext extends RiskScope {
   log: Logger;
   /** The computed run: staged rows, dates, EWMA states (its input panels are let go before the write step). */
   risk: Omit<ComputedRisk, 'inputs'>;
+  /** What the loss stage keeps for the next run (src/loss/lossState.ts). */
+  lossState: LossState;
   /** Alerts written to the outbox so far in this transaction; a writer that raises alerts adds its count. */
   alertsRaised: number;
 }
@@ -36,7 +39,7 @@ export interface RunWriter {
 /**
  * The write step of every run: the rows it may replace held aside (history), risk rows
  * (none for a portfolio whose compute failed: it keeps its earlier ones) and their
- * suspect_price status, the loss rows (the same exception), then the estimator state,
+ * suspect_price status, the loss rows (the same exception), then the estimator and loss states,
  * then limits (which read the new rows) and their alerts, the portfolio_unvalued alerts,
  * then the replaced rows kept as history (and old history pruned), the failed
  * portfolios' episodes, then the close of a run failure episode. Every writer that
@@ -66,6 +69,11 @@ export const RUN_WRITERS: readonly RunWriter[] = [
   {
     name: 'save_ewma_state',
     write: (tx, run) => saveEstimatorStates(tx, run.config, run.risk, run.runId, run.settings),
+  },
+  {
+    name: 'save_loss_state',
+    write: (tx, run) =>
+      saveLossState(tx, run.config, run.lossState, { runId: run.runId, settings: run.settings, failed: run.risk.failures.map((f) => f.portfolioId) }),
   },
   {
     name: 'limits',

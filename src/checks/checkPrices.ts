@@ -72,21 +72,20 @@ export async function checkPrices(db: Database, config: Config, log: Logger, sco
   }
   const moves = marketMoves(series);
   const found = new Map<string, { securityId: string; price: number; flag: SuspectPrice }>();
-  const current = new Map<string, { price: number; confirmed: boolean }>();
   for (const s of series) {
     const movers = moves.get(s.currency)!;
     const points: PricePoint[] = s.dates.map((date, i) => {
       const self = i > 0 && s.prices[i] !== s.prices[i - 1] ? 1 : 0;
       return { date, price: s.prices[i], confirmed: s.confirmed[i], marketMoved: (movers.get(date) ?? 0) - self > 0 };
     });
-    // the open checks looked up below are those from `from` on
-    for (const p of points) if (scope.from === null || p.date >= scope.from) current.set(key(s.securityId, p.date), { price: p.price, confirmed: p.confirmed });
     for (const flag of findSuspectPrices(points, rules)) {
       if (scope.from !== null && flag.date < scope.from) continue;
       found.set(key(s.securityId, flag.date), { securityId: s.securityId, price: points[flag.index].price, flag });
     }
   }
 
+  // what stands now for an open check's price (a few lookups: no map over every price)
+  const bySecurity = new Map(series.map((s) => [s.securityId, s]));
   const held = rules.mode === 'hold';
   return db.transaction(async () => {
     const open = await db.all<OpenCheck>(
@@ -103,7 +102,7 @@ export async function checkPrices(db: Database, config: Config, log: Logger, sco
         stillOpen.add(k);
         continue;
       }
-      const delivered = current.get(k);
+      const delivered = deliveredOn(bySecurity.get(o.security_id), o.date);
       const why =
         delivered === undefined
           ? 'the price is no longer delivered'
@@ -133,3 +132,16 @@ export async function checkPrices(db: Database, config: Config, log: Logger, sco
 }
 
 const key = (securityId: string, date: string) => `${securityId}|${date}`;
+
+/** The price read for `date` in a security's series (dates ascending), or undefined. */
+function deliveredOn(s: { dates: string[]; prices: number[]; confirmed: boolean[] } | undefined, date: string): { price: number; confirmed: boolean } | undefined {
+  if (s === undefined) return undefined;
+  let lo = 0;
+  let hi = s.dates.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >> 1;
+    if (s.dates[mid] < date) lo = mid + 1;
+    else hi = mid;
+  }
+  return s.dates[lo] === date ? { price: s.prices[lo], confirmed: s.confirmed[lo] } : undefined;
+}

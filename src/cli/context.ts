@@ -1,6 +1,5 @@
-import type { Config } from '../config/load.ts';
+import { findConfigFile, loadConfig, type Config } from '../config/load.ts';
 import { createLogger, type Logger } from '../log/logger.ts';
-import { configFrom } from './commandConfig.ts';
 
 export interface CommandContext {
   config: Config;
@@ -8,5 +7,5 @@ export interface CommandContext {
 }
 
 export function contextFrom(opts: { config?: string }): CommandContext {
-  return { config: configFrom(opts), log: createLogger() };
+  return { config: loadConfig(findConfigFile(opts.config)), log: createLogger() };
 }

@@ -1,10 +1,14 @@
-import { existsSync, readFileSync } from 'node:fs';
+import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { z } from 'zod';
 import { configSchema, DEFAULT_SOURCES, sourceSchema, type ParsedConfig, type SourceConfig } from './schema.ts';
 import { resolveLimits, type ResolvedLimit } from './limitSeries.ts';
 import { RiskfoldError } from '../errors.ts';
 import { jsonErrorOffset, knownKeysAt, lineAndColumn, nearestKey } from './explain.ts';
+import { deepFreeze } from './deepFreeze.ts';
+import { DEFAULT_CONFIG_FILE, HOW_TO_MAKE_ONE } from './findConfig.ts';
+
+export { DEFAULT_CONFIG_FILE, findConfigFile } from './findConfig.ts';
 
 export type { ResolvedLimit };
 
@@ -16,8 +20,6 @@ export type Config = Readonly<
     limits: readonly ResolvedLimit[];
   }
 >;
-
-export const DEFAULT_CONFIG_FILE = 'pipeline.config.json';
 
 const defaultSources: readonly SourceConfig[] = DEFAULT_SOURCES.map((s) => sourceSchema.parse(s));
 
@@ -50,34 +52,24 @@ export function resolveConfig(raw: unknown, configPath: string): Config {
   });
 }
 
-const HOW_TO_MAKE_ONE = 'create one with "riskfold init [DIR]"';
-
-/**
- * Which config file a command uses: `--config` when given, else the file named by the
- * environment variable RISKFOLD_CONFIG, else ./pipeline.config.json in `cwd`; when none
- * applies, an error that says how to make one.
- */
-export function findConfigFile(given: string | undefined, env: NodeJS.ProcessEnv = process.env, cwd = process.cwd()): string {
-  if (given !== undefined) return given;
-  if (env.RISKFOLD_CONFIG) return env.RISKFOLD_CONFIG;
-  const local = path.join(cwd, DEFAULT_CONFIG_FILE);
-  if (existsSync(local)) return local;
-  throw new RiskfoldError(
-    'config_missing',
-    `no ${DEFAULT_CONFIG_FILE} in ${cwd}, no --config and no RISKFOLD_CONFIG: ${HOW_TO_MAKE_ONE}, or name yours with --config PATH`,
-  );
+export function loadConfig(configPath: string = DEFAULT_CONFIG_FILE): Config {
+  return configFromText(readConfigText(configPath), configPath);
 }
 
-export function loadConfig(configPath: string = DEFAULT_CONFIG_FILE): Config {
-  let text: string;
+/** The config file's text; a file that cannot be read is the user's to fix. */
+export function readConfigText(configPath: string): string {
   try {
-    text = readFileSync(configPath, 'utf8');
+    return readFileSync(configPath, 'utf8');
   } catch (cause) {
     const reason = (cause as NodeJS.ErrnoException).code === 'ENOENT' ? `no such file; ${HOW_TO_MAKE_ONE}` : (cause as Error).message;
     throw new RiskfoldError('config_missing', `${configPath}: cannot read the config file (${reason})`, {
       file: configPath,
     });
   }
+}
+
+/** The config a file's text holds (as `loadConfig`, once the file is read). */
+export function configFromText(text: string, configPath: string): Config {
   let raw: unknown;
   try {
     raw = JSON.parse(text);
@@ -106,12 +98,4 @@ function withKeySuggestions(error: z.ZodError): z.ZodError {
       return { ...issue, message };
     }),
   );
-}
-
-function deepFreeze<T>(value: T): T {
-  if (value && typeof value === 'object') {
-    for (const v of Object.values(value)) deepFreeze(v);
-    Object.freeze(value);
-  }
-  return value;
 }

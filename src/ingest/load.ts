@@ -40,14 +40,14 @@ class Abort extends Error {
 }
 
 /**
- * The whole load in one pass over the file and ONE transaction: read_csv fills a
- * temporary table with the typed rows; from it they go into the raw table, checked on
- * the way (a row that breaks a rule raises, and the statement fails); then the ids' rule
- * and a summary of the file (count, dates, portfolios) in one scan, a sorted pass over the
- * keys' hashes for a repeated key, the duplicate check on the file's sha256 (computed
- * meanwhile in this thread) and the `ingested_files` row. Anything
- * wrong rolls it all back and the caller finds out which row it was; a good file, the
- * common case, costs one read.
+ * The whole load in one read of the file and ONE transaction: read_csv fills a
+ * temporary table with the typed rows; one scan of it gives the file's summary (count,
+ * dates, portfolios) and whether any row breaks a rule (ids included), a sorted pass over
+ * the keys' hashes finds a repeated key; only a file that passes them opens the
+ * transaction, where its rows are copied into the raw table as they are, then the
+ * duplicate check on the file's sha256 (computed meanwhile in this thread), the guard
+ * and the `ingested_files` row. Anything wrong leaves the raw tables untouched and the
+ * caller finds out which row it was; a good file, the common case, costs one read.
  */
 export async function loadFile(
   db: Database,
@@ -69,7 +69,9 @@ export async function loadFile(
     return { kind: 'failed', sha256: await hashing, cause };
   }
   try {
-    return await db.transaction(() => insertStaged(db, layout, bounds, hashing, record, guard));
+    const summary = await checkStaged(db, layout, bounds);
+    if (summary === null) return { kind: 'failed', sha256: await hashing, cause: null };
+    return await db.transaction(() => insertStaged(db, layout, summary, hashing, record, guard));
   } catch (err) {
     if (err instanceof Abort) return err.attempt;
     throw err;
@@ -78,37 +80,39 @@ export async function loadFile(
   }
 }
 
-/** Inside the load's transaction: the staged rows into the raw table, the file's checks and its ledger row. */
+/**
+ * Every rule of the file over the staged rows, before anything is written: the rows'
+ * values and ids (one scan, with the summary), at least one row, no repeated key, and a
+ * benchmark snapshot's weights adding up. The summary of a file that passes; null for one
+ * that does not (the diagnosis then finds which row it was).
+ */
+async function checkStaged(db: Database, layout: KindLayout, bounds: Plausibility): Promise<FileSummary | null> {
+  const { summary, bad } = await summarizeStaged(db, layout, bounds);
+  if (bad || summary.rows === 0) return null;
+  if ((await keyHashRepeats(db, LOAD_TABLE, layout)) && (await keyRepeats(db, layout))) return null;
+  if (layout.kind === 'benchmarks' && (await hasUnbalancedWeights(db, LOAD_TABLE, bounds.weightSumTolerance))) return null;
+  return summary;
+}
+
+/** Inside the load's transaction: the checked rows into the raw table, the duplicate check, the guard and the ledger row. */
 async function insertStaged(
   db: Database,
   layout: KindLayout,
-  bounds: Plausibility,
+  summary: FileSummary,
   hashing: Promise<string>,
   record: LoadRecord,
   guard: CommitGuard,
 ): Promise<LoadAttempt> {
   const [{ id }] = await db.all<{ id: number }>(`select nextval('file_id_seq')::integer as id`);
-  const columns = layout.fields.map((f) => ident(f.name));
-  const checked = layout.fields.map((f) => {
-    const bad = f.type === 'id' ? null : badSql(f, bounds);
-    return bad === null ? ident(f.name) : `case when ${bad} then error('row ' || (rowid + 1) || ' breaks the ${f.name} rule') else ${ident(f.name)} end`;
-  });
+  const columns = layout.fields.map((f) => ident(f.name)).join(', ');
   try {
-    await db.run(`insert into ${layout.table} (file_id, line, ${columns.join(', ')}) select $1, rowid + 1, ${checked.join(', ')} from ${LOAD_TABLE}`, [id]);
+    await db.run(`insert into ${layout.table} (file_id, line, ${columns}) select $1, rowid + 1, ${columns} from ${LOAD_TABLE}`, [id]);
   } catch (cause) {
     throw new Abort({ kind: 'failed', sha256: await hashing, cause });
   }
-  const { summary, badId } = await summarizeStaged(db, layout, bounds);
-  if (badId) throw new Abort({ kind: 'failed', sha256: await hashing, cause: null });
   const sha256 = await hashing;
   const earlier = await findIngested(db, sha256);
   if (earlier) throw new Abort({ kind: 'known', sha256, earlier });
-  if (summary.rows === 0 || ((await keyHashRepeats(db, LOAD_TABLE, layout)) && (await keyRepeats(db, layout)))) {
-    throw new Abort({ kind: 'failed', sha256, cause: null });
-  }
-  if (layout.kind === 'benchmarks' && (await hasUnbalancedWeights(db, LOAD_TABLE, bounds.weightSumTolerance))) {
-    throw new Abort({ kind: 'failed', sha256, cause: null });
-  }
   const verdict = await guard(id, sha256, summary.rows);
   if (verdict) throw new Abort({ ...verdict, sha256 });
   await recordFile(db, {
@@ -126,20 +130,25 @@ async function insertStaged(
 }
 
 /**
- * The file's summary and whether an id breaks its rule, in one scan of the staged rows.
+ * The file's summary and whether a row breaks a rule, in one scan of the staged rows.
  * Ids repeat on nearly every row, and their rule holds a regular expression (printable
  * characters): it runs once per distinct id of the file (their lists, gathered in the
  * same scan as the summary) instead of once per row. list() leaves nulls out: counted apart.
  */
-async function summarizeStaged(db: Database, layout: KindLayout, bounds: Plausibility): Promise<{ summary: FileSummary; badId: boolean }> {
+async function summarizeStaged(db: Database, layout: KindLayout, bounds: Plausibility): Promise<{ summary: FileSummary; bad: boolean }> {
   const ids = layout.fields.filter((f) => f.type === 'id');
+  const values = layout.fields.flatMap((f) => {
+    const bad = f.type === 'id' ? null : badSql(f, bounds);
+    return bad === null ? [] : [`(${bad})`];
+  });
   const gathered = ids.flatMap((f, i) => [`list(distinct ${ident(f.name)}) as ids_${i}`, `count(*) - count(${ident(f.name)}) as nulls_${i}`]);
-  const bad = ids.map((f, i) => `nulls_${i} > 0 or exists (select 1 from (select unnest(ids_${i}) as ${ident(f.name)}) where ${badSql(f, bounds)})`);
+  const badValues = values.length > 0 ? [`count(*) filter (where ${values.join(' or ')}) as bad_values`] : ['0 as bad_values'];
+  const badIds = ids.map((f, i) => `nulls_${i} > 0 or exists (select 1 from (select unnest(ids_${i}) as ${ident(f.name)}) where ${badSql(f, bounds)})`);
   const [row] = await db.all<Record<string, unknown>>(
-    `select n_rows, min_date, max_date, portfolios, ${bad.length > 0 ? bad.join(' or ') : 'false'} as bad_id
-     from (select ${[...summarySelect(layout), ...gathered].join(', ')} from ${LOAD_TABLE})`,
+    `select n_rows, min_date, max_date, portfolios, bad_values > 0 ${badIds.map((b) => ` or ${b}`).join('')} as bad
+     from (select ${[...summarySelect(layout), ...gathered, ...badValues].join(', ')} from ${LOAD_TABLE})`,
   );
-  return { summary: summaryOf(row), badId: row.bad_id === true };
+  return { summary: summaryOf(row), bad: row.bad === true };
 }
 
 /** The exact test behind a repeated key hash (which a hash collision could also cause). */

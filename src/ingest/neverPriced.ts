@@ -9,7 +9,8 @@ export async function neverPricedSecurities(db: Database, fileId: number): Promi
   const rows = await db.all<{ security_id: string }>(
     `select distinct security_id from positions
      where file_id = $1 and quantity <> 0 and not is_cash(security_id)
-       and security_id not in (select security_id from prices)
+       -- distinct first: the lookup is built over the securities ever priced, not over every price row
+       and security_id not in (select distinct security_id from prices)
      order by security_id`,
     [fileId],
   );

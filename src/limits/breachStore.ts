@@ -1,4 +1,4 @@
-import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
+import { DOUBLE, INTEGER, VARCHAR } from '../storage/duckdbApi.ts';
 import type { ResolvedLimit } from '../config/load.ts';
 import { ChunkAppender, readColumns } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';

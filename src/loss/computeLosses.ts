@@ -1,16 +1,17 @@
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
-import { WORST_WINDOW_PREFIX } from '../config/stressSchema.ts';
-import type { PortfolioPanel, ReturnPanel } from '../risk/inputs/panels.ts';
+import { readEarlierReturns, type PortfolioPanel, type ReturnPanel } from '../risk/inputs/panels.ts';
 import { readColumns } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';
+import { BASEL_OBSERVATIONS } from '../risk/math/backtest.ts';
 import { backtestRows, seriesId, VarHistory } from './backtestRows.ts';
 import type { LossFailure } from './historicalVar.ts';
 import { LossStage, type VarRow } from './lossStage.ts';
 import { walkHistorical } from './parallelHistorical.ts';
-import { securitySigmas } from './securitySigmas.ts';
-import { stressRows, type StressBook } from './stressRows.ts';
-import { WORST_WINDOW_DAYS, worstWindowsUpTo, type WorstWindows } from './worstWindows.ts';
+import { loadSigmaState, loadWorstState, sigmaRowsToKeep, worstRowsToKeep, type LossState } from './lossState.ts';
+import { continueSecurityVariances } from './securitySigmas.ts';
+import { historicalRangeStart, stressRows, type StressBook } from './stressRows.ts';
+import { WORST_WINDOW_DAYS, worstWindowsAt, type WorstWindows } from './worstWindows.ts';
 
 /**
  * The loss stage: historical and filtered historical VaR/ES, the VaR backtest of every
@@ -26,6 +27,8 @@ export interface LossInputs {
   portfolios: PortfolioPanel;
   /** First date row of the run. */
   fromRow: number;
+  /** The run's result settings (JSON): a stored state is continued only if made with the same. */
+  settings: string;
 }
 
 export interface LossSummary {
@@ -34,6 +37,8 @@ export interface LossSummary {
   stressRows: number;
   /** Portfolios whose loss figures could not be computed (by date row of the first failure); the others are staged. */
   failures: LossFailure[];
+  /** What the run keeps for the next one (lossState.ts), saved by its write step. */
+  state: LossState;
 }
 
 /** Reads, computes and stages; call after the risk stage has staged its rows (risk_stage_daily). */
@@ -45,7 +50,8 @@ export async function computeLosses(db: Database, config: Config, log: Logger, i
   try {
     const history = new VarHistory(t);
     await readPredictedVar(db, inputs, history);
-    const sigmaAfter = securitySigmas(returns, config.risk.ewma.lambda, config.risk.ewma.seedDays);
+    const sigma = await sigmasAfter(db, config, inputs);
+    const sigmaAfter = sigma.sigmaAfter;
     const settings = { days: config.risk.historical.days, minCoverage: config.risk.minCoverage };
     // the first failure of each portfolio; its rows are staged all the same and left out when written
     const failures = new Map<number, LossFailure>();
@@ -58,28 +64,41 @@ export async function computeLosses(db: Database, config: Config, log: Logger, i
       history.set({ p, method: row.method, windowDays: row.windowDays, estimator: null }, d, row.var99);
     };
     await walkHistorical({ returns, portfolios, fromRow, sigmaAfter }, settings, emit, fail);
-    backtestRows(history, portfolios, returns.dates, fromRow, await readPriorFlags(db, inputs), (row) => stage.addBacktest(row), fail);
+    const prior = await readPriorFlags(db, inputs, history);
+    backtestRows(history, portfolios, returns.dates, fromRow, prior.flags, (row) => stage.addBacktest(row), fail);
+    let worst: LossState['worst'] = null;
     if (fromRow < t) {
       const books = await readLatestBooks(db, inputs);
-      const stored = await readStoredWorst(db, inputs);
+      const stored = await loadWorstState(db, returns.dates, fromRow, portfolios.ids, inputs.settings);
       // the whole history is read only when a portfolio has no stored worst windows to continue
       // from, or the panel does not reach back over the longest window before the run
-      const continues = fromRow - Math.max(...WORST_WINDOW_DAYS) >= portfolios.firstRow && [...books.keys()].every((p) => stored.has(p));
+      const continues = fromRow - Math.max(...WORST_WINDOW_DAYS) >= portfolios.firstRow && portfolios.ids.every((_, p) => stored.has(p));
       const series = continues ? portfolios.logReturn : await readPortfolioReturns(db, portfolios, t);
-      for (const [p, book] of books) {
+      await readStressRanges(db, config, returns);
+      // the last two dates are kept for the next run: a new day continues from the last, a redo of the last date from the one before
+      const keep = [t - 2, t - 1].filter((d) => d >= 0 && d >= fromRow - 1);
+      const at = new Map<number, Map<number, WorstWindows>>();
+      for (let p = 0; p < portfolios.ids.length; p++) {
         if (failures.has(p)) continue;
+        const book = books.get(p);
         try {
-          const worst = worstWindowsUpTo(series.subarray(p * t, (p + 1) * t), book.d, fromRow, continues ? stored.get(p)! : null);
-          const stress = { portfolioId: portfolios.ids[p], d: book.d, holdings: book.holdings, returns, worst };
+          const windows = worstWindowsAt(series.subarray(p * t, (p + 1) * t), fromRow, book ? [...keep, book.d] : keep, continues ? stored.get(p)! : null);
+          at.set(p, windows);
+          if (!book) continue;
+          const stress = { portfolioId: portfolios.ids[p], d: book.d, holdings: book.holdings, returns, worst: windows.get(book.d)! };
           stressRows(stress, config.stress.scenarios, config.baseCurrency, (row) => stage.addStress(row));
         } catch (err) {
-          fail({ p, d: book.d, message: `stress scenarios: ${err instanceof Error ? err.message : String(err)}` });
+          at.delete(p);
+          fail({ p, d: book?.d ?? t - 1, message: `stress scenarios: ${err instanceof Error ? err.message : String(err)}` });
         }
       }
+      worst = worstRowsToKeep(returns.dates, portfolios.ids, at, keep);
+      log.debug({ stage: 'loss', sigmaFromState: sigma.fromState, worstFromState: continues, flagsReadAgain: prior.readAgain }, 'loss state read');
     }
     closed = true;
-    const summary = { ...stage.close(), failures: [...failures.values()].sort((a, b) => a.p - b.p) };
-    log.debug({ stage: 'loss', ...summary, failures: summary.failures.length }, 'loss rows staged');
+    const state: LossState = { sigma: fromRow < t ? sigmaRowsToKeep(returns, sigma.variances, config) : null, worst };
+    const summary = { ...stage.close(), failures: [...failures.values()].sort((a, b) => a.p - b.p), state };
+    log.debug({ stage: 'loss', ...summary, failures: summary.failures.length, state: undefined }, 'loss rows staged');
     return summary;
   } finally {
     if (!closed) stage.close();
@@ -116,28 +135,42 @@ async function readPredictedVar(db: Database, inputs: LossInputs, history: VarHi
   }
 }
 
-/** Per series, the exception flags of the last 249 tested days before the run, oldest first. */
-async function readPriorFlags(db: Database, inputs: LossInputs): Promise<Map<string, number[]>> {
+/**
+ * Per series, the exception flags of the last 249 tested days before the run, oldest
+ * first. Read from the last 2 x 250 dates first (a read of every date grows with the
+ * history); a series of the run with fewer flags there (young, or untested for a while)
+ * is read again over every date before the run, as its window may reach further back.
+ */
+async function readPriorFlags(db: Database, inputs: LossInputs, history: VarHistory): Promise<{ flags: Map<string, number[]>; readAgain: number }> {
   const { fromRow, returns, portfolios } = inputs;
   const flags = new Map<string, number[]>();
-  if (fromRow < 1 || fromRow >= returns.dates.length) return flags;
-  const rows = await db.all<{ portfolio_id: string; method: string; window_days: number; estimator: string | null; flags: boolean[] }>(
-    `select portfolio_id, method, window_days, estimator, list(exception order by date) as flags
-     from (
-       select *, row_number() over (partition by portfolio_id, method, window_days, estimator order by date desc) as back
-       from var_backtest
-       where date < $1::date and list_contains(from_json($2::varchar, '["VARCHAR"]'), portfolio_id)
-     )
-     where back < 250
-     group by all`,
-    [returns.dates[fromRow], JSON.stringify(portfolios.ids)],
-  );
+  if (fromRow < 1 || fromRow >= returns.dates.length) return { flags, readAgain: 0 };
   const index = new Map(portfolios.ids.map((id, p) => [id, p]));
-  for (const r of rows) {
-    const key = { p: index.get(r.portfolio_id)!, method: r.method, windowDays: r.window_days, estimator: r.estimator };
-    flags.set(seriesId(key), r.flags.map((f) => (f ? 1 : 0)));
-  }
-  return flags;
+  const kept = BASEL_OBSERVATIONS - 1;
+  const bound = Math.max(0, fromRow - 2 * BASEL_OBSERVATIONS);
+  const read = async (since: string | null, ids: readonly string[]) => {
+    const rows = await db.all<{ portfolio_id: string; method: string; window_days: number; estimator: string | null; flags: boolean[] }>(
+      `select portfolio_id, method, window_days, estimator, list(exception order by date) as flags
+       from (
+         select *, row_number() over (partition by portfolio_id, method, window_days, estimator order by date desc) as back
+         from var_backtest
+         where date < $1::date and ($3::date is null or date >= $3::date) and list_contains(from_json($2::varchar, '["VARCHAR"]'), portfolio_id)
+       )
+       where back <= $4
+       group by all`,
+      [returns.dates[fromRow], JSON.stringify(ids), since, kept],
+    );
+    for (const r of rows) {
+      const key = { p: index.get(r.portfolio_id)!, method: r.method, windowDays: r.window_days, estimator: r.estimator };
+      flags.set(seriesId(key), r.flags.map((f) => (f ? 1 : 0)));
+    }
+  };
+  await read(bound > 0 ? returns.dates[bound] : null, portfolios.ids);
+  if (bound === 0) return { flags, readAgain: 0 };
+  const short = new Set<number>();
+  for (const [id, series] of history.series) if ((flags.get(id)?.length ?? 0) < kept) short.add(series.p);
+  if (short.size > 0) await read(null, [...short].map((p) => portfolios.ids[p]));
+  return { flags, readAgain: short.size };
 }
 
 /**
@@ -182,32 +215,31 @@ async function readLatestBooks(db: Database, inputs: LossInputs): Promise<Map<nu
 }
 
 /**
- * The worst windows each portfolio had up to the day before the run, as stored then (its
- * stress rows of that date); a portfolio is left out unless all of them can be read back.
+ * Each security's EWMA variance (T x N) and sigma after each row the run's scenarios read:
+ * continued from the stored variances before the run when they fit, else replayed from
+ * the first date (the returns before the panel's first read row are read first).
  */
-async function readStoredWorst(db: Database, inputs: LossInputs): Promise<Map<number, WorstWindows>> {
-  const { fromRow, returns, portfolios } = inputs;
-  const out = new Map<number, WorstWindows>();
-  if (fromRow < 1) return out;
-  const rows = await db.all<{ portfolio_id: string; scenario_id: string; pnl_pct: number | null; coverage: number | null; range_to: string | null }>(
-    `select portfolio_id, scenario_id, pnl_pct, coverage, range_to from stress_results
-     where date = $1::date and starts_with(scenario_id, $2) and list_contains(from_json($3, '["VARCHAR"]'), portfolio_id)`,
-    [returns.dates[fromRow - 1], WORST_WINDOW_PREFIX, JSON.stringify(portfolios.ids)],
-  );
-  const rowOf = new Map(returns.dates.map((date, d) => [date, d]));
-  const index = new Map(portfolios.ids.map((id, p) => [id, p]));
-  const found = new Map<number, WorstWindows>();
-  for (const r of rows) {
-    const p = index.get(r.portfolio_id)!;
-    const days = Number(r.scenario_id.slice(WORST_WINDOW_PREFIX.length, -1));
-    let windows = found.get(p);
-    if (!windows) found.set(p, (windows = new Map()));
-    // no window at all (coverage 0), or one whose return can be read back (a positive value)
-    if (r.coverage === 0) windows.set(days, null);
-    else if (r.pnl_pct !== null && r.range_to !== null && rowOf.has(r.range_to)) windows.set(days, { start: rowOf.get(r.range_to)! - days + 1, return: r.pnl_pct });
-  }
-  for (const [p, windows] of found) if (WORST_WINDOW_DAYS.every((days) => windows.has(days))) out.set(p, windows);
-  return out;
+async function sigmasAfter(db: Database, config: Config, inputs: LossInputs): Promise<{ variances: Float64Array; sigmaAfter: Float64Array; fromState: boolean }> {
+  const { returns, portfolios, fromRow } = inputs;
+  const t = returns.dates.length;
+  const n = returns.securityIds.length;
+  const { lambda, seedDays } = config.risk.ewma;
+  const stored = fromRow < t ? await loadSigmaState(db, config, returns, fromRow, inputs.settings) : null;
+  const variances = stored ?? new Float64Array(t * n).fill(Number.NaN);
+  if (stored === null && fromRow < t) await readEarlierReturns(db, returns, 0);
+  continueSecurityVariances(returns, lambda, seedDays, variances, stored === null ? 0 : fromRow);
+  // only the rows the run's scenarios read: from the longest lookback before its first date
+  const sigmaAfter = new Float64Array(t * n).fill(Number.NaN);
+  const first = Math.max(0, Math.max(fromRow, portfolios.firstRow) - Math.max(...config.risk.historical.days)) * n;
+  for (let i = first; i < t * n; i++) sigmaAfter[i] = Math.sqrt(variances[i]);
+  return { variances, sigmaAfter, fromState: stored !== null };
+}
+
+/** The returns of the configured historical stress ranges, where the run did not read them (they may lie far back). */
+async function readStressRanges(db: Database, config: Config, returns: ReturnPanel): Promise<void> {
+  const starts = config.stress.scenarios.flatMap((s) => (s.kind === 'historical' ? [historicalRangeStart(returns.dates, s.from, s.to)] : []));
+  const first = Math.min(...starts.filter((row) => row !== null));
+  if (Number.isFinite(first) && first < (returns.returnsFrom ?? 0)) await readEarlierReturns(db, returns, first);
 }
 
 /**

@@ -60,11 +60,16 @@ export function historicalVarRows(
   // each return the run's scenarios use converted once, by security: every portfolio and date revalues under them
   const firstDate = Math.max(fromRow, portfolios.firstRow);
   const simple = new Float64Array(t * returns.securityIds.length);
-  // gaps[j (t + 1) + row]: the rows before `row` without a return, so a lookback's gaps are one difference
+  // gaps[j (t + 1) + row]: the rows from the first scenario row before `row` without a
+  // return, so a lookback's gaps are one difference (counted from there, not from row 0:
+  // a new day's cost does not grow with the history)
   const gaps = new Int32Array((t + 1) * returns.securityIds.length);
+  const firstScenario = Math.max(0, firstDate - longest + 1);
   for (let j = 0; j < returns.securityIds.length; j++) {
-    for (let row = Math.max(0, firstDate - longest + 1); row < t; row++) simple[j * t + row] = Math.expm1(returns.returnsBySecurity[j * t + row]);
-    for (let row = 0; row < t; row++) gaps[j * (t + 1) + row + 1] = gaps[j * (t + 1) + row] + (isScenarioReturn(simple[j * t + row]) ? 0 : 1);
+    for (let row = firstScenario; row < t; row++) {
+      simple[j * t + row] = Math.expm1(returns.returnsBySecurity[j * t + row]);
+      gaps[j * (t + 1) + row + 1] = gaps[j * (t + 1) + row] + (isScenarioReturn(simple[j * t + row]) ? 0 : 1);
+    }
   }
   const filtered = new FilteredScenarios(inputs, longest);
   let at = new Int32Array(0);

@@ -1,4 +1,5 @@
-import { BOOLEAN, DOUBLE, INTEGER, VARCHAR, type DuckDBType } from '@duckdb/node-api';
+import type { DuckDBType } from '@duckdb/node-api';
+import { BOOLEAN, DOUBLE, INTEGER, VARCHAR } from '../storage/duckdbApi.ts';
 import { ChunkAppender } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';
 

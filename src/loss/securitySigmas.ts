@@ -11,14 +11,26 @@ import type { ReturnPanel } from '../risk/inputs/panels.ts';
  * return takes it out until it has seedDays consecutive returns again. NaN while out.
  */
 export function securitySigmas(panel: ReturnPanel, lambda: number, seedDays: number): Float64Array {
+  const variance = new Float64Array(panel.dates.length * panel.securityIds.length).fill(Number.NaN);
+  continueSecurityVariances(panel, lambda, seedDays, variance, 0);
+  return variance.map(Math.sqrt);
+}
+
+/**
+ * The variances behind securitySigmas (T x N, NaN while out), in place from row
+ * `fromRow` on, continuing each security's recursion from its variance at fromRow - 1
+ * (a replay when fromRow is 0). A row depends on the rows before it only through that
+ * variance and, for an entry, the panel's run lengths and the last seedDays returns, so
+ * the rows before fromRow may come from a stored state.
+ */
+export function continueSecurityVariances(panel: ReturnPanel, lambda: number, seedDays: number, variances: Float64Array, fromRow: number): void {
   const t = panel.dates.length;
   const n = panel.securityIds.length;
-  const out = new Float64Array(t * n).fill(Number.NaN);
   const norm = 1 - lambda ** seedDays;
   for (let j = 0; j < n; j++) {
     const series = panel.returnsBySecurity.subarray(j * t, (j + 1) * t);
-    let variance = Number.NaN;
-    for (let d = 0; d < t; d++) {
+    let variance = fromRow > 0 ? variances[(fromRow - 1) * n + j] : Number.NaN;
+    for (let d = fromRow; d < t; d++) {
       const r = series[d];
       if (!Number.isFinite(r)) {
         variance = Number.NaN;
@@ -29,8 +41,7 @@ export function securitySigmas(panel: ReturnPanel, lambda: number, seedDays: num
         for (let k = 0; k < seedDays; k++) sum += (1 - lambda) * lambda ** k * series[d - k] * series[d - k];
         variance = sum / norm;
       }
-      out[d * n + j] = Math.sqrt(variance);
+      variances[d * n + j] = variance;
     }
   }
-  return out;
 }

@@ -70,6 +70,12 @@ export function stressRows(inputs: StressInputs, scenarios: readonly StressScena
   }
 }
 
+/** The first row whose return a historical range reads; null: no stored date in it. */
+export function historicalRangeStart(dates: readonly string[], from: string, to: string): number | null {
+  const [first, last] = rangeRows(dates, from, to);
+  return first > last ? null : first;
+}
+
 /** The rows whose returns make up the move from the close of `from` to the close of `to`: dates in (from, to]. */
 function rangeRows(dates: readonly string[], from: string, to: string): [number, number] {
   let first = dates.findIndex((date) => date > from);

@@ -28,3 +28,25 @@ export function worstWindowsUpTo(series: Float64Array, d: number, fromRow: numbe
   }
   return out;
 }
+
+/**
+ * The worst windows up to each of the date rows `ends` (each fromRow - 1 or later), each
+ * continued from the one before: the first from `before` (the windows up to fromRow - 1,
+ * stored by an earlier run), or from the whole series when it is null. By row.
+ */
+export function worstWindowsAt(series: Float64Array, fromRow: number, ends: readonly number[], before: WorstWindows | null): Map<number, WorstWindows> {
+  const out = new Map<number, WorstWindows>();
+  let known = before;
+  let knownRow = fromRow - 1;
+  for (const end of [...new Set(ends)].sort((a, b) => a - b)) {
+    if (end < fromRow - 1) throw new Error(`worstWindowsAt: row ${end} is before the run's first row ${fromRow} less one`);
+    if (end === knownRow && known !== null) {
+      out.set(end, known);
+      continue;
+    }
+    known = worstWindowsUpTo(series, end, knownRow + 1, known);
+    knownRow = end;
+    out.set(end, known);
+  }
+  return out;
+}

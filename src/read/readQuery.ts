@@ -1,4 +1,5 @@
-import { DuckDBTypeId, StatementType, type DuckDBType, type DuckDBValue } from '@duckdb/node-api';
+import type { DuckDBType, DuckDBValue } from '@duckdb/node-api';
+import { DuckDBTypeId, StatementType } from '../storage/duckdbApi.ts';
 import { RiskfoldError } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
 

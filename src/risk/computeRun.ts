@@ -60,17 +60,15 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   const states = await phases.time('load_estimator_state', () => loadEstimatorStates(db, config, dates, fromRow, scope.settings));
   const longest = Math.max(...config.risk.windows);
   // holdings, benchmarks and portfolio returns from the longest window before the first
-  // output row (realized figures, averaged weights; the loss stage's backtest and worst
-  // windows); security returns from the first date: the loss stage's EWMA-filtered
-  // scenarios and stress ranges reach back that far
+  // output row (realized figures, averaged weights; the loss stage's backtest and worst windows)
   const firstRow = Math.max(0, fromRow - longest + 1);
-  const returns = await phases.time('read_returns', () => readReturnPanel(db, dates, firstRow, scope.portfolios));
+  const returns = await phases.time('read_returns', () => readReturns(db, config, dates, fromRow, firstRow, scope.portfolios, states));
   const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, firstRow, scope.portfolios));
   const benchmarks = await phases.time('read_benchmarks', () => readBenchmarkPanel(db, config, portfolios.ids, dates.length, firstRow));
   for (const id of scope.portfolios ?? []) {
     if (!portfolios.ids.includes(id)) rlog.warn({ portfolio: id }, 'no positions for this portfolio: nothing to compute');
   }
-  rlog.debug({ fromRow, dates: dates.length, securities: returns.securityIds.length, ...fromStateFlags(config, states) }, 'inputs read');
+  rlog.debug({ fromRow, returnsFrom: returns.returnsFrom, dates: dates.length, securities: returns.securityIds.length, ...fromStateFlags(config, states) }, 'inputs read');
 
   const stage = await ResultStage.open(db);
   const progress = startProgress(rlog, progressUnits(config, dates.length, fromRow), 'recompute');
@@ -91,6 +89,33 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
     .sort((a, b) => (a.portfolioId < b.portfolioId ? -1 : 1));
   for (const f of failures) rlog.error({ portfolio: f.portfolioId, date: f.date, error: f.error }, 'risk of this portfolio not computed; the others go on');
   return { dates, portfolios: portfolios.ids.length, riskRows, states: kept, inputs: { returns, portfolios, fromRow }, failures };
+}
+
+/**
+ * The security returns from the longest lookback before the first output row (a window
+ * and the day before it, the EWMA's seed, the loss stage's scenarios, which continue its
+ * stored sigmas) when every estimator that keeps a state continues it; from the first
+ * date when one replays (no state, or one that misses a security the run reads: then the
+ * returns are read again, from the first date).
+ */
+async function readReturns(
+  db: Database,
+  config: Config,
+  dates: string[],
+  fromRow: number,
+  firstRow: number,
+  portfolios: string[] | null,
+  states: Record<string, unknown>,
+): Promise<ReturnPanel> {
+  const plugins = keepingState(config);
+  const windows = registeredEstimators().flatMap((plugin) => plugin.windows(config));
+  const lookback = Math.max(...windows, config.risk.ewma.seedDays, ...config.risk.historical.days) + 1;
+  const returnsFrom = plugins.every((plugin) => plugin.name in states) ? Math.max(0, fromRow - lookback) : 0;
+  const returns = await readReturnPanel(db, dates, firstRow, portfolios, returnsFrom);
+  if (returnsFrom === 0) return returns;
+  // the estimate itself then finds the same and replays
+  const fit = plugins.every((plugin) => plugin.storedState!.fits?.(states[plugin.name], returns, config) !== false);
+  return fit ? returns : readReturnPanel(db, dates, firstRow, portfolios, 0);
 }
 
 /** The estimators that keep a state between runs and run with this config. */

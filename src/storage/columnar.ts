@@ -1,4 +1,5 @@
-import { DuckDBDataChunk, type DuckDBType, type DuckDBVector } from '@duckdb/node-api';
+import type { DuckDBType, DuckDBVector } from '@duckdb/node-api';
+import { DuckDBDataChunk } from './duckdbApi.ts';
 import type { Database, Params } from '../storage/database.ts';
 import { ensureCapacity } from './growable.ts';
 

@@ -1,4 +1,5 @@
-import { DuckDBInstance, type DuckDBConnection, type DuckDBValue } from '@duckdb/node-api';
+import type { DuckDBConnection, DuckDBValue } from '@duckdb/node-api';
+import { DuckDBInstance } from './duckdbApi.ts';
 import { RiskfoldError } from '../errors.ts';
 
 export type Row = Record<string, unknown>;

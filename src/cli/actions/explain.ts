@@ -2,7 +2,7 @@ import { requireIsoDate } from '../../batch/runRecompute.ts';
 import { RiskfoldError } from '../../errors.ts';
 import { readExplanation } from '../../read/explainFigure.ts';
 import { openForReading } from '../../storage/workspace.ts';
-import { configFrom } from '../commandConfig.ts';
+import { readerConfigFrom } from '../commandConfig.ts';
 import { formatSections, noteReadCopy, parseFormat, writeResult } from '../format.ts';
 
 interface ExplainOptions {
@@ -18,7 +18,7 @@ export async function runExplain(opts: ExplainOptions): Promise<void> {
   requireIsoDate(opts.date, 'date');
   const window = opts.window === undefined ? null : windowOf(opts.window);
   const format = parseFormat(opts.format);
-  const config = configFrom(opts);
+  const config = await readerConfigFrom(opts);
   const handle = await openForReading(config);
   try {
     noteReadCopy(handle, config);

@@ -1,12 +1,12 @@
 import { readStatus } from '../../read/readStatus.ts';
 import { openForReading } from '../../storage/workspace.ts';
-import { configFrom } from '../commandConfig.ts';
+import { readerConfigFrom } from '../commandConfig.ts';
 import { formatSections, noteReadCopy, parseFormat, writeResult } from '../format.ts';
 
 /** `riskfold status`. */
 export async function runStatus(opts: { config?: string; format: string; portfolio?: string; details?: boolean }): Promise<void> {
   const format = parseFormat(opts.format);
-  const config = configFrom(opts);
+  const config = await readerConfigFrom(opts);
   const handle = await openForReading(config);
   try {
     noteReadCopy(handle, config);

@@ -1,6 +1,7 @@
 import type { Logger } from 'pino';
 import type { Config } from '../../config/load.ts';
 import type { Database } from '../../storage/database.ts';
+import type { ReturnPanel } from '../inputs/panels.ts';
 import type { ComputeInputs } from '../walk/walkEstimate.ts';
 import type { CovarianceView } from '../walk/portfolioRow.ts';
 import type { RunLoad } from '../runtime/costModel.ts';
@@ -45,6 +46,12 @@ export interface DateEstimate<State = unknown> extends CovarianceView {
 /** Loading and saving an estimator's state; `settings` is the JSON the run's results are made with. */
 export interface StoredState<State> {
   load(db: Database, config: Config, dates: readonly string[], fromRow: number, settings: string): Promise<State | null>;
+  /**
+   * Whether the loaded state can be continued over these returns (absent: always); a state
+   * that cannot is dropped and the estimate replays from the first date, with the returns
+   * of every date read.
+   */
+  fits?(state: State, returns: ReturnPanel, config: Config): boolean;
   /** Inside the run's write transaction: replace the stored states with `states`. */
   save(db: Database, config: Config, dates: readonly string[], states: readonly State[], runId: number, settings: string): Promise<void>;
 }

@@ -67,7 +67,9 @@ export class EwmaEstimate implements DateEstimate<EwmaState> {
     this.newcomerScale = 1 / Math.sqrt(1 - lambda ** seedDays);
     // a state that misses a security in the matrix at its date (one the run that stored
     // it did not read) cannot be continued: replay from the first date
-    const usable = state !== null && this.covers(state) ? state : null;
+    const usable = state !== null && ewmaStateCovers(panel, state, seedDays) ? state : null;
+    // computeRun reads every date when a state will not be continued; a replay over fewer would be wrong
+    if (usable === null && (panel.returnsFrom ?? 0) > 0) throw new Error(`EwmaEstimate: a replay needs every date's returns, read from row ${panel.returnsFrom}`);
     this.row = usable ? usable.row : -1;
     this.startRow = this.row + 1;
     this.beforeLast = usable?.row === this.t - 2 ? usable : null;
@@ -131,20 +133,6 @@ export class EwmaEstimate implements DateEstimate<EwmaState> {
     return { row: this.row, securityIds: members.map((j) => this.panel.securityIds[j]), matrix };
   }
 
-  /**
-   * Whether the state holds every security of this run that is in the matrix at its
-   * date: by the entry and exit rules, exactly those with seedDays consecutive returns
-   * up to that date.
-   */
-  private covers(state: EwmaState): boolean {
-    const stored = new Set(state.securityIds);
-    const { n, panel, seedDays } = this;
-    for (let j = 0; j < n; j++) {
-      if (panel.runLength[state.row * n + j] >= seedDays && !stored.has(panel.securityIds[j])) return false;
-    }
-    return true;
-  }
-
   /** The stored co-moments of this run's securities; a stored security the run did not read is left out (S_jk involves j and k alone). */
   private restore(state: EwmaState): void {
     const position = new Map(this.panel.securityIds.map((id, j) => [id, j]));
@@ -180,11 +168,25 @@ export class EwmaEstimate implements DateEstimate<EwmaState> {
   }
 }
 
+/**
+ * Whether the state holds every security of this run that is in the matrix at its date:
+ * by the entry and exit rules, exactly those with seedDays consecutive returns up to
+ * that date.
+ */
+export function ewmaStateCovers(panel: ReturnPanel, state: EwmaState, seedDays: number): boolean {
+  const stored = new Set(state.securityIds);
+  const n = panel.securityIds.length;
+  for (let j = 0; j < n; j++) {
+    if (panel.runLength[state.row * n + j] >= seedDays && !stored.has(panel.securityIds[j])) return false;
+  }
+  return true;
+}
+
 /** The EWMA of risk.ewma (window_days 0), continued from its stored state when a run may. */
 export const ewmaEstimator: EstimatorPlugin<{ lambda: number; seedDays: number }, EwmaState> = {
   name: 'ewma',
   realized: { volatility: false, trackingError: false },
-  storedState: ewmaStateStore,
+  storedState: { ...ewmaStateStore, fits: (state, returns, config) => ewmaStateCovers(returns, state, config.risk.ewma.seedDays) },
   windows: (config) => (config.risk.ewma.enabled ? [0] : []),
   plan(_windowDays, config, load, state) {
     const { lambda, seedDays } = config.risk.ewma;

@@ -26,6 +26,12 @@ export interface ReturnPanel {
   returnsBySecurity: Float64Array;
   /** T x N: consecutive non-missing returns ending at row d (a window of W is full iff >= W). */
   runLength: Int32Array;
+  /**
+   * First date row whose returns were read (absent: 0, every row). Earlier rows are NaN
+   * and their run lengths count from it: only windows that end at least their length
+   * after it may be judged (readReturnPanel's caller bounds it so).
+   */
+  returnsFrom?: number;
 }
 
 export interface PortfolioPanel {
@@ -63,9 +69,10 @@ export async function readValuationDates(db: Database): Promise<string[]> {
 }
 
 /**
- * Reads the security returns of every date row (the loss stage's EWMA-filtered scenarios
- * and stress ranges reach back to the first). The securities: for a run over every
- * portfolio, those with a return (every security ever held), a position from
+ * Reads the security returns from date row `returnsFrom` on (0: every date; the caller
+ * bounds it by the longest lookback before its first date, and reads from 0 when an
+ * estimate must replay the whole history). The securities: for a run over every
+ * portfolio, those with a return from `returnsFrom` on, a position from
  * `holdingsFromRow` on or a place in a benchmark; for a run over some portfolios (null:
  * all), only those the portfolios in scope hold from `holdingsFromRow` on and the
  * benchmarks' constituents, so a correction of one portfolio reads no other returns.
@@ -75,8 +82,10 @@ export async function readReturnPanel(
   dates: string[],
   holdingsFromRow: number,
   portfolios: readonly string[] | null = null,
+  returnsFrom = 0,
 ): Promise<ReturnPanel> {
-  const returnsSql = 'create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities';
+  // the date-bounded twin: the plain view would derive every date's return first
+  const returnsSql = `create or replace temp table risk_in_returns as select security_id, date_index, log_return from ret_securities_since(${returnsFrom + 1})`;
   // every portfolio: the view once, its ids among the securities; some: the view for their securities only
   if (portfolios === null) await db.run(returnsSql);
   // ids bound as JSON: DuckDB cannot type an empty JS list
@@ -112,7 +121,39 @@ export async function readReturnPanel(
     { k: 'int', date_index: 'int', log_return: 'double' },
   );
   for (let i = 0; i < raw.rows; i++) returns[(raw.columns.date_index[i] - 1) * n + raw.columns.k[i]] = raw.columns.log_return[i];
-  return { dates, securityIds, isCash, returns, ...seriesLayouts(returns, t, n) };
+  return { dates, securityIds, isCash, returns, ...seriesLayouts(returns, t, n), returnsFrom };
+}
+
+/**
+ * Reads the returns of rows `firstRow` .. returnsFrom - 1 into the panel, in place, for
+ * the same securities (risk_in_securities of the run), and counts the run lengths again:
+ * the panel is then what readReturnPanel from `firstRow` gives. For a step that needs
+ * more history than the run read (a replay, a stress range further back).
+ */
+export async function readEarlierReturns(db: Database, panel: ReturnPanel, firstRow: number): Promise<void> {
+  const until = panel.returnsFrom ?? 0;
+  if (firstRow >= until) return;
+  const t = panel.dates.length;
+  const n = panel.securityIds.length;
+  const raw = await readColumns(
+    db,
+    `select s.k, r.date_index, r.log_return::double
+     from ret_securities_since($1) r join risk_in_securities s using (security_id)
+     where r.date_index <= $2`,
+    [firstRow + 1, until],
+    { k: 'int', date_index: 'int', log_return: 'double' },
+  );
+  const { returns, returnsBySecurity, runLength } = panel;
+  for (let i = 0; i < raw.rows; i++) {
+    const d = raw.columns.date_index[i] - 1;
+    const j = raw.columns.k[i];
+    returns[d * n + j] = raw.columns.log_return[i];
+    returnsBySecurity[j * t + d] = raw.columns.log_return[i];
+  }
+  for (let d = firstRow; d < t; d++) {
+    for (let j = 0; j < n; j++) runLength[d * n + j] = Number.isFinite(returns[d * n + j]) ? (d > 0 ? runLength[(d - 1) * n + j] : 0) + 1 : 0;
+  }
+  panel.returnsFrom = firstRow;
 }
 
 /** From T x N returns: the same N x T (each security contiguous) and the run lengths of non-missing returns. */

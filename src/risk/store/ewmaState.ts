@@ -1,4 +1,5 @@
-import { blobValue, type DuckDBBlobValue, type DuckDBListValue } from '@duckdb/node-api';
+import type { DuckDBBlobValue, DuckDBListValue } from '@duckdb/node-api';
+import { blobValue } from '../../storage/duckdbApi.ts';
 import type { Database } from '../../storage/database.ts';
 import type { EwmaState } from '../estimators/ewma.ts';
 import type { StoredState } from '../estimators/estimator.ts';

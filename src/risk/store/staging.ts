@@ -1,4 +1,4 @@
-import { DOUBLE, INTEGER, VARCHAR } from '@duckdb/node-api';
+import { DOUBLE, INTEGER, VARCHAR } from '../../storage/duckdbApi.ts';
 import type { Database } from '../../storage/database.ts';
 import { ChunkAppender, type ColumnSource } from '../../storage/columnar.ts';
 import { ACTIVE_VALUES, CONTRIBUTION_VALUES, DAILY_FIGURES, VOL_CHANGE_FIGURES, VOL_CHANGE_SECURITY_VALUES } from '../walk/figures.ts';
