@@ -7,17 +7,12 @@
 -- '-infinity' rebuilds all): the values of a date depend only on that date's positions,
 -- carried prices and rates, which the earlier steps refill from the same date. The
 -- values apply base_currency, max_stale_days and the securities' currencies: the
--- refresh's fingerprint carries them, so a change of any rebuilds this table in full.
+-- refresh's fingerprint carries them (a changed setting rebuilds in full, a changed
+-- currency refills from the first date the security was held).
 delete from derived_position_weights
 where date >= getvariable('derived_from');
 
--- the first valuation date refilled, as a constant the macros below filter by
-set variable derived_from_index = (
-  select coalesce(min(date_index), (select count(*) + 1 from derived_valuation_dates))::integer
-  from derived_valuation_dates
-  where date >= getvariable('derived_from')
-);
-
+-- derived_from_index: the first valuation date refilled (set by step 070)
 insert into derived_position_weights
 with positions as (
   select portfolio_id, date, date_index, security_id, is_cash, currency, quantity, value_base, price_status

@@ -13,13 +13,7 @@
 delete from derived_portfolio_returns
 where date >= getvariable('derived_from');
 
--- the first valuation date refilled, as a constant the macros below filter by
-set variable derived_from_index = (
-  select coalesce(min(date_index), (select count(*) + 1 from derived_valuation_dates))::integer
-  from derived_valuation_dates
-  where date >= getvariable('derived_from')
-);
-
+-- derived_from_index: the first valuation date refilled (set by step 070)
 insert into derived_portfolio_returns
 with settings as (
   select base_currency
