@@ -60,3 +60,11 @@ numbered as (
 )
 
 select * from numbered;
+
+-- the first valuation date refilled, as a constant: the later steps that derive by
+-- date_index (155, 175) filter their macros by it (past the last date when none is)
+set variable derived_from_index = (
+  select coalesce(min(date_index), (select count(*) + 1 from derived_valuation_dates))::integer
+  from derived_valuation_dates
+  where date >= getvariable('derived_from')
+);

@@ -1,15 +1,20 @@
 -- Each benchmark's weights on each valuation date on or after its first snapshot: the rows
 -- of its most recent snapshot on or before the date (a snapshot holds until the next one).
 -- Zero weights are dropped, as zero quantities are for positions.
-create or replace view hold_benchmark_weights as
+-- hold_benchmark_weights_since(first_date_index) gives the rows from that valuation date
+-- on, reading only the snapshots those dates need (as hold_daily_positions_since).
+create or replace macro hold_benchmark_weights_since(first_date_index) as table
 with valuation_dates as (
   select date, date_index
   from align_valuation_dates
+  where date_index >= first_date_index
 ),
 
+-- only the snapshots still in effect on or after the first date (held_until: the next one)
 snapshots as (
   select distinct benchmark_id, date as snapshot_date
   from clean_benchmarks
+  where held_until is null or held_until > (select min(date) from valuation_dates)
 ),
 
 first_snapshot as (
@@ -38,3 +43,6 @@ held as (
 )
 
 select * from held;
+
+create or replace view hold_benchmark_weights as
+select * from hold_benchmark_weights_since(1);

@@ -4,7 +4,9 @@
 --   log_return = ln(1 + R_b,t).
 -- Cash in the base currency earns 0; cash in another currency earns its fx return, as in
 -- ret_portfolios. If any constituent at t-1 has no return the return is null.
-create or replace view ret_benchmarks as
+-- ret_benchmarks_since(first_date_index): the returns from that valuation date on, read
+-- from the weights of the date before it on.
+create or replace macro ret_benchmarks_since(first_date_index) as table
 with settings as (
   select base_currency
   from pipeline_settings
@@ -13,16 +15,17 @@ with settings as (
 valuation_dates as (
   select date, date_index
   from align_valuation_dates
+  where date_index >= first_date_index
 ),
 
 weights_before as (
   select benchmark_id, date_index + 1 as date_index, security_id, weight
-  from hold_benchmark_weights
+  from hold_benchmark_weights_since(first_date_index - 1)
 ),
 
 security_returns as (
   select security_id, date_index, simple_return
-  from ret_securities
+  from ret_securities_since(first_date_index)
 ),
 
 constituent_returns as (
@@ -66,3 +69,6 @@ returns as (
 )
 
 select * from returns;
+
+create or replace view ret_benchmarks as
+select * from ret_benchmarks_since(1);

@@ -4,13 +4,13 @@ import { appendedSince, rawMarkSql } from './rawAppends.ts';
 import { LADDER_DIR, listLadder } from './sqlFiles.ts';
 
 /**
- * The derived tables (migrations 0030, 0080) store the layers every view shares:
+ * The derived tables (migrations 0030, 0080, 0240) store the layers every view shares:
  * snapshots in force, the securities ever held, the valuation calendar, carried prices
- * and fx rates; the ladder's stored steps (sql/ladder/NNN_<layer>_stored_<stem>.sql)
- * fill them. They are brought up to date whenever the raw tables' fingerprint differs
- * from the one recorded with them, so whoever changed the raw tables (ingest, a test, an
- * outside client, a crash half way) the views never read a layer older than its inputs
- * once this has run.
+ * and fx rates, position values and weights, portfolio returns; the ladder's stored steps
+ * (sql/ladder/NNN_<layer>_stored_<stem>.sql) fill them. They are brought up to date
+ * whenever the raw tables' fingerprint differs from the one recorded with them, so
+ * whoever changed the raw tables (ingest, a test, an outside client, a crash half way)
+ * the views never read a layer older than its inputs once this has run.
  */
 
 /** The raw tables the derived layers read, each with a `date` and the `file_id` of its delivery. */
@@ -20,15 +20,37 @@ const RAW_TABLES = ['prices', 'positions', 'fx_rates', 'benchmarks'] as const;
 const HELD_OUT_SQL = 'select distinct security_id, date from price_checks where held and cleared_at is null';
 
 /**
+ * The settings the stored position values and portfolio returns (steps 155, 175) apply:
+ * a change rebuilds in full. The securities' currencies they apply too are followed by
+ * the securities' mark.
+ */
+const VALUATION_SQL = `coalesce((select base_currency || ':' || max_stale_days from pipeline_settings), '')`;
+
+/** The securities whose currency differs from the one the stored values applied (step 156 kept them). */
+const CURRENCY_CHANGED_SQL = `
+  with now_currencies as (select security_id, currency from clean_securities),
+  changed as (
+    (select * from now_currencies except select * from derived_security_currencies)
+    union all
+    (select * from derived_security_currencies except select * from now_currencies)
+  )
+  select min(h.first_held_on)::varchar as first
+  from derived_held_securities h
+  semi join changed c on c.security_id = h.security_id`;
+
+/**
  * Rows and highest file_id of each raw table, `rows:max` (count(*) comes from metadata),
- * then the held suspect prices: count of checks, count and sum of ids of those held out.
- * A flag raised, cleared or switched to hold changes the last part.
+ * then the held suspect prices: count of checks, count and sum of ids of those held out
+ * (a flag raised, cleared or switched to hold changes that part), then the valuation's
+ * settings and the securities' mark.
  */
 const FINGERPRINT_SQL = `
   select concat_ws('|',
     ${RAW_TABLES.map(rawMarkSql).join(',\n    ')},
     (select count(*) || ':' || count(*) filter (where held and cleared_at is null) || ':' || coalesce(sum(check_id) filter (where held and cleared_at is null), 0)
-     from price_checks)) as fingerprint`;
+     from price_checks),
+    ${VALUATION_SQL},
+    ${rawMarkSql('securities')}) as fingerprint`;
 
 export interface DerivedRefresh {
   /** 'current': nothing to do; 'from': refilled from `from` on; 'full': rebuilt. */
@@ -93,15 +115,19 @@ const NOTHING = Symbol('nothing to refill');
 
 /**
  * The earliest date the derived tables must be refilled from: that of the rows delivered
- * since `before` and of the prices whose hold changed since the last refresh (step 085
- * stored them). FULL when a raw table changed other than by such rows (each must hold
- * exactly its old rows plus those with a higher file_id) and only a full rebuild is safe;
+ * since `before`, of the prices whose hold changed since the last refresh (step 085
+ * stored them) and of the securities whose currency changed (step 156 stored them). FULL when a raw table changed other than by such rows (each must hold
+ * exactly its old rows plus those with a higher file_id) or the valuation's settings
+ * changed, and only a full rebuild is safe;
  * NOTHING when no date is affected.
  */
 async function changedFrom(db: Database, before: string, now: string): Promise<string | typeof FULL | typeof NOTHING> {
   const old = before.split('|');
   const current = now.split('|');
-  if (old.length !== RAW_TABLES.length + 1) return FULL;
+  const held = RAW_TABLES.length;
+  const valuation = held + 1;
+  const securities = held + 2;
+  if (old.length !== securities + 1 || old[valuation] !== current[valuation]) return FULL;
   const firsts: (string | null)[] = [];
   for (const [i, table] of RAW_TABLES.entries()) {
     if (old[i] === current[i]) continue;
@@ -109,7 +135,7 @@ async function changedFrom(db: Database, before: string, now: string): Promise<s
     if (added === null || added.first === null) return FULL;
     firsts.push(added.first);
   }
-  if (old[RAW_TABLES.length] !== current[RAW_TABLES.length]) {
+  if (old[held] !== current[held]) {
     const [{ first }] = await db.all<{ first: string | null }>(
       `with now_held as (${HELD_OUT_SQL}),
        changed as (
@@ -119,6 +145,12 @@ async function changedFrom(db: Database, before: string, now: string): Promise<s
        )
        select min(date)::varchar as first from changed`,
     );
+    firsts.push(first);
+  }
+  if (old[securities] !== current[securities]) {
+    // a security first held on a date gets its currency's values from then on; one held
+    // for the first time in these deliveries is refilled from their date already
+    const [{ first }] = await db.all<{ first: string | null }>(CURRENCY_CHANGED_SQL);
     firsts.push(first);
   }
   const dates = firsts.filter((d): d is string => d !== null).sort();

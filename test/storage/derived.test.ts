@@ -17,12 +17,32 @@ const TABLES: Record<string, string> = {
   derived_aligned_fx: 'currency, date',
 };
 
+// The stored position values, weights and portfolio returns are arithmetic (products, a window's sum): a
+// refresh equals a rebuild to 1e-12 relative on every figure (the project's rule for an
+// incremental path, common practice, no source), every other column exactly.
+const VALUED: Record<string, string> = {
+  derived_position_weights: 'portfolio_id, date, security_id',
+  derived_portfolio_returns: 'portfolio_id, date',
+};
+
+function expectRelativelyEqual(actual: Record<string, unknown>[], expected: Record<string, unknown>[], table: string): void {
+  expect(actual, table).toHaveLength(expected.length);
+  expected.forEach((want, i) => {
+    for (const [key, value] of Object.entries(want)) {
+      const got = actual[i][key];
+      if (typeof value === 'number' && typeof got === 'number' && Number.isFinite(value)) {
+        expect(Math.abs(got - value), `${table} row ${i} ${key}`).toBeLessThanOrEqual(1e-12 * Math.max(Math.abs(value), 1e-300));
+      } else expect(got, `${table} row ${i} ${key}`).toEqual(value);
+    }
+  });
+}
+
 /** The raw rows of days [first, last], without the refresh the shared loader does: the test refreshes itself. */
 const loadDays = (db: Database, s: Scenario, first: number, last: number) => insertDeliveryRows(db, scenarioDeliveries(s, first, last));
 
 async function derivedRows(db: Database): Promise<Record<string, unknown[]>> {
   const out: Record<string, unknown[]> = {};
-  for (const [table, keys] of Object.entries(TABLES)) out[table] = await db.all(`select * from ${table} order by ${keys}`);
+  for (const [table, keys] of Object.entries({ ...TABLES, ...VALUED })) out[table] = await db.all(`select * from ${table} order by ${keys}`);
   return out;
 }
 
@@ -36,7 +56,10 @@ async function expectRefreshEqualsRebuild(db: Database, mode: 'from' | 'full', f
   expect((await refreshDerived(db)).mode).toBe('full');
   const rebuilt = await derivedRows(db);
   for (const table of Object.keys(TABLES)) expect(incremental[table], table).toEqual(rebuilt[table]);
+  for (const table of Object.keys(VALUED)) expectRelativelyEqual(incremental[table] as Record<string, unknown>[], rebuilt[table] as Record<string, unknown>[], table);
   expect(rebuilt.derived_aligned_prices.length).toBeGreaterThan(500);
+  expect(rebuilt.derived_position_weights.length).toBeGreaterThan(500);
+  expect(rebuilt.derived_portfolio_returns.length).toBeGreaterThan(100);
 }
 
 /** A later positions file replacing one portfolio's snapshot of that day. */
@@ -156,5 +179,31 @@ describe('refreshDerived from the earliest delivered date', () => {
     // the later one cleared (a delivery confirmed it)
     await ws.db.run(`update price_checks set cleared_at = now() where date = $1::date`, [s.dates[120]]);
     await expectRefreshEqualsRebuild(ws.db, 'from', s.dates[120]);
+  });
+
+  it('rebuilds the stored values in full when max_stale_days or the base currency changes, from where a security\'s currency changed', async () => {
+    ws = await tempWorkspace();
+    const s = buildScenario();
+    await loadDays(ws.db, s, 0, s.dates.length - 1);
+    await refreshDerived(ws.db);
+    const unvalued = async () =>
+      (await ws!.db.all<{ n: number }>('select count(*)::integer as n from derived_position_weights where weight is null'))[0].n;
+    const before = await unvalued();
+    // EQ-QUILLON's gap of prices outlasts one valuation date: its portfolios lose their value there
+    await ws.db.run('update pipeline_settings set max_stale_days = 1');
+    await expectRefreshEqualsRebuild(ws.db, 'full');
+    expect(await unvalued()).toBeGreaterThan(before);
+    // a security's currency changed: redone from the first date it was held
+    const [{ first }] = await ws.db.all<{ first: string }>(
+      `select first_held_on::varchar as first from derived_held_securities where security_id = 'EQ-NORDWIND'`,
+    );
+    await insertRows(ws.db, 'securities', ['security_id', 'name', 'asset_class', 'currency'], [[500001, 1, 'EQ-NORDWIND', 'Nordwind', 'equity', 'EUR']]);
+    await expectRefreshEqualsRebuild(ws.db, 'from', first);
+    // reference data of a security nobody holds: nothing to redo
+    await insertRows(ws.db, 'securities', ['security_id', 'name', 'asset_class', 'currency'], [[500002, 1, 'EQ-NOBODY', 'Nobody', 'equity', 'EUR']]);
+    expect((await refreshDerived(ws.db)).mode).toBe('current');
+    await ws.db.run(`update pipeline_settings set base_currency = 'EUR'`);
+    await expectRefreshEqualsRebuild(ws.db, 'full');
+    expect((await refreshDerived(ws.db)).mode).toBe('current');
   });
 });

@@ -58,6 +58,9 @@ describe('the ordered SQL runner', () => {
       'derived_held_out_prices',
       'derived_aligned_prices',
       'derived_aligned_fx',
+      'derived_position_weights',
+      'derived_security_currencies',
+      'derived_portfolio_returns',
     ]);
   });
 

@@ -66,8 +66,7 @@ export async function readBenchmarkPanel(
   const logReturn = await readSlotSeries(
     db,
     `select b.k, r.date_index, r.log_return::double
-     from ret_benchmarks r join risk_in_benchmarks b using (benchmark_id)
-     where r.date_index > $1`,
+     from ret_benchmarks_since($1 + 1) r join risk_in_benchmarks b using (benchmark_id)`,
     firstRow,
     slots,
     dateCount,
@@ -78,10 +77,9 @@ export async function readBenchmarkPanel(
   await streamColumns(
     db,
     `select b.k, w.date_index, s.k as j, w.weight::double
-     from hold_benchmark_weights w
+     from hold_benchmark_weights_since($1 + 1) w
      join risk_in_benchmarks b using (benchmark_id)
      join risk_in_securities s using (security_id)
-     where w.date_index > $1
      order by b.k, w.date_index, j`,
     [firstRow],
     { k: 'int', date_index: 'int', j: 'int', weight: 'double' },
