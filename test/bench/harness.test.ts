@@ -23,10 +23,11 @@ describe('figure', () => {
   });
 
   it('judges a "max" goal and says by how much it was missed', () => {
-    const slow = figure('backfill_seconds', 'large', [72]);
+    // issue 13: a full large backfill in under 30 s
+    const slow = figure('backfill_seconds', 'large', [36]);
     expect(slow.verdict).toBe('missed');
-    expect(slow.shortfall).toBe('20% over: 12 s above the goal of 60 s');
-    expect(figure('backfill_seconds', 'large', [59]).verdict).toBe('met');
+    expect(slow.shortfall).toBe('20% over: 6 s above the goal of 30 s');
+    expect(figure('backfill_seconds', 'large', [29]).verdict).toBe('met');
   });
 
   it('judges a "min" goal and leaves a goal set for another size unjudged', () => {
