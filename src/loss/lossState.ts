@@ -1,7 +1,8 @@
-import { blobValue, type DuckDBBlobValue, type DuckDBListValue } from '@duckdb/node-api';
+import type { DuckDBBlobValue, DuckDBListValue } from '@duckdb/node-api';
 import type { Config } from '../config/load.ts';
 import type { ReturnPanel } from '../risk/inputs/panels.ts';
 import type { Database } from '../storage/database.ts';
+import { float64Blob, float64sOf } from '../storage/float64Blob.ts';
 import { WORST_WINDOW_DAYS, type WorstWindows } from './worstWindows.ts';
 
 /**
@@ -73,15 +74,13 @@ export async function loadSigmaState(db: Database, config: Config, returns: Retu
   if (first < 0 || wanted < first || fromRow - 1 > first + rows - 1) return null;
   const stored = new Map((ids.items as string[]).map((id, a) => [id, a]));
   const k = stored.size;
-  const bytes = blob.bytes;
-  if (bytes.byteLength !== rows * k * 8) throw new Error(`loss_sigma_state: ${bytes.byteLength} bytes for ${rows} dates x ${k} securities`);
+  const kept = float64sOf(blob, rows * k, `loss_sigma_state: ${rows} dates x ${k} securities`);
   const columns = securityIds.map((id) => stored.get(id) ?? -1);
   if (columns.includes(-1)) return null;
-  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   const n = securityIds.length;
   const variances = new Float64Array(dates.length * n).fill(Number.NaN);
   for (let d = wanted; d < fromRow; d++) {
-    for (let j = 0; j < n; j++) variances[d * n + j] = view.getFloat64(((d - first) * k + columns[j]) * 8, true);
+    for (let j = 0; j < n; j++) variances[d * n + j] = kept[(d - first) * k + columns[j]];
   }
   return variances;
 }
@@ -138,9 +137,6 @@ export async function saveLossState(
 ): Promise<void> {
   if (state.sigma !== null) {
     const { sigma } = state;
-    const bytes = new Uint8Array(sigma.variances.length * 8);
-    const view = new DataView(bytes.buffer);
-    for (let i = 0; i < sigma.variances.length; i++) view.setFloat64(i * 8, sigma.variances[i], true);
     await db.run('delete from loss_sigma_state');
     // ids as JSON: an empty JS list cannot be bound (DuckDB cannot type a list of nothing)
     await db.run(
@@ -153,7 +149,7 @@ export async function saveLossState(
         config.risk.ewma.seedDays,
         run.settings,
         JSON.stringify(sigma.securityIds),
-        blobValue(bytes),
+        float64Blob(sigma.variances),
         run.runId,
       ],
     );

@@ -1,6 +1,6 @@
 import type { DuckDBBlobValue, DuckDBListValue } from '@duckdb/node-api';
-import { blobValue } from '../../storage/duckdbApi.ts';
 import type { Database } from '../../storage/database.ts';
+import { float64Blob, float64sOf } from '../../storage/float64Blob.ts';
 import type { EwmaState } from '../estimators/ewma.ts';
 import type { StoredState } from '../estimators/estimator.ts';
 
@@ -36,12 +36,8 @@ export async function loadEwmaState(
   const rows = reader.getRows();
   if (rows.length !== 1) return null;
   const ids = (rows[0][0] as DuckDBListValue).items as string[];
-  const bytes = (rows[0][1] as DuckDBBlobValue).bytes;
   const k = ids.length;
-  if (bytes.byteLength !== k * k * 8) throw new Error(`risk_ewma_state: matrix has ${bytes.byteLength} bytes for ${k} securities`);
-  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
-  const matrix = new Float64Array(k * k);
-  for (let i = 0; i < matrix.length; i++) matrix[i] = view.getFloat64(i * 8, true);
+  const matrix = float64sOf(rows[0][1] as DuckDBBlobValue, k * k, `risk_ewma_state: the matrix of ${k} securities`);
   return { row: fromRow - 1, securityIds: ids, matrix };
 }
 
@@ -56,14 +52,11 @@ export async function saveEwmaState(
 ): Promise<void> {
   await db.run('delete from risk_ewma_state');
   for (const state of states) {
-    const bytes = new Uint8Array(state.matrix.length * 8);
-    const view = new DataView(bytes.buffer);
-    for (let i = 0; i < state.matrix.length; i++) view.setFloat64(i * 8, state.matrix[i], true);
     // ids as JSON: an empty JS list cannot be bound (DuckDB cannot type a list of nothing)
     await db.run(
       `insert into risk_ewma_state (as_of, decay, seed_days, security_ids, matrix, run_id, settings)
        values ($1::date, $2, $3, from_json($4, '["VARCHAR"]'), $5, $6, $7::json)`,
-      [dates[state.row], settings.lambda, settings.seedDays, JSON.stringify(state.securityIds), blobValue(bytes), runId, recordedWith],
+      [dates[state.row], settings.lambda, settings.seedDays, JSON.stringify(state.securityIds), float64Blob(state.matrix), runId, recordedWith],
     );
   }
 }
