@@ -25,6 +25,8 @@ describe('runBatch', () => {
     writeFileSync(file, text);
     return file;
   };
+  // arrival = modification time, set apart: files written in the same millisecond would arrive by name
+  const arrived = (file: string, second: number) => (utimesSync(file, 0, new Date(Date.UTC(2026, 3, 10, 18, 0, second))), file);
   const positions = (name: string, date: string, portfolio: string) =>
     writeCsv(ws!.config.inbox, name, [
       ['date', 'portfolio_id', 'security_id', 'quantity'],
@@ -34,8 +36,7 @@ describe('runBatch', () => {
 
   it('ingests prices before positions, each kind in arrival order, and runs ONE recompute from the earliest date for every portfolio', async () => {
     ws = await tempWorkspace();
-    // arrival = modification time: the positions landed first, yet load after the prices they are valued with
-    const arrived = (file: string, second: number) => (utimesSync(file, 0, new Date(Date.UTC(2026, 3, 10, 18, 0, second))), file);
+    // the positions landed first, yet load after the prices they are valued with
     const files = [
       arrived(positions('positions_start.csv', '2020-01-01', 'acct-growth'), 1),
       arrived(inbox('prices_late.csv', pricesCsv(80, 2, '2020-03-01')), 2),
@@ -59,8 +60,8 @@ describe('runBatch', () => {
     ws = await tempWorkspace();
     await runBatch(ws.db, ws.config, ws.log, [inbox('prices_all.csv', pricesCsv(80, 2, '2020-01-01'))]);
     const second = await runBatch(ws.db, ws.config, ws.log, [
-      positions('positions_b.csv', '2020-02-03', 'acct-income'),
-      positions('positions_a.csv', '2020-01-06', 'acct-growth'),
+      arrived(positions('positions_b.csv', '2020-02-03', 'acct-income'), 1),
+      arrived(positions('positions_a.csv', '2020-01-06', 'acct-growth'), 2),
     ]);
     expect((await runs()).at(-1)).toMatchObject({
       trigger: 'ingest:positions_b.csv(+1)',
