@@ -1,6 +1,6 @@
 import type { Config } from '../../config/load.ts';
 import { annualizedReturn, annualizedVolatility } from '../math/annualize.ts';
-import { centredTimesWeights, centreSeriesInto } from '../math/covariance.ts';
+import { centredCrossProducts, centredTimesWeights, centreSeriesInto } from '../math/covariance.ts';
 import { mean, sampleVariance } from '../math/moments.ts';
 import { SlidingCovariance } from '../math/slidingCovariance.ts';
 import { hasFullHistory } from '../inputs/fullHistory.ts';
@@ -52,9 +52,25 @@ export function samplePathCosts(c: PathCostInputs): Record<SamplePath, number> {
   };
 }
 
+/** A run's load as the path costs of a window read it. */
+export function pathCostInputs(window: number, load: RunLoad): PathCostInputs {
+  return {
+    window,
+    securities: load.securitiesWithReturns,
+    holdingsPerDate: load.perDate,
+    holdingsSquaredPerDate: load.squaredPerDate,
+    outputDates: load.outputDates,
+    warmupDates: load.fromRow - slidingStartRow(load.fromRow, window),
+  };
+}
+
 /** The cheaper path by `samplePathCosts`. */
 export function chooseSamplePath(c: PathCostInputs): SamplePath {
-  const costs = samplePathCosts(c);
+  return cheaperPath(samplePathCosts(c));
+}
+
+/** The path of the lower cost (the window path on a tie). */
+export function cheaperPath(costs: Record<SamplePath, number>): SamplePath {
   return costs.sliding < costs.window ? 'sliding' : 'window';
 }
 
@@ -144,6 +160,12 @@ export class SampleEstimate implements DateEstimate {
     return centredTimesWeights(this.centred!, this.windowDays, idx, w, out, this.portfolioScratch);
   }
 
+  /** S[ids, ids] in full (k x k, divisor W - 1) on an output date, from the path's own state; ids covered. */
+  subMatrix(ids: Int32Array, out = new Float64Array(ids.length * ids.length)): Float64Array {
+    if (this.sliding) return this.sliding.subMatrix(ids, out);
+    return centredCrossProducts(this.centred!, this.windowDays, ids, this.windowDays - 1, out);
+  }
+
   /** security_stats of the current date: every security with a full window. */
   forEachSecurity(emit: (j: number, annReturn: number, annVol: number) => void, periodsPerYear: number): void {
     for (let j = 0; j < this.n; j++) {
@@ -160,14 +182,7 @@ export const sampleEstimator: EstimatorPlugin<{ path: SamplePath }> = {
   realized: { volatility: true, trackingError: true },
   windows: (config: Config) => uniqueSorted(config.risk.windows),
   plan(windowDays, _config, load: RunLoad, _state, log) {
-    const inputs = {
-      window: windowDays,
-      securities: load.securitiesWithReturns,
-      holdingsPerDate: load.perDate,
-      holdingsSquaredPerDate: load.squaredPerDate,
-      outputDates: load.outputDates,
-      warmupDates: load.fromRow - slidingStartRow(load.fromRow, windowDays),
-    };
+    const inputs = pathCostInputs(windowDays, load);
     const path = chooseSamplePath(inputs);
     log.debug({ windowDays, path }, 'sample covariance path');
     return { params: { path }, cost: samplePathCosts(inputs)[path] + rowsCost(load) };

@@ -1,38 +1,47 @@
-import { ledoitWolfConstantCorrelation } from '../math/shrinkage.ts';
+import { centreSeriesInto } from '../math/covariance.ts';
+import { ledoitWolfIntensity, shrunkTimes } from '../math/shrinkage.ts';
 import type { ReturnPanel } from '../inputs/panels.ts';
-import { rowsCost } from '../runtime/costModel.ts';
+import { rowsCost, type RunLoad } from '../runtime/costModel.ts';
 import type { DateEstimate, EstimatorPlugin } from './estimator.ts';
-import { SampleEstimate, uniqueSorted } from './sample.ts';
+import { cheaperPath, pathCostInputs, SampleEstimate, uniqueSorted, type PathCostInputs, type SamplePath } from './sample.ts';
 
 /**
  * The `shrunk` estimate over a window of W returns: Ledoit-Wolf shrinkage of the sample
  * covariance toward the constant-correlation target (src/risk/math/shrinkage.ts), with
  * the intensity estimated from the window. Shrinkage depends on which securities are
- * shrunk together (the target's one correlation is their average), so the matrix is
- * made per product, over the securities asked for: a portfolio's covered holdings.
+ * shrunk together (the target's one correlation is their average), so it is made per
+ * product, over the securities asked for: a portfolio's covered holdings.
+ *
+ * S comes from a `SampleEstimate` of the same window on the path the cost model picks:
+ * a sliding state over all securities (a backfill: O(N^2) per date, shared) or the
+ * centred window (a few dates: O(W n^2) per portfolio). Given S, the intensity and the
+ * product cost O(n^2 + W n) per portfolio and date, never the O(W n^2) pair sums.
  *
  * Per security it is the sample estimate: the target keeps the sample variances, so
  * coverage, variances and security_stats (written once, by the sample estimate of the
- * same window) are those of the window path of `SampleEstimate`, which this wraps.
+ * same window) are those of `SampleEstimate`, which this wraps.
  *
  * A holding whose returns do not vary over the window has zero variance and zero
  * covariances, in S and in the target alike; its correlation is undefined, so it is
  * left out of the shrinkage and its row of the product is 0. With fewer than two
  * varying holdings there is nothing to shrink: the sample matrix, intensity unknown.
  */
+
 export class ShrunkEstimate implements DateEstimate {
   readonly startRow: number;
   private readonly sample: SampleEstimate;
-  /** Shrunk matrices of the current date by their securities (a row and its vol_change ask for the same sets). */
-  private readonly made = new Map<string, { risky: Int32Array; covariance: Float64Array; intensity: number }>();
+  /** Shrinkages of the current date by their securities (a row and its vol_change ask for the same sets). */
+  private readonly made = new Map<string, Shrinkage>();
   private intensity = Number.NaN;
+  private readonly oneMean = new Float64Array(1);
 
   constructor(
     private readonly panel: ReturnPanel,
     readonly windowDays: number,
+    path: SamplePath,
     fromRow: number,
   ) {
-    this.sample = new SampleEstimate(panel, windowDays, 'window', fromRow);
+    this.sample = new SampleEstimate(panel, windowDays, path, fromRow);
     this.startRow = this.sample.startRow;
   }
 
@@ -52,14 +61,16 @@ export class ShrunkEstimate implements DateEstimate {
   product(idx: Int32Array, w: Float64Array, out = new Float64Array(idx.length)): Float64Array {
     const made = this.shrunkOver(idx);
     this.intensity = made.intensity;
-    const { risky, covariance } = made;
+    const { risky, s } = made;
     const k = risky.length;
     out.fill(0);
-    for (let a = 0; a < k; a++) {
-      let sum = 0;
-      for (let b = 0; b < k; b++) sum += covariance[a * k + b] * w[risky[b]];
-      out[risky[a]] = sum;
+    if (k < 2) {
+      for (let a = 0; a < k; a++) out[risky[a]] = s[a] * w[risky[a]];
+      return out;
     }
+    const weights = Float64Array.from(risky, (a) => w[a]);
+    const shrunk = shrunkTimes(s, k, this.windowDays, made, weights, new Float64Array(k));
+    for (let a = 0; a < k; a++) out[risky[a]] = shrunk[a];
     return out;
   }
 
@@ -73,8 +84,8 @@ export class ShrunkEstimate implements DateEstimate {
   /** Written by the sample estimate of the same window. */
   forEachSecurity(): void {}
 
-  /** The shrunk matrix over the varying securities of idx; risky[a] is the position in idx of its a-th security. */
-  private shrunkOver(idx: Int32Array) {
+  /** The shrinkage over the varying securities of idx; risky[a] is the position in idx of its a-th security. */
+  private shrunkOver(idx: Int32Array): Shrinkage {
     const key = idx.join(',');
     const known = this.made.get(key);
     if (known) return known;
@@ -82,36 +93,68 @@ export class ShrunkEstimate implements DateEstimate {
     for (let a = 0; a < idx.length; a++) if (this.variance(idx[a]) > 0) positions.push(a);
     const risky = Int32Array.from(positions);
     const k = risky.length;
-    const { windowDays: rows, panel } = this;
-    const t = panel.dates.length;
-    const first = this.sample.currentRow - rows + 1;
-    let made: { risky: Int32Array; covariance: Float64Array; intensity: number };
+    let made: Shrinkage;
     if (k < 2) {
-      made = { risky, covariance: Float64Array.from(positions, (a) => this.variance(idx[a])), intensity: Number.NaN };
+      made = { risky, s: Float64Array.from(positions, (a) => this.variance(idx[a])), intensity: Number.NaN, averageCorrelation: Number.NaN };
     } else {
-      // dates x securities, row-major, as the shrinkage takes them
-      const x = new Float64Array(rows * k);
-      for (let b = 0; b < k; b++) {
-        const series = panel.returnsBySecurity.subarray(idx[risky[b]] * t + first, idx[risky[b]] * t + first + rows);
-        for (let u = 0; u < rows; u++) x[u * k + b] = series[u];
-      }
-      const shrunk = ledoitWolfConstantCorrelation(x, rows, k);
-      made = { risky, covariance: shrunk.covariance, intensity: shrunk.intensity };
+      const rows = this.windowDays;
+      const ids = Int32Array.from(risky, (a) => idx[a]);
+      // S in the paper's divisor W, as the intensity takes it
+      const s = this.sample.subMatrix(ids);
+      for (let e = 0; e < s.length; e++) s[e] = (s[e] * (rows - 1)) / rows;
+      const { intensity, averageCorrelation } = ledoitWolfIntensity(s, this.centredWindow(ids), rows, k);
+      made = { risky, s, intensity, averageCorrelation };
     }
     this.made.set(key, made);
     return made;
   }
+
+  /** The window's returns of `ids`, each centred on its mean, security by security (k x W). */
+  private centredWindow(ids: Int32Array): Float64Array {
+    const { windowDays: rows, panel } = this;
+    const t = panel.dates.length;
+    const first = this.sample.currentRow - rows + 1;
+    const series = new Float64Array(ids.length * rows);
+    for (let a = 0; a < ids.length; a++) {
+      const own = panel.returnsBySecurity.subarray(ids[a] * t, (ids[a] + 1) * t);
+      centreSeriesInto(own, t, first, rows, this.oneMean, series.subarray(a * rows, (a + 1) * rows));
+    }
+    return series;
+  }
+}
+
+/** S of the varying securities (divisor W; their variances alone when fewer than two), with the shrinkage made from it. */
+interface Shrinkage {
+  risky: Int32Array;
+  s: Float64Array;
+  intensity: number;
+  averageCorrelation: number;
+}
+
+/**
+ * Multiply-adds of each way to get S for the shrinkage over a run. Both then pay per
+ * product for the intensity (three passes over the upper triangle, four over the W x n
+ * window) and the product (one over the triangle); the sliding state pays N^2 per date
+ * fed, the window path centres all N series and sums W n^2 / 2 per product.
+ */
+export function shrunkPathCosts(c: PathCostInputs): Record<SamplePath, number> {
+  const perProduct = c.outputDates * (2 * c.holdingsSquaredPerDate + 4 * c.window * c.holdingsPerDate);
+  return {
+    sliding: (c.outputDates + c.warmupDates) * c.securities * c.securities + perProduct,
+    window: c.outputDates * (c.window * c.securities + (c.window * c.holdingsSquaredPerDate) / 2) + perProduct,
+  };
 }
 
 /** Ledoit-Wolf shrinkage for the windows of risk.shrunk.windows; tracking_error_realized stays on the sample rows. */
-export const shrunkEstimator: EstimatorPlugin = {
+export const shrunkEstimator: EstimatorPlugin<{ path: SamplePath }> = {
   name: 'shrunk',
   realized: { volatility: true, trackingError: false },
   windows: (config) => uniqueSorted(config.risk.shrunk.windows),
-  // per row: the shrinkage's pair sums over the window (three products per pair and date) and the product
-  plan: (windowDays, _config, load) => ({
-    params: null,
-    cost: load.outputDates * (3 * windowDays * load.squaredPerDate + load.squaredPerDate) + rowsCost(load),
-  }),
-  open: (_params, windowDays, input) => new ShrunkEstimate(input.returns, windowDays, Math.max(0, input.fromRow - 1)),
+  plan(windowDays, _config, load: RunLoad, _state, log) {
+    const costs = shrunkPathCosts(pathCostInputs(windowDays, load));
+    const path = cheaperPath(costs);
+    log.debug({ windowDays, path }, 'shrunk covariance path');
+    return { params: { path }, cost: costs[path] + rowsCost(load) };
+  },
+  open: ({ path }, windowDays, input) => new ShrunkEstimate(input.returns, windowDays, path, Math.max(0, input.fromRow - 1)),
 };

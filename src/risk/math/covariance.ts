@@ -166,6 +166,31 @@ export function centredTimesWeights(
   return out;
 }
 
+/**
+ * S[cols, cols] = X_c' X_c / divisor on centred series from `centreSeriesInto` (series j at
+ * xc[j * rowCount ..]), full and row-major (k x k for k listed series), into `out`.
+ * O(rows * k^2): for a few dates' use; a walk over many reads a sliding state instead.
+ */
+export function centredCrossProducts(xc: Float64Array, rowCount: number, cols: Int32Array, divisor: number, out: Float64Array): Float64Array {
+  const fn = 'centredCrossProducts';
+  requireInteger(fn, 'rowCount', rowCount, 1);
+  if (xc.length % rowCount !== 0) throw new Error(`${fn}: xc has length ${xc.length}, not a multiple of rowCount ${rowCount}`);
+  requireIndices(fn, 'cols', cols, xc.length / rowCount);
+  const k = cols.length;
+  requireLength(fn, 'out', out.length, k * k);
+  for (let a = 0; a < k; a++) {
+    const ba = cols[a] * rowCount;
+    for (let b = a; b < k; b++) {
+      const bb = cols[b] * rowCount;
+      let sum = 0;
+      for (let t = 0; t < rowCount; t++) sum += xc[ba + t] * xc[bb + t];
+      out[a * k + b] = sum / divisor;
+      out[b * k + a] = out[a * k + b];
+    }
+  }
+  return out;
+}
+
 /** w' S w for an n x n row-major S. */
 export function quadraticForm(s: Float64Array, n: number, w: Float64Array): number {
   checkSquare('quadraticForm', s, n);

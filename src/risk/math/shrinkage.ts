@@ -17,6 +17,16 @@ import { requireInteger, requireLength } from './checks.ts';
  * the shrunk matrix is returned times T / (T - 1) (both F and S scale with the divisor;
  * delta is computed with the paper's T and does not change).
  *
+ * The fourth-moment terms need no pair loop over the dates (O(T N^2)): since
+ * s_ij = (1/T) sum_t y_ti y_tj exactly,
+ *   pi-hat = (1/T) sum_t (sum_i y_ti^2)^2 - sum_ij s_ij^2,
+ *   sum_{j != i} sqrt(s_jj/s_ii) theta_ii,ij
+ *     = (1/(T sd_i)) sum_t (y_ti^2 - s_ii) y_ti (U_t - sd_i y_ti) - (c_i / sd_i) sum_{j != i} sd_j s_ij,
+ *   with sd_i = sqrt(s_ii), U_t = sum_j sd_j y_tj and c_i = (1/T) sum_t (y_ti^2 - s_ii)
+ *   (0 but for rounding; kept so the identity holds for the s given),
+ * so given S the intensity costs O(N^2 + T N): what lets the risk stage shrink every
+ * portfolio on every date with S read from a sliding window (`ledoitWolfIntensity`).
+ *
  * The point: with more securities than dates S is singular and its small eigenvalues
  * are noise; the target has one free correlation, so it is well conditioned, and the
  * mix is positive definite whenever delta > 0 and the target is.
@@ -49,22 +59,41 @@ export function ledoitWolfConstantCorrelation(x: Float64Array, rows: number, col
   requireInteger(fn, 'rows', rows, 2);
   requireInteger(fn, 'cols', cols, 2);
   requireLength(fn, 'x', x.length, rows * cols);
-  const y = demeaned(fn, x, rows, cols);
+  const series = centredSeries(fn, x, rows, cols);
   const n = cols;
   const s = new Float64Array(n * n);
-  for (let t = 0; t < rows; t++) {
-    const base = t * n;
-    for (let i = 0; i < n; i++) {
-      const yi = y[base + i];
-      for (let j = i; j < n; j++) s[i * n + j] += yi * y[base + j];
-    }
-  }
   for (let i = 0; i < n; i++) {
     for (let j = i; j < n; j++) {
-      s[i * n + j] /= rows;
+      let sum = 0;
+      for (let t = 0; t < rows; t++) sum += series[i * rows + t] * series[j * rows + t];
+      s[i * n + j] = sum / rows;
       s[j * n + i] = s[i * n + j];
     }
   }
+  const shrinkage = ledoitWolfIntensity(s, series, rows, n, fn);
+  const { intensity, averageCorrelation: rbar } = shrinkage;
+  const toSampleDivisor = rows / (rows - 1);
+  const covariance = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) {
+      const target = i === j ? s[i * n + i] : rbar * Math.sqrt(s[i * n + i] * s[j * n + j]);
+      covariance[i * n + j] = (intensity * target + (1 - intensity) * s[i * n + j]) * toSampleDivisor;
+    }
+  }
+  return { covariance, ...shrinkage };
+}
+
+export type LedoitWolfIntensity = Omit<ShrunkCovariance, 'covariance'>;
+
+/**
+ * delta, rbar and the estimates behind them from S (N x N, full, divisor T as in the
+ * paper) and the centred window it came from, `series[i * rows + t]` = y_ti, in
+ * O(N^2 + T N) (the identities above). S must have a positive diagonal: leave constant
+ * columns out before.
+ */
+export function ledoitWolfIntensity(s: Float64Array, series: Float64Array, rows: number, n: number, fn = 'ledoitWolfIntensity'): LedoitWolfIntensity {
+  requireLength(fn, 's', s.length, n * n);
+  requireLength(fn, 'series', series.length, n * rows);
   const sd = new Float64Array(n);
   for (let i = 0; i < n; i++) {
     if (!(s[i * n + i] > 0)) throw new Error(`${fn}: column ${i} has zero variance, so its correlation is undefined`);
@@ -74,91 +103,117 @@ export function ledoitWolfConstantCorrelation(x: Float64Array, rows: number, col
   for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) correlationSum += s[i * n + j] / (sd[i] * sd[j]);
   const rbar = (2 * correlationSum) / (n * (n - 1));
 
-  const target = new Float64Array(n * n);
+  // off the diagonal only: there the target is S's own variance
   let gammaHat = 0;
+  let squares = 0;
+  let sdWeightedOff = 0;
+  const sdWeightedRow = new Float64Array(n);
   for (let i = 0; i < n; i++) {
-    for (let j = 0; j < n; j++) {
-      target[i * n + j] = i === j ? s[i * n + i] : rbar * sd[i] * sd[j];
-      gammaHat += (target[i * n + j] - s[i * n + j]) ** 2;
+    squares += s[i * n + i] * s[i * n + i];
+    for (let j = i + 1; j < n; j++) {
+      const sij = s[i * n + j];
+      gammaHat += 2 * (rbar * sd[i] * sd[j] - sij) ** 2;
+      squares += 2 * sij * sij;
+      sdWeightedRow[i] += sd[j] * sij;
+      sdWeightedRow[j] += sd[i] * sij;
     }
   }
-  const { piHat, piDiagonal, thetaTerm } = asymptoticTerms(y, rows, n, s, sd);
+  const { piHat: fourthMoments, piDiagonal, thetaTerm: thetaSums, centredSquares } = fourthMomentSums(s, series, rows, n, sd);
+  for (let i = 0; i < n; i++) sdWeightedOff += (centredSquares[i] / sd[i]) * sdWeightedRow[i];
+  const piHat = fourthMoments - squares;
+  const thetaTerm = thetaSums - sdWeightedOff;
   const rhoHat = piDiagonal + rbar * thetaTerm;
   // gamma at rounding level: the target is S itself (always so for N = 2), kappa is 0/0 and
   // no intensity changes the matrix; report none
-  let squares = 0;
-  for (let k = 0; k < n * n; k++) squares += s[k] * s[k];
   const intensity = gammaHat > ROUNDING_GAMMA * squares ? Math.max(0, Math.min(1, (piHat - rhoHat) / gammaHat / rows)) : 0;
-
-  const toSampleDivisor = rows / (rows - 1);
-  const covariance = new Float64Array(n * n);
-  for (let k = 0; k < n * n; k++) covariance[k] = (intensity * target[k] + (1 - intensity) * s[k]) * toSampleDivisor;
-  return { covariance, intensity, averageCorrelation: rbar, piHat, rhoHat, gammaHat };
-}
-
-/** y = x minus its column means; throws for a non-finite entry. */
-function demeaned(fn: string, x: Float64Array, rows: number, cols: number): Float64Array {
-  const means = new Float64Array(cols);
-  for (let t = 0; t < rows; t++) {
-    for (let j = 0; j < cols; j++) {
-      const v = x[t * cols + j];
-      if (!Number.isFinite(v)) throw new Error(`${fn}: x[${t}, ${j}] must be finite, got ${v}`);
-      means[j] += v;
-    }
-  }
-  for (let j = 0; j < cols; j++) means[j] /= rows;
-  const y = new Float64Array(rows * cols);
-  for (let t = 0; t < rows; t++) for (let j = 0; j < cols; j++) y[t * cols + j] = x[t * cols + j] - means[j];
-  return y;
+  return { intensity, averageCorrelation: rbar, piHat, rhoHat, gammaHat };
 }
 
 /**
- * pi-hat, sum_i pi_ii, and sum_{i != j} sqrt(s_jj/s_ii) theta_ii,ij. The two halves of
- * rho-hat's off-diagonal sum are the same sum with i and j swapped, so rbar/2 x 2 = rbar
- * times one of them. One pass over the pairs i < j gives pi_ij (= pi_ji), theta_ii,ij and
- * theta_jj,ij from the same products, with the dates innermost (each security's series
- * contiguous), so the sums stay in registers.
+ * (delta F + (1 - delta) S) w times T / (T - 1), the shrunk matrix in the sample
+ * estimator's divisor, from S (divisor T) without forming F: (F w)_i = s_ii w_i +
+ * rbar sd_i (sum_j sd_j w_j - sd_i w_i). O(N^2); writes into `out` and returns it.
  */
-function asymptoticTerms(
-  y: Float64Array,
+export function shrunkTimes(s: Float64Array, n: number, rows: number, shrinkage: Pick<LedoitWolfIntensity, 'intensity' | 'averageCorrelation'>, w: Float64Array, out: Float64Array): Float64Array {
+  const fn = 'shrunkTimes';
+  requireLength(fn, 's', s.length, n * n);
+  requireLength(fn, 'w', w.length, n);
+  requireLength(fn, 'out', out.length, n);
+  const { intensity, averageCorrelation: rbar } = shrinkage;
+  let sdTimesW = 0;
+  for (let i = 0; i < n; i++) sdTimesW += Math.sqrt(s[i * n + i]) * w[i];
+  const toSampleDivisor = rows / (rows - 1);
+  for (let i = 0; i < n; i++) {
+    const base = i * n;
+    let sw = 0;
+    for (let j = 0; j < n; j++) sw += s[base + j] * w[j];
+    const sii = s[base + i];
+    const sdi = Math.sqrt(sii);
+    const fw = sii * w[i] + rbar * sdi * (sdTimesW - sdi * w[i]);
+    out[i] = (intensity * fw + (1 - intensity) * sw) * toSampleDivisor;
+  }
+  return out;
+}
+
+/** series[j * rows + t] = x_tj minus its column mean; throws for a non-finite entry. */
+function centredSeries(fn: string, x: Float64Array, rows: number, cols: number): Float64Array {
+  const series = new Float64Array(rows * cols);
+  for (let j = 0; j < cols; j++) {
+    let sum = 0;
+    for (let t = 0; t < rows; t++) {
+      const v = x[t * cols + j];
+      if (!Number.isFinite(v)) throw new Error(`${fn}: x[${t}, ${j}] must be finite, got ${v}`);
+      sum += v;
+    }
+    const mean = sum / rows;
+    for (let t = 0; t < rows; t++) series[j * rows + t] = x[t * cols + j] - mean;
+  }
+  return series;
+}
+
+/**
+ * The date sums of the identities above, each security's series read contiguously:
+ * (1/T) sum_t (sum_i y_ti^2)^2, sum_i pi_ii, (1/T) sum_i (1/sd_i) sum_t (y_ti^2 - s_ii)
+ * y_ti (U_t - sd_i y_ti), and c_i per security.
+ */
+function fourthMomentSums(
+  s: Float64Array,
+  series: Float64Array,
   rows: number,
   n: number,
-  s: Float64Array,
   sd: Float64Array,
-): { piHat: number; piDiagonal: number; thetaTerm: number } {
-  // series[i * rows + t] = y_ti, and squares[i * rows + t] = y_ti^2 - s_ii
-  const series = new Float64Array(n * rows);
-  const squares = new Float64Array(n * rows);
-  for (let t = 0; t < rows; t++) {
-    for (let i = 0; i < n; i++) {
-      const v = y[t * n + i];
-      series[i * rows + t] = v;
-      squares[i * rows + t] = v * v - s[i * n + i];
-    }
-  }
-  let piDiagonal = 0;
-  let piOff = 0;
-  let thetaTerm = 0;
+): { piHat: number; piDiagonal: number; thetaTerm: number; centredSquares: Float64Array } {
+  const squareSums = new Float64Array(rows);
+  const u = new Float64Array(rows);
   for (let i = 0; i < n; i++) {
-    const bi = i * rows;
-    let diagonal = 0;
-    for (let t = 0; t < rows; t++) diagonal += squares[bi + t] * squares[bi + t];
-    piDiagonal += diagonal;
-    for (let j = i + 1; j < n; j++) {
-      const bj = j * rows;
-      const sij = s[i * n + j];
-      let pi = 0;
-      let thetaI = 0;
-      let thetaJ = 0;
-      for (let t = 0; t < rows; t++) {
-        const product = series[bi + t] * series[bj + t] - sij;
-        pi += product * product;
-        thetaI += squares[bi + t] * product;
-        thetaJ += squares[bj + t] * product;
-      }
-      piOff += 2 * pi;
-      thetaTerm += (sd[j] / sd[i]) * thetaI + (sd[i] / sd[j]) * thetaJ;
+    const base = i * rows;
+    for (let t = 0; t < rows; t++) {
+      const v = series[base + t];
+      squareSums[t] += v * v;
+      u[t] += sd[i] * v;
     }
   }
-  return { piHat: (piDiagonal + piOff) / rows, piDiagonal: piDiagonal / rows, thetaTerm: thetaTerm / rows };
+  let fourth = 0;
+  for (let t = 0; t < rows; t++) fourth += squareSums[t] * squareSums[t];
+  let piDiagonal = 0;
+  let thetaTerm = 0;
+  const centredSquares = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const base = i * rows;
+    const sii = s[i * n + i];
+    let diagonal = 0;
+    let theta = 0;
+    let c = 0;
+    for (let t = 0; t < rows; t++) {
+      const v = series[base + t];
+      const a = v * v - sii;
+      diagonal += a * a;
+      theta += a * v * (u[t] - sd[i] * v);
+      c += a;
+    }
+    piDiagonal += diagonal;
+    thetaTerm += theta / sd[i];
+    centredSquares[i] = c / rows;
+  }
+  return { piHat: fourth / rows, piDiagonal: piDiagonal / rows, thetaTerm: thetaTerm / rows, centredSquares };
 }

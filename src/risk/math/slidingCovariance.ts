@@ -118,6 +118,33 @@ export class SlidingCovariance {
   }
 
   /**
+   * S[idx, idx] in full (row-major, k x k for k listed columns, divisor count - 1) into
+   * `out`, from the current co-moments in O(k^2). The listed columns must be free of
+   * missing values, as for `subMatrixVector`.
+   */
+  subMatrix(idx: Int32Array, out = new Float64Array(idx.length * idx.length)): Float64Array {
+    const fn = 'SlidingCovariance.subMatrix';
+    requireIndices(fn, 'idx', idx, this.n);
+    const k = idx.length;
+    requireLength(fn, 'out', out.length, k * k);
+    if (this.held < 2) throw new Error(`${fn}: needs at least 2 rows, holds ${this.held}`);
+    for (let a = 0; a < k; a++) {
+      if (this.clean[idx[a]] !== 1) throw new Error(`${fn}: column ${idx[a]} has a missing value in the window`);
+    }
+    const { n, comoments } = this;
+    const divisor = this.held - 1;
+    for (let a = 0; a < k; a++) {
+      for (let b = a; b < k; b++) {
+        const i = idx[a];
+        const j = idx[b];
+        out[a * k + b] = (i <= j ? comoments[i * n + j] : comoments[j * n + i]) / divisor;
+        out[b * k + a] = out[a * k + b];
+      }
+    }
+    return out;
+  }
+
+  /**
    * Recomputes means and co-moments of the clean columns exactly (two-pass) from the rows
    * held. The centred rows are added four at a time (a rank-4 update), so the co-moment
    * matrix is read and written a quarter as often; the result depends only on the rows

@@ -1,7 +1,7 @@
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
-import { sampleCovariance } from '../../../src/risk/math/covariance.ts';
-import { ledoitWolfConstantCorrelation } from '../../../src/risk/math/shrinkage.ts';
+import { matrixVector, sampleCovariance } from '../../../src/risk/math/covariance.ts';
+import { ledoitWolfConstantCorrelation, shrunkTimes } from '../../../src/risk/math/shrinkage.ts';
 import { MONTHLY_STOCKS, WIDE_BOOK } from './data/ledoitWolfReference.ts';
 import { maxRelativeError } from './fixtures.ts';
 
@@ -38,6 +38,15 @@ describe.each([
 
   it('does not mutate its input', () => {
     expect(Array.from(x)).toEqual(reference.x);
+  });
+
+  it('gives, through shrunkTimes, the numpy shrunk matrix (rescaled to divisor T - 1) times a book without forming it', () => {
+    const { rows, cols } = reference;
+    const w = Float64Array.from({ length: cols }, (_, i) => (i % 3 === 1 ? -0.2 : 1 / cols + i / 100));
+    const paperS = sampleCovariance(x, rows, cols).map((v) => (v * (rows - 1)) / rows);
+    const product = shrunkTimes(paperS, cols, rows, result, w, new Float64Array(cols));
+    const expected = matrixVector(Float64Array.from(reference.shrunk, (v) => (v * rows) / (rows - 1)), cols, w);
+    expect(maxRelativeError(product, expected, 1e-12)).toBeLessThan(1e-12);
   });
 });
 

@@ -4,7 +4,10 @@ import { describe, expect, it } from 'vitest';
 import { createRandom } from '../../../src/demo/random.ts';
 import { EwmaEstimate } from '../../../src/risk/estimators/ewma.ts';
 import type { ReturnPanel } from '../../../src/risk/inputs/panels.ts';
-import { chooseSamplePath, SampleEstimate, SLIDING_REFRESH, slidingStartRow } from '../../../src/risk/estimators/sample.ts';
+import { cheaperPath, chooseSamplePath, SampleEstimate, SLIDING_REFRESH, slidingStartRow } from '../../../src/risk/estimators/sample.ts';
+import { ShrunkEstimate, shrunkPathCosts } from '../../../src/risk/estimators/shrunk.ts';
+import { matrixVector } from '../../../src/risk/math/covariance.ts';
+import { ledoitWolfConstantCorrelation } from '../../../src/risk/math/shrinkage.ts';
 import { randomReturnPanel } from '../../helpers/returnPanel.ts';
 
 /** T x N returns with a few holes (NaN) and one late starter, laid out as inputs.ts does. */
@@ -81,6 +84,57 @@ describe('SampleEstimate', () => {
     expect(chooseSamplePath({ ...large, window: 252 })).toBe('sliding');
     // one new day: the sliding warm-up is not worth it
     expect(chooseSamplePath({ ...large, window: 252, outputDates: 1, warmupDates: 500 })).toBe('window');
+  });
+});
+
+describe('ShrunkEstimate', () => {
+  const p = panel(700, 6);
+  const idx = Int32Array.from([0, 1, 2, 4]);
+  const w = Float64Array.from([0.3, -0.1, 0.5, 0.2]);
+  const W = 21;
+  /** The shrunk matrix of the window's returns, made directly (ledoitWolfConstantCorrelation: checked against numpy and scikit-learn), times w. */
+  const direct = (d: number) => {
+    const x = new Float64Array(W * idx.length);
+    idx.forEach((j, b) => column(p, j, d - W + 1, d).forEach((v, u) => (x[u * idx.length + b] = v)));
+    return matrixVector(ledoitWolfConstantCorrelation(x, W, idx.length).covariance, idx.length, w);
+  };
+
+  it('gives on both paths the shrunk matrix made directly from the window, times w', () => {
+    const window = new ShrunkEstimate(p, W, 'window', 100);
+    const sliding = new ShrunkEstimate(p, W, 'sliding', 100);
+    let compared = 0;
+    for (let d = sliding.startRow; d < 700; d++) {
+      sliding.advance(d, d >= 100);
+      if (d >= 100) window.advance(d, true);
+      if (d < 100 || !idx.every((j) => window.covered(j))) continue;
+      const expected = direct(d);
+      const a = window.product(idx, w);
+      expect(window.takeIntensity()).toBeGreaterThanOrEqual(0);
+      const b = sliding.product(idx, w);
+      expected.forEach((e, k) => {
+        expect(Math.abs(a[k] - e)).toBeLessThanOrEqual(1e-12 * Math.abs(e));
+        expect(Math.abs(b[k] - e)).toBeLessThanOrEqual(1e-10 * Math.abs(e));
+      });
+      compared++;
+    }
+    expect(compared).toBeGreaterThan(500);
+  });
+
+  it('started late on the sliding path, matches a run from the first row bit for bit', () => {
+    const from = 611;
+    const full = new ShrunkEstimate(p, W, 'sliding', 0);
+    const late = new ShrunkEstimate(p, W, 'sliding', from);
+    for (let d = 0; d < 700; d++) {
+      full.advance(d, d >= from);
+      if (d >= late.startRow) late.advance(d, d >= from);
+      if (d >= from) expect(Array.from(late.product(idx, w))).toEqual(Array.from(full.product(idx, w)));
+    }
+  });
+
+  it('reads S from a sliding state for a backfill and from the window for one new day (cost model)', () => {
+    const large = { securities: 1000, holdingsPerDate: 50 * 200, holdingsSquaredPerDate: 50 * 200 * 200, window: 63 };
+    expect(cheaperPath(shrunkPathCosts({ ...large, outputDates: 2610, warmupDates: 0 }))).toBe('sliding');
+    expect(cheaperPath(shrunkPathCosts({ ...large, outputDates: 1, warmupDates: 300 }))).toBe('window');
   });
 });
 
