@@ -71,7 +71,7 @@ export function historicalVarRows(
       gaps[j * (t + 1) + row + 1] = gaps[j * (t + 1) + row] + (isScenarioReturn(simple[j * t + row]) ? 0 : 1);
     }
   }
-  const filtered = new FilteredScenarios(inputs, longest);
+  const filtered = new FilteredScenarios(inputs, longest, firstScenario);
   let at = new Int32Array(0);
   let full = new Uint8Array(0);
   let values = new Float64Array(0);
@@ -175,12 +175,22 @@ class FilteredScenarios {
   private readonly r: Float64Array;
   private readonly past: Float64Array;
   private readonly today = new Float64Array(1);
+  /** sigmaAfter by security (N x T), from the first row a scenario reads on: a column's sigmas are then one contiguous read. */
+  private readonly sigmaBySecurity: Float64Array;
+  private readonly firstSigmaRow: number;
 
   constructor(
     private readonly inputs: HistoricalInputs,
     private readonly longest: number,
+    firstScenarioRow: number,
   ) {
     const n = inputs.returns.securityIds.length;
+    const t = inputs.returns.dates.length;
+    this.firstSigmaRow = Math.max(0, firstScenarioRow - 1);
+    this.sigmaBySecurity = new Float64Array(n * t);
+    for (let row = this.firstSigmaRow; row < t; row++) {
+      for (let j = 0; j < n; j++) this.sigmaBySecurity[j * t + row] = inputs.sigmaAfter[row * n + j];
+    }
     this.done = new Int32Array(n).fill(-1);
     this.gapAt = new Int32Array(n);
     this.out = new Float64Array(n * longest);
@@ -207,13 +217,13 @@ class FilteredScenarios {
     const { longest, d } = this;
     const start = j * longest;
     if (this.done[j] !== d) {
-      const { returns, sigmaAfter } = this.inputs;
-      const n = returns.securityIds.length;
+      const { returns } = this.inputs;
       const t = returns.dates.length;
-      const today = sigmaAfter[d * n + j];
+      const sigmas = this.sigmaBySecurity;
+      const today = sigmas[j * t + d];
       for (let s = 0; s < longest; s++) {
         const row = d - longest + 1 + s;
-        const sigma = row >= 1 ? sigmaAfter[(row - 1) * n + j] : Number.NaN;
+        const sigma = row >= 1 && row - 1 >= this.firstSigmaRow ? sigmas[j * t + row - 1] : Number.NaN;
         const known = Number.isFinite(sigma) && Number.isFinite(today);
         // an unknown sigma is a gap: a NaN return over a unit sigma stays NaN
         this.past[s] = known ? sigma : 1;

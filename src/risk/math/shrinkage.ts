@@ -95,31 +95,50 @@ export function ledoitWolfIntensity(s: Float64Array, series: Float64Array, rows:
   requireLength(fn, 's', s.length, n * n);
   requireLength(fn, 'series', series.length, n * rows);
   const sd = new Float64Array(n);
+  const inverseSd = new Float64Array(n);
   for (let i = 0; i < n; i++) {
     if (!(s[i * n + i] > 0)) throw new Error(`${fn}: column ${i} has zero variance, so its correlation is undefined`);
     sd[i] = Math.sqrt(s[i * n + i]);
+    inverseSd[i] = 1 / sd[i];
   }
+  // one pass over the upper triangle for the correlations, sum_ij s_ij^2 and sum_{j != i} sd_j s_ij
   let correlationSum = 0;
-  for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) correlationSum += s[i * n + j] / (sd[i] * sd[j]);
-  const rbar = (2 * correlationSum) / (n * (n - 1));
-
-  // off the diagonal only: there the target is S's own variance
-  let gammaHat = 0;
   let squares = 0;
-  let sdWeightedOff = 0;
   const sdWeightedRow = new Float64Array(n);
   for (let i = 0; i < n; i++) {
-    squares += s[i * n + i] * s[i * n + i];
+    const row = i * n;
+    const sdi = sd[i];
+    squares += s[row + i] * s[row + i];
+    let correlations = 0;
+    let offSquares = 0;
+    let weighted = 0;
     for (let j = i + 1; j < n; j++) {
-      const sij = s[i * n + j];
-      gammaHat += 2 * (rbar * sd[i] * sd[j] - sij) ** 2;
-      squares += 2 * sij * sij;
-      sdWeightedRow[i] += sd[j] * sij;
-      sdWeightedRow[j] += sd[i] * sij;
+      const sij = s[row + j];
+      correlations += sij * inverseSd[j];
+      offSquares += sij * sij;
+      weighted += sd[j] * sij;
+      sdWeightedRow[j] += sdi * sij;
     }
+    correlationSum += correlations * inverseSd[i];
+    squares += 2 * offSquares;
+    sdWeightedRow[i] += weighted;
+  }
+  const rbar = (2 * correlationSum) / (n * (n - 1));
+  // off the diagonal only: there the target is S's own variance
+  let gammaHat = 0;
+  for (let i = 0; i < n; i++) {
+    const row = i * n;
+    const scaled = rbar * sd[i];
+    let sum = 0;
+    for (let j = i + 1; j < n; j++) {
+      const gap = scaled * sd[j] - s[row + j];
+      sum += gap * gap;
+    }
+    gammaHat += 2 * sum;
   }
   const { piHat: fourthMoments, piDiagonal, thetaTerm: thetaSums, centredSquares } = fourthMomentSums(s, series, rows, n, sd);
-  for (let i = 0; i < n; i++) sdWeightedOff += (centredSquares[i] / sd[i]) * sdWeightedRow[i];
+  let sdWeightedOff = 0;
+  for (let i = 0; i < n; i++) sdWeightedOff += centredSquares[i] * inverseSd[i] * sdWeightedRow[i];
   const piHat = fourthMoments - squares;
   const thetaTerm = thetaSums - sdWeightedOff;
   const rhoHat = piDiagonal + rbar * thetaTerm;
