@@ -59,11 +59,14 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   const fromRow = scope.from === null ? 0 : firstRowOnOrAfter(dates, scope.from);
   const states = await phases.time('load_estimator_state', () => loadEstimatorStates(db, config, dates, fromRow, scope.settings));
   const longest = Math.max(...config.risk.windows);
-  // holdings, benchmarks and portfolio returns from the longest window before the first
-  // output row (realized figures, averaged weights; the loss stage's backtest and worst windows)
+  // benchmarks and portfolio returns from the longest window before the first output row
+  // (realized figures; the loss stage's backtest and worst windows); holdings too when the
+  // weights are averaged over the window, else from the day before the first output row
+  // (the first change split, the first backtest P&L)
   const firstRow = Math.max(0, fromRow - longest + 1);
+  const holdingsFromRow = config.risk.weights === 'window_average' ? firstRow : Math.max(firstRow, fromRow - 1);
   const returns = await phases.time('read_returns', () => readReturns(db, config, dates, fromRow, firstRow, scope.portfolios, states));
-  const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, firstRow, scope.portfolios));
+  const portfolios = await phases.time('read_portfolios', () => readPortfolioPanel(db, dates.length, firstRow, scope.portfolios, holdingsFromRow));
   const benchmarks = await phases.time('read_benchmarks', () => readBenchmarkPanel(db, config, portfolios.ids, dates.length, firstRow));
   for (const id of scope.portfolios ?? []) {
     if (!portfolios.ids.includes(id)) rlog.warn({ portfolio: id }, 'no positions for this portfolio: nothing to compute');

@@ -36,7 +36,10 @@ export interface ReturnPanel {
 
 export interface PortfolioPanel {
   ids: string[];
-  /** First date row whose holdings were read; earlier rows are empty. */
+  /**
+   * First date row whose portfolio returns were read; earlier rows are empty. The holdings
+   * (present, value, flags, weights) may start later (readPortfolioPanel's holdingsFromRow).
+   */
   firstRow: number;
   /** P x T, slot p * T + d. Missing = NaN / 0. */
   present: Uint8Array;
@@ -170,13 +173,20 @@ export function seriesLayouts(returns: Float64Array, t: number, n: number): Pick
   return { returnsBySecurity, runLength };
 }
 
-/** The portfolios in scope (null: every portfolio with a position), sorted by id, their returns and holdings from `firstRow` on. */
+/**
+ * The portfolios in scope (null: every portfolio with a position), sorted by id, their
+ * returns from `firstRow` on and their holdings from `holdingsFromRow` on (default: the
+ * same row; a run that needs holdings only from the day before its first date reads
+ * far fewer).
+ */
 export async function readPortfolioPanel(
   db: Database,
   dateCount: number,
   firstRow: number,
   portfolios: readonly string[] | null,
+  holdingsFromRow = firstRow,
 ): Promise<PortfolioPanel> {
+  if (holdingsFromRow < firstRow) throw new Error(`readPortfolioPanel: holdings from row ${holdingsFromRow} before the returns from row ${firstRow}`);
   // ids bound as JSON: DuckDB cannot type an empty JS list
   const scope = portfolios === null ? '' : `where list_contains(from_json($1, '["VARCHAR"]'), portfolio_id)`;
   const scopeParams = portfolios === null ? undefined : [JSON.stringify(portfolios)];
@@ -219,7 +229,7 @@ export async function readPortfolioPanel(
      -- left: a holding missing from the securities read is a fault (a null j fails the read), never dropped
      left join risk_in_securities s using (security_id)
      order by p.k, w.date_index, j`,
-    [firstRow + 1],
+    [holdingsFromRow + 1],
     { k: 'int', date_index: 'int', j: 'int', weight: 'double', value_base: 'double', unvalued: 'bool', is_stale: 'bool' },
     (c, n) => {
       holdings.append(c.j, c.weight, n);
