@@ -4,9 +4,9 @@ import { appendedSince, rawMarkSql } from './rawAppends.ts';
 import { LADDER_DIR, listLadder } from './sqlFiles.ts';
 
 /**
- * The derived tables (migrations 0030, 0080, 0240) store the layers every view shares:
+ * The derived tables (migrations 0030, 0080, 0240, 0250) store the layers every view shares:
  * snapshots in force, the securities ever held, the valuation calendar, carried prices
- * and fx rates, position values and weights, portfolio returns; the ladder's stored steps
+ * and fx rates, position values and weights, security and portfolio returns; the ladder's stored steps
  * (sql/ladder/NNN_<layer>_stored_<stem>.sql) fill them. They are brought up to date
  * whenever the raw tables' fingerprint differs from the one recorded with them, so
  * whoever changed the raw tables (ingest, a test, an outside client, a crash half way)

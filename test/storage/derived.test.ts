@@ -17,11 +17,12 @@ const TABLES: Record<string, string> = {
   derived_aligned_fx: 'currency, date',
 };
 
-// The stored position values, weights and portfolio returns are arithmetic (products, a window's sum): a
+// The stored position values, weights, security and portfolio returns are arithmetic (products, a window's sum): a
 // refresh equals a rebuild to 1e-12 relative on every figure (the project's rule for an
 // incremental path, common practice, no source), every other column exactly.
 const VALUED: Record<string, string> = {
   derived_position_weights: 'portfolio_id, date, security_id',
+  derived_security_returns: 'security_id, date',
   derived_portfolio_returns: 'portfolio_id, date',
 };
 
@@ -59,6 +60,7 @@ async function expectRefreshEqualsRebuild(db: Database, mode: 'from' | 'full', f
   for (const table of Object.keys(VALUED)) expectRelativelyEqual(incremental[table] as Record<string, unknown>[], rebuilt[table] as Record<string, unknown>[], table);
   expect(rebuilt.derived_aligned_prices.length).toBeGreaterThan(500);
   expect(rebuilt.derived_position_weights.length).toBeGreaterThan(500);
+  expect(rebuilt.derived_security_returns.length).toBeGreaterThan(500);
   expect(rebuilt.derived_portfolio_returns.length).toBeGreaterThan(100);
 }
 

@@ -60,6 +60,7 @@ describe('the ordered SQL runner', () => {
       'derived_aligned_fx',
       'derived_position_weights',
       'derived_security_currencies',
+      'derived_security_returns',
       'derived_portfolio_returns',
     ]);
   });

@@ -1,29 +1,49 @@
--- Daily log return of each ever-held security between consecutive valuation dates:
--- log_return = ln(P_base_t / P_base_t-1) with P_base = price_local * fx_rate (base
--- currency), log_return_local the same in the security's own currency. Null when either
--- side is missing. Cash in the base currency has no rows: its return is zero by
--- definition. Cash in another currency (CASH:<code>) is a balance at price 1 in that
--- currency: its base-currency return is the fx log return ln(fx_t / fx_t-1), its local
--- return zero (SPEC section 3, round 2).
--- ret_securities_since(first_date_index): the returns from that valuation date on, read
--- from the prices and rates of the date before it on.
-create or replace macro ret_securities_since(first_date_index) as table
+-- Backs ret_securities. Daily log return of each ever-held security between consecutive
+-- valuation dates: log_return = ln(P_base_t / P_base_t-1) with P_base = price_local *
+-- fx_rate (base currency), log_return_local the same in the security's own currency.
+-- Null when either side is missing. Cash in the base currency has no rows: its return is
+-- zero by definition. Cash in another currency (CASH:<code>) is a balance at price 1 in
+-- that currency: its base-currency return is the fx log return ln(fx_t / fx_t-1), its
+-- local return zero (SPEC section 3, round 2).
+-- Refilled from the date in the variable derived_from (src/storage/derived.ts sets it;
+-- '-infinity' rebuilds all): a return at t reads the carried prices and rates of t-1 and
+-- t, which the earlier steps refill from the same date, so the returns before it stand
+-- (a change at t-1 reaches t, which is after it). As in step 090, a security first held
+-- before derived_from keeps its earlier rows; any other (new, or no longer held) is
+-- derived whole. It applies base_currency and max_stale_days through the prices and
+-- rates: the refresh's fingerprint carries both.
+delete from derived_security_returns
+where date >= getvariable('derived_from')
+   or security_id not in (
+     select security_id from derived_held_securities where first_held_on < getvariable('derived_from')
+   );
+
+-- derived whole, as a constant (see step 090): cash in a foreign currency too
+set variable derived_whole_returns = (
+  select coalesce(list(security_id), []::varchar[])
+  from derived_held_securities
+  where first_held_on >= getvariable('derived_from')
+);
+
+-- derived_from_index: the first valuation date refilled (set by step 070)
+insert into derived_security_returns
 with settings as (
   select base_currency
   from pipeline_settings
 ),
 
+-- every date: a few currencies, and a security derived whole needs its first ones
 rates as (
   select currency, date, date_index, rate, is_stale
   from align_fx
-  where date_index >= first_date_index - 1
 ),
 
+-- from the date before the first refilled one, or from the first for one derived whole
 prices as (
   select a.security_id, a.date, a.date_index, a.price_local, a.is_stale as price_is_stale, f.rate as fx_rate, f.is_stale as fx_is_stale
   from align_prices a
   left join rates f on f.currency = a.currency and f.date = a.date
-  where a.date_index >= first_date_index - 1
+  where a.date_index >= getvariable('derived_from_index') - 1 or list_contains(getvariable('derived_whole_returns'), a.security_id)
 ),
 
 -- align_prices has a row for every valuation date from a security's first price on,
@@ -56,7 +76,8 @@ returns as (
     price_base,
     prev_price_base
   from paired
-  where prev_date_index is not null and date_index >= first_date_index
+  where prev_date_index is not null
+    and (date_index >= getvariable('derived_from_index') or list_contains(getvariable('derived_whole_returns'), security_id))
 ),
 
 -- held, or a benchmark's constituent (its return enters the benchmark's); step 066 keeps
@@ -95,7 +116,8 @@ cash_returns as (
     rate as price_base,
     prev_rate as prev_price_base
   from cash_paired
-  where prev_date_index is not null and date_index >= first_date_index
+  where prev_date_index is not null
+    and (date_index >= getvariable('derived_from_index') or list_contains(getvariable('derived_whole_returns'), security_id))
 ),
 
 all_returns as (
@@ -104,7 +126,7 @@ all_returns as (
   select * from cash_returns
 )
 
-select * from all_returns;
-
-create or replace view ret_securities as
-select * from ret_securities_since(1);
+-- in date order: a reader of the last dates skips the row groups of the others
+select security_id, date, date_index, log_return, log_return_local, is_stale, simple_return, price_base, prev_price_base
+from all_returns
+order by date_index, security_id;
