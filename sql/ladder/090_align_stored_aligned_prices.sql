@@ -14,11 +14,13 @@ where date >= getvariable('derived_from')
 -- the securities derived whole (first held on or after derived_from), as a constant: a
 -- filter on it reaches the scan of the raw prices, where a join would come only after
 -- the latest delivery of every price ever delivered was found (a whole-table window on
--- every new day). A full rebuild reads every price anyway and filters nothing.
+-- every new day). A full rebuild reads every price anyway and filters nothing. Cash is
+-- listed too (it has no price, so it filters nothing here): step 170 derives the
+-- foreign balances' returns whole from the same list.
 set variable derived_whole_securities = (
   select coalesce(list(security_id), []::varchar[])
   from derived_held_securities
-  where first_held_on >= getvariable('derived_from') and not is_cash(security_id)
+  where first_held_on >= getvariable('derived_from')
 );
 
 insert into derived_aligned_prices

@@ -10,20 +10,14 @@
 -- t, which the earlier steps refill from the same date, so the returns before it stand
 -- (a change at t-1 reaches t, which is after it). As in step 090, a security first held
 -- before derived_from keeps its earlier rows; any other (new, or no longer held) is
--- derived whole. It applies base_currency and max_stale_days through the prices and
--- rates: the refresh's fingerprint carries both.
+-- derived whole (the list step 090 set, derived_whole_securities). It applies
+-- base_currency and max_stale_days through the prices and rates: the refresh's
+-- fingerprint carries both.
 delete from derived_security_returns
 where date >= getvariable('derived_from')
    or security_id not in (
      select security_id from derived_held_securities where first_held_on < getvariable('derived_from')
    );
-
--- derived whole, as a constant (see step 090): cash in a foreign currency too
-set variable derived_whole_returns = (
-  select coalesce(list(security_id), []::varchar[])
-  from derived_held_securities
-  where first_held_on >= getvariable('derived_from')
-);
 
 -- derived_from_index: the first valuation date refilled (set by step 070)
 insert into derived_security_returns
@@ -43,7 +37,7 @@ prices as (
   select a.security_id, a.date, a.date_index, a.price_local, a.is_stale as price_is_stale, f.rate as fx_rate, f.is_stale as fx_is_stale
   from align_prices a
   left join rates f on f.currency = a.currency and f.date = a.date
-  where a.date_index >= getvariable('derived_from_index') - 1 or list_contains(getvariable('derived_whole_returns'), a.security_id)
+  where a.date_index >= getvariable('derived_from_index') - 1 or list_contains(getvariable('derived_whole_securities'), a.security_id)
 ),
 
 -- align_prices has a row for every valuation date from a security's first price on,
@@ -77,7 +71,7 @@ returns as (
     prev_price_base
   from paired
   where prev_date_index is not null
-    and (date_index >= getvariable('derived_from_index') or list_contains(getvariable('derived_whole_returns'), security_id))
+    and (date_index >= getvariable('derived_from_index') or list_contains(getvariable('derived_whole_securities'), security_id))
 ),
 
 -- held, or a benchmark's constituent (its return enters the benchmark's); step 066 keeps
@@ -117,7 +111,7 @@ cash_returns as (
     prev_rate as prev_price_base
   from cash_paired
   where prev_date_index is not null
-    and (date_index >= getvariable('derived_from_index') or list_contains(getvariable('derived_whole_returns'), security_id))
+    and (date_index >= getvariable('derived_from_index') or list_contains(getvariable('derived_whole_securities'), security_id))
 ),
 
 all_returns as (
