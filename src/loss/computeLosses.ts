@@ -150,19 +150,16 @@ async function readPriorFlags(db: Database, inputs: LossInputs, history: VarHist
   const bound = Math.max(0, fromRow - 2 * BASEL_OBSERVATIONS);
   const read = async (since: string | null, ids: readonly string[]) => {
     const rows = await db.all<{ portfolio_id: string; method: string; window_days: number; estimator: string | null; flags: boolean[] }>(
-      `select portfolio_id, method, window_days, estimator, list(exception order by date) as flags
-       from (
-         select *, row_number() over (partition by portfolio_id, method, window_days, estimator order by date desc) as back
-         from var_backtest
-         where date < $1::date and ($3::date is null or date >= $3::date) and list_contains(from_json($2::varchar, '["VARCHAR"]'), portfolio_id)
-       )
-       where back <= $4
+      // max_by(.., n): the flags of the n latest dates, latest first (a top-n per group, no window over every row)
+      `select portfolio_id, method, window_days, estimator, max_by(exception, date, $4) as flags
+       from var_backtest
+       where date < $1::date and ($3::date is null or date >= $3::date) and list_contains(from_json($2::varchar, '["VARCHAR"]'), portfolio_id)
        group by all`,
       [returns.dates[fromRow], JSON.stringify(ids), since, kept],
     );
     for (const r of rows) {
       const key = { p: index.get(r.portfolio_id)!, method: r.method, windowDays: r.window_days, estimator: r.estimator };
-      flags.set(seriesId(key), r.flags.map((f) => (f ? 1 : 0)));
+      flags.set(seriesId(key), r.flags.map((f) => (f ? 1 : 0)).reverse());
     }
   };
   await read(bound > 0 ? returns.dates[bound] : null, portfolios.ids);
