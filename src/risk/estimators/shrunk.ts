@@ -21,9 +21,11 @@ import { cheaperPath, pathCostInputs, SampleEstimate, uniqueSorted, type PathCos
  * coverage, variances and security_stats (written once, by the sample estimate of the
  * same window) are those of `SampleEstimate`, which this wraps.
  *
- * A holding whose returns do not vary over the window has zero variance and zero
- * covariances, in S and in the target alike; its correlation is undefined, so it is
- * left out of the shrinkage and its row of the product is 0. With fewer than two
+ * A holding whose returns do not vary over the window (a price delivered unchanged, a
+ * fund accruing at a fixed rate) has zero variance and zero covariances, in S and in
+ * the target alike; its correlation is undefined, so it is left out of the shrinkage
+ * (found by comparing its returns, not by a variance that rounding leaves above zero)
+ * and its row of the product is 0. With fewer than two
  * varying holdings there is nothing to shrink: the sample matrix, intensity unknown.
  */
 
@@ -90,7 +92,7 @@ export class ShrunkEstimate implements DateEstimate {
     const known = this.made.get(key);
     if (known) return known;
     const positions: number[] = [];
-    for (let a = 0; a < idx.length; a++) if (this.variance(idx[a]) > 0) positions.push(a);
+    for (let a = 0; a < idx.length; a++) if (this.varies(idx[a])) positions.push(a);
     const risky = Int32Array.from(positions);
     const k = risky.length;
     let made: Shrinkage;
@@ -107,6 +109,20 @@ export class ShrunkEstimate implements DateEstimate {
     }
     this.made.set(key, made);
     return made;
+  }
+
+  /**
+   * Whether covered security j's returns differ within the window, tested exactly: a
+   * sliding state can leave a constant series a rounding-level variance, whose
+   * "correlations" would be noise over noise and spoil the target's average.
+   */
+  private varies(j: number): boolean {
+    if (!this.covered(j)) return false;
+    const t = this.panel.dates.length;
+    const base = j * t + this.sample.currentRow - this.windowDays + 1;
+    const series = this.panel.returnsBySecurity;
+    for (let u = 1; u < this.windowDays; u++) if (series[base + u] !== series[base]) return true;
+    return false;
   }
 
   /** The window's returns of `ids`, each centred on its mean, security by security (k x W). */

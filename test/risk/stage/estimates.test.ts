@@ -131,6 +131,35 @@ describe('ShrunkEstimate', () => {
     }
   });
 
+  it('leaves out a holding whose returns do not move over the window, on both paths alike (its row 0, the rest shrunk without it)', () => {
+    // security 2 accrues at a fixed rate on rows 400..480 (a money-market fund's daily
+    // accrual), after moving before: the two-pass formula and the sliding state both leave
+    // a rounding-level variance for it, where the shrinkage must see none
+    const flat = panel(700, 6);
+    const t = flat.dates.length;
+    const n = flat.securityIds.length;
+    for (let d = 400; d <= 480; d++) {
+      flat.returns[d * n + 2] = 0.00013;
+      flat.returnsBySecurity[2 * t + d] = 0.00013;
+    }
+    const others = Int32Array.from([0, 1, 4]);
+    const window = new ShrunkEstimate(flat, W, 'window', 430);
+    const sliding = new ShrunkEstimate(flat, W, 'sliding', 430);
+    for (let d = sliding.startRow; d <= 480; d++) {
+      sliding.advance(d, d >= 430);
+      if (d >= 430) window.advance(d, true);
+      if (d < 430) continue;
+      const x = new Float64Array(W * others.length);
+      others.forEach((j, b) => column(flat, j, d - W + 1, d).forEach((v, u) => (x[u * others.length + b] = v)));
+      const expected = matrixVector(ledoitWolfConstantCorrelation(x, W, others.length).covariance, others.length, Float64Array.from([w[0], w[1], w[3]]));
+      for (const estimate of [window, sliding]) {
+        const product = estimate.product(idx, w);
+        expect(product[2]).toBe(0);
+        [0, 1, 3].forEach((a, b) => expect(Math.abs(product[a] - expected[b])).toBeLessThanOrEqual(1e-10 * Math.abs(expected[b])));
+      }
+    }
+  });
+
   it('reads S from a sliding state for a backfill and from the window for one new day (cost model)', () => {
     const large = { securities: 1000, holdingsPerDate: 50 * 200, holdingsSquaredPerDate: 50 * 200 * 200, window: 63 };
     expect(cheaperPath(shrunkPathCosts({ ...large, outputDates: 2610, warmupDates: 0 }))).toBe('sliding');
