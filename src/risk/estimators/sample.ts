@@ -160,10 +160,11 @@ export class SampleEstimate implements DateEstimate {
     return centredTimesWeights(this.centred!, this.windowDays, idx, w, out, this.portfolioScratch);
   }
 
-  /** S[ids, ids] in full (k x k, divisor W - 1) on an output date, from the path's own state; ids covered. */
-  subMatrix(ids: Int32Array, out = new Float64Array(ids.length * ids.length)): Float64Array {
-    if (this.sliding) return this.sliding.subMatrix(ids, out);
-    return centredCrossProducts(this.centred!, this.windowDays, ids, this.windowDays - 1, out);
+  /** The window's co-moments of ids over `divisor` (W - 1: S[ids, ids]) in full, k x k, on an output date, from the path's own state; ids covered. */
+  subMatrix(ids: Int32Array, divisor: number): Float64Array {
+    const out = new Float64Array(ids.length * ids.length);
+    if (this.sliding) return this.sliding.subMatrix(ids, divisor, out);
+    return centredCrossProducts(this.centred!, this.windowDays, ids, divisor, out);
   }
 
   /** security_stats of the current date: every security with a full window. */

@@ -102,8 +102,7 @@ export class ShrunkEstimate implements DateEstimate {
       const rows = this.windowDays;
       const ids = Int32Array.from(risky, (a) => idx[a]);
       // S in the paper's divisor W, as the intensity takes it
-      const s = this.sample.subMatrix(ids);
-      for (let e = 0; e < s.length; e++) s[e] = (s[e] * (rows - 1)) / rows;
+      const s = this.sample.subMatrix(ids, rows);
       const { intensity, averageCorrelation } = ledoitWolfIntensity(s, this.centredWindow(ids), rows, k);
       made = { risky, s, intensity, averageCorrelation };
     }

@@ -105,12 +105,8 @@ export class SlidingCovariance {
    */
   subMatrixVector(idx: Int32Array, v: Float64Array, out = new Float64Array(idx.length)): Float64Array {
     const fn = 'SlidingCovariance.subMatrixVector';
-    requireIndices(fn, 'idx', idx, this.n);
+    this.requireCleanColumns(fn, idx);
     requireLength(fn, 'v', v.length, idx.length);
-    if (this.held < 2) throw new Error(`${fn}: needs at least 2 rows, holds ${this.held}`);
-    for (let a = 0; a < idx.length; a++) {
-      if (this.clean[idx[a]] !== 1) throw new Error(`${fn}: column ${idx[a]} has a missing value in the window`);
-    }
     upperSubMatrixVector(this.comoments, this.n, idx, v, out);
     const divisor = this.held - 1;
     for (let a = 0; a < idx.length; a++) out[a] /= divisor;
@@ -118,21 +114,17 @@ export class SlidingCovariance {
   }
 
   /**
-   * S[idx, idx] in full (row-major, k x k for k listed columns, divisor count - 1) into
-   * `out`, from the current co-moments in O(k^2). The listed columns must be free of
+   * The co-moments of idx over `divisor` (count - 1 gives the sample covariance
+   * S[idx, idx]; count, the divisor of a paper that uses it), in full (row-major, k x k
+   * for k listed columns) into `out`, in O(k^2). The listed columns must be free of
    * missing values, as for `subMatrixVector`.
    */
-  subMatrix(idx: Int32Array, out = new Float64Array(idx.length * idx.length)): Float64Array {
+  subMatrix(idx: Int32Array, divisor: number, out = new Float64Array(idx.length * idx.length)): Float64Array {
     const fn = 'SlidingCovariance.subMatrix';
-    requireIndices(fn, 'idx', idx, this.n);
+    this.requireCleanColumns(fn, idx);
     const k = idx.length;
     requireLength(fn, 'out', out.length, k * k);
-    if (this.held < 2) throw new Error(`${fn}: needs at least 2 rows, holds ${this.held}`);
-    for (let a = 0; a < k; a++) {
-      if (this.clean[idx[a]] !== 1) throw new Error(`${fn}: column ${idx[a]} has a missing value in the window`);
-    }
     const { n, comoments } = this;
-    const divisor = this.held - 1;
     for (let a = 0; a < k; a++) {
       for (let b = a; b < k; b++) {
         const i = idx[a];
@@ -142,6 +134,15 @@ export class SlidingCovariance {
       }
     }
     return out;
+  }
+
+  /** Valid indices, at least 2 rows held, and no listed column with a missing value in the window. */
+  private requireCleanColumns(fn: string, idx: Int32Array): void {
+    requireIndices(fn, 'idx', idx, this.n);
+    if (this.held < 2) throw new Error(`${fn}: needs at least 2 rows, holds ${this.held}`);
+    for (let a = 0; a < idx.length; a++) {
+      if (this.clean[idx[a]] !== 1) throw new Error(`${fn}: column ${idx[a]} has a missing value in the window`);
+    }
   }
 
   /**
