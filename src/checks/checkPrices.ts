@@ -135,20 +135,26 @@ async function readCheckedSeries(db: Database, from: string | null): Promise<Che
      from latest l left join repeated r using (security_id, date)`,
     [from],
   );
+  // each column's distinct values ranked once: the rows carry the rank, the names come in rank order
+  const ranked = async (column: string) => {
+    await db.run(
+      `create or replace temp table check_prices_${column}s as
+       select ${column}, (row_number() over (order by ${column}) - 1)::integer as rank
+       from (select distinct ${column} from check_prices_window)`,
+    );
+    return (await readColumns(db, `select ${column}::varchar as name from check_prices_${column}s order by rank`, undefined, { name: 'text' })).columns.name as string[];
+  };
   try {
-    const names = async (column: string) =>
-      (await readColumns(db, `select distinct ${column}::varchar as name from check_prices_window order by 1`, undefined, { name: 'text' })).columns.name as string[];
-    const ids = await names('security_id');
-    const markets = await names('market');
-    const dates = await names('date');
+    const ids = await ranked('security_id');
+    const dates = await ranked('date');
+    const markets = await ranked('market');
     const { rows, columns: c } = await readColumns(
       db,
-      // each rank from its few distinct values, in the order `names` lists them
-      `with ranked_ids as (select security_id, (row_number() over (order by security_id) - 1)::integer as k from (select distinct security_id from check_prices_window)),
-            ranked_dates as (select date, (row_number() over (order by date) - 1)::integer as day from (select distinct date from check_prices_window)),
-            ranked_markets as (select market, (row_number() over (order by market) - 1)::integer as m from (select distinct market from check_prices_window))
-       select k, day, price, m, confirmed
-       from check_prices_window join ranked_ids using (security_id) join ranked_dates using (date) join ranked_markets using (market)
+      `select i.rank as k, d.rank as day, w.price, m.rank as m, w.confirmed
+       from check_prices_window w
+       join check_prices_security_ids i using (security_id)
+       join check_prices_dates d using (date)
+       join check_prices_markets m using (market)
        order by k, day`,
       undefined,
       { k: 'int', day: 'int', price: 'double', m: 'int', confirmed: 'bool' },
@@ -166,7 +172,7 @@ async function readCheckedSeries(db: Database, from: string | null): Promise<Che
     }
     return series;
   } finally {
-    await db.run('drop table if exists check_prices_window');
+    for (const table of ['window', 'security_ids', 'dates', 'markets']) await db.run(`drop table if exists check_prices_${table}`);
   }
 }
 
