@@ -6,7 +6,7 @@ import type { Config } from '../config/load.ts';
 import { orderDeliveries } from '../ingest/deliveryOrder.ts';
 import { ingestFile, type IngestOutcome } from '../ingest/ingestFile.ts';
 import type { Database } from '../storage/database.ts';
-import { publishReadCopy } from '../storage/workspace.ts';
+import { publishReadCopy } from '../storage/readCopy.ts';
 import { nothingToCompute } from './nothingToCompute.ts';
 import { markInterruptedRuns } from './runRecord.ts';
 import { mergeScope, triggerFor, uncoveredFiles, type RecomputeScope } from './recomputeScope.ts';

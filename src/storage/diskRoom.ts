@@ -11,15 +11,21 @@ export function bytesToPublish(databaseBytes: number): number {
 /**
  * Free bytes for an unprivileged writer on the file system holding `dir`. Tests set
  * RISKFOLD_FAULT_DISK_ROOM to a file holding a byte count: the disk then has that much
- * room besides the database, less what the read copy at `readCopy` takes (so dropping
- * it frees its size, as on a real disk); no disk is filled.
+ * room besides the database, less what the read copy at `readCopy` and its spare take
+ * (so dropping one frees its size, as on a real disk); no disk is filled.
  */
 export function freeBytes(dir: string, readCopy: string): number {
   const room = process.env.RISKFOLD_FAULT_DISK_ROOM;
-  if (room !== undefined) return Number(readFileSync(room, 'utf8')) - sizeOrZero(readCopy);
+  if (room !== undefined) return Number(readFileSync(room, 'utf8')) - sizeOrZero(readCopy) - sizeOrZero(spareOf(readCopy));
   const fs = statfsSync(dir);
   return fs.bavail * fs.bsize;
 }
+
+/**
+ * The copy published before the current one, kept to be brought up to date in place by
+ * the next publish (src/storage/readCopy.ts).
+ */
+export const spareOf = (readCopy: string) => `${readCopy}.spare`;
 
 export function sizeOrZero(file: string): number {
   try {

@@ -1,8 +1,5 @@
-import { execFile } from 'node:child_process';
-import { existsSync, mkdirSync, renameSync, rmSync } from 'node:fs';
-import { faultPoint } from '../faults.ts';
+import { existsSync, mkdirSync } from 'node:fs';
 import path from 'node:path';
-import { promisify } from 'node:util';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
@@ -10,10 +7,7 @@ import { openDatabase, type Database } from './database.ts';
 import { prepareHistory } from '../history/historyTables.ts';
 import { lockDownReader } from './readerSandbox.ts';
 import { refreshDerived } from './derived.ts';
-import { bytesToPublish, freeBytes, sizeOrZero } from './diskRoom.ts';
 import { applyMigrations, applyViews, missingMigrations } from './sqlFiles.ts';
-
-const execFileAsync = promisify(execFile);
 
 /**
  * Opens the worker's database for writing: migrations once, settings from the config,
@@ -54,90 +48,6 @@ function historyDays(config: Config): number[] {
   const needs = [...config.risk.windows, ...(config.risk.ewma.enabled ? [config.risk.ewma.seedDays] : [])];
   return [...new Set(needs)].sort((a, b) => a - b);
 }
-
-/** Whether the read copy now holds the latest commit; if not, why, in one line. */
-export type PublishOutcome = { published: true } | { published: false; reason: string };
-
-/**
- * Publishes the read copy: checkpoint, copy to a temporary name, rename over the old
- * copy. Readers of the old copy keep their open file; a reader never sees a half-written
- * copy. Needs room for one copy (`bytesToPublish`): when the disk has less, the old copy
- * goes first if that makes room (readers find no copy until the rename), else nothing
- * is touched and the outcome says why; the commits are safe either way and the next
- * publish catches up. Call only between transactions (the worker's queue guarantees it).
- */
-export async function publishReadCopy(db: Database, config: Config, log: Logger): Promise<PublishOutcome> {
-  // force: wait for a short write on another connection (alert delivery) instead of failing
-  await db.run('force checkpoint');
-  const short = makeRoom(config, log);
-  if (short !== null) return { published: false, reason: short };
-  const tmp = `${config.readCopy}.tmp-${process.pid}`;
-  try {
-    await copyInChildProcess(config.database, tmp);
-    faultPoint('copied');
-    renameSync(tmp, config.readCopy);
-  } catch (err) {
-    rmSync(tmp, { force: true }); // a full disk must not leave a stray copy behind
-    if (err instanceof CopyFailed && err.noSpace) return { published: false, reason: `read copy not published: ${err.message}; ${COMMITTED}` };
-    throw err;
-  }
-  rmSync(`${config.readCopy}.wal`, { force: true });
-  log.debug({ stage: 'storage', readCopy: config.readCopy }, 'read copy published');
-  return { published: true };
-}
-
-/** Null when a copy fits (dropping the old one if that is what it takes); else the one-line reason it does not. */
-function makeRoom(config: Config, log: Logger): string | null {
-  const dir = path.dirname(config.readCopy);
-  const needed = bytesToPublish(sizeOrZero(config.database));
-  let free = freeBytes(dir, config.readCopy);
-  if (free >= needed) return null;
-  const old = sizeOrZero(config.readCopy);
-  if (old > 0 && free + old >= needed) {
-    rmSync(config.readCopy, { force: true });
-    rmSync(`${config.readCopy}.wal`, { force: true });
-    log.warn({ stage: 'storage', readCopy: config.readCopy, freeBytes: free, neededBytes: needed }, 'disk short: old read copy removed to make room for the new one');
-    // a reader still holding the old copy keeps its blocks until it closes it
-    free = freeBytes(dir, config.readCopy);
-    if (free >= needed) return null;
-  }
-  return `read copy not published: ${mib(free)} free in ${dir}, a copy of the database needs ${mib(needed)}; ${COMMITTED}`;
-}
-
-const COMMITTED = 'everything is committed, the copy follows once there is room';
-const mib = (bytes: number) => `${Math.max(0, Math.floor(bytes / 1024 / 1024))} MiB`;
-
-/** The copy failed; `noSpace` when the disk (or a quota) filled up under it. */
-class CopyFailed extends Error {
-  constructor(
-    message: string,
-    readonly noSpace: boolean,
-  ) {
-    super(message);
-  }
-}
-
-/**
- * DuckDB's lock on its file is a POSIX record lock, and the kernel drops such a lock when
- * the owning process closes ANY descriptor of that file: a copyFileSync here would end
- * the worker's lock and let a second writer in. A child's open and close leave it alone;
- * it reports a failure as the error's code and message on one line.
- */
-async function copyInChildProcess(from: string, to: string): Promise<void> {
-  try {
-    await execFileAsync(process.execPath, ['-e', COPY_SCRIPT, from, to]);
-  } catch (err) {
-    const said = String((err as { stderr?: unknown }).stderr ?? '').trim();
-    const [code = '', ...rest] = said.split(' ');
-    const detail = rest.join(' ') || (err as Error).message.split('\n')[0];
-    throw new CopyFailed(`copying ${from} to ${to} failed: ${detail}`, code === 'ENOSPC' || code === 'EDQUOT');
-  }
-}
-
-// COPYFILE_FICLONE: a reflink where the file system has them (XFS, Btrfs, APFS), so the
-// copy costs no time whatever the database's size; elsewhere (ext4) a plain copy
-const COPY_SCRIPT = `try { const fs = require("node:fs"); fs.copyFileSync(process.argv[1], process.argv[2], fs.constants.COPYFILE_FICLONE); }
-catch (e) { process.stderr.write(String(e.code) + " " + String(e.message).split("\\n")[0]); process.exit(1); }`;
 
 export interface ReadHandle {
   db: Database;

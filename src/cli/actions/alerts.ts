@@ -5,7 +5,8 @@ import type { Config } from '../../config/load.ts';
 import type { Logger } from '../../log/logger.ts';
 import { RiskfoldError } from '../../errors.ts';
 import { readTable } from '../../read/readQuery.ts';
-import { openForReading, openWorkspace, publishReadCopy } from '../../storage/workspace.ts';
+import { publishReadCopy } from '../../storage/readCopy.ts';
+import { openForReading, openWorkspace } from '../../storage/workspace.ts';
 import { contextFrom } from '../context.ts';
 import { formatResult, noteReadCopy, parseFormat } from '../format.ts';
 
