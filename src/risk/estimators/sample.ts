@@ -1,6 +1,6 @@
 import type { Config } from '../../config/load.ts';
 import { annualizedReturn, annualizedVolatility } from '../math/annualize.ts';
-import { centredCrossProducts, centredTimesWeights, centreSeriesInto } from '../math/covariance.ts';
+import { CentredCrossProducts, centredTimesWeights, centreSeriesInto } from '../math/covariance.ts';
 import { mean, sampleVariance } from '../math/moments.ts';
 import { SlidingCovariance } from '../math/slidingCovariance.ts';
 import { hasFullHistory } from '../inputs/fullHistory.ts';
@@ -98,6 +98,8 @@ export class SampleEstimate implements DateEstimate {
   private readonly centred: Float64Array | null;
   private readonly centredMeans: Float64Array;
   private readonly portfolioScratch: Float64Array;
+  /** The window path's co-moments of the current date, each pair summed once (for the shrunk estimate). */
+  private readonly crossProducts: CentredCrossProducts;
   private row = -1;
 
   constructor(
@@ -115,6 +117,7 @@ export class SampleEstimate implements DateEstimate {
     this.centred = this.sliding ? null : new Float64Array(windowDays * this.n);
     this.centredMeans = new Float64Array(this.n);
     this.portfolioScratch = new Float64Array(windowDays);
+    this.crossProducts = new CentredCrossProducts(this.n);
   }
 
   /** Feeds date row d (rows in increasing order from `startRow`); `output` also computes the per-security moments. */
@@ -125,7 +128,10 @@ export class SampleEstimate implements DateEstimate {
     this.sliding?.push(panel.returns.subarray(d * n, (d + 1) * n));
     if (!output) return;
     const sliding = this.sliding;
-    if (this.centred && d >= windowDays - 1) centreSeriesInto(panel.returnsBySecurity, t, d - windowDays + 1, windowDays, this.centredMeans, this.centred);
+    if (this.centred && d >= windowDays - 1) {
+      centreSeriesInto(panel.returnsBySecurity, t, d - windowDays + 1, windowDays, this.centredMeans, this.centred);
+      this.crossProducts.reset();
+    }
     for (let j = 0; j < n; j++) {
       if (!hasFullHistory(panel, d, j, windowDays)) {
         this.means[j] = Number.NaN;
@@ -164,7 +170,7 @@ export class SampleEstimate implements DateEstimate {
   subMatrix(ids: Int32Array, divisor: number): Float64Array {
     const out = new Float64Array(ids.length * ids.length);
     if (this.sliding) return this.sliding.subMatrix(ids, divisor, out);
-    return centredCrossProducts(this.centred!, this.windowDays, ids, divisor, out);
+    return this.crossProducts.subMatrix(this.centred!, this.windowDays, ids, divisor, out);
   }
 
   /** security_stats of the current date: every security with a full window. */

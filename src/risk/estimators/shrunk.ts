@@ -150,13 +150,15 @@ interface Shrinkage {
  * Multiply-adds of each way to get S for the shrinkage over a run. Both then pay per
  * product for the intensity (three passes over the upper triangle, four over the W x n
  * window) and the product (one over the triangle); the sliding state pays N^2 per date
- * fed, the window path centres all N series and sums W n^2 / 2 per product.
+ * fed, the window path centres all N series and sums W n^2 / 2 per product, or W N^2 / 2
+ * per date once the portfolios' pairs cover the universe (each pair is summed once a date).
  */
 export function shrunkPathCosts(c: PathCostInputs): Record<SamplePath, number> {
   const perProduct = c.outputDates * (2 * c.holdingsSquaredPerDate + 4 * c.window * c.holdingsPerDate);
+  const pairs = Math.min(c.holdingsSquaredPerDate, c.securities * c.securities);
   return {
     sliding: (c.outputDates + c.warmupDates) * c.securities * c.securities + perProduct,
-    window: c.outputDates * (c.window * c.securities + (c.window * c.holdingsSquaredPerDate) / 2) + perProduct,
+    window: c.outputDates * (c.window * c.securities + (c.window * pairs) / 2) + perProduct,
   };
 }
 

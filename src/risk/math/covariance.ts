@@ -168,27 +168,67 @@ export function centredTimesWeights(
 
 /**
  * S[cols, cols] = X_c' X_c / divisor on centred series from `centreSeriesInto` (series j at
- * xc[j * rowCount ..]), full and row-major (k x k for k listed series), into `out`.
- * O(rows * k^2): for a few dates' use; a walk over many reads a sliding state instead.
+ * xc[j * rowCount ..]), full and row-major (k x k for k listed series), each pair's sum
+ * kept until `reset` (the next date's window): the portfolios of one date share most of
+ * their securities and ask for several sets each (today's, yesterday's and tomorrow's
+ * holdings, the benchmark's), so a pair is summed once per date however many sets hold
+ * it, at most N^2 / 2 sums of `rowCount` products. The sums are made in the same order
+ * whichever set asks first: the same digits. For a few dates' use; a walk over many reads
+ * a sliding state instead. The N x N sums are allocated on first use.
  */
-export function centredCrossProducts(xc: Float64Array, rowCount: number, cols: Int32Array, divisor: number, out: Float64Array): Float64Array {
-  const fn = 'centredCrossProducts';
-  requireInteger(fn, 'rowCount', rowCount, 1);
-  if (xc.length % rowCount !== 0) throw new Error(`${fn}: xc has length ${xc.length}, not a multiple of rowCount ${rowCount}`);
-  requireIndices(fn, 'cols', cols, xc.length / rowCount);
-  const k = cols.length;
-  requireLength(fn, 'out', out.length, k * k);
-  for (let a = 0; a < k; a++) {
-    const ba = cols[a] * rowCount;
-    for (let b = a; b < k; b++) {
-      const bb = cols[b] * rowCount;
-      let sum = 0;
-      for (let t = 0; t < rowCount; t++) sum += xc[ba + t] * xc[bb + t];
-      out[a * k + b] = sum / divisor;
-      out[b * k + a] = out[a * k + b];
-    }
+export class CentredCrossProducts {
+  private sums: Float64Array | null = null;
+  /** The generation in which each sum was made; sums of older generations are stale. */
+  private made: Int32Array | null = null;
+  private generation = 1;
+
+  constructor(private readonly seriesCount: number) {}
+
+  /** The centred series changed: every kept sum is stale. */
+  reset(): void {
+    this.generation++;
   }
-  return out;
+
+  subMatrix(xc: Float64Array, rowCount: number, cols: Int32Array, divisor: number, out: Float64Array): Float64Array {
+    const fn = 'CentredCrossProducts.subMatrix';
+    const n = this.seriesCount;
+    requireInteger(fn, 'rowCount', rowCount, 1);
+    requireLength(fn, 'xc', xc.length, n * rowCount);
+    requireIndices(fn, 'cols', cols, n);
+    const k = cols.length;
+    requireLength(fn, 'out', out.length, k * k);
+    const sums = (this.sums ??= new Float64Array(n * n));
+    const made = (this.made ??= new Int32Array(n * n));
+    const generation = this.generation;
+    for (let a = 0; a < k; a++) {
+      for (let b = a; b < k; b++) {
+        const i = Math.min(cols[a], cols[b]);
+        const j = Math.max(cols[a], cols[b]);
+        const at = i * n + j;
+        if (made[at] !== generation) {
+          const bi = i * rowCount;
+          const bj = j * rowCount;
+          let s0 = 0;
+          let s1 = 0;
+          let s2 = 0;
+          let s3 = 0;
+          let t = 0;
+          for (; t + 3 < rowCount; t += 4) {
+            s0 += xc[bi + t] * xc[bj + t];
+            s1 += xc[bi + t + 1] * xc[bj + t + 1];
+            s2 += xc[bi + t + 2] * xc[bj + t + 2];
+            s3 += xc[bi + t + 3] * xc[bj + t + 3];
+          }
+          for (; t < rowCount; t++) s0 += xc[bi + t] * xc[bj + t];
+          sums[at] = s0 + s1 + (s2 + s3);
+          made[at] = generation;
+        }
+        out[a * k + b] = sums[at] / divisor;
+        out[b * k + a] = out[a * k + b];
+      }
+    }
+    return out;
+  }
 }
 
 /** w' S w for an n x n row-major S. */

@@ -5,6 +5,7 @@ import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import * as ss from 'simple-statistics';
 import { afterEach, describe, expect, it } from 'vitest';
 import {
+  CentredCrossProducts,
   covarianceTimesWeights,
   centredTimesWeights,
   centreSeriesInto,
@@ -317,5 +318,52 @@ describe('centreSeriesInto and centredTimesWeights', () => {
     expect(() => centredTimesWeights(new Float64Array(2 * count), 2, Int32Array.from([1]), new Float64Array(2), new Float64Array(1), new Float64Array(2))).toThrow(
       /w has length 2, expected 1/,
     );
+  });
+});
+
+describe('CentredCrossProducts', () => {
+  const random = createRandom(27);
+  const n = 30;
+  const w = 40;
+  const x = randomReturns(random, 90, n, { scale: 0.01 }); // 90 dates x n, row-major
+  const bySecurity = Float64Array.from({ length: n * 90 }, (_, e) => x[(e % 90) * n + Math.floor(e / 90)]);
+  const centredAt = (first: number) => {
+    const xc = new Float64Array(n * w);
+    centreSeriesInto(bySecurity, 90, first, w, new Float64Array(n), xc);
+    return xc;
+  };
+
+  /** simple-statistics' sample covariance (divisor w - 1) of two securities over dates first..first + w - 1. */
+  const reference = (first: number, i: number, j: number) =>
+    ss.sampleCovariance(Array.from(column(x, 90, n, i).slice(first, first + w)), Array.from(column(x, 90, n, j).slice(first, first + w)));
+
+  it('gives S[cols, cols] of the window, matching simple-statistics, for sets in any order', () => {
+    const products = new CentredCrossProducts(n);
+    const xc = centredAt(10);
+    for (const set of [[3, 7, 11], [11, 2, 7, 29], [0, 29, 3]]) {
+      const cols = Int32Array.from(set);
+      const s = products.subMatrix(xc, w, cols, w - 1, new Float64Array(cols.length ** 2));
+      set.forEach((i, a) => set.forEach((j, b) => expect(Math.abs(s[a * set.length + b] - reference(10, i, j))).toBeLessThan(1e-15)));
+    }
+  });
+
+  it('makes each sum once per window: a kept sum gives the same digits as a fresh one, and reset forgets them all', () => {
+    const kept = new CentredCrossProducts(n);
+    const set = Int32Array.from([5, 1, 17, 8]);
+    kept.subMatrix(centredAt(0), w, Int32Array.from([17, 5, 8, 22]), w - 1, new Float64Array(16)); // 5, 8, 17 summed here first
+    const fromKept = kept.subMatrix(centredAt(0), w, set, w - 1, new Float64Array(16));
+    expect(fromKept).toEqual(new CentredCrossProducts(n).subMatrix(centredAt(0), w, set, w - 1, new Float64Array(16)));
+    // a later window: without reset the kept sums of the first window would come back
+    const later = centredAt(50);
+    kept.reset();
+    const s = kept.subMatrix(later, w, set, w, new Float64Array(16));
+    expect(Math.abs(s[2 * 4 + 3] - (reference(50, 17, 8) * (w - 1)) / w)).toBeLessThan(1e-15);
+  });
+
+  it('throws for indices out of range and mismatched sizes', () => {
+    const products = new CentredCrossProducts(n);
+    expect(() => products.subMatrix(centredAt(0), w, Int32Array.from([3, 30]), w - 1, new Float64Array(4))).toThrow(/cols\[1\] = 30 is outside 0..29/);
+    expect(() => products.subMatrix(new Float64Array(n * w - 1), w, Int32Array.from([3]), w - 1, new Float64Array(1))).toThrow(/xc has length/);
+    expect(() => products.subMatrix(centredAt(0), w, Int32Array.from([3]), w - 1, new Float64Array(2))).toThrow(/out has length 2, expected 1/);
   });
 });
