@@ -22,12 +22,12 @@ export type PublishOutcome = { published: true } | { published: false; reason: s
  * one) brought up to date block by block when no process has it open (`heldByAnyProcess`:
  * a reader of an older copy still holds it), else a fresh whole copy: a new day rewrites
  * a few percent of the database's blocks, so writing only those costs a fraction of
- * writing the whole file. The copy it replaces
- * becomes the spare. Needs room for one copy (`bytesToPublish`, less the spare's size when
- * it is updated): when the disk has less, the spare goes first, then the old copy if that
- * makes room (readers find no copy until the rename), else nothing is touched and the
- * outcome says why; the commits are safe either way and the next publish catches up.
- * Call only between transactions (the worker's queue guarantees it).
+ * writing the whole file. The copy it replaces becomes the spare. Needs room for one copy
+ * (`bytesToPublish`, less the spare's size when it is updated): when the disk has less,
+ * the spare goes first, then the old copy if that makes room (readers find no copy until
+ * the rename), else nothing is touched and the outcome says why; the commits are safe
+ * either way and the next publish catches up. Call only between transactions (the
+ * worker's queue guarantees it).
  */
 export async function publishReadCopy(db: Database, config: Config, log: Logger): Promise<PublishOutcome> {
   // force: wait for a short write on another connection (alert delivery) instead of failing
@@ -65,7 +65,9 @@ function planPublish(config: Config, log: Logger): PublishPlan {
   const needed = bytesToPublish(sizeOrZero(config.database));
   let free = freeBytes(dir, config.readCopy);
   const spareBytes = sizeOrZero(spare);
-  if (spareBytes > 0 && heldByAnyProcess(spare) === false && free + spareBytes >= needed) return { inPlace: true, short: null };
+  // never the read copy's own file (a hard link made by hand): its readers would see the writes
+  const usable = spareBytes > 0 && !sameFile(spare, config.readCopy) && heldByAnyProcess(spare) === false;
+  if (usable && free + spareBytes >= needed) return { inPlace: true, short: null };
   if (existsSync(spare)) {
     rmSync(spare, { force: true }); // a reader still holding it keeps its blocks until it closes it
     free = freeBytes(dir, config.readCopy);
@@ -80,6 +82,12 @@ function planPublish(config: Config, log: Logger): PublishPlan {
     if (free >= needed) return { inPlace: false, short: null };
   }
   return { inPlace: false, short: `read copy not published: ${mib(free)} free in ${dir}, a copy of the database needs ${mib(needed)}; ${COMMITTED}` };
+}
+
+function sameFile(a: string, b: string): boolean {
+  if (!existsSync(a) || !existsSync(b)) return false;
+  const [sa, sb] = [statSync(a), statSync(b)];
+  return sa.ino === sb.ino && sa.dev === sb.dev;
 }
 
 /**

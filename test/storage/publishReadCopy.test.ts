@@ -1,5 +1,5 @@
 import { spawn } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, linkSync, mkdtempSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest';
@@ -122,6 +122,20 @@ describe('publishReadCopy with a spare copy', () => {
     await publishReadCopy(ws.db, ws.config, ws.log);
     expect(publishes(ws).at(-1)!.inPlace).toBe(true);
     expect(await securitiesIn(ws.config.readCopy)).toEqual(['EQ-CEDAR', 'EQ-DOGWOOD', 'EQ-ELM']);
+  });
+
+  it('never updates in place a spare that is the read copy itself (a hard link made by hand)', async () => {
+    ws = await tempWorkspace();
+    await publishReadCopy(ws.db, ws.config, ws.log);
+    await addSecurity(ws, 'EQ-HAZEL');
+    await publishReadCopy(ws.db, ws.config, ws.log);
+    const spare = spareOf(ws.config.readCopy);
+    rmSync(spare);
+    linkSync(ws.config.readCopy, spare);
+    await addSecurity(ws, 'EQ-HOLLY');
+    await publishReadCopy(ws.db, ws.config, ws.log);
+    expect(publishes(ws).at(-1)!.inPlace).toBe(false);
+    expect(await securitiesIn(ws.config.readCopy)).toEqual(['EQ-HAZEL', 'EQ-HOLLY']);
   });
 
   it('mends a spare a kill left half-updated, and its stray link is removed at start', async () => {
