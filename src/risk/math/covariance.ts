@@ -147,23 +147,28 @@ export function centredTimesWeights(
     const wa = w[a];
     for (let t = 0; t < rowCount; t++) portfolio[t] += xc[base + t] * wa;
   }
-  for (let a = 0; a < k; a++) {
-    const base = cols[a] * rowCount;
-    let s0 = 0;
-    let s1 = 0;
-    let s2 = 0;
-    let s3 = 0;
-    let t = 0;
-    for (; t + 3 < rowCount; t += 4) {
-      s0 += xc[base + t] * portfolio[t];
-      s1 += xc[base + t + 1] * portfolio[t + 1];
-      s2 += xc[base + t + 2] * portfolio[t + 2];
-      s3 += xc[base + t + 3] * portfolio[t + 3];
-    }
-    for (; t < rowCount; t++) s0 += xc[base + t] * portfolio[t];
-    out[a] = (s0 + s1 + (s2 + s3)) / (rowCount - 1);
-  }
+  for (let a = 0; a < k; a++) out[a] = dot(xc, cols[a] * rowCount, portfolio, 0, rowCount) / (rowCount - 1);
   return out;
+}
+
+/**
+ * sum over t < length of x[xStart + t] * y[yStart + t], in four partial sums (a chain of
+ * dependent additions is what bounds a plain loop), added as (s0 + s1) + (s2 + s3).
+ */
+function dot(x: Float64Array, xStart: number, y: Float64Array, yStart: number, length: number): number {
+  let s0 = 0;
+  let s1 = 0;
+  let s2 = 0;
+  let s3 = 0;
+  let t = 0;
+  for (; t + 3 < length; t += 4) {
+    s0 += x[xStart + t] * y[yStart + t];
+    s1 += x[xStart + t + 1] * y[yStart + t + 1];
+    s2 += x[xStart + t + 2] * y[yStart + t + 2];
+    s3 += x[xStart + t + 3] * y[yStart + t + 3];
+  }
+  for (; t < length; t++) s0 += x[xStart + t] * y[yStart + t];
+  return s0 + s1 + (s2 + s3);
 }
 
 /**
@@ -206,21 +211,7 @@ export class CentredCrossProducts {
         const j = Math.max(cols[a], cols[b]);
         const at = i * n + j;
         if (made[at] !== generation) {
-          const bi = i * rowCount;
-          const bj = j * rowCount;
-          let s0 = 0;
-          let s1 = 0;
-          let s2 = 0;
-          let s3 = 0;
-          let t = 0;
-          for (; t + 3 < rowCount; t += 4) {
-            s0 += xc[bi + t] * xc[bj + t];
-            s1 += xc[bi + t + 1] * xc[bj + t + 1];
-            s2 += xc[bi + t + 2] * xc[bj + t + 2];
-            s3 += xc[bi + t + 3] * xc[bj + t + 3];
-          }
-          for (; t < rowCount; t++) s0 += xc[bi + t] * xc[bj + t];
-          sums[at] = s0 + s1 + (s2 + s3);
+          sums[at] = dot(xc, i * rowCount, xc, j * rowCount, rowCount);
           made[at] = generation;
         }
         out[a * k + b] = sums[at] / divisor;
