@@ -1,7 +1,6 @@
 import type { RunWriter } from '../batch/runWriters.ts';
 import { faultPoint } from '../faults.ts';
 import type { Database } from '../storage/database.ts';
-import { tableColumns } from './historyTables.ts';
 import { KEPT_TABLES, type KeptTable } from './keptTables.ts';
 
 /**
@@ -15,22 +14,26 @@ import { KEPT_TABLES, type KeptTable } from './keptTables.ts';
 
 const held = (table: string) => `history_held_${table}`;
 
-/** The kept tables present in this database (var_daily only once its migration ran). */
-async function presentTables(tx: Database): Promise<KeptTable[]> {
-  const names = new Set(
-    (
-      await tx.all<{ name: string }>(
-        `select table_name as name from duckdb_tables() where database_name = current_database() and schema_name = 'main'`,
-      )
-    ).map((r) => r.name),
+/**
+ * The kept tables present in this database with their history (var_daily only once its
+ * migration ran), each with its columns in order: one catalog query, as duckdb_columns()
+ * lists every column of every table and view, which costs about as much each time.
+ */
+async function presentTables(tx: Database): Promise<{ kept: KeptTable; columns: string[] }[]> {
+  const rows = await tx.all<{ name: string; columns: string[] }>(
+    `select table_name as name, list(column_name order by column_index) as columns from duckdb_columns()
+     where database_name = current_database() and schema_name = 'main' and list_contains(from_json($1, '["VARCHAR"]'), table_name)
+     group by table_name`,
+    [JSON.stringify(KEPT_TABLES.flatMap((k) => [k.table, `${k.table}_history`]))],
   );
-  return KEPT_TABLES.filter((k) => names.has(k.table) && names.has(`${k.table}_history`));
+  const columns = new Map(rows.map((r) => [r.name, r.columns]));
+  return KEPT_TABLES.filter((k) => columns.has(k.table) && columns.has(`${k.table}_history`)).map((kept) => ({ kept, columns: columns.get(kept.table)! }));
 }
 
 export const HOLD_BEFORE: RunWriter = {
   name: 'history_hold',
   async write(tx, run) {
-    for (const kept of await presentTables(tx)) {
+    for (const { kept } of await presentTables(tx)) {
       await tx.run(`create or replace temp table ${held(kept.table)} as select * from ${kept.table} where ${kept.reach(run)}`);
     }
   },
@@ -39,8 +42,7 @@ export const HOLD_BEFORE: RunWriter = {
 export const KEEP_REPLACED: RunWriter = {
   name: 'history_keep',
   async write(tx, run) {
-    for (const kept of await presentTables(tx)) {
-      const columns = (await tableColumns(tx, kept.table)).map((c) => c.name);
+    for (const { kept, columns } of await presentTables(tx)) {
       // a held row still in its table is still within reach, so the reach bounds the scan;
       // now() is the transaction's start: the same instant markRunDone gives finished_at;
       // a row whose run is not recorded (loaded by hand) counts as current since always
@@ -67,7 +69,7 @@ export const PRUNE_HISTORY: RunWriter = {
   async write(tx, run) {
     const keepDays = run.config.history.keepDays;
     if (keepDays === null) return;
-    for (const { table } of await presentTables(tx)) {
+    for (const { kept: { table } } of await presentTables(tx)) {
       const [{ n }] = await tx.all<{ n: number }>(
         `select count(*)::integer as n from ${table}_history where valid_to < now() - to_days($1::integer)`,
         [keepDays],

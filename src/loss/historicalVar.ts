@@ -24,7 +24,7 @@ export interface HistoricalInputs {
   fromRow: number;
   /** One past the last date row to walk; absent: to the last date. */
   toRow?: number;
-  /** securitySigmas(): EWMA sigma after each row, T x N. */
+  /** Each security's EWMA sigma after each row, T x N (the square root of continueSecurityVariances). */
   sigmaAfter: Float64Array;
 }
 

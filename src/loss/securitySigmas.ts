@@ -2,22 +2,14 @@ import { ewmaVarianceUpdate } from '../risk/math/ewma.ts';
 import type { ReturnPanel } from '../risk/inputs/panels.ts';
 
 /**
- * Each security's EWMA daily sigma after each date, for the filtered historical
- * simulation: sigmaAfter[d * n + j] is the forecast for the date after row d, from the
- * returns up to and including d. It is the diagonal of the risk stage's EWMA matrix
- * (src/risk/estimators/ewma.ts), with the same lambda and the same entry rule: a security
- * enters once it has seedDays consecutive returns, its variance the EWMA-weighted mean of
- * their squares, sum_u (1 - lambda) lambda^k r_u^2 / (1 - lambda^seedDays); a missing
- * return takes it out until it has seedDays consecutive returns again. NaN while out.
- */
-export function securitySigmas(panel: ReturnPanel, lambda: number, seedDays: number): Float64Array {
-  const variance = new Float64Array(panel.dates.length * panel.securityIds.length).fill(Number.NaN);
-  continueSecurityVariances(panel, lambda, seedDays, variance, 0);
-  return variance.map(Math.sqrt);
-}
-
-/**
- * The variances behind securitySigmas (T x N, NaN while out), in place from row
+ * Each security's EWMA daily variance after each date (T x N, NaN while out), for the
+ * filtered historical simulation, whose sigmaAfter[d * n + j] is its square root: the
+ * forecast for the date after row d, from the returns up to and including d. It is the
+ * diagonal of the risk stage's EWMA matrix (src/risk/estimators/ewma.ts), with the same
+ * lambda and the same entry rule: a security enters once it has seedDays consecutive
+ * returns, its variance the EWMA-weighted mean of their squares,
+ * sum_u (1 - lambda) lambda^k r_u^2 / (1 - lambda^seedDays); a missing return takes it out
+ * until it has seedDays consecutive returns again. Computed in place from row
  * `fromRow` on, continuing each security's recursion from its variance at fromRow - 1
  * (a replay when fromRow is 0). A row depends on the rows before it only through that
  * variance and, for an entry, the panel's run lengths and the last seedDays returns, so

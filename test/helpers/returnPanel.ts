@@ -1,5 +1,6 @@
 import type { Random } from '../../src/demo/random.ts';
 import { seriesLayouts, type ReturnPanel } from '../../src/risk/inputs/panels.ts';
+import { continueSecurityVariances } from '../../src/loss/securitySigmas.ts';
 
 export interface PanelShape {
   /** Daily drift added to every return. */
@@ -57,4 +58,11 @@ export function randomHoldings(random: Random, portfolios: number, t: number, n:
     }
   }
   return { offsets, security: Int32Array.from(security), weight: Float64Array.from(weight) };
+}
+
+/** Each security's EWMA sigma after each row (T x N, NaN while out), replayed from row 0, as the loss stage computes it for a full run. */
+export function securitySigmas(panel: ReturnPanel, lambda: number, seedDays: number): Float64Array {
+  const variance = new Float64Array(panel.dates.length * panel.securityIds.length).fill(Number.NaN);
+  continueSecurityVariances(panel, lambda, seedDays, variance, 0);
+  return variance.map(Math.sqrt);
 }

@@ -3,8 +3,7 @@ import { createRandom } from '../../src/demo/random.ts';
 import { historicalVarRows, type HistoricalInputs, type LossFailure } from '../../src/loss/historicalVar.ts';
 import type { VarRow } from '../../src/loss/lossStage.ts';
 import { walkHistorical } from '../../src/loss/parallelHistorical.ts';
-import { securitySigmas } from '../../src/loss/securitySigmas.ts';
-import { randomHoldings, randomReturnPanel } from '../helpers/returnPanel.ts';
+import { randomHoldings, randomReturnPanel, securitySigmas } from '../helpers/returnPanel.ts';
 
 /**
  * Invented returns and holdings (test data, not a reference): 12 securities (one of them

@@ -1,10 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { createRandom } from '../../src/demo/random.ts';
-import { securitySigmas } from '../../src/loss/securitySigmas.ts';
+import { randomReturnPanel, securitySigmas } from '../helpers/returnPanel.ts';
 import { EwmaEstimate } from '../../src/risk/estimators/ewma.ts';
-import { randomReturnPanel } from '../helpers/returnPanel.ts';
 
-describe('securitySigmas', () => {
+describe('continueSecurityVariances (its square roots, replayed from row 0)', () => {
   // invented returns (test data, not a reference): a late listing, a one-day hole, row 0 empty
   const t = 160;
   const n = 4;
