@@ -4,8 +4,9 @@ import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import { phaseClock } from '../log/phaseClock.ts';
 import { computeLosses } from '../loss/computeLosses.ts';
-import { dropLossStage } from '../loss/lossStage.ts';
 import type { LossFailure } from '../loss/historicalVar.ts';
+import { dropLossStage } from '../loss/lossStage.ts';
+import { startStoredReads, type StoredLossInputs } from '../loss/storedReads.ts';
 import { computeRun, type ComputedRisk, type PortfolioRiskFailure } from '../risk/computeRun.ts';
 import { dropStagedPortfolios, dropStaging } from '../risk/store/staging.ts';
 import type { Database } from '../storage/database.ts';
@@ -61,14 +62,18 @@ export async function runRecompute(
   const rlog = log.child({ stage: 'batch', runId });
   rlog.info({ trigger: request.trigger, from, portfolios }, 'recompute started');
   const phases = phaseClock();
+  const lossReads: { started?: Promise<StoredLossInputs> } = {};
   try {
     // before the prices are read: a suspect one is flagged (or held out) in this very run
     await phases.time('check_prices', () => checkPrices(db, config, log, { from }));
     // an explicit step: the readers of the views never rebuild what they read
     await phases.time('refresh_derived', () => refreshDerived(db, log));
-    // the panels are let go once the loss stage has staged its rows: the write step does not need them
-    const { inputs, ...computed } = await computeRun(db, config, log, { runId, from, portfolios, settings }, phases);
-    const losses = await phases.time('losses', () => computeLosses(db, config, log, { ...inputs, settings }));
+    // the panels are let go once the loss stage has staged its rows: the write step does not need them;
+    // the loss stage's reads of stored tables run beside the estimates, on a connection of their own
+    const { inputs, ...computed } = await computeRun(db, config, log, { runId, from, portfolios, settings }, phases, (read) => {
+      lossReads.started = startStoredReads(db, config, { ...read, settings });
+    });
+    const losses = await phases.time('losses', () => computeLosses(db, config, log, { ...inputs, settings }, lossReads.started!));
     const risk = await withLossFailures(db, rlog, computed, losses.failures, inputs);
     const run: RunContext = { runId, from, portfolios, settings, trigger: request.trigger, config, log, risk, lossState: losses.state, alertsRaised: 0 };
     await db.transaction(async () => {
@@ -95,6 +100,8 @@ export async function runRecompute(
     );
     throw err;
   } finally {
+    // its session closes when its reads are done, before the database may be closed
+    await lossReads.started?.catch(() => undefined);
     await dropStaging(db).catch(() => undefined);
     await dropLossStage(db).catch(() => undefined);
   }

@@ -51,9 +51,17 @@ export interface PortfolioRiskFailure {
  * estimate from `from` on and stages the rows. Writing them is the batch's write step
  * (store/staging.ts `replaceResults`, `saveEstimatorStates`); `dropStaging` cleans up.
  * A portfolio whose compute fails is returned in `failures` with none of its rows
- * staged; the others are unaffected.
+ * staged; the others are unaffected. `beside` is handed the inputs once they are read,
+ * before the estimates (the loss stage starts its own reads there).
  */
-export async function computeRun(db: Database, config: Config, log: Logger, scope: RiskScope, phases: PhaseClock): Promise<ComputedRisk> {
+export async function computeRun(
+  db: Database,
+  config: Config,
+  log: Logger,
+  scope: RiskScope,
+  phases: PhaseClock,
+  beside: (inputs: ComputedRisk['inputs']) => void = () => undefined,
+): Promise<ComputedRisk> {
   const rlog = log.child({ stage: 'risk', runId: scope.runId });
   const dates = await phases.time('read_dates', () => readValuationDates(db));
   const fromRow = scope.from === null ? 0 : firstRowOnOrAfter(dates, scope.from);
@@ -73,6 +81,8 @@ export async function computeRun(db: Database, config: Config, log: Logger, scop
   }
   rlog.debug({ fromRow, returnsFrom: returns.returnsFrom, dates: dates.length, securities: returns.securityIds.length, ...fromStateFlags(config, states) }, 'inputs read');
 
+  // work that needs the inputs and not the estimates starts now and runs beside them
+  beside({ returns, portfolios, fromRow });
   const stage = await ResultStage.open(db);
   const progress = startProgress(rlog, progressUnits(config, dates.length, fromRow), 'recompute');
   let kept: EstimatorStates = {};

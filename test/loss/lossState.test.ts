@@ -113,6 +113,22 @@ describe('the loss stage state', () => {
     await expectFullAgrees(ws, s);
   }, 120_000);
 
+  it('a read of its stored tables that fails (it runs beside the estimates) fails the run with its error and writes nothing; the next run goes on', async () => {
+    const s = buildScenario();
+    const last = s.dates.length - 1;
+    const ws = await workspace(s, last - 1);
+    const before = await readLosses(ws.db, s.dates[last - 1]);
+    await loadDays(ws.db, s, last, last);
+    await ws.db.run('alter table loss_worst_state rename to loss_worst_state_away');
+    await expect(runRecompute(ws.db, ws.config, ws.log, { trigger: 'new day', from: s.dates[last] })).rejects.toThrow(/loss_worst_state/);
+    const [run] = await ws.db.all<{ status: string }>('select status from risk_runs order by run_id desc limit 1');
+    expect(run.status).toBe('failed');
+    expect(await readLosses(ws.db, s.dates[last - 1])).toEqual(before);
+    await ws.db.run('alter table loss_worst_state_away rename to loss_worst_state');
+    await runRecompute(ws.db, ws.config, ws.log, { trigger: 'new day again', from: s.dates[last] });
+    await expectFullAgrees(ws, s);
+  }, 120_000);
+
   it('a price correction and an fx correction in the middle of history replay it, with the figures of a full recompute', async () => {
     const s = buildScenario();
     const ws = await workspace(s, s.dates.length - 1);
