@@ -57,18 +57,20 @@ export function historicalVarRows(
   const endRow = inputs.toRow ?? t;
   const days = [...settings.days].sort((a, b) => b - a);
   const longest = days[0];
-  // each return the run's scenarios use converted once, by security: every portfolio and date revalues under them
+  // each return the run's scenarios use converted once, by security: every portfolio and
+  // date revalues under them; only the rows from the first scenario on are kept (a new
+  // day's buffers do not grow with the history): security j's row r at j * rows + r - firstScenario
   const firstDate = Math.max(fromRow, portfolios.firstRow);
-  const simple = new Float64Array(t * returns.securityIds.length);
-  // gaps[j (t + 1) + row]: the rows from the first scenario row before `row` without a
-  // return, so a lookback's gaps are one difference (counted from there, not from row 0:
-  // a new day's cost does not grow with the history)
-  const gaps = new Int32Array((t + 1) * returns.securityIds.length);
   const firstScenario = Math.max(0, firstDate - longest + 1);
+  const rows = Math.max(0, t - firstScenario);
+  const simple = new Float64Array(rows * returns.securityIds.length);
+  // gaps[j (rows + 1) + r - firstScenario]: the rows from the first scenario row before r
+  // without a return, so a lookback's gaps are one difference
+  const gaps = new Int32Array((rows + 1) * returns.securityIds.length);
   for (let j = 0; j < returns.securityIds.length; j++) {
-    for (let row = firstScenario; row < t; row++) {
-      simple[j * t + row] = Math.expm1(returns.returnsBySecurity[j * t + row]);
-      gaps[j * (t + 1) + row + 1] = gaps[j * (t + 1) + row] + (isScenarioReturn(simple[j * t + row]) ? 0 : 1);
+    for (let r = 0; r < rows; r++) {
+      simple[j * rows + r] = Math.expm1(returns.returnsBySecurity[j * t + firstScenario + r]);
+      gaps[j * (rows + 1) + r + 1] = gaps[j * (rows + 1) + r] + (isScenarioReturn(simple[j * rows + r]) ? 0 : 1);
     }
   }
   const filtered = new FilteredScenarios(inputs, longest, firstScenario);
@@ -77,7 +79,7 @@ export function historicalVarRows(
   let values = new Float64Array(0);
   /** Whether holding a (security j) has a return in each of the n scenarios ending at d. */
   const complete = (method: Method, j: number, d: number, n: number) =>
-    method === 'historical' ? gaps[j * (t + 1) + d + 1] === gaps[j * (t + 1) + d + 1 - n] : filtered.lastGap(j) < longest - n;
+    method === 'historical' ? gaps[j * (rows + 1) + d + 1 - firstScenario] === gaps[j * (rows + 1) + d + 1 - n - firstScenario] : filtered.lastGap(j) < longest - n;
   const rowsAt = (p: number, d: number) => {
     const slot = p * t + d;
     const value = portfolios.value[slot];
@@ -98,7 +100,7 @@ export function historicalVarRows(
         const n = usable[0];
         for (let a = 0; a < h; a++) {
           const j = held[a];
-          at[a] = returns.isCash[j] === 1 ? -1 : method === 'historical' ? j * t + d - n + 1 : filtered.columnStart(j) + longest - n;
+          at[a] = returns.isCash[j] === 1 ? -1 : method === 'historical' ? j * rows + d - n + 1 - firstScenario : filtered.columnStart(j) + longest - n;
         }
       }
       let widest: ScenarioPnl | null = null;
@@ -175,9 +177,13 @@ class FilteredScenarios {
   private readonly r: Float64Array;
   private readonly past: Float64Array;
   private readonly today = new Float64Array(1);
-  /** sigmaAfter by security (N x T), from the first row a scenario reads on: a column's sigmas are then one contiguous read. */
+  /**
+   * sigmaAfter by security, from the first row a scenario reads on (N x sigmaRows): a
+   * column's sigmas are then one contiguous read. Row r of security j at j * sigmaRows + r - firstSigmaRow.
+   */
   private readonly sigmaBySecurity: Float64Array;
   private readonly firstSigmaRow: number;
+  private readonly sigmaRows: number;
 
   constructor(
     private readonly inputs: HistoricalInputs,
@@ -187,9 +193,10 @@ class FilteredScenarios {
     const n = inputs.returns.securityIds.length;
     const t = inputs.returns.dates.length;
     this.firstSigmaRow = Math.max(0, firstScenarioRow - 1);
-    this.sigmaBySecurity = new Float64Array(n * t);
+    this.sigmaRows = Math.max(0, t - this.firstSigmaRow);
+    this.sigmaBySecurity = new Float64Array(n * this.sigmaRows);
     for (let row = this.firstSigmaRow; row < t; row++) {
-      for (let j = 0; j < n; j++) this.sigmaBySecurity[j * t + row] = inputs.sigmaAfter[row * n + j];
+      for (let j = 0; j < n; j++) this.sigmaBySecurity[j * this.sigmaRows + row - this.firstSigmaRow] = inputs.sigmaAfter[row * n + j];
     }
     this.done = new Int32Array(n).fill(-1);
     this.gapAt = new Int32Array(n);
@@ -220,10 +227,11 @@ class FilteredScenarios {
       const { returns } = this.inputs;
       const t = returns.dates.length;
       const sigmas = this.sigmaBySecurity;
-      const today = sigmas[j * t + d];
+      const sigmaAt = j * this.sigmaRows - this.firstSigmaRow;
+      const today = sigmas[sigmaAt + d];
       for (let s = 0; s < longest; s++) {
         const row = d - longest + 1 + s;
-        const sigma = row >= 1 && row - 1 >= this.firstSigmaRow ? sigmas[j * t + row - 1] : Number.NaN;
+        const sigma = row >= 1 && row - 1 >= this.firstSigmaRow ? sigmas[sigmaAt + row - 1] : Number.NaN;
         const known = Number.isFinite(sigma) && Number.isFinite(today);
         // an unknown sigma is a gap: a NaN return over a unit sigma stays NaN
         this.past[s] = known ? sigma : 1;
