@@ -1,5 +1,5 @@
 import { spawn, type ChildProcess } from 'node:child_process';
-import { createWriteStream, existsSync, readFileSync } from 'node:fs';
+import { createWriteStream, existsSync, readFileSync, statSync } from 'node:fs';
 import { once } from 'node:events';
 import path from 'node:path';
 import type { Config } from '../../src/config/load.ts';
@@ -165,9 +165,15 @@ async function settle(
   exit: { done: boolean; tail: string[] },
   timeoutMs: number,
 ): Promise<Progress> {
+  // the read copy changes only when the worker publishes it: opening it on every poll
+  // would take a share of the 2 cores from the worker being timed, for nothing new
+  let lastRead: string | null = null;
   const result = await waitFor(
     async () => {
       if (exit.done) return { failed: `the worker exited: ${exit.tail.join(' | ') || 'no output'}` };
+      const published = publishedVersion(config.readCopy);
+      if (published === null || published === lastRead) return null;
+      lastRead = published;
       const p = await progress(config, names, date);
       if (p === null) return null;
       if (p.seen === names.length && p.ingested < names.length) return { failed: `not ingested: ${p.problems}` };
@@ -180,6 +186,16 @@ async function settle(
   );
   if ('failed' in result) throw new Error(result.failed);
   return result.progress;
+}
+
+/** The read copy's file identity: each publish renames a new or updated file into place. Null: none yet. */
+function publishedVersion(readCopy: string): string | null {
+  try {
+    const s = statSync(readCopy);
+    return `${s.ino}:${s.size}:${s.mtimeMs}`;
+  } catch {
+    return null;
+  }
 }
 
 async function progress(config: Config, names: string[], date: string): Promise<Progress | null> {
