@@ -32,3 +32,8 @@ export function seriesLabel(s: Series): string {
   if (s.metric === 'tracking_error_ex_ante') return `${span} tracking error`;
   return `${span} volatility`;
 }
+
+/** A backtest's count: "1 exception", "5 exceptions". */
+export function exceptionsLabel(count: number): string {
+  return `${count} ${count === 1 ? 'exception' : 'exceptions'}`;
+}

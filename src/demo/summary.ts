@@ -2,7 +2,7 @@ import { existsSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import type { Config } from '../config/load.ts';
 import type { Estimator, VarMethod } from '../config/schema.ts';
-import { seriesLabel } from '../labels.ts';
+import { exceptionsLabel, seriesLabel } from '../labels.ts';
 import { CAUTIONS } from '../report/cautions.ts';
 import { formatMoney, formatPercent } from '../report/format.ts';
 import type { Breach } from '../report/reportData.ts';
@@ -126,7 +126,7 @@ function episodeText(e: EpisodeSummary): string {
 function backtestText(b: BacktestSummary): string {
   const zone = b.zone ? `${b.zone} zone` : `no zone before 250 tested days (${b.tested_days} so far)`;
   const series = { metric: 'backtest_zone' as const, method: b.method, window: b.window_days, estimator: b.estimator };
-  return `${seriesLabel(series)}: ${b.exceptions_250} exceptions in the last 250 tested days, ${zone}`;
+  return `${seriesLabel(series)}: ${exceptionsLabel(b.exceptions_250)} in the last 250 tested days, ${zone}`;
 }
 
 const pad = (text: string, width: number) => text.padEnd(width);

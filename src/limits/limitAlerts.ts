@@ -3,7 +3,7 @@ import type { NewAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
 import type { Episode, Transition } from './episodes.ts';
 import { isCountMetric } from './applicableLimits.ts';
-import { seriesLabel } from '../labels.ts';
+import { exceptionsLabel, seriesLabel } from '../labels.ts';
 import { stateAfter, type EpisodeState } from './toldState.ts';
 import { volChangeSentence, type VolChangeFacts } from './volChangeText.ts';
 
@@ -167,14 +167,14 @@ function buildAlert(
 
 /** A limit's figure as text: a fraction as a percentage, a backtest's exceptions as a count. */
 function fmt(limit: Pick<ResolvedLimit, 'metric'>, value: number): string {
-  return isCountMetric(limit.metric) ? `${value} exceptions in 250 days` : pct(value);
+  return isCountMetric(limit.metric) ? `${exceptionsLabel(value)} in 250 days` : pct(value);
 }
 
 /** "acct: the 99% VaR backtest (historical, 250 scenarios) had 5 exceptions in its last 250 tested days on <date>: yellow zone (red from 10)". */
 function zoneText(portfolioId: string, limit: ResolvedLimit, t: Transition): string {
   const zone = t.kind === 'limit_closed' ? 'green' : t.value >= limit.limit ? 'red' : 'yellow';
   const bounds = zone === 'red' ? `red from ${limit.limit}` : zone === 'yellow' ? `yellow from ${limit.warning}, red from ${limit.limit}` : `green below ${limit.warning}`;
-  return `${portfolioId}: the ${seriesLabel(limit)} had ${t.value} exceptions in its last 250 tested days on ${t.date}: ${zone} zone (${bounds})`;
+  return `${portfolioId}: the ${seriesLabel(limit)} had ${exceptionsLabel(t.value)} in its last 250 tested days on ${t.date}: ${zone} zone (${bounds})`;
 }
 
 /** The Basel zone a backtest_zone episode's state stands for: open at warning = yellow, at breach = red, else green. */
