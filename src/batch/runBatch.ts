@@ -19,6 +19,12 @@ export interface BatchOptions {
    * delivers from its own loop, so a slow webhook never holds up the next file.
    */
   deliver?: boolean;
+  /**
+   * Called once the batch's run is committed (or has failed, or there was none), before
+   * the read copy is published: the worker kicks its alert delivery there, so an alert
+   * does not wait for the copy of the database.
+   */
+  onCommitted?: () => void;
   /** Checked before each file: once true, the remaining files stay in the inbox for the next start. */
   shouldStop?: () => boolean;
   /** Called after each file's transaction, for progress output. */
@@ -123,6 +129,7 @@ export async function runBatch(
   }
 
   endStep('run');
+  options.onCommitted?.();
   if (options.deliver ?? true) summary.delivery = await deliverAlerts(db, config, log);
   endStep('deliver');
   const published = await publishReadCopy(db, config, log);

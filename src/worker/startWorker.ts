@@ -71,11 +71,14 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
 
   const handleBatch = async (files: string[]) => {
     try {
-      const summary = await runBatch(db, config, log, files, { deliver: false, shouldStop: () => stopping });
-      // a copy the disk had no room for is tried again by the next batch or publish
-      publishWanted = summary.readCopyBehind !== null;
-      if (publishWanted) retryPublishLater();
-      delivery.kick();
+      // the alerts go out as soon as the run is committed, while the read copy is published
+      const summary = await runBatch(db, config, log, files, { deliver: false, onCommitted: () => delivery.kick(), shouldStop: () => stopping });
+      // a copy the disk had no room for is tried again by the next batch or publish; a
+      // want raised meanwhile (the delivery's, which may have missed this batch's copy) stands
+      if (summary.readCopyBehind !== null) {
+        publishWanted = true;
+        retryPublishLater();
+      }
     } catch (err) {
       // a fault of the machine (disk, database): stop cleanly, the supervisor restarts us
       // and the catch-up takes the files still in the inbox

@@ -1,4 +1,4 @@
-import { utimesSync, writeFileSync } from 'node:fs';
+import { existsSync, utimesSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { runBatch } from '../../src/batch/runBatch.ts';
@@ -54,6 +54,28 @@ describe('runBatch', () => {
     ]);
     const [{ n }] = await ws.db.all<{ n: number }>("select count(*)::integer as n from risk_daily where portfolio_id = 'acct-growth'");
     expect(n).toBeGreaterThan(0);
+  });
+
+  it('tells the caller the run is committed before it publishes the read copy (the worker delivers its alerts from there)', async () => {
+    ws = await tempWorkspace();
+    const session = await ws.db.openSession();
+    try {
+      let seen: { readCopy: boolean; runs: Promise<{ status: string }[]> } | null = null;
+      const file = inbox('prices_first.csv', pricesCsv(80, 2, '2020-01-01'));
+      await runBatch(ws.db, ws.config, ws.log, [arrived(positions('positions_first.csv', '2020-01-01', 'acct-growth'), 1), file], {
+        deliver: false,
+        onCommitted: () => {
+          // another connection sees only committed rows
+          seen = { readCopy: existsSync(ws!.config.readCopy), runs: session.all('select status from risk_runs') };
+        },
+      });
+      expect(seen).not.toBeNull();
+      expect(seen!.readCopy).toBe(false);
+      expect(await seen!.runs).toEqual([{ status: 'done' }]);
+      expect(existsSync(ws.config.readCopy)).toBe(true);
+    } finally {
+      session.close();
+    }
   });
 
   it('limits a positions-only batch to its portfolios, and runs nothing for a duplicate', async () => {
