@@ -1,6 +1,6 @@
 import type { Logger } from 'pino';
 import type { Database } from '../storage/database.ts';
-import { statOrNull } from './finishMove.ts';
+import { statOrNull } from '../storage/fileIdentity.ts';
 import { sha256OfFile } from './fingerprint.ts';
 
 export interface ArchiveFinding {

@@ -1,6 +1,7 @@
 import { statSync, unlinkSync } from 'node:fs';
 import path from 'node:path';
 import type { Database } from '../storage/database.ts';
+import { sameInode, statOrNull } from '../storage/fileIdentity.ts';
 import { moveWithoutOverwrite } from './moves.ts';
 
 /**
@@ -35,16 +36,4 @@ export function finishMove(filePath: string, target: string): string {
     return target;
   }
   return moveWithoutOverwrite(filePath, path.dirname(target), path.basename(target));
-}
-
-export function statOrNull(p: string) {
-  try {
-    return statSync(p);
-  } catch {
-    return null;
-  }
-}
-
-export function sameInode(a: { dev: number; ino: number }, b: { dev: number; ino: number }): boolean {
-  return a.dev === b.dev && a.ino === b.ino;
 }

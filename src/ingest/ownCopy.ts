@@ -1,7 +1,7 @@
 import { lstatSync } from 'node:fs';
 import type { Database } from '../storage/database.ts';
+import { sameInode, statOrNull } from '../storage/fileIdentity.ts';
 import type { HoldReason } from './completeness.ts';
-import { sameInode, statOrNull } from './finishMove.ts';
 
 /**
  * Why a delivery must not be read at all, or null. A hard link shares its bytes with a

@@ -1,4 +1,5 @@
-import { readFileSync, statfsSync, statSync } from 'node:fs';
+import { readFileSync, statfsSync } from 'node:fs';
+import { statOrNull } from './fileIdentity.ts';
 
 /**
  * Room left for the commits that follow a publish: a twentieth of the database, at least
@@ -28,9 +29,5 @@ export function freeBytes(dir: string, readCopy: string): number {
 export const spareOf = (readCopy: string) => `${readCopy}.spare`;
 
 export function sizeOrZero(file: string): number {
-  try {
-    return statSync(file).size;
-  } catch {
-    return 0;
-  }
+  return statOrNull(file)?.size ?? 0;
 }

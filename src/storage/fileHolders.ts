@@ -1,4 +1,5 @@
-import { readdirSync, readFileSync, statSync } from 'node:fs';
+import { readdirSync, readFileSync, statSync, type Stats } from 'node:fs';
+import { sameInode, statOrNull } from './fileIdentity.ts';
 
 /**
  * Whether any process has `file` open or locked: true, false, or null when this system
@@ -10,13 +11,8 @@ import { readdirSync, readFileSync, statSync } from 'node:fs';
  * a wrong yes only costs a full copy.
  */
 export function heldByAnyProcess(file: string): boolean | null {
-  let ino: number;
-  let dev: number;
-  try {
-    ({ ino, dev } = statSync(file));
-  } catch {
-    return false; // no file, no holder
-  }
+  const target = statOrNull(file);
+  if (target === null) return false; // no file, no holder
   let locks: string;
   try {
     locks = readFileSync('/proc/locks', 'utf8');
@@ -24,11 +20,11 @@ export function heldByAnyProcess(file: string): boolean | null {
     return null;
   }
   // "1: POSIX  ADVISORY  READ 26153 fe:00:2156174 0 EOF" (a waiter's line has "->" after the number)
-  for (const [, inode] of locks.matchAll(/ [0-9a-f]+:[0-9a-f]+:(\d+) /g)) if (Number(inode) === ino) return true;
-  return openInAnyProcess(ino, dev);
+  for (const [, inode] of locks.matchAll(/ [0-9a-f]+:[0-9a-f]+:(\d+) /g)) if (Number(inode) === target.ino) return true;
+  return openInAnyProcess(target);
 }
 
-function openInAnyProcess(ino: number, dev: number): boolean {
+function openInAnyProcess(target: Stats): boolean {
   for (const pid of readdirSync('/proc')) {
     if (!/^\d+$/.test(pid)) continue;
     let fds: string[];
@@ -39,8 +35,7 @@ function openInAnyProcess(ino: number, dev: number): boolean {
     }
     for (const fd of fds) {
       try {
-        const s = statSync(`/proc/${pid}/fd/${fd}`);
-        if (s.ino === ino && s.dev === dev) return true;
+        if (sameInode(statSync(`/proc/${pid}/fd/${fd}`), target)) return true;
       } catch {
         // closed meanwhile
       }

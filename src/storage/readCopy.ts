@@ -9,6 +9,7 @@ import { faultPoint } from '../faults.ts';
 import type { Database } from './database.ts';
 import { bytesToPublish, freeBytes, sizeOrZero, spareOf } from './diskRoom.ts';
 import { heldByAnyProcess } from './fileHolders.ts';
+import { sameInode, statOrNull } from './fileIdentity.ts';
 
 const execFileAsync = promisify(execFile);
 
@@ -64,9 +65,12 @@ function planPublish(config: Config, log: Logger): PublishPlan {
   const spare = spareOf(config.readCopy);
   const needed = bytesToPublish(sizeOrZero(config.database));
   let free = freeBytes(dir, config.readCopy);
-  const spareBytes = sizeOrZero(spare);
+  const spareStat = statOrNull(spare);
+  const spareBytes = spareStat?.size ?? 0;
   // never the read copy's own file (a hard link made by hand): its readers would see the writes
-  const usable = spareBytes > 0 && !sameFile(spare, config.readCopy) && heldByAnyProcess(spare) === false;
+  const copyStat = statOrNull(config.readCopy);
+  const ownFile = spareStat !== null && copyStat !== null && sameInode(spareStat, copyStat);
+  const usable = spareBytes > 0 && !ownFile && heldByAnyProcess(spare) === false;
   if (usable && free + spareBytes >= needed) return { inPlace: true, short: null };
   if (existsSync(spare)) {
     rmSync(spare, { force: true }); // a reader still holding it keeps its blocks until it closes it
@@ -82,12 +86,6 @@ function planPublish(config: Config, log: Logger): PublishPlan {
     if (free >= needed) return { inPlace: false, short: null };
   }
   return { inPlace: false, short: `read copy not published: ${mib(free)} free in ${dir}, a copy of the database needs ${mib(needed)}; ${COMMITTED}` };
-}
-
-function sameFile(a: string, b: string): boolean {
-  if (!existsSync(a) || !existsSync(b)) return false;
-  const [sa, sb] = [statSync(a), statSync(b)];
-  return sa.ino === sb.ino && sa.dev === sb.dev;
 }
 
 /**
