@@ -80,11 +80,17 @@ describe('publishReadCopy with a spare copy', () => {
   let ws: TempWorkspace | undefined;
   afterEach(() => ws?.cleanup());
 
-  it('brings the spare up to date in place, writing only the blocks that changed, and the copy it replaces becomes the spare', async () => {
+  /** A workspace published twice, `first` added in between: the first copy (without it) is now the spare. */
+  const withSpare = async (first: string) => {
     ws = await tempWorkspace();
     await publishReadCopy(ws.db, ws.config, ws.log); // no copy yet: a whole copy, no spare
-    await addSecurity(ws, 'EQ-ALDER');
+    await addSecurity(ws, first);
     await publishReadCopy(ws.db, ws.config, ws.log); // the first copy becomes the spare
+    return ws;
+  };
+
+  it('brings the spare up to date in place, writing only the blocks that changed, and the copy it replaces becomes the spare', async () => {
+    ws = await withSpare('EQ-ALDER');
     expect(existsSync(spareOf(ws.config.readCopy))).toBe(true);
     await addSecurity(ws, 'EQ-BIRCH');
     await publishReadCopy(ws.db, ws.config, ws.log);
@@ -125,10 +131,7 @@ describe('publishReadCopy with a spare copy', () => {
   });
 
   it('never updates in place a spare that is the read copy itself (a hard link made by hand)', async () => {
-    ws = await tempWorkspace();
-    await publishReadCopy(ws.db, ws.config, ws.log);
-    await addSecurity(ws, 'EQ-HAZEL');
-    await publishReadCopy(ws.db, ws.config, ws.log);
+    ws = await withSpare('EQ-HAZEL');
     const spare = spareOf(ws.config.readCopy);
     rmSync(spare);
     linkSync(ws.config.readCopy, spare);
@@ -139,10 +142,7 @@ describe('publishReadCopy with a spare copy', () => {
   });
 
   it('mends a spare a kill left half-updated, and its stray link is removed at start', async () => {
-    ws = await tempWorkspace();
-    await publishReadCopy(ws.db, ws.config, ws.log);
-    await addSecurity(ws, 'EQ-FIR');
-    await publishReadCopy(ws.db, ws.config, ws.log);
+    ws = await withSpare('EQ-FIR');
     const spare = spareOf(ws.config.readCopy);
     // garbage over the spare's second MiB and a cut end, as a kill mid-write might leave
     const bytes = readFileSync(spare);
