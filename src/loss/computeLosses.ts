@@ -16,9 +16,10 @@ import { WORST_WINDOW_DAYS, worstWindowsAt, type WorstWindows } from './worstWin
 /**
  * The loss stage: historical and filtered historical VaR/ES, the VaR backtest of every
  * method and the stress scenarios, for the run's portfolios and dates. It takes the risk
- * stage's panels (the same returns and holdings), reads the little it needs besides
- * (the normal VaR just staged, the day before the run, the backtest flags before it,
- * the latest holdings' reference data), computes, and stages the rows outside any
+ * stage's panels (the same returns and holdings), reads the normal VaR just staged and
+ * takes what it needs of the stored tables (the day before the run, the backtest flags
+ * before it, its states, the latest holdings' reference data) from the reads
+ * storedReads.ts started beside the estimates, computes, and stages the rows outside any
  * transaction; `writeLosses` (lossStage.ts) swaps them in inside the run's one.
  */
 
