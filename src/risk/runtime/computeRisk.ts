@@ -1,4 +1,5 @@
 import os from 'node:os';
+import { setImmediate } from 'node:timers/promises';
 import type { Logger } from 'pino';
 import type { Config } from '../../config/load.ts';
 import { keepStates, type EstimatorStates } from '../estimators/estimator.ts';
@@ -55,7 +56,13 @@ export async function computeRisk(
   };
   if (threads > 1 && tasks.length > 1) return walkInWorkers(tasks, input, settings, threads, accept);
   const states: EstimatorStates = {};
-  for (const { task } of tasks) keepStates(states, task.estimator, walkEstimate(task, input, settings, accept));
+  for (const { task } of tasks) {
+    keepStates(states, task.estimator, walkEstimate(task, input, settings, accept));
+    // a read started beside the estimates (the loss stage's, storedReads.ts) takes its
+    // next step only when this thread awaits: one turn between estimates lets it finish
+    // meanwhile, not after them
+    await setImmediate();
+  }
   return states;
 }
 
