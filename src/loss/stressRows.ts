@@ -41,9 +41,10 @@ export function stressRows(inputs: StressInputs, scenarios: readonly StressScena
     }
     const [first, last] = rangeRows(returns.dates, scenario.from, scenario.to);
     const scenarioBase = { ...base, scenarioId: scenario.id, kind: 'historical' as const };
-    if (first > last) {
-      // no stored date in the range: no figure at all, every holding that could move is named
-      const simple = rangeReturns(inputs, first, last);
+    if (first > last || !withinHistory(returns.dates, scenario.from, scenario.to)) {
+      // the range is not all in stored history: its unseen days would count as unchanged,
+      // so no figure at all, and every holding that could move is named
+      const simple = withoutData(inputs);
       const missing = holdings.filter((_, a) => Number.isNaN(simple[a])).map((h) => h.security);
       emit({ ...scenarioBase, pnlBase: Number.NaN, pnlPct: Number.NaN, coverage: 0, missing, rangeFrom: scenario.from, rangeTo: scenario.to });
       continue;
@@ -76,6 +77,11 @@ export function historicalRangeStart(dates: readonly string[], from: string, to:
   return first > last ? null : first;
 }
 
+/** Whether stored history spans the whole range: from its first date's close to its last date's close. */
+function withinHistory(dates: readonly string[], from: string, to: string): boolean {
+  return dates.length > 0 && from >= dates[0] && to <= dates[dates.length - 1];
+}
+
 /** The rows whose returns make up the move from the close of `from` to the close of `to`: dates in (from, to]. */
 function rangeRows(dates: readonly string[], from: string, to: string): [number, number] {
   let first = dates.findIndex((date) => date > from);
@@ -86,16 +92,20 @@ function rangeRows(dates: readonly string[], from: string, to: string): [number,
   return [Math.max(first, 1), last];
 }
 
-/** Each holding's compounded return over rows first .. last; base cash 0, a gap (or a range without rows) NaN. */
+/** Each holding's return over a range without stored data: base cash 0, anything that could move NaN. */
+function withoutData({ returns, holdings }: StressInputs): Float64Array {
+  const position = new Map(returns.securityIds.map((id, j) => [id, j]));
+  return Float64Array.from(holdings, (h) => {
+    const j = position.get(h.security);
+    return j !== undefined && returns.isCash[j] === 1 ? 0 : Number.NaN;
+  });
+}
+
+/** Each holding's compounded return over rows first .. last (first <= last); base cash 0, a gap NaN. */
 function rangeReturns(inputs: StressInputs, first: number, last: number): Float64Array {
   const { returns, holdings } = inputs;
   const n = returns.securityIds.length;
   const position = new Map(returns.securityIds.map((id, j) => [id, j]));
-  const riskless = (h: StressBook) => {
-    const j = position.get(h.security);
-    return j !== undefined && returns.isCash[j] === 1;
-  };
-  if (first > last) return Float64Array.from(holdings, (h) => (riskless(h) ? 0 : Number.NaN));
   const rows = last - first + 1;
   const logReturns = new Float64Array(rows * holdings.length);
   holdings.forEach((h, a) => {

@@ -92,7 +92,7 @@ function stressSection(data: ReportData): string {
   ]);
   return `<section><h2>Stress scenarios</h2><p class="lede">What one move would do to the holdings of ${escapeHtml(stress[0].date)}, in ${escapeHtml(
     data.baseCurrency,
-  )} and as a share of value: configured ranges of stored history (each security's compounded return over the range), hypothetical shocks, and the worst 1-, 5- and 20-day windows of the portfolio's own history. Holdings without data over a range are named and left out, never counted as unchanged. A stress result is not a probability, and the worst past window is no bound on the next one.</p>${table(
+  )} and as a share of value: configured ranges of stored history (each security's compounded return over the range), hypothetical shocks, and the worst 1-, 5- and 20-day windows of the portfolio's own history. Holdings without data over a range are named and left out, never counted as unchanged; a range not all in stored history has no figure. A stress result is not a probability, and the worst past window is no bound on the next one.</p>${table(
     ['scenario', 'kind', 'range', `P&L (${data.baseCurrency})`, 'P&L % of value', 'coverage', 'without data'],
     new Set([3, 4, 5]),
     rows,

@@ -28,6 +28,9 @@ beforeAll(async () => {
       scenarios: [
         { id: 'autumn-2008', kind: 'historical', from: '2008-09-26', to: '2008-10-10' },
         { id: 'before-history', kind: 'historical', from: '2001-09-10', to: '2001-09-21' },
+        // partly stored: the series begins 2008-01-02 and ends 2008-12-31
+        { id: 'reaches-before-history', kind: 'historical', from: '2007-12-20', to: '2008-01-10' },
+        { id: 'runs-past-history', kind: 'historical', from: '2008-12-24', to: '2009-01-09' },
         { id: 'equities-down-euro-down', kind: 'hypothetical', shocks: [{ all: true, return: -0.2 }, { currency: 'EUR', return: -0.1 }] },
       ],
     },
@@ -166,10 +169,14 @@ describe('stress_results on the S&P 500 closes of 2008', () => {
     expect(row.pnl_pct).toBeCloseTo((1_000_000 * move) / value, 12);
   });
 
-  it('flags a range with no stored data instead of treating it as unchanged', async () => {
-    const [row] = await ws.db.all(`select pnl_base, pnl_pct, coverage, missing from stress_results where scenario_id = 'before-history'`);
+  it.each([
+    ['before-history', '2001-09-10', '2001-09-21'],
+    ['reaches-before-history', '2007-12-20', '2008-01-10'],
+    ['runs-past-history', '2008-12-24', '2009-01-09'],
+  ])('flags range %s, not all of it stored, instead of counting its unseen days as unchanged', async (id, from, to) => {
+    const [row] = await ws.db.all(`select pnl_base, pnl_pct, coverage, missing, range_from, range_to from stress_results where scenario_id = $1`, [id]);
     // USD cash cannot move against the base currency, so it is not named; the rest has no data
-    expect(row).toEqual({ pnl_base: null, pnl_pct: null, coverage: 0, missing: ['CASH:EUR', 'IX-BROAD'] });
+    expect(row).toEqual({ pnl_base: null, pnl_pct: null, coverage: 0, missing: ['CASH:EUR', 'IX-BROAD'], range_from: from, range_to: to });
   });
 
   it('moves the index by the all shock and the EUR cash by the currency shock, USD cash not at all', async () => {
