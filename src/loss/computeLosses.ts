@@ -10,7 +10,7 @@ import { walkHistorical } from './parallelHistorical.ts';
 import { sigmaRowsToKeep, worstRowsToKeep, type LossState } from './lossState.ts';
 import { continueSecurityVariances } from './securitySigmas.ts';
 import { PRIOR_FLAGS, readPriorFlags, type StoredLossInputs } from './storedReads.ts';
-import { historicalRangeStart, stressRows } from './stressRows.ts';
+import { historicalRangeStart, stressRows, type StressBook } from './stressRows.ts';
 import { WORST_WINDOW_DAYS, worstWindowsAt, type WorstWindows } from './worstWindows.ts';
 
 /**
@@ -85,16 +85,18 @@ export async function computeLosses(db: Database, config: Config, log: Logger, i
       const at = new Map<number, Map<number, WorstWindows>>();
       for (let p = 0; p < portfolios.ids.length; p++) {
         if (failures.has(p)) continue;
-        const book = books.get(p);
+        const byDate = books.get(p) ?? new Map<number, StressBook[]>();
+        let d = t - 1; // where a failure is reported: the date being staged, else the last
         try {
-          const windows = worstWindowsAt(series.subarray(p * t, (p + 1) * t), fromRow, book ? [...keep, book.d] : keep, continues ? storedWorst.get(p)! : null);
+          const windows = worstWindowsAt(series.subarray(p * t, (p + 1) * t), fromRow, [...keep, ...byDate.keys()], continues ? storedWorst.get(p)! : null);
           at.set(p, windows);
-          if (!book) continue;
-          const stress = { portfolioId: portfolios.ids[p], d: book.d, holdings: book.holdings, returns, worst: windows.get(book.d)! };
-          stressRows(stress, config.stress.scenarios, config.baseCurrency, (row) => stage.addStress(row));
+          for ([d] of byDate) {
+            const stress = { portfolioId: portfolios.ids[p], d, holdings: byDate.get(d)!, returns, worst: windows.get(d)! };
+            stressRows(stress, config.stress.scenarios, config.baseCurrency, (row) => stage.addStress(row));
+          }
         } catch (err) {
           at.delete(p);
-          fail({ p, d: book?.d ?? t - 1, message: `stress scenarios: ${err instanceof Error ? err.message : String(err)}` });
+          fail({ p, d, message: `stress scenarios: ${err instanceof Error ? err.message : String(err)}` });
         }
       }
       worst = worstRowsToKeep(returns.dates, portfolios.ids, at, keep);

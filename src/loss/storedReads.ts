@@ -23,16 +23,14 @@ export interface StoredLossInputs {
   priorFlags: Map<string, number[]>;
   /** The earliest date the flags were read from (null: every date): a series with fewer is read again over every date. */
   flagsSince: string | null;
-  /** Each portfolio's holdings at its latest valued date of the run (readLatestBooks). */
-  books: Map<number, LatestBook>;
+  /** Per portfolio, its holdings at each date whose stress rows the run writes (readStressBooks). */
+  books: Map<number, StressBooks>;
   /** loadWorstState: each portfolio's stored worst windows up to the date before the run. */
   worst: Map<number, WorstWindows>;
 }
 
-export interface LatestBook {
-  d: number;
-  holdings: StressBook[];
-}
+/** A portfolio's holdings by date row, oldest first. */
+export type StressBooks = Map<number, StressBook[]>;
 
 /** The flags kept per series: 249 before the run's first tested day make a 250-day window with it. */
 export const PRIOR_FLAGS = BASEL_OBSERVATIONS - 1;
@@ -71,7 +69,7 @@ async function readStored(db: Database, config: Config, inputs: LossInputs): Pro
     alone(withinRun, [], (s) => readVarBefore(s, inputs)),
     alone(fromRow < t, null, (s) => loadSigmaState(s, config, returns, fromRow, inputs.settings)),
     alone(withinRun, new Map<string, number[]>(), (s) => readPriorFlags(s, inputs, flagsSince, inputs.portfolios.ids)),
-    alone(fromRow < t, new Map<number, LatestBook>(), (s) => readLatestBooks(s, inputs)),
+    alone(fromRow < t, new Map<number, StressBooks>(), (s) => readStressBooks(s, inputs)),
     alone(fromRow < t, new Map<number, WorstWindows>(), (s) => loadWorstState(s, returns.dates, fromRow, inputs.portfolios.ids, inputs.settings)),
   ]);
   return { varBefore, sigmaState, priorFlags, flagsSince, books, worst };
@@ -120,42 +118,56 @@ export async function readPriorFlags(db: Database, inputs: LossInputs, since: st
 }
 
 /**
- * Each portfolio's holdings at its latest date of the run with a positive value, with
- * the currency and asset class the hypothetical shocks match on.
+ * Per portfolio, its holdings (with the currency and asset class the hypothetical shocks
+ * match on) at each date whose stress rows the run writes: its latest date of the run
+ * with a positive, fully priced value, and every earlier date of the run that has stored
+ * stress rows (the write step deletes the run's dates, so what it deletes is written
+ * again, under the corrected data). A date no longer valued gets none.
  */
-async function readLatestBooks(db: Database, inputs: LossInputs): Promise<Map<number, LatestBook>> {
+async function readStressBooks(db: Database, inputs: LossInputs): Promise<Map<number, StressBooks>> {
   const { returns, portfolios, fromRow } = inputs;
   const t = returns.dates.length;
-  const latest = new Map<string, number>();
-  portfolios.ids.forEach((id, p) => {
-    for (let d = t - 1; d >= fromRow; d--) {
-      if (portfolios.value[p * t + d] > 0 && portfolios.unpriced[p * t + d] === 0) {
-        latest.set(id, d);
-        return;
-      }
-    }
-  });
-  const books = new Map<number, LatestBook>();
-  if (latest.size === 0) return books;
+  const valued = (p: number, d: number) => portfolios.value[p * t + d] > 0 && portfolios.unpriced[p * t + d] === 0;
+  const index = new Map(portfolios.ids.map((id, p) => [id, p]));
+  const rowOf = new Map(returns.dates.map((date, d) => [date, d]));
+  const wanted = new Map<number, Set<number>>();
+  const want = (p: number, d: number) => (wanted.get(p) ?? wanted.set(p, new Set()).get(p)!).add(d);
+  for (let p = 0; p < portfolios.ids.length; p++) {
+    let d = t - 1;
+    while (d >= fromRow && !valued(p, d)) d--;
+    if (d >= fromRow) want(p, d);
+  }
+  const stored = await db.all<{ portfolio_id: string; date: string }>(
+    `select distinct portfolio_id, date::varchar as date from stress_results
+     where date >= $1::date and list_contains(from_json($2, '["VARCHAR"]'), portfolio_id)`,
+    [returns.dates[fromRow], JSON.stringify(portfolios.ids)],
+  );
+  for (const r of stored) {
+    const p = index.get(r.portfolio_id);
+    const d = rowOf.get(r.date);
+    if (p !== undefined && d !== undefined && valued(p, d)) want(p, d);
+  }
+  const books = new Map<number, StressBooks>();
+  if (wanted.size === 0) return books;
+  const pairs = [...wanted].flatMap(([p, dates]) => [...dates].map((d) => [portfolios.ids[p], d + 1] as const));
   // date_index counts valuation dates from 1, the panels' rows from 0
-  const dateIndexes = [...latest.values()].map((d) => d + 1);
-  const rows = await db.all<{ portfolio_id: string; security_id: string; currency: string; is_cash: boolean; asset_class: string | null; value_base: number }>(
+  const rows = await db.all<{ portfolio_id: string; date_index: number; security_id: string; currency: string; is_cash: boolean; asset_class: string | null; value_base: number }>(
     `with wanted as (select unnest(from_json($1, '["VARCHAR"]')) as portfolio_id, unnest(from_json($2, '["INTEGER"]')) as date_index)
-     select w.portfolio_id, w.security_id, w.currency, w.is_cash, s.asset_class, w.value_base::double as value_base
+     select w.portfolio_id, w.date_index, w.security_id, w.currency, w.is_cash, s.asset_class, w.value_base::double as value_base
      -- the date-bounded twin: the plain view would value every date of the history first
      from value_weights_since($3) w
      join wanted using (portfolio_id, date_index)
      left join clean_securities s using (security_id)
      where w.value_base is not null
-     order by w.portfolio_id, w.security_id`,
-    [JSON.stringify([...latest.keys()]), JSON.stringify(dateIndexes), Math.min(...dateIndexes)],
+     order by w.portfolio_id, w.date_index, w.security_id`,
+    [JSON.stringify(pairs.map(([id]) => id)), JSON.stringify(pairs.map(([, i]) => i)), Math.min(...pairs.map(([, i]) => i))],
   );
-  const index = new Map(portfolios.ids.map((id, p) => [id, p]));
   for (const r of rows) {
     const p = index.get(r.portfolio_id)!;
-    let book = books.get(p);
-    if (!book) books.set(p, (book = { d: latest.get(r.portfolio_id)!, holdings: [] }));
-    book.holdings.push({ security: r.security_id, currency: r.currency, isCash: r.is_cash, assetClass: r.asset_class, valueBase: r.value_base });
+    const byDate = books.get(p) ?? books.set(p, new Map()).get(p)!;
+    const d = r.date_index - 1;
+    const holdings = byDate.get(d) ?? byDate.set(d, []).get(d)!;
+    holdings.push({ security: r.security_id, currency: r.currency, isCash: r.is_cash, assetClass: r.asset_class, valueBase: r.value_base });
   }
   return books;
 }

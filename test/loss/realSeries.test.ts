@@ -48,6 +48,9 @@ beforeAll(async () => {
 
 afterAll(() => ws?.cleanup());
 
+/** A row with its numbers to 12 significant digits. */
+const rounded = (row: Record<string, unknown>) => Object.fromEntries(Object.entries(row).map(([k, v]) => [k, typeof v === 'number' ? Number(v.toPrecision(12)) : v]));
+
 const lossOn = (before: number, after: number) => 1_000_000 * (1 - after / before);
 
 describe('var_daily on the S&P 500 closes of 2008', () => {
@@ -211,8 +214,6 @@ describe('a recompute from a later date', () => {
       stress_results: 'portfolio_id, date, scenario_id',
     };
     // the EWMA continues from its stored matrix and sums run in another order: equal to 12 significant digits
-    const rounded = (row: Record<string, unknown>) =>
-      Object.fromEntries(Object.entries(row).map(([k, v]) => [k, typeof v === 'number' ? Number(v.toPrecision(12)) : v]));
     const read = async () => {
       const out: Record<string, unknown[]> = {};
       for (const [table, order] of Object.entries(tables)) {
@@ -228,27 +229,57 @@ describe('a recompute from a later date', () => {
   });
 });
 
+/**
+ * A workspace holding the index and USD cash, run over the history up to 2008-10-14, then
+ * 2008-10-15 (the index's worst day) as a new day: stress rows stored at both dates.
+ */
+async function runUpToThenNewDay(stress: { scenarios: unknown[] } = { scenarios: [] }): Promise<{ day: TempWorkspace; cut: number }> {
+  const day = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252, historical: { days: [250, 200] } }, limits: [], stress });
+  await insertPrices(day.db, 2, SP500_DATES.map((date, t) => [date, 'IX-BROAD', SP500_CLOSES[t], 'USD']));
+  await insertPositions(day.db, 4, [
+    [SP500_DATES[0], 'acct-index', 'IX-BROAD', UNITS],
+    [SP500_DATES[0], 'acct-index', 'CASH:USD', 500_000],
+  ]);
+  const cut = SP500_DATES.indexOf('2008-10-15');
+  await day.db.run(`delete from prices where date >= $1::date`, [SP500_DATES[cut]]);
+  await refreshDerived(day.db);
+  await runRecompute(day.db, day.config, day.log, { trigger: 'history' });
+  await insertPrices(day.db, 5, [[SP500_DATES[cut], 'IX-BROAD', SP500_CLOSES[cut], 'USD']]);
+  await runRecompute(day.db, day.config, day.log, { trigger: 'new day', from: SP500_DATES[cut] });
+  return { day, cut };
+}
+
 describe('a new day after a run', () => {
   it('continues the worst windows from the stored ones and writes what a full backfill writes', async () => {
-    const day = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252, historical: { days: [250, 200] } }, limits: [] });
+    const { day, cut } = await runUpToThenNewDay();
     try {
-      await insertPrices(day.db, 2, SP500_DATES.map((date, t) => [date, 'IX-BROAD', SP500_CLOSES[t], 'USD']));
-      await insertPositions(day.db, 4, [
-        [SP500_DATES[0], 'acct-index', 'IX-BROAD', UNITS],
-        [SP500_DATES[0], 'acct-index', 'CASH:USD', 500_000],
-      ]);
-      // the history up to 2008-10-14, then 2008-10-15 (the index's worst day) as a new day
-      const cut = SP500_DATES.indexOf('2008-10-15');
-      await day.db.run(`delete from prices where date >= $1::date`, [SP500_DATES[cut]]);
-      await refreshDerived(day.db);
-      await runRecompute(day.db, day.config, day.log, { trigger: 'history' });
-      await insertPrices(day.db, 5, [[SP500_DATES[cut], 'IX-BROAD', SP500_CLOSES[cut], 'USD']]);
-      await runRecompute(day.db, day.config, day.log, { trigger: 'new day', from: SP500_DATES[cut] });
       const read = `select scenario_id, pnl_base, pnl_pct, range_from, range_to from stress_results where date = '${SP500_DATES[cut]}' order by scenario_id`;
       const incremental = await day.db.all(read);
       await runRecompute(day.db, day.config, day.log, { trigger: 'full' });
       expect(incremental).toEqual(await day.db.all(read));
       expect(incremental.map((r) => r.scenario_id)).toEqual(['worst_1d', 'worst_20d', 'worst_5d']);
+    } finally {
+      day.cleanup();
+    }
+  });
+});
+
+describe('a recompute over dates with stored stress rows', () => {
+  it('writes again the rows of every date it deletes, as the run of that date wrote them', async () => {
+    const { day, cut } = await runUpToThenNewDay({
+      scenarios: [
+        { id: 'autumn-2008', kind: 'historical', from: '2008-09-26', to: '2008-10-10' },
+        { id: 'all-down', kind: 'hypothetical', shocks: [{ all: true, return: -0.2 }] },
+      ],
+    });
+    try {
+      const read = () => day.db.all(`select * exclude (run_id) from stress_results order by date, scenario_id`);
+      const stored = await read();
+      expect([...new Set(stored.map((r) => r.date))]).toEqual([SP500_DATES[cut - 1], SP500_DATES[cut]]);
+      const { runId } = await runRecompute(day.db, day.config, day.log, { trigger: 'correction', from: SP500_DATES[cut - 5] });
+      // the worst windows continue from the stored ones, the sums may run in another order
+      expect((await read()).map(rounded)).toEqual(stored.map(rounded));
+      expect(await day.db.all(`select distinct run_id from stress_results`)).toEqual([{ run_id: runId }]);
     } finally {
       day.cleanup();
     }
