@@ -15,7 +15,8 @@ export interface BenchWorkspace {
  * The config every measurement runs with: the scenario's windows, EWMA on (the
  * default), the shrunk estimator on the middle window, product defaults everywhere else (stable-file wait included, so the latency
  * figure is what a user gets), and limits near the simulated portfolios' volatility
- * so that episodes open and close and the limit check and alert outbox do real work.
+ * so that episodes open and close and the limit check and alert outbox do real work,
+ * a backtest-zone limit and three stress scenarios.
  */
 export function benchConfig(size: ScenarioSize): ConfigInput {
   return {
@@ -28,7 +29,18 @@ export function benchConfig(size: ScenarioSize): ConfigInput {
     limits: [
       { portfolio: '*', window: size.windows.includes(63) ? 63 : size.windows[0], limit: 0.16 },
       { portfolio: '*', window: 0, estimator: 'ewma', limit: 0.18 },
+      // the VaR backtests' Basel zone, every method: the limit check reads var_backtest too
+      { portfolio: '*', metric: 'backtest_zone', window: size.windows[0] },
     ],
+    // a range early in every size's history (it starts 2016-01-04), a shock by asset class
+    // and currency, and one on everything: the loss stage's stress step does real work
+    stress: {
+      scenarios: [
+        { id: 'bench-range', kind: 'historical', from: '2016-02-01', to: '2016-02-29' },
+        { id: 'bench-equity-eur', kind: 'hypothetical', shocks: [{ assetClass: 'equity', return: -0.2 }, { currency: 'EUR', return: -0.1 }] },
+        { id: 'bench-all', kind: 'hypothetical', shocks: [{ all: true, return: -0.15 }] },
+      ],
+    },
     alerts: { file: 'alerts.jsonl' },
   };
 }

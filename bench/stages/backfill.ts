@@ -26,6 +26,7 @@ export async function measureBackfill(ws: BenchWorkspace, size: SizeName, runs: 
   const seconds: number[] = [];
   const summaries: RunSummary[] = [];
   let shrunk: { seconds: number; compute: number | null };
+  let lossRows: Record<string, number>;
   try {
     // first, so the measured runs leave the workspace as the later stages expect it
     shrunk = await withoutShrunk(db, ws, log);
@@ -34,6 +35,7 @@ export async function measureBackfill(ws: BenchWorkspace, size: SizeName, runs: 
       seconds.push(out.seconds);
       summaries.push(out.value);
     }
+    lossRows = await countLossRows(db);
   } finally {
     db.close();
   }
@@ -43,10 +45,13 @@ export async function measureBackfill(ws: BenchWorkspace, size: SizeName, runs: 
     seconds,
     computeSeconds: compute.length ? median(compute) : null,
     figure: figure('backfill_seconds', size, seconds, {
-      note: `${summary.riskRows.toLocaleString('en-US')} risk rows over ${summary.portfolios} portfolios`,
+      note: `${summary.riskRows.toLocaleString('en-US')} risk rows over ${summary.portfolios} portfolios; loss tables: ${Object.entries(lossRows)
+        .map(([k, n]) => `${n.toLocaleString('en-US')} ${k.replace('_rows', '')}`)
+        .join(', ')}`,
       details: {
         risk_rows: summary.riskRows,
         portfolios: summary.portfolios,
+        ...lossRows,
         from: summary.from,
         to: summary.to,
         open_workspace_seconds: openSeconds,
@@ -64,4 +69,15 @@ async function withoutShrunk(db: Database, ws: BenchWorkspace, log: Logger): Pro
   const config = { ...ws.config, risk: { ...ws.config.risk, shrunk: { windows: [] } } };
   const out = await timed(() => runRecompute(db, config, log, { trigger: 'bench:backfill-without-shrunk', from: null, portfolios: null }));
   return { seconds: out.seconds, compute: out.value.phases.compute ?? null };
+}
+
+/** Rows of the loss stage's tables by method or kind: that each one fills is part of the figure. */
+async function countLossRows(db: Database): Promise<Record<string, number>> {
+  const rows = await db.all<{ name: string; n: number }>(
+    `select 'var_daily_' || method || '_rows' as name, count(*)::integer as n from var_daily group by method
+     union all select 'var_backtest_' || method || '_rows', count(*)::integer from var_backtest group by method
+     union all select 'stress_results_' || kind || '_rows', count(*)::integer from stress_results group by kind
+     order by name`,
+  );
+  return Object.fromEntries(rows.map((r) => [r.name, r.n]));
 }

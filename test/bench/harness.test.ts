@@ -116,6 +116,19 @@ describe('runBench at the tiny size', () => {
       risk_rows: result.scenario.portfolios * result.scenario.historyDays * estimates,
       to: result.scenario.lastDate,
     });
+    // and the loss tables fill: every VaR method on every portfolio and date (normal: each
+    // estimate, copied from risk_daily; historical: each lookback, its figures null while
+    // the history is shorter), and at the last date three stress scenarios and three worst windows
+    const lookbacks = result.scenario.config.risk!.historical?.days?.length ?? 2;
+    const portfolioDates = result.scenario.portfolios * result.scenario.historyDays;
+    expect(get('backfill_seconds').details).toMatchObject({
+      var_daily_normal_rows: portfolioDates * estimates,
+      var_daily_historical_rows: portfolioDates * lookbacks,
+      var_daily_filtered_historical_rows: portfolioDates * lookbacks,
+      stress_results_historical_rows: result.scenario.portfolios * (1 + 3),
+      stress_results_hypothetical_rows: result.scenario.portfolios * 2,
+    });
+    expect(details('backfill_seconds', 'var_backtest_normal_rows')).toBeGreaterThan(0);
 
     // new days: one timing per day; each day's time is the sum of its four phases, and
     // with two days a median is a mean, so the phase medians add up to the figure

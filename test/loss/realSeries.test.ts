@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runRecompute } from '../../src/batch/runRecompute.ts';
+import type { ConfigInput } from '../../src/config/schema.ts';
 import { refreshDerived } from '../../src/storage/derived.ts';
 import { insertFx, insertPositions, insertPrices, insertSecurities } from '../helpers/rawRows.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
@@ -233,7 +234,7 @@ describe('a recompute from a later date', () => {
  * A workspace holding the index and USD cash, run over the history up to 2008-10-14, then
  * 2008-10-15 (the index's worst day) as a new day: stress rows stored at both dates.
  */
-async function runUpToThenNewDay(stress: { scenarios: unknown[] } = { scenarios: [] }): Promise<{ day: TempWorkspace; cut: number }> {
+async function runUpToThenNewDay(stress: ConfigInput['stress'] = { scenarios: [] }): Promise<{ day: TempWorkspace; cut: number }> {
   const day = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252, historical: { days: [250, 200] } }, limits: [], stress });
   await insertPrices(day.db, 2, SP500_DATES.map((date, t) => [date, 'IX-BROAD', SP500_CLOSES[t], 'USD']));
   await insertPositions(day.db, 4, [
