@@ -1,5 +1,5 @@
 import type { Logger } from 'pino';
-import { markSuspectWindows } from '../checks/suspectStatus.ts';
+import { markSuspectScenarios, markSuspectWindows } from '../checks/suspectStatus.ts';
 import { alertUnvaluedPortfolios } from '../checks/unvaluedPortfolios.ts';
 import type { Config } from '../config/load.ts';
 import { HOLD_BEFORE, KEEP_REPLACED, PRUNE_HISTORY } from '../history/historyWriters.ts';
@@ -39,7 +39,7 @@ export interface RunWriter {
 /**
  * The write step of every run: the rows it may replace held aside (history), risk rows
  * (none for a portfolio whose compute failed: it keeps its earlier ones) and their
- * suspect_price status, the loss rows (the same exception), then the estimator and loss states,
+ * suspect_price status, the loss rows (the same exception) and theirs, then the estimator and loss states,
  * then limits (which read the new rows) and their alerts, the portfolio_unvalued alerts,
  * then the replaced rows kept as history (and old history pruned), the failed
  * portfolios' episodes, then the close of a run failure episode. Every writer that
@@ -66,6 +66,7 @@ export const RUN_WRITERS: readonly RunWriter[] = [
     write: (tx, run) =>
       writeLosses(tx, { runId: run.runId, from: run.from, portfolios: run.portfolios, failed: run.risk.failures.map((f) => f.portfolioId) }),
   },
+  { name: 'suspect_status_losses', write: async (tx, run) => void (await markSuspectScenarios(tx, run.runId)) },
   {
     name: 'save_ewma_state',
     write: (tx, run) => saveEstimatorStates(tx, run.config, run.risk, run.runId, run.settings),

@@ -9,14 +9,9 @@ import type { Database } from '../storage/database.ts';
  * rows are written; set-based, and nothing at all while no flag is open.
  */
 export async function markSuspectWindows(db: Database, runId: number): Promise<number> {
-  const [{ open }] = await db.all<{ open: number }>('select count(*)::integer as open from price_checks where cleared_at is null and not held');
-  if (open === 0) return 0;
+  if (!(await anyFlagOpen(db))) return 0;
   const rows = await db.all<{ n: number }>(
-    `with suspects as (
-       select c.security_id, v.date_index
-       from price_checks c join align_valuation_dates v on v.date = c.date
-       where c.cleared_at is null and not c.held
-     ),
+    `with ${SUSPECTS},
      longest as (select list_max(windows) as days from pipeline_settings),
      -- who reads a security's price on a date: a portfolio holding it, a benchmark weighting it
      readers as (
@@ -47,3 +42,46 @@ export async function markSuspectWindows(db: Database, runId: number): Promise<n
   );
   return rows.length;
 }
+
+/**
+ * The same for the run's historical and filtered historical rows of var_daily (its normal
+ * rows are copies of risk_daily's, status included): today's holdings revalued under the
+ * returns of the last N valuation dates read the prices of t-N .. t, so a flagged price of
+ * a holding in that span marks the row. (The filtered method's sigma today also reads
+ * older returns, at a weight of at most lambda^N: nothing left to see.) After write_losses.
+ */
+export async function markSuspectScenarios(db: Database, runId: number): Promise<number> {
+  if (!(await anyFlagOpen(db))) return 0;
+  const rows = await db.all<{ n: number }>(
+    `with ${SUSPECTS},
+     lookback as (select coalesce(max(window_days), 0) as days from var_daily where run_id = $1 and method <> 'normal'),
+     touched as (
+       select distinct v.portfolio_id, v.date, v.method, v.window_days
+       from suspects s
+       cross join lookback
+       join hold_daily_positions p on p.security_id = s.security_id and p.date_index between s.date_index and s.date_index + lookback.days
+       join var_daily v on v.run_id = $1 and v.method <> 'normal' and v.portfolio_id = p.portfolio_id and v.date = p.date
+       where p.date_index - s.date_index <= v.window_days
+     )
+     update var_daily set status = case when var_daily.status = 'ok' then 'suspect_price' else var_daily.status || ',suspect_price' end
+     from touched t
+     where var_daily.portfolio_id = t.portfolio_id and var_daily.date = t.date and var_daily.method = t.method
+       and var_daily.window_days = t.window_days and var_daily.run_id = $1
+     returning 1 as n`,
+    [runId],
+  );
+  return rows.length;
+}
+
+/** Flags open and used (mode flag): until one is, the marking costs one count. */
+async function anyFlagOpen(db: Database): Promise<boolean> {
+  const [{ open }] = await db.all<{ open: number }>('select count(*)::integer as open from price_checks where cleared_at is null and not held');
+  return open > 0;
+}
+
+/** Each open, used flag as (security, date_index of its date). */
+const SUSPECTS = `suspects as (
+       select c.security_id, v.date_index
+       from price_checks c join align_valuation_dates v on v.date = c.date
+       where c.cleared_at is null and not c.held
+     )`;

@@ -32,8 +32,15 @@ describe('checkPrices in the pipeline', () => {
       [date],
     );
 
+  const varStatusOn = (date: string) =>
+    ws!.db.all<{ method: string; window_days: number; status: string }>(
+      "select method, window_days, status from var_daily where portfolio_id = 'acct-broad' and date = $1::date order by method, window_days",
+      [date],
+    );
+
   async function loaded(mode: 'flag' | 'hold') {
-    ws = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252 }, limits: [], checks: { suspectPrices: { mode } } });
+    // 100 scenarios: the historical VaR has figures by October
+    ws = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252, historical: { days: [100] } }, limits: [], checks: { suspectPrices: { mode } } });
     await deliver('positions_2008.csv', [['date', 'portfolio_id', 'security_id', 'quantity'], ['2008-01-04', 'acct-broad', 'EQ-BROAD', 100], ['2008-01-04', 'acct-broad', 'CASH:USD', 50_000]]);
     await deliver('prices_2008.csv', prices(HISTORY));
     // the whole of 2008 up to the slip, the crash of October included, raises nothing
@@ -54,6 +61,14 @@ describe('checkPrices in the pipeline', () => {
     expect(problems.map((p) => p.security_id)).toEqual(['EQ-BROAD']);
     expect(problems[0].reason).toMatch(/close to 10: a unit or decimal-separator slip\?; used in risk$/);
     expect((await statusOn('2008-10-14')).map((r) => r.status)).toEqual(['suspect_price']);
+    // every VaR method revalues the holding under a return from the flagged price
+    expect(await varStatusOn('2008-10-14')).toEqual([
+      { method: 'filtered_historical', window_days: 100, status: 'suspect_price' },
+      { method: 'historical', window_days: 100, status: 'suspect_price' },
+      { method: 'normal', window_days: 0, status: 'suspect_price' },
+      { method: 'normal', window_days: 21, status: 'suspect_price' },
+    ]);
+    expect((await varStatusOn(SP500_DATES[SLIP_DAY - 1])).map((r) => r.status)).toEqual(['ok', 'ok', 'ok', 'ok']);
     expect((await alerts()).map((a) => a.level)).toEqual(['suspect']);
 
     // the custodian corrects the price: the flag clears, once, and so does the status
@@ -62,6 +77,7 @@ describe('checkPrices in the pipeline', () => {
     expect(after.map((a) => a.level)).toEqual(['suspect', 'cleared']);
     expect(after[1].text).toBe(`EQ-BROAD: the suspect price ${slip} on 2008-10-14 is cleared: corrected to ${SP500_CLOSES[SLIP_DAY]}`);
     expect((await statusOn('2008-10-14')).map((r) => r.status)).toEqual(['ok']);
+    expect((await varStatusOn('2008-10-14')).map((r) => r.status)).toEqual(['ok', 'ok', 'ok', 'ok']);
   });
 
   it('checks the prices of a benchmark constituent nobody holds, and marks the status of the portfolios measured against it', async () => {
