@@ -52,11 +52,14 @@ export interface LossData {
   stress: StressFigure[];
 }
 
+/** normal, historical, filtered historical; within a method by window, a window's estimators side by side, the EWMA (window 0) last. */
+const SERIES_ORDER = `case method when 'normal' then 0 when 'historical' then 1 else 2 end, window_days = 0, window_days, estimator`;
+
 export async function loadLossData(db: Database, portfolioId: string, asOf: string, focusWindow: number, chartFrom: string): Promise<LossData> {
   const methods = await db.all<MethodFigure>(
     `select method, window_days, estimator, var_99_1d, es_975_1d, coverage, status from var_daily
      where portfolio_id = $1 and date = $2
-     order by case method when 'normal' then 0 when 'historical' then 1 else 2 end, estimator desc nulls last, window_days`,
+     order by ${SERIES_ORDER}`,
     [portfolioId, asOf],
   );
   const backtests = await db.all<BacktestState>(
@@ -65,7 +68,7 @@ export async function loadLossData(db: Database, portfolioId: string, asOf: stri
             arg_max(christoffersen_p, date) as christoffersen_p, arg_max(zone, date) as zone
      from var_backtest where portfolio_id = $1 and date <= $2
      group by method, window_days, estimator
-     order by case method when 'normal' then 0 when 'historical' then 1 else 2 end, estimator desc nulls last, window_days`,
+     order by ${SERIES_ORDER}`,
     [portfolioId, asOf],
   );
   const points = await db.all<BacktestPoint>(
