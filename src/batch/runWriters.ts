@@ -39,7 +39,10 @@ export interface RunWriter {
 /**
  * The write step of every run: the rows it may replace held aside (history), risk rows
  * (none for a portfolio whose compute failed: it keeps its earlier ones) and their
- * suspect_price status, the loss rows (the same exception) and theirs, then the estimator and loss states,
+ * suspect_price status, the loss rows (the same exception) and theirs, then the estimator and loss states
+ * (a run over some portfolios keeps the stored EWMA matrix and security variances: they
+ * are by security, the run changed no return, and a subset stored in their place would
+ * make the next run replay the whole history),
  * then limits (which read the new rows) and their alerts, the portfolio_unvalued alerts,
  * then the replaced rows kept as history (and old history pruned), the failed
  * portfolios' episodes, then the close of a run failure episode. Every writer that
@@ -69,12 +72,18 @@ export const RUN_WRITERS: readonly RunWriter[] = [
   { name: 'suspect_status_losses', write: async (tx, run) => void (await markSuspectScenarios(tx, run.runId)) },
   {
     name: 'save_ewma_state',
-    write: (tx, run) => saveEstimatorStates(tx, run.config, run.risk, run.runId, run.settings),
+    write: async (tx, run) => {
+      if (run.portfolios === null) await saveEstimatorStates(tx, run.config, run.risk, run.runId, run.settings);
+    },
   },
   {
     name: 'save_loss_state',
     write: (tx, run) =>
-      saveLossState(tx, run.config, run.lossState, { runId: run.runId, settings: run.settings, failed: run.risk.failures.map((f) => f.portfolioId) }),
+      saveLossState(tx, run.config, run.portfolios === null ? run.lossState : { ...run.lossState, sigma: null }, {
+        runId: run.runId,
+        settings: run.settings,
+        failed: run.risk.failures.map((f) => f.portfolioId),
+      }),
   },
   {
     name: 'limits',

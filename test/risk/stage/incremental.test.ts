@@ -158,11 +158,12 @@ describe('recompute: incremental runs', () => {
     const inputs = ws.logLines().filter((l) => l.msg === 'inputs read');
     expect(inputs.at(-1)?.securities).toBe(5);
     expect(inputs.at(-2)?.securities).toBe(8);
-    // the EWMA state it stored lacks the other securities: the run of the last date after
-    // it loads that state, cannot continue from it and replays (continuing would seed
-    // acct-income's securities afresh), with the figures of a full recompute all the same
+    // it kept the EWMA state of the full run before it (by security, and a positions
+    // correction changes no return; a state of its five securities alone would make the
+    // next run replay): the run of the last date continues from it, every security read
+    // (test/loss/lossState.test.ts sees it continue), with the figures of a full recompute
     await runRecompute(ws.db, ws.config, ws.log, { trigger: 'last date again', from: s.dates.at(-1) });
-    expect(ws.logLines().filter((l) => l.msg === 'inputs read').at(-1)).toMatchObject({ ewmaFromState: true });
+    expect(ws.logLines().filter((l) => l.msg === 'inputs read').at(-1)).toMatchObject({ ewmaFromState: true, securities: 8 });
     const after = { daily: await readDaily(ws.db), stats: await readStats(ws.db), contributions: await readContributions(ws.db) };
     // both corrections moved figures: a test that cannot fail would compare equal tables
     expect(after.daily.filter((r, i) => r.portfolio_value !== before[i].portfolio_value).length).toBeGreaterThan(100);
