@@ -75,7 +75,19 @@ export async function runRecompute(
     });
     const losses = await phases.time('losses', () => computeLosses(db, config, log, { ...inputs, settings }, lossReads.started!));
     const risk = await withLossFailures(db, rlog, computed, losses.failures, inputs);
-    const run: RunContext = { runId, from, portfolios, settings, trigger: request.trigger, config, log, risk, lossState: losses.state, alertsRaised: 0 };
+    const run: RunContext = {
+      runId,
+      from,
+      portfolios,
+      settings,
+      trigger: request.trigger,
+      config,
+      log,
+      risk,
+      securityIds: inputs.returns.securityIds,
+      lossState: losses.state,
+      alertsRaised: 0,
+    };
     await db.transaction(async () => {
       for (const writer of writers) await phases.time(writer.name, () => writer.write(db, run));
       await markRunDone(db, runId, risk.riskRows);

@@ -19,6 +19,8 @@ export interface RunContext extends RiskScope {
   log: Logger;
   /** The computed run: staged rows, dates, EWMA states (its input panels are let go before the write step). */
   risk: Omit<ComputedRisk, 'inputs'>;
+  /** Every security whose returns the run read. */
+  securityIds: readonly string[];
   /** What the loss stage keeps for the next run (src/loss/lossState.ts). */
   lossState: LossState;
   /** Alerts written to the outbox so far in this transaction; a writer that raises alerts adds its count. */
@@ -40,9 +42,7 @@ export interface RunWriter {
  * The write step of every run: the rows it may replace held aside (history), risk rows
  * (none for a portfolio whose compute failed: it keeps its earlier ones) and their
  * suspect_price status, the loss rows (the same exception) and theirs, then the estimator and loss states
- * (a run over some portfolios keeps the stored EWMA matrix and security variances: they
- * are by security, the run changed no return, and a subset stored in their place would
- * make the next run replay the whole history),
+ * (replacesSecurityState),
  * then limits (which read the new rows) and their alerts, the portfolio_unvalued alerts,
  * then the replaced rows kept as history (and old history pruned), the failed
  * portfolios' episodes, then the close of a run failure episode. Every writer that
@@ -73,17 +73,16 @@ export const RUN_WRITERS: readonly RunWriter[] = [
   {
     name: 'save_ewma_state',
     write: async (tx, run) => {
-      if (run.portfolios === null) await saveEstimatorStates(tx, run.config, run.risk, run.runId, run.settings);
+      if (await replacesSecurityState(tx, run, 'risk_ewma_state')) await saveEstimatorStates(tx, run.config, run.risk, run.runId, run.settings);
     },
   },
   {
     name: 'save_loss_state',
-    write: (tx, run) =>
-      saveLossState(tx, run.config, run.portfolios === null ? run.lossState : { ...run.lossState, sigma: null }, {
-        runId: run.runId,
-        settings: run.settings,
-        failed: run.risk.failures.map((f) => f.portfolioId),
-      }),
+    write: async (tx, run) => {
+      const sigma = (await replacesSecurityState(tx, run, 'loss_sigma_state')) ? run.lossState.sigma : null;
+      const failed = run.risk.failures.map((f) => f.portfolioId);
+      await saveLossState(tx, run.config, { ...run.lossState, sigma }, { runId: run.runId, settings: run.settings, failed });
+    },
   },
   {
     name: 'limits',
@@ -103,3 +102,20 @@ export const RUN_WRITERS: readonly RunWriter[] = [
   portfolioIncidents,
   closeRunFailure,
 ];
+
+/**
+ * Whether the run's by-security state replaces the stored one in `table` (the EWMA matrix,
+ * the loss stage's variances): a full run's always; a run over some portfolios (a
+ * positions correction, `recompute --portfolio`: it changes no return) only when it read
+ * every security the stored one knows. One portfolio's securities stored alone would make
+ * the next run miss the others and replay the whole history.
+ */
+async function replacesSecurityState(tx: Database, run: RunContext, table: 'risk_ewma_state' | 'loss_sigma_state'): Promise<boolean> {
+  if (run.portfolios === null) return true;
+  const [{ unread }] = await tx.all<{ unread: number }>(
+    `select count(*)::integer as unread from (select distinct unnest(security_ids) as id from ${table})
+     where not list_contains(from_json($1, '["VARCHAR"]'), id)`,
+    [JSON.stringify(run.securityIds)],
+  );
+  return unread === 0;
+}

@@ -200,16 +200,25 @@ describe('the loss stage state', () => {
     const corrected = { 'EQ-NORDWIND': 1300, 'EQ-QUILLON': 1200, 'CASH:USD': 15000 };
     const rows = Object.entries(corrected).map(([security, quantity], i) => [100002, i + 1, s.dates[last - 1], 'acct-growth', security, quantity]);
     await insertRows(ws.db, 'positions', ['date', 'portfolio_id', 'security_id', 'quantity'], rows);
+    const storedBy = () =>
+      ws.db.all(`select 'ewma' as state, run_id from risk_ewma_state union all select 'sigma', run_id from loss_sigma_state order by all`);
+    const before = await storedBy();
+    expect(before.map((r) => r.state)).toEqual(['ewma', 'ewma', 'sigma']);
     await runRecompute(ws.db, ws.config, ws.log, { trigger: 'positions correction', from: s.dates[last - 1], portfolios: ['acct-growth'] });
+    expect(await storedBy()).toEqual(before);
+    // a run over every portfolio by name reads every security: its states replace the stored ones
+    const named = await runRecompute(ws.db, ws.config, ws.log, { trigger: 'recompute', from: s.dates[last - 1], portfolios: ['acct-growth', 'acct-income'] });
+    expect(await storedBy()).toEqual(before.map((r) => ({ ...r, run_id: named.runId })));
     await loadDays(ws.db, s, last, last);
     await runRecompute(ws.db, ws.config, ws.log, { trigger: 'new day', from: s.dates[last] });
     // the one-portfolio run read only acct-growth's securities and kept the stored EWMA matrix and
     // variances (by security, untouched by a positions correction): the next day continues from them
     const reads = inputReads(ws);
-    expect(reads.at(-2)).toMatchObject({ returnsFrom: last - 1 - 64, securities: 5 });
+    expect(reads.at(-3)).toMatchObject({ returnsFrom: last - 1 - 64, securities: 5 });
     expect(reads.at(-1)).toMatchObject({ returnsFrom: last - 64, ewmaFromState: true, securities: 8 });
     // the worst windows are kept per portfolio: acct-income's stay from the run before, at the same last two dates
     expect(stateReads(ws).slice(1).map((l) => [l.sigmaFromState, l.worstFromState])).toEqual([
+      [true, true],
       [true, true],
       [true, true],
     ]);
