@@ -8,13 +8,15 @@ export type RejectionCode =
   | 'unknown_kind'
   | 'unreadable'
   | 'empty_file'
+  | 'no_header'
   | 'missing_column'
   | 'bad_value'
   | 'duplicate_key'
   | 'weight_sum'
   | 'too_large'
   | 'manifest_mismatch'
-  | 'unsupported_compression';
+  | 'unsupported_compression'
+  | 'unsupported_encoding';
 
 export interface Rejection {
   code: RejectionCode;

@@ -3,6 +3,7 @@ import { pipeline } from 'node:stream/promises';
 import { createGunzip } from 'node:zlib';
 import type { Config } from '../config/load.ts';
 import type { Rejection } from '../errors.ts';
+import { ENCODING_PROBE_BYTES, encodingRejection } from './encoding.ts';
 import { MANIFEST_SUFFIX, readManifest, type Manifest } from './manifest.ts';
 
 /** Why a delivery is left in the inbox for now. */
@@ -35,7 +36,8 @@ const NEWLINE = 0x0a;
  * there (when the config asks for them), it is not empty, and its last line ends with a
  * line break (for .gz the last decompressed byte, found by one streaming pass that also
  * enforces `ingest.maxExpandedMB`). A sender paused mid-write leaves a last line without
- * one, which read_csv would take as a whole row.
+ * one, which read_csv would take as a whole row. UTF-16 text is rejected before that
+ * test, which it would fail for good (its last byte is a NUL, not a line break).
  */
 export async function checkComplete(config: Config, filePath: string, name: string): Promise<Completeness> {
   const marker = markerSuffix(config);
@@ -87,8 +89,15 @@ async function checkBytes(config: Config, filePath: string, name: string): Promi
       },
     };
   }
-  const last = lastByte(filePath);
-  if (last === null) return held('empty_so_far', 'the file is empty (still being written?)');
+  const { head, last } = readEnds(filePath);
+  return judgeText(head, last, name, 'the file is empty (still being written?)');
+}
+
+/** The verdict on a file's text from its first bytes and its last: UTF-16, empty, an open last line, or complete. */
+function judgeText(head: Buffer, last: number | null, name: string, emptyReason: string): BytesVerdict {
+  const wrongEncoding = encodingRejection(head, name);
+  if (wrongEncoding !== null) return { state: 'rejected', rejection: wrongEncoding };
+  if (last === null) return held('empty_so_far', emptyReason);
   if (last !== NEWLINE) return held('unterminated_line', 'its last line has no line break (still being written?)');
   return { state: 'complete' };
 }
@@ -108,14 +117,17 @@ function held(code: HoldReason['code'], reason: string): { state: 'held'; hold: 
   return { state: 'held', hold: { code, reason } };
 }
 
-function lastByte(filePath: string): number | null {
+/** The file's first bytes (up to ENCODING_PROBE_BYTES) and its last byte (null when empty). */
+function readEnds(filePath: string): { head: Buffer; last: number | null } {
   const fd = openSync(filePath, 'r');
   try {
     const size = fstatSync(fd).size;
-    if (size === 0) return null;
-    const buf = Buffer.alloc(1);
-    readSync(fd, buf, 0, 1, size - 1);
-    return buf[0];
+    const head = Buffer.alloc(Math.min(size, ENCODING_PROBE_BYTES));
+    const got = readSync(fd, head, 0, head.length, 0);
+    if (size === 0) return { head, last: null };
+    const last = Buffer.alloc(1);
+    readSync(fd, last, 0, 1, size - 1);
+    return { head: head.subarray(0, got), last: last[0] };
   } finally {
     closeSync(fd);
   }
@@ -129,12 +141,14 @@ async function checkGzip(filePath: string, name: string, maxExpandedMB: number):
   const limit = maxExpandedMB * 1024 * 1024;
   let expanded = 0;
   let last: number | null = null;
+  let head = Buffer.alloc(0);
   let tooLarge = false;
   try {
     await pipeline(createReadStream(filePath, { highWaterMark: 1 << 20 }), createGunzip(), async (source: AsyncIterable<Buffer>) => {
       for await (const bytes of source) {
         expanded += bytes.length;
         if (bytes.length > 0) last = bytes[bytes.length - 1];
+        if (head.length < ENCODING_PROBE_BYTES) head = Buffer.concat([head, bytes.subarray(0, ENCODING_PROBE_BYTES - head.length)]);
         if (expanded > limit) {
           tooLarge = true;
           throw new Error('expansion limit passed');
@@ -160,7 +174,5 @@ async function checkGzip(filePath: string, name: string, maxExpandedMB: number):
     if (code === 'Z_DATA_ERROR') return { state: 'complete' };
     throw err;
   }
-  if (last === null) return held('empty_so_far', 'the file decompresses to nothing (still being written?)');
-  if (last !== NEWLINE) return held('unterminated_line', 'its last line has no line break (still being written?)');
-  return { state: 'complete' };
+  return judgeText(head, last, name, 'the file decompresses to nothing (still being written?)');
 }

@@ -2,6 +2,7 @@ import { createReadStream } from 'node:fs';
 import { createGunzip } from 'node:zlib';
 import type { SourceConfig } from '../config/schema.ts';
 import { RiskfoldError, type Result } from '../errors.ts';
+import { dateFormatsOf, looksLikeNumber } from './cellShapes.ts';
 import type { KindLayout } from './layout.ts';
 
 /** A header longer than this is not a header: the file is not the CSV we expect. */
@@ -120,6 +121,8 @@ export function mapColumns(header: string[], source: SourceConfig, layout: KindL
     const at = found.flatMap((h, i) => (h === normal(wanted) ? [i] : []));
     const shown = `"${header.join('", "')}"`;
     if (at.length === 0 && field.required) {
+      const sign = dataRowSign(header);
+      if (sign !== null) return noHeader(file, header, sign);
       const renamed = wanted === field.name ? '' : ` (as "${wanted}")`;
       return reject(file, 'missing_column', field.name, header.join(','), `is missing${renamed}; header found: ${shown}`, `a column "${wanted}"`);
     }
@@ -129,6 +132,33 @@ export function mapColumns(header: string[], source: SourceConfig, layout: KindL
     if (at.length === 1) mapping[at[0]] = field.name;
   }
   return { ok: true, value: mapping };
+}
+
+/**
+ * Why a first line reads as a data row rather than a header: it starts with a date, or
+ * most of its fields are numbers; null when it may well be a header with other names.
+ */
+export function dataRowSign(fields: string[]): string | null {
+  if (dateFormatsOf(fields[0] ?? '').length > 0) return 'it starts with a date';
+  const filled = fields.filter((f) => f !== '');
+  if (filled.filter(looksLikeNumber).length * 2 > filled.length) return 'most of its fields are numbers';
+  return null;
+}
+
+/** The file starts with data: the rest of a delivery written in two parts, most likely. */
+function noHeader(file: string, header: string[], sign: string): Result<never> {
+  return {
+    ok: false,
+    rejection: {
+      code: 'no_header',
+      file,
+      // row 0 is where the header belongs: line 1
+      row: 0,
+      value: header.join(','),
+      expected: 'a header line naming the columns',
+      message: `has no header line: its first line "${header.join('", "')}" reads as a data row (${sign}), perhaps the rest of a file written in two parts`,
+    },
+  };
 }
 
 function reject(

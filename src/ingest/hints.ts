@@ -1,6 +1,7 @@
 import { nearestKey } from '../config/explain.ts';
 import type { SourceConfig } from '../config/schema.ts';
 import type { Rejection } from '../errors.ts';
+import { dateFormatsOf } from './cellShapes.ts';
 import { splitHeader } from './header.ts';
 import { layoutOf } from './layout.ts';
 
@@ -22,6 +23,7 @@ function fixFor(r: Rejection, source: SourceConfig | null): Fix {
   if (r.code === 'unknown_kind') {
     return { fixIn: 'either', hint: 'rename the file to match a pattern, or add a source for it under "sources" in the config' };
   }
+  if (r.code === 'no_header') return { fixIn: 'file', hint: wholeFileAgain(r.file) };
   if (source === null) return { fixIn: 'file' };
   if (r.code === 'missing_column') return missingColumnFix(r, source);
   if (r.code !== 'bad_value' || r.column === undefined || !r.value) return { fixIn: 'file' };
@@ -29,6 +31,14 @@ function fixFor(r: Rejection, source: SourceConfig | null): Fix {
   if (field?.type === 'date') return dateFix(r.value, r.row ?? 1, source);
   if (field?.type === 'positive' || field?.type === 'finite' || field?.type === 'fraction') return numberFix(r.value, source);
   return { fixIn: 'file' };
+}
+
+/** A file that starts with data rows is most likely the rest of a delivery whose first part loaded on its own. */
+function wholeFileAgain(file: string): string {
+  return (
+    'deliver the whole file again; to never load a partly written file, set "ingest.doneMarker" in the config ' +
+    `(the sender then writes ${file}.done when finished) or "ingest.manifest": "required" (${file}.manifest)`
+  );
 }
 
 function missingColumnFix(r: Rejection, source: SourceConfig): Fix {
@@ -50,29 +60,8 @@ function missingColumnFix(r: Rejection, source: SourceConfig): Fix {
   };
 }
 
-/** Date shapes a sender commonly uses, with the strptime format that reads each (common practice, no source). */
-const DATE_SHAPES: { shape: RegExp; formats: (parts: number[]) => string[] }[] = [
-  { shape: /^(\d{4})-(\d{1,2})-(\d{1,2})$/, formats: () => ['%Y-%m-%d'] },
-  { shape: /^(\d{4})\/(\d{1,2})\/(\d{1,2})$/, formats: () => ['%Y/%m/%d'] },
-  { shape: /^(\d{4})(\d{2})(\d{2})$/, formats: () => ['%Y%m%d'] },
-  { shape: /^(\d{1,2})\.(\d{1,2})\.(\d{4})$/, formats: () => ['%d.%m.%Y'] },
-  { shape: /^(\d{1,2})\/(\d{1,2})\/(\d{4})$/, formats: (p) => dayOrMonthFirst(p, '/') },
-  { shape: /^(\d{1,2})-(\d{1,2})-(\d{4})$/, formats: (p) => dayOrMonthFirst(p, '-') },
-];
-
-/** 13/04/2026 can only be day first, 04/13/2026 only month first; 04/05/2026 either. */
-function dayOrMonthFirst([first, second]: number[], sep: string): string[] {
-  const dayFirst = `%d${sep}%m${sep}%Y`;
-  const monthFirst = `%m${sep}%d${sep}%Y`;
-  if (first > 12) return [dayFirst];
-  if (second > 12) return [monthFirst];
-  return [dayFirst, monthFirst];
-}
-
 function dateFix(raw: string, row: number, source: SourceConfig): Fix {
-  const text = raw.trim();
-  const match = DATE_SHAPES.map((d) => ({ m: d.shape.exec(text), d })).find((x) => x.m !== null);
-  const formats = match ? match.d.formats(match.m!.slice(1).map(Number)) : [];
+  const formats = dateFormatsOf(raw);
   if (formats.length === 0 || formats.includes(source.dateFormat)) return { fixIn: 'file' };
   const shown = formats.map((f) => `"${f}"`).join(' or ');
   if (row > 1) {
