@@ -1,4 +1,5 @@
 import type { Config, ResolvedLimit } from '../config/load.ts';
+import { readableNumber } from '../cli/format.ts';
 import { limitKey } from '../limits/applicableLimits.ts';
 import type { Database } from '../storage/database.ts';
 
@@ -68,10 +69,24 @@ export async function changedSettings(db: Database, current: ResultSettings): Pr
 
 /** "setting risk.ewma.lambda changed 0.94 -> 0.97: recomputing full history" */
 export function describeChange(change: SettingChange): string {
-  return `setting ${change.setting} changed ${shown(change.before)} -> ${shown(change.after)}: recomputing full history`;
+  return `setting ${change.setting} changed ${shown(change.setting, change.before)} -> ${shown(change.setting, change.after)}: recomputing full history`;
 }
 
-function shown(value: unknown): string {
+// numbers are shown rounded, never recorded rounded: the recorded text decides what changed
+function shown(setting: string, value: unknown): string {
   if (value === undefined) return '(not recorded)';
-  return Array.isArray(value) ? value.join(',') : String(value);
+  const items = Array.isArray(value) ? value : [value];
+  return items.map((item) => (setting === 'limits' ? shownLimitSetting(String(item)) : shownValue(item))).join(',');
+}
+
+function shownValue(value: unknown): string {
+  return typeof value === 'number' ? readableNumber(value) : String(value);
+}
+
+/** limitSetting's "*|vol_ex_ante||63|sample=0.1/0.09000000000000001/0.085" as "...=0.1/0.09/0.085" (a default warning is 0.9 x limit). */
+function shownLimitSetting(setting: string): string {
+  const at = setting.lastIndexOf('=');
+  if (at < 0) return setting;
+  const levels = setting.slice(at + 1).split('/').map((level) => (Number.isFinite(Number(level)) ? readableNumber(Number(level)) : level));
+  return `${setting.slice(0, at + 1)}${levels.join('/')}`;
 }

@@ -90,6 +90,15 @@ export function replayEpisodes(points: readonly MetricPoint[], levels: LimitLeve
   return episodes;
 }
 
+/**
+ * The date an open episode reached the level it is at: a breach since its escalation (its
+ * opening, when it opened at the limit), a warning since its opening. `status`, the state
+ * alerts and the report all date an episode by this.
+ */
+export function levelReachedOn(level: string, openedOn: string, escalatedOn: string | null): string {
+  return level === 'breach' ? (escalatedOn ?? openedOn) : openedOn;
+}
+
 export type TransitionKind = 'limit_opened' | 'limit_escalated' | 'limit_closed';
 
 export interface Transition {

@@ -29,12 +29,17 @@ export async function volChangeOn(db: Database, portfolioId: string, limit: Reso
 /**
  * "63-day volatility +3.1 points since 2026-11-30: +2.4 from the market, +0.7 from the
  * weights, mostly EQ-X". A security is named when its part has the sign of the weights
- * part and is at least half of it (common practice, no source: "mostly" means most).
+ * part and is at least half of it (common practice, no source: "mostly" means most), and
+ * only when the weights part shows as more than 0.0 points: no one drives a change too small to show.
  */
 export function volChangeSentence(label: string, c: VolChangeFacts): string {
   const driver = c.weights_driver_change;
   const mostly =
-    c.weights_driver_security_id !== null && driver !== null && driver * c.from_weights > 0 && Math.abs(driver) >= 0.5 * Math.abs(c.from_weights)
+    c.weights_driver_security_id !== null &&
+    driver !== null &&
+    tenthsOfPoint(c.from_weights) !== 0 &&
+    driver * c.from_weights > 0 &&
+    Math.abs(driver) >= 0.5 * Math.abs(c.from_weights)
       ? `, mostly ${c.weights_driver_security_id}`
       : '';
   const partial = c.status === 'partial_history' ? ' (holdings with a full history on both dates)' : '';
@@ -46,6 +51,11 @@ export function volChangeSentence(label: string, c: VolChangeFacts): string {
 
 /** A change of an annualized fraction in signed percentage points: 0.031 -> "+3.1 points". */
 function points(change: number): string {
-  const tenths = Math.round(change * 1000);
+  const tenths = tenthsOfPoint(change);
   return `${tenths < 0 ? '-' : '+'}${(Math.abs(tenths) / 10).toFixed(1)} points`;
+}
+
+/** A change of an annualized fraction in whole tenths of a percentage point, as the sentence shows it: 0.031 -> 31. */
+function tenthsOfPoint(change: number): number {
+  return Math.round(change * 1000);
 }

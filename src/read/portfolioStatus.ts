@@ -1,6 +1,7 @@
 import type { Config } from '../config/load.ts';
 import { applicableLimits, isCountMetric, limitKey, type Series } from '../limits/applicableLimits.ts';
 import { metricSql, seriesKey, seriesOf, type SeriesRow } from '../limits/breachStore.ts';
+import { levelReachedOn } from '../limits/episodes.ts';
 import type { QueryResult, Unit } from './readQuery.ts';
 import type { Database } from '../storage/database.ts';
 
@@ -121,7 +122,7 @@ function seriesName(s: Series): string {
 function episodeState(e: EpisodeRow | undefined): [string, string | null] {
   if (!e) return ['clear', null];
   if (e.closed_on !== null) return ['clear', e.closed_on];
-  return [e.level, e.level === 'breach' ? (e.escalated_on ?? e.opened_on) : e.opened_on];
+  return [e.level, levelReachedOn(e.level, e.opened_on, e.escalated_on)];
 }
 
 async function latestDates(db: Database, portfolio: string | null): Promise<Map<string, string>> {

@@ -2,6 +2,7 @@ import { CAUTIONS } from './cautions.ts';
 import { escapeHtml, formatMoney, formatNumber, formatPercent, formatLimitFigure } from './format.ts';
 import { estimateLabel, seriesLabel } from '../labels.ts';
 import { seriesOf } from '../limits/breachStore.ts';
+import { levelReachedOn } from '../limits/episodes.ts';
 import type { Breach, ReportData } from './reportData.ts';
 
 const cell = (text: string, num = false) => `<td${num ? ' class="num"' : ''}>${escapeHtml(text)}</td>`;
@@ -15,13 +16,19 @@ export function openEpisode(data: ReportData): Breach | undefined {
   );
 }
 
+/** "in breach since 2026-08-21 (warning from 2026-07-13)": dated as `status` and the alerts date it. */
+function episodeChipText(episode: Breach): string {
+  const since = levelReachedOn(episode.level, episode.opened_on, episode.escalated_on);
+  if (episode.level === 'warning') return `warning since ${since}`;
+  // an episode that opened below the limit was a warning first: say since when
+  return since === episode.opened_on ? `in breach since ${since}` : `in breach since ${since} (warning from ${episode.opened_on})`;
+}
+
 export function keyFigures(data: ReportData): string {
   const focus = data.latest.find((r) => r.estimator === 'sample' && r.window_days === data.focusWindow);
   const limit = data.limits.find((l) => l.metric === 'vol_ex_ante' && l.window === data.focusWindow && l.estimator === 'sample');
   const episode = openEpisode(data);
-  const chip = episode
-    ? `<span class="chip chip-${episode.level}">${episode.level === 'breach' ? 'in breach' : 'warning'} since ${escapeHtml(episode.opened_on)}</span>`
-    : '<span class="chip chip-ok">within limit</span>';
+  const chip = episode ? `<span class="chip chip-${episode.level}">${escapeHtml(episodeChipText(episode))}</span>` : '<span class="chip chip-ok">within limit</span>';
   const figure = (label: string, value: string, note = '') =>
     `<div class="figure"><div class="label">${escapeHtml(label)}</div><div class="value">${value}</div><div class="note">${note}</div></div>`;
   return `<div class="figures">${[

@@ -1,5 +1,6 @@
 import { readFileSync, writeFileSync } from 'node:fs';
 import { afterEach, describe, expect, it } from 'vitest';
+import { describeChange } from '../../src/batch/runSettings.ts';
 import { loadConfig } from '../../src/config/load.ts';
 import { memoryLogger } from '../../src/log/logger.ts';
 import { openDatabase } from '../../src/storage/database.ts';
@@ -116,5 +117,17 @@ describe('a setting that shapes results changes between runs', () => {
       'setting risk.windows changed 63 -> 21,63: recomputing full history',
     ]);
     expect(await lastRun(wd)).toMatchObject({ from_date: null, portfolios: null, windows: '[21,63]', rows_of_other_runs: 0 });
+  });
+});
+
+describe('describeChange', () => {
+  it('shows numbers without float noise: a default warning level of 0.9 x 0.1 reads 0.09, a computed lambda 0.91', () => {
+    // 0.9 * 0.1 is 0.09000000000000001 in IEEE 754 doubles (common practice, no source)
+    const limits = (limit: number) => [`acct-a|vol_ex_ante||63|sample=${limit}/${0.9 * limit}/${0.85 * limit}`];
+    expect(describeChange({ setting: 'limits', before: limits(0.15), after: limits(0.1) })).toBe(
+      'setting limits changed acct-a|vol_ex_ante||63|sample=0.15/0.135/0.1275 -> acct-a|vol_ex_ante||63|sample=0.1/0.09/0.085: recomputing full history',
+    );
+    expect(describeChange({ setting: 'risk.ewma.lambda', before: 0.94, after: 0.7 * 1.3 })).toBe('setting risk.ewma.lambda changed 0.94 -> 0.91: recomputing full history');
+    expect(describeChange({ setting: 'risk.windows', before: undefined, after: [21, 63] })).toBe('setting risk.windows changed (not recorded) -> 21,63: recomputing full history');
   });
 });

@@ -25,6 +25,18 @@ describe('volChangeSentence', () => {
     expect(volChangeSentence('21-day volatility', facts({ weights_driver_change: 0.003 }))).not.toMatch(/mostly/);
   });
 
+  it('names no security behind a weights part that shows as +0.0 or -0.0 points', () => {
+    // all of a tiny part is still "most" of it, but a driver of nothing visible says nothing
+    for (const part of [0.0004, -0.0004]) {
+      const text = volChangeSentence('63-day volatility', facts({ from_weights: part, weights_driver_change: part }));
+      expect(text).toMatch(/[+-]0\.0 points from the weights$/);
+    }
+    // the smallest part that shows keeps its driver
+    expect(volChangeSentence('63-day volatility', facts({ from_weights: 0.0006, weights_driver_change: 0.0006 }))).toMatch(
+      /\+0\.1 points from the weights, mostly EQ-NORDWIND$/,
+    );
+  });
+
   it('says when only part of the holdings had a full history on both dates, and writes a rounding-level change as +0.0', () => {
     const text = volChangeSentence('63-day volatility', facts({ status: 'partial_history', vol_now: 0.12 - 1e-6, from_weights: 0, from_market: -1e-6 }));
     expect(text).toBe(

@@ -8,6 +8,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import { RiskfoldError } from '../../src/errors.ts';
 import { CAUTIONS } from '../../src/report/cautions.ts';
 import { escapeHtml, formatMoney, formatPercent } from '../../src/report/format.ts';
+import { readStandings } from '../../src/read/portfolioStatus.ts';
 import { loadReportData } from '../../src/report/reportData.ts';
 import { renderReport } from '../../src/report/renderReport.ts';
 import { refreshDerived } from '../../src/storage/derived.ts';
@@ -51,6 +52,22 @@ describe('loadReportData', () => {
     const html = renderReport(await loadReportData(ws.db, ws.config, FIXTURE_PORTFOLIO), new Date('2026-12-02T00:00:00Z'));
     expect(html).toContain('<span class="chip chip-ok">within limit</span>');
     expect(html).not.toContain('warning since');
+  });
+
+  it('dates an open breach from its escalation, as status does, and a warning from its opening', async () => {
+    ws = await tempWorkspace(FIXTURE_CONFIG);
+    const { breach } = await fillReportFixture(ws.db);
+    const chip = async () => {
+      const html = renderReport(await loadReportData(ws!.db, ws!.config, FIXTURE_PORTFOLIO), new Date('2026-12-02T00:00:00Z'));
+      return html.match(/<span class="chip chip-(?:warning|breach)">([^<]*)<\/span>/)?.[1];
+    };
+    // the fixture's episode reopened: at warning from opened_on, in breach from escalated_on
+    await ws.db.run('update limit_breaches set closed_on = null');
+    expect(await chip()).toBe(`in breach since ${breach.escalated_on} (warning from ${breach.opened_on})`);
+    const status = await readStandings(ws.db, ws.config, FIXTURE_PORTFOLIO);
+    expect(status.standings[0].figures.find((f) => f?.series.metric === 'vol_ex_ante')?.since).toBe(breach.escalated_on);
+    await ws.db.run("update limit_breaches set level = 'warning', escalated_on = null");
+    expect(await chip()).toBe(`warning since ${breach.opened_on}`);
   });
 
   it('ranks the largest holdings by weight and correlates their last 63 base-currency log returns like simple-statistics does', async () => {
