@@ -15,7 +15,7 @@ import {
   type RecordedEpisode,
 } from './breachStore.ts';
 import { replayEpisodes, transitionsOf, type Episode, type MetricPoint } from './episodes.ts';
-import { retractionAlert, stateAlert, topContributors, transitionAlert } from './limitAlerts.ts';
+import { retractionAlert, stateAlert, suspectPricesBehind, topContributors, transitionAlert } from './limitAlerts.ts';
 import { matchEpisodes } from './matchEpisodes.ts';
 import { currentState, loadToldStates, retractedState, sameState, saveToldStates, stateAfter, type ToldState } from './toldState.ts';
 import { volChangeOn } from './volChangeText.ts';
@@ -153,7 +153,7 @@ async function alertEpisode(
   scope: LimitScope,
 ): Promise<{ told: ToldState; raised: number } | null> {
   const { portfolioId, limit, points } = r;
-  // what the alert of a date tells: the largest contributors and why the figure moved since the date before
+  // what the alert of a date tells: the largest contributors, why the figure moved since the date before, suspect prices behind it
   const input = async (date: string) => ({
     portfolioId,
     limit,
@@ -162,6 +162,7 @@ async function alertEpisode(
     episode,
     contributors: await topContributors(db, portfolioId, limit, date),
     volChange: await volChangeOn(db, portfolioId, limit, date),
+    suspects: await suspectPricesBehind(db, portfolioId, limit, date),
   });
   let told = toldBefore;
   let raised = 0;

@@ -1,7 +1,7 @@
 import type { ResolvedLimit } from '../config/load.ts';
 import type { NewAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
-import type { Episode, Transition } from './episodes.ts';
+import { levelReachedOn, type Episode, type Transition } from './episodes.ts';
 import { isCountMetric } from './applicableLimits.ts';
 import { exceptionsLabel, seriesLabel } from '../labels.ts';
 import { stateAfter, type EpisodeState } from './toldState.ts';
@@ -35,6 +35,39 @@ export async function topContributors(
   );
 }
 
+/** A flagged price a figure was computed with: open, used (suspect-price mode flag), not yet confirmed or corrected. */
+export interface SuspectPrice {
+  security_id: string;
+  date: string;
+  price: number;
+  rules: string;
+}
+
+/**
+ * The open suspect-price flags behind the limit's figure on `date`: none unless its
+ * risk_daily row says suspect_price (markSuspectWindows decides which rows do); then the
+ * flags, up to that date, on what the portfolio or its benchmark held that day, latest
+ * first. An operator told of a breach must see that it may be a data error.
+ */
+export async function suspectPricesBehind(db: Database, portfolioId: string, limit: ResolvedLimit, date: string, count = 3): Promise<SuspectPrice[]> {
+  if (limit.metric === 'backtest_zone') return [];
+  return db.all<SuspectPrice>(
+    `with figure as (
+       select benchmark_id from risk_daily
+       where portfolio_id = $1 and date = $2::date and window_days = $3 and estimator = $4 and status like '%suspect_price%'
+     ),
+     held as (
+       select security_id from hold_daily_positions where portfolio_id = $1 and date = $2::date and exists (select 1 from figure)
+       union
+       select w.security_id from hold_benchmark_weights w join figure f using (benchmark_id) where w.date = $2::date
+     )
+     select security_id, date::varchar as date, price, rules from price_checks
+     where cleared_at is null and not held and date <= $2::date and security_id in (select security_id from held)
+     order by date desc, security_id limit ${count}`,
+    [portfolioId, date, limit.window, limit.estimator],
+  );
+}
+
 /** What an alert tells about an episode; a recorded episode (being retracted) has these too. */
 export type EpisodeFacts = Pick<Episode, 'openedOn' | 'openLevel' | 'level' | 'escalatedOn' | 'closedOn' | 'peakValue' | 'peakOn'>;
 
@@ -47,6 +80,8 @@ export interface LimitAlertInput {
   contributors: Contributor[];
   /** Why the volatility moved since the previous valuation date (vol_ex_ante limits); absent: not said. */
   volChange?: VolChangeFacts | null;
+  /** Suspect prices the figure was computed with (suspectPricesBehind); absent: none. */
+  suspects?: SuspectPrice[];
 }
 
 /** An alert for a dated transition (opened, escalated, closed) of an episode. */
@@ -93,7 +128,7 @@ export function stateAlert(input: LimitAlertInput, change: StateChange): NewAler
   const state =
     now.episodeState === 'closed'
       ? `closed on ${episode.closedOn} (episode since ${now.openedOn}, peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn})`
-      : `${now.level} since ${now.level === 'breach' ? (episode.escalatedOn ?? now.openedOn) : now.openedOn} (episode opened ${now.openedOn}, ` +
+      : `${now.level} since ${levelReachedOn(now.level, now.openedOn, episode.escalatedOn)} (episode opened ${now.openedOn}, ` +
         `peak ${fmt(limit, episode.peakValue)} on ${episode.peakOn})`;
   const before = told === null ? 'not alerted before' : `last told: ${describe(told)}`;
   const text = `${portfolioId}: ${seriesLabel(limit)}${value}: ${state}; ${before}; caught up from a delivery covering ${change.datesCovered} business days`;
@@ -133,6 +168,8 @@ function buildAlert(
   const drivers = named ? `; largest contributors ${contributors.map((c) => `${c.security_id} ${pct(c.pct, 0)}`).join(', ')}` : '';
   const change = withContributors && input.volChange ? input.volChange : null;
   const moved = change ? `. ${volChangeSentence(seriesLabel(limit), change)}` : '';
+  const suspects = withContributors ? (input.suspects ?? []) : [];
+  const caution = suspects.length > 0 ? suspectClause(suspects) : '';
   return {
     alertId: `breach-${input.breachId}-${what}`,
     kind,
@@ -160,9 +197,17 @@ function buildAlert(
       peak_on: episode.peakOn,
       contributors: withContributors ? contributors : [],
       vol_change: change,
-      text: `${text}${drivers}${moved}`,
+      suspect_prices: suspects,
+      text: `${text}${caution}${drivers}${moved}`,
     },
   };
+}
+
+/** " (computed with a suspect price, not yet confirmed or corrected: EQ-A 990.1 on 2026-11-30, rules jump, power_of_ten; check the data before acting)". */
+function suspectClause(suspects: readonly SuspectPrice[]): string {
+  const listed = suspects.map((s) => `${s.security_id} ${s.price} on ${s.date}, rules ${s.rules.split(',').join(', ')}`).join('; ');
+  const noun = suspects.length === 1 ? 'a suspect price' : 'suspect prices';
+  return ` (computed with ${noun}, not yet confirmed or corrected: ${listed}; check the data before acting)`;
 }
 
 /** A limit's figure as text: a fraction as a percentage, a backtest's exceptions as a count. */

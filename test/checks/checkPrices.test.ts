@@ -1,5 +1,6 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import { runBatch } from '../../src/batch/runBatch.ts';
+import type { ConfigInput } from '../../src/config/schema.ts';
 import { writeCsv } from '../helpers/files.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 import { SP500_CLOSES, SP500_DATES } from '../risk/math/data/sp500Closes2008.ts';
@@ -38,9 +39,9 @@ describe('checkPrices in the pipeline', () => {
       [date],
     );
 
-  async function loaded(mode: 'flag' | 'hold') {
+  async function loaded(mode: 'flag' | 'hold', limits: ConfigInput['limits'] = []) {
     // 100 scenarios: the historical VaR has figures by October
-    ws = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252, historical: { days: [100] } }, limits: [], checks: { suspectPrices: { mode } } });
+    ws = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252, historical: { days: [100] } }, limits, checks: { suspectPrices: { mode } } });
     await deliver('positions_2008.csv', [['date', 'portfolio_id', 'security_id', 'quantity'], ['2008-01-04', 'acct-broad', 'EQ-BROAD', 100], ['2008-01-04', 'acct-broad', 'CASH:USD', 50_000]]);
     await deliver('prices_2008.csv', prices(HISTORY));
     // the whole of 2008 up to the slip, the crash of October included, raises nothing
@@ -78,6 +79,25 @@ describe('checkPrices in the pipeline', () => {
     expect(after[1].text).toBe(`EQ-BROAD: the suspect price ${slip} on 2008-10-14 is cleared: corrected to ${SP500_CLOSES[SLIP_DAY]}`);
     expect((await statusOn('2008-10-14')).map((r) => r.status)).toEqual(['ok']);
     expect((await varStatusOn('2008-10-14')).map((r) => r.status)).toEqual(['ok', 'ok', 'ok', 'ok']);
+  });
+
+  it('names the suspect price in the breach alert a flagged price sets off (flag mode), and withdraws the episode on the correction', async () => {
+    // 2008's 21-day volatility of the index stays under 100%; a 10x price sends it far above
+    await loaded('flag', [{ portfolio: 'acct-broad', window: 21, limit: 1 }]);
+    const slip = SP500_CLOSES[SLIP_DAY] * 10;
+    await deliver('prices_20081014.csv', prices([[SP500_DATES[SLIP_DAY], 'EQ-BROAD', slip]]));
+    const limitAlerts = () =>
+      ws!.db.all<{ kind: string; text: string; suspects: string }>(
+        "select kind, payload->>'text' as text, payload->>'suspect_prices' as suspects from alerts where kind like 'limit_%' order by created_at, alert_id",
+      );
+    const [opened] = await limitAlerts();
+    expect(opened.kind).toBe('limit_opened');
+    expect(opened.text).toContain(
+      `reached its 100.0% limit on 2008-10-14 (computed with a suspect price, not yet confirmed or corrected: EQ-BROAD ${slip} on 2008-10-14, rules jump, power_of_ten; check the data before acting)`,
+    );
+    expect(JSON.parse(opened.suspects)).toEqual([{ security_id: 'EQ-BROAD', date: '2008-10-14', price: slip, rules: 'jump,power_of_ten' }]);
+    await deliver('prices_20081014_fix.csv', prices([[SP500_DATES[SLIP_DAY], 'EQ-BROAD', SP500_CLOSES[SLIP_DAY]]]));
+    expect((await limitAlerts()).map((a) => a.kind)).toEqual(['limit_opened', 'limit_retracted']);
   });
 
   it('checks the prices of a benchmark constituent nobody holds, and marks the status of the portfolios measured against it', async () => {
