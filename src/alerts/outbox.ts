@@ -10,7 +10,8 @@ export type AlertKind =
   | 'portfolio_unvalued'
   | 'price_suspect'
   | 'run_failed'
-  | 'file_held';
+  | 'file_held'
+  | 'file_rejected';
 
 export interface NewAlert {
   /** Stable and unique: a receiver de-duplicates by it, a re-derived alert gets the same id. */

@@ -3,6 +3,7 @@ import path from 'node:path';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
 import type { FileKind } from '../config/schema.ts';
+import { insertAlert } from '../alerts/outbox.ts';
 import { fileLine, formatRejection, type Rejection } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
 import { markerSuffix } from './completeness.ts';
@@ -44,6 +45,22 @@ export async function recordRejected(
       ...d, rows: 0, status: 'rejected', error: formatRejection(rejection), archivedPath: target, minDate: null, maxDate: null, duplicateOf: null,
     }));
   faultPoint('recorded');
+  // operations hear of it: a rejected correction or daily file leaves its data out of risk
+  // until it is delivered again (one alert per rejected delivery; a resumed move finds it there)
+  await insertAlert(db, {
+    alertId: `file-rejected-${fileId}`,
+    kind: 'file_rejected',
+    portfolioId: null,
+    asOf: null,
+    payload: {
+      level: 'rejected',
+      episode_state: 'open',
+      file: d.name,
+      code: rejection.code,
+      quarantined_as: path.basename(target),
+      text: `${d.name} rejected, nothing of it loaded, moved to quarantine: ${formatRejection(rejection)}`,
+    },
+  });
   writeReasonFile(target, rejection, d.receivedAt);
   const movedTo = await settle(db, config, filePath, target, fileId);
   if (movedTo !== target) renameSync(`${target}.reason.txt`, `${movedTo}.reason.txt`);

@@ -112,8 +112,11 @@ describe('riskfold status and sql with no worker running', () => {
       expect.stringMatching(new RegExp(`^fx,${expectedFor},[0-9: -]+,${expectedFor},true$`)),
       'securities,,,,',
     ]);
-    // the batch did not deliver: the limit alert (a history load: the state, not a late opening) waits in the outbox
-    expect(csv).toMatch(/# undelivered alerts by kind\nkind,alerts,oldest_as_of,most_attempts,latest_error\nlimit_state,1,2020-03-10,1,webhook: .+\n/);
+    // the batch did not deliver: the alert on the fixture's rejected file and the limit alert
+    // (a history load: the state, not a late opening) wait in the outbox
+    expect(csv).toMatch(
+      /# undelivered alerts by kind\nkind,alerts,oldest_as_of,most_attempts,latest_error\nfile_rejected,1,,1,webhook: .+\nlimit_state,1,2020-03-10,1,webhook: .+\n/,
+    );
   });
 
   it('keeps full precision in csv and json', () => {

@@ -1,5 +1,6 @@
 import { existsSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
+import { gzipSync } from 'node:zlib';
 import { afterEach, describe, expect, it } from 'vitest';
 import { formatRejection, type Rejection } from '../../src/errors.ts';
 import { ingestFile, type IngestOutcome } from '../../src/ingest/ingestFile.ts';
@@ -36,7 +37,7 @@ async function rejectRows(name: string, rows: string[][]): Promise<Rejection> {
 
 /**
  * What every rejection must do: raw tables unchanged, the file in quarantine with its
- * reason file, a `rejected` row with the one-line error, a warn log record.
+ * reason file, a `rejected` row with the one-line error, a file_rejected alert, a warn log record.
  */
 async function expectRejected(file: string): Promise<Rejection> {
   const ws = current();
@@ -55,6 +56,14 @@ async function expectRejected(file: string): Promise<Rejection> {
     [out.fileId],
   );
   expect(rec).toEqual({ status: 'rejected', error: formatRejection(rejection), archived_path: out.movedTo });
+  // and one alert to operations, with the same line: the data it holds is left out of risk
+  const alerts = await ws.db.all<{ kind: string; text: string; level: string }>(
+    "select kind, payload->>'text' as text, payload->>'level' as level from alerts where alert_id = $1",
+    [`file-rejected-${out.fileId}`],
+  );
+  expect(alerts).toEqual([
+    { kind: 'file_rejected', level: 'rejected', text: `${path.basename(file)} rejected, nothing of it loaded, moved to quarantine: ${formatRejection(rejection)}` },
+  ]);
   const logged = ws.logLines().find((l) => l.msg === 'file rejected' && l.fileId === out.fileId);
   expect(logged).toMatchObject({ level: 40, stage: 'ingest', file: path.basename(file), code: rejection.code, message: rejection.message });
   expect(logged?.row).toBe(rejection.row);
@@ -201,6 +210,20 @@ describe('ingestFile: rejected files', () => {
     );
   });
 
+  it('says a file that starts with a data row has no header line, most likely the second part of a file written in two', async () => {
+    const ws = await workspace();
+    // the sender paused right after a line break: the first part is a whole file of its own and loads
+    const first = writeCsv(ws.config.inbox, 'prices_1201.csv', [PRICE_HEADER, ['2026-04-10', 'EQ-C', '50.1', 'EUR']]);
+    expect((await ingestFile(ws.db, ws.config, ws.log, first)).status).toBe('ingested');
+    const r = await rejectRows('prices_1201.csv', [['2026-04-11', 'EQ-C', '50.3', 'EUR'], ['2026-04-12', 'EQ-C', '50.4', 'EUR']]);
+    expect(r).toMatchObject({ code: 'no_header', row: 0, value: '2026-04-11,EQ-C,50.3,EUR', fixIn: 'file' });
+    expect(formatRejection(r)).toBe(
+      'prices_1201.csv line 1: has no header line: its first line "2026-04-11", "EQ-C", "50.3", "EUR" reads as a data row (it starts with a date), ' +
+        'perhaps the rest of a file written in two parts; deliver the whole file again; to never load a partly written file, ' +
+        'set "ingest.doneMarker" in the config (the sender then writes prices_1201.csv.done when finished) or "ingest.manifest": "required" (prices_1201.csv.manifest)',
+    );
+  });
+
   it('holds a zero-byte file (a write not begun) and rejects a file with a header only', async () => {
     const ws = await workspace();
     const empty = path.join(ws.config.inbox, 'prices_empty.csv');
@@ -221,6 +244,40 @@ describe('ingestFile: rejected files', () => {
     const file = path.join(ws.config.inbox, 'prices_i.csv.gz');
     writeFileSync(file, 'date,security_id,price\n2026-04-10,EQ-A,1\n');
     expect(await expectRejected(file)).toMatchObject({ code: 'unreadable' });
+  });
+
+  // the UTF-16 byte-order marks FF FE (little-endian) and FE FF (big-endian): the Unicode Standard, section 3.10
+  const UTF16_TEXT = 'date,security_id,price\n2026-04-10,EQ-A,99.3\n';
+  const utf16le = (text: string) => Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(text, 'utf16le')]);
+  const utf16be = (text: string) => Buffer.concat([Buffer.from([0xfe, 0xff]), Buffer.from(text, 'utf16le').swap16()]);
+
+  it.each([
+    ['little-endian', 'FF FE', utf16le],
+    ['big-endian', 'FE FF', utf16be],
+  ])('rejects a UTF-16 %s file with its byte-order mark, keeping its bytes, and says to save it as UTF-8', async (form, mark, encode) => {
+    const ws = await workspace();
+    const file = path.join(ws.config.inbox, 'prices_utf16.csv');
+    writeFileSync(file, encode(UTF16_TEXT));
+    const r = await expectRejected(file);
+    expect(r).toMatchObject({ code: 'unsupported_encoding', value: `UTF-16 ${form}`, fixIn: 'file' });
+    expect(formatRejection(r)).toBe(
+      `prices_utf16.csv: is UTF-16 ${form} text (it starts with the byte-order mark ${mark}), not UTF-8; not loaded; ` +
+        'save it as UTF-8 (in Excel as "CSV UTF-8"; in PowerShell with -Encoding utf8)',
+    );
+    expect(readFileSync(path.join(ws.config.quarantine, 'prices_utf16.csv'))).toEqual(encode(UTF16_TEXT));
+  });
+
+  it('rejects UTF-16 without a byte-order mark and UTF-16 inside a .gz, and still holds a file of NUL bytes (space reserved, text not yet written)', async () => {
+    const ws = await workspace();
+    const bare = path.join(ws.config.inbox, 'prices_bare.csv');
+    writeFileSync(bare, Buffer.from(UTF16_TEXT, 'utf16le'));
+    expect(formatRejection(await expectRejected(bare))).toMatch(/^prices_bare\.csv: is UTF-16 little-endian text \(every other byte of its start is NUL\), not UTF-8; /);
+    const gz = path.join(ws.config.inbox, 'prices_utf16.csv.gz');
+    writeFileSync(gz, gzipSync(utf16be(UTF16_TEXT)));
+    expect(await expectRejected(gz)).toMatchObject({ code: 'unsupported_encoding', value: 'UTF-16 big-endian' });
+    const reserved = path.join(ws.config.inbox, 'prices_reserved.csv');
+    writeFileSync(reserved, Buffer.alloc(4096));
+    expect(await ingestFile(ws.db, ws.config, ws.log, reserved)).toMatchObject({ status: 'held', hold: { code: 'unterminated_line' } });
   });
 
   it('rejects a name that matches no source as unknown_kind', async () => {
