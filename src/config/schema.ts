@@ -322,7 +322,7 @@ const ingestSchema = z
       .min(0)
       .max(1)
       .default(0.5)
-      .describe('A positions snapshot keeping fewer than this share of a portfolio\'s previous holdings is held as suspect (0 turns the check off).'),
+      .describe('A positions file is held as suspect when a portfolio\'s snapshot in it has fewer non-zero rows than this share of the non-zero rows of the portfolio\'s latest snapshot on or before that date in another file. Only the counts are compared, not which securities; 0 turns the check off.'),
     confirmedFiles: z
       .array(z.string().min(1))
       .default([])
