@@ -457,6 +457,7 @@ export const configSchema = z
           message: `needs clear < warning <= limit, got clear ${clear}, warning ${warning}, limit ${level}`,
         });
       }
+      if (limit.metric === 'tracking_error_ex_ante') checkBenchmarkFor(limit, cfg.benchmarks, i, ctx);
       if (limit.method === 'historical' || limit.method === 'filtered_historical') checkScenarioWindow(limit, cfg.risk.historical.days, i, ctx);
       else checkWindow(limit, cfg.risk, i, ctx);
     });
@@ -482,6 +483,17 @@ function checkWindow(limit: LimitConfig, risk: { windows: number[]; shrunk: { wi
       message: limit.estimator === 'ewma' ? 'an ewma limit has window 0' : `window ${limit.window} is not in ${watched.name} (${watched.list.join(', ') || 'none'})`,
     });
   }
+}
+
+/** A tracking error limit watches nothing without a benchmark for its portfolio ("*": for any). */
+function checkBenchmarkFor(limit: LimitConfig, benchmarks: Record<string, string>, i: number, ctx: z.RefinementCtx): void {
+  const covered = limit.portfolio === '*' ? Object.keys(benchmarks).length > 0 : limit.portfolio in benchmarks || '*' in benchmarks;
+  if (covered) return;
+  ctx.addIssue({
+    code: 'custom',
+    path: ['limits', i, 'metric'],
+    message: `a tracking_error_ex_ante limit needs a benchmark: set "benchmarks": { "${limit.portfolio}": "<benchmark_id>" } (the tracking error is blank without one)`,
+  });
 }
 
 /** A backtest_zone limit on a historical method: its window is the scenario days; the method has no covariance estimator. */

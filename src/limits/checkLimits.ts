@@ -2,6 +2,7 @@ import type { Logger } from 'pino';
 import type { Config, ResolvedLimit } from '../config/load.ts';
 import { insertAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
+import { limitsOnUnknownPortfolios } from '../read/portfolios.ts';
 import { applicableLimits, limitKey } from './applicableLimits.ts';
 import {
   alertedKinds,
@@ -55,6 +56,9 @@ export async function checkLimits(db: Database, config: Config, log: Logger, sco
   const stageLog = log.child({ stage: 'limits', runId: scope.runId });
   const outcome: LimitOutcome = { alertsRaised: 0, openEpisodes: 0 };
   if (config.limits.length === 0) return outcome;
+  for (const l of await limitsOnUnknownPortfolios(db, config)) {
+    stageLog.warn({ portfolio: l.portfolio, metric: l.metric, window: l.window, known: l.known }, 'a limit is set on a portfolio no positions name: it watches nothing (a typo in the config?)');
+  }
   const filter = scope.portfolios === null ? null : JSON.stringify(scope.portfolios);
   const portfolios = await db.all<{ portfolio_id: string; alert_from: string }>(
     `select portfolio_id, max(max(date)) over () - $2::integer as alert_from from risk_daily

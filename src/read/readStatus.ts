@@ -4,7 +4,7 @@ import type { Config } from '../config/load.ts';
 import { isCountMetric } from '../limits/applicableLimits.ts';
 import { readDeliveryStatus } from './deliveryStatus.ts';
 import { readPortfolioStatus } from './portfolioStatus.ts';
-import { requireKnownPortfolios } from './portfolios.ts';
+import { limitsOnUnknownPortfolios, requireKnownPortfolios } from './portfolios.ts';
 import type { Database } from '../storage/database.ts';
 import { readTable, type QueryResult } from './readQuery.ts';
 
@@ -33,7 +33,8 @@ const SHOWN = 20;
 /**
  * What operations look at first: a failed or interrupted last run (first, since the
  * figures below are then behind the data), portfolios whose risk the runs could not
- * compute (which, since which run, the error), each portfolio against its limits, whether
+ * compute (which, since which run, the error), limits set on a portfolio id no positions
+ * name (they watch nothing), each portfolio against its limits, whether
  * the day's files arrived, the last run, then the alerts the channels have not all
  * taken, files held or changed after archiving, and the data problems on the latest
  * valuation date, counted by kind. `details` adds the rows.
@@ -51,11 +52,19 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
     select f.portfolio_id, f.since_run, r.started_at as failing_since, f.last_run, f.failed_on, f.error
     from (${FAILING_PORTFOLIOS_SQL}) f join risk_runs r on r.run_id = f.since_run
     order by f.portfolio_id`, [portfolio]);
+  const unwatched = await limitsOnUnknownPortfolios(db, config);
+  const unknownLimits: StatusSection = {
+    key: 'limitsOnUnknownPortfolios',
+    title: 'LIMITS ON NO KNOWN PORTFOLIO: they watch nothing (a typo in the config?)',
+    result: { columns: ['portfolio', 'metric', 'window', 'known_portfolios'], rows: unwatched.map((l) => [l.portfolio, l.metric, l.window, l.known.join(', ')]) },
+    total: unwatched.length,
+  };
   const portfolios = await readPortfolioStatus(db, config, portfolio);
   const files = await readDeliveryStatus(db, config, options.now);
   const sections: StatusSection[] = [
     ...(failed.total > 0 ? [failed] : []),
     ...(failing && failing.total > 0 ? [failing] : []),
+    ...(unknownLimits.total > 0 ? [unknownLimits] : []),
     { key: 'portfolios', title: 'portfolios', result: portfolios, total: portfolios.rows.length },
     { key: 'files', title: 'files by kind', result: files, total: files.rows.length },
     await section(db, 'lastRun', 'last run', `

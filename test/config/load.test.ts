@@ -47,6 +47,16 @@ describe('loadConfig', () => {
     );
   });
 
+  it('refuses a tracking error limit no benchmark is set for, and takes it once one is', () => {
+    const te = (portfolio: string) => ({ portfolio, metric: 'tracking_error_ex_ante' as const, window: 63, limit: 0.03 });
+    expect(() => resolveConfig({ risk: { windows: [63] }, limits: [te('*')] }, 'c.json')).toThrow(/needs a benchmark[\s\S]*limits\[0\]/);
+    expect(() => resolveConfig({ risk: { windows: [63] }, limits: [te('acct-a')], benchmarks: { 'acct-b': 'bm-1' } }, 'c.json')).toThrow(
+      /"benchmarks": \{ "acct-a": "<benchmark_id>" \}/,
+    );
+    expect(resolveConfig({ risk: { windows: [63] }, limits: [te('acct-a')], benchmarks: { '*': 'bm-1' } }, 'c.json').limits).toHaveLength(1);
+    expect(resolveConfig({ risk: { windows: [63] }, limits: [te('*')], benchmarks: { 'acct-b': 'bm-1' } }, 'c.json').limits).toHaveLength(1);
+  });
+
   it('refuses stress scenarios that cannot mean anything, naming the place', () => {
     const stress = (scenarios: unknown[]) => () => resolveConfig({ stress: { scenarios } }, 'c.json');
     expect(stress([{ id: 'usd-down', kind: 'hypothetical', shocks: [{ currency: 'USD', return: -0.1 }] }])).toThrow(
