@@ -27,6 +27,11 @@ export function channelSecrets(config: Config): (string | undefined)[] {
   return env === undefined ? [] : [process.env[env]];
 }
 
+/** Whether alerts reach anyone but the log: an alerts file or a webhook is configured. */
+export function hasOutsideChannel(config: Config): boolean {
+  return config.alerts.file !== undefined || config.alerts.webhook !== undefined;
+}
+
 /** The log always, then the alerts file and the webhook if configured. */
 export function configuredChannels(config: Config, log: Logger): Channel[] {
   const channels: Channel[] = [logChannel(log)];

@@ -108,9 +108,9 @@ export function formatSections(sections: StatusSection[], format: OutputFormat, 
     .map((s) => {
       const more = s.total > s.result.rows.length ? ` (latest ${s.result.rows.length} of ${s.total})` : '';
       const heading = format === 'csv' ? `# ${s.title}${more}` : `== ${s.title}${more}`;
-      if (s.note) return `${heading}\n${s.note}\n`;
-      if (s.total === 0) return `${heading}\nnone\n`;
-      return `${heading}\n${formatResult(s.result, format)}`;
+      const note = s.note ? `${s.note}\n` : '';
+      if (s.total === 0) return `${heading}\n${note || 'none\n'}`;
+      return `${heading}\n${note}${formatResult(s.result, format)}`;
     })
     .join('\n');
 }

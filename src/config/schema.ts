@@ -1,3 +1,4 @@
+import cron from 'node-cron';
 import { z } from 'zod';
 import { currencyCode } from './codes.ts';
 import { checkStressScenarios, stressSchema } from './stressSchema.ts';
@@ -471,7 +472,31 @@ export const configSchema = z
       }
     });
     checkStressScenarios(cfg.stress.scenarios, cfg.baseCurrency, ctx);
+    checkSchedule(cfg.schedule, ctx);
   });
+
+/**
+ * The schedule's cron expressions and time zone, checked when the config is read: a typo
+ * found only when `watch` starts its schedules comes after it has caught up on the inbox.
+ */
+function checkSchedule(schedule: z.infer<typeof scheduleSchema>, ctx: z.RefinementCtx): void {
+  const crons: [string[], string][] = [
+    [['schedule', 'missingData', 'cron'], schedule.missingData.cron],
+    [['schedule', 'retryAlerts'], schedule.retryAlerts],
+    [['schedule', 'checkpoint'], schedule.checkpoint],
+    [['schedule', 'archiveAudit'], schedule.archiveAudit],
+  ];
+  for (const [path, expression] of crons) {
+    if (!cron.validate(expression)) {
+      ctx.addIssue({ code: 'custom', path, message: `"${expression}" is not a cron expression (minute hour day-of-month month day-of-week, e.g. "0 22 * * 1-5")` });
+    }
+  }
+  try {
+    new Intl.DateTimeFormat('en-US', { timeZone: schedule.timezone });
+  } catch {
+    ctx.addIssue({ code: 'custom', path: ['schedule', 'timezone'], message: `"${schedule.timezone}" is not an IANA time zone (e.g. "Europe/London")` });
+  }
+}
 
 /** A limit's window and estimator name an estimate of risk_daily. */
 function checkWindow(limit: LimitConfig, risk: { windows: number[]; shrunk: { windows: number[] } }, i: number, ctx: z.RefinementCtx): void {

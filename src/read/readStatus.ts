@@ -7,6 +7,7 @@ import { readPortfolioStatus } from './portfolioStatus.ts';
 import { limitsOnUnknownPortfolios, requireKnownPortfolios } from './portfolios.ts';
 import type { Database } from '../storage/database.ts';
 import { readTable, type QueryResult } from './readQuery.ts';
+import { hasOutsideChannel } from '../alerts/channels.ts';
 
 export interface StatusSection {
   /** Key in `status --format json`. */
@@ -70,10 +71,13 @@ export async function readStatus(db: Database, config: Config, options: StatusOp
     await section(db, 'lastRun', 'last run', `
       select run_id, trigger, status, from_date, portfolios, started_at, finished_at, risk_rows, error
       from risk_runs order by run_id desc`, [], 1),
-    await section(db, 'alerts', 'undelivered alerts by kind', `
+    withNote(
+      await section(db, 'alerts', 'undelivered alerts by kind', `
       select kind, count(*) as alerts, min(as_of) as oldest_as_of, max(attempts) as most_attempts, arg_max(last_error, created_at) as latest_error
       from alerts where delivered_at is null and ($1::varchar is null or portfolio_id = $1)
       group by kind order by kind`, [portfolio]),
+      hasOutsideChannel(config) ? undefined : 'no alert channel is configured (alerts.file, alerts.webhook): alerts go to the worker log only',
+    ),
   ];
   sections.push(
     await section(db, 'fileProblems', 'files held or changed after archiving, by kind', `
@@ -117,6 +121,10 @@ const FILE_PROBLEMS = `
          a.found_at as since
   from archive_findings a left join ingested_files f on f.file_id = a.file_id
   where a.resolved_at is null`;
+
+function withNote(section: StatusSection, note: string | undefined): StatusSection {
+  return note === undefined ? section : { ...section, note };
+}
 
 async function dataQualitySection(db: Database, portfolio: string | null, shape: 'summary' | 'rows'): Promise<StatusSection> {
   const key = shape === 'summary' ? 'dataProblems' : 'dataProblemRows';

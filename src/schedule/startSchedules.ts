@@ -1,12 +1,12 @@
 import cron, { type ScheduledTask, type TaskContext } from 'node-cron';
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
-import { RiskfoldError } from '../errors.ts';
 import type { ScheduleHost } from '../worker/startWorker.ts';
 import { auditArchiveInFull, checkMissingData, checkpointDatabase } from './jobs.ts';
 
 /**
- * Starts the cron jobs in config.schedule.timezone: the missing-data check, the retry
+ * Starts the cron jobs in config.schedule.timezone (expressions and zone checked when the
+ * config was read, schema.ts): the missing-data check, the retry
  * of undelivered alerts, the nightly checkpoint, the full archive audit. The job bodies are plain functions of
  * (db, config, log, now) in ./jobs.ts; here they are only timed and handed to the
  * worker: jobs that write run through `host.exclusive` (the worker's serial queue,
@@ -17,7 +17,6 @@ export function startSchedules(host: ScheduleHost): { stop(): void } {
   const { config } = host;
   const log = host.log.child({ stage: 'schedule' });
   const { timezone, missingData, retryAlerts, checkpoint, archiveAudit } = config.schedule;
-  checkSchedule(config);
 
   const every = (name: string, expression: string, body: (now: Date) => Promise<void>): ScheduledTask =>
     cron.schedule(
@@ -50,30 +49,6 @@ export function startSchedules(host: ScheduleHost): { stop(): void } {
       for (const task of tasks) void task.destroy();
     },
   };
-}
-
-/** A wrong cron expression or time zone is the user's to fix: name the config field. */
-function checkSchedule(config: Config): void {
-  const fields: [string, string][] = [
-    ['schedule.missingData.cron', config.schedule.missingData.cron],
-    ['schedule.retryAlerts', config.schedule.retryAlerts],
-    ['schedule.checkpoint', config.schedule.checkpoint],
-    ['schedule.archiveAudit', config.schedule.archiveAudit],
-  ];
-  for (const [field, expression] of fields) {
-    if (!cron.validate(expression)) {
-      throw new RiskfoldError('config_invalid', `${config.configPath}: ${field} "${expression}" is not a cron expression`, {
-        file: config.configPath,
-      });
-    }
-  }
-  try {
-    new Intl.DateTimeFormat('en-US', { timeZone: config.schedule.timezone });
-  } catch {
-    throw new RiskfoldError('config_invalid', `${config.configPath}: schedule.timezone "${config.schedule.timezone}" is not an IANA time zone`, {
-      file: config.configPath,
-    });
-  }
 }
 
 /** node-cron's own warnings (a job still running at its next time) go to our log. */

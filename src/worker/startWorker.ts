@@ -19,6 +19,7 @@ import { holdsWholeDay, listInbox, waitUntilStable } from '../watch/inboxFiles.t
 import { watchInbox } from '../watch/inboxWatcher.ts';
 import { describeHolder, removePidFile, writePidFile } from './workerPidFile.ts';
 import { WorkQueue } from './workQueue.ts';
+import { hasOutsideChannel } from '../alerts/channels.ts';
 
 /** What the scheduled jobs (src/schedule/) get from the worker that runs them. */
 export interface ScheduleHost {
@@ -56,6 +57,9 @@ export async function startWorker(config: Config, log: Logger, options: WorkerOp
   const wlog = log.child({ stage: 'worker' });
   const db = await openOwned(config, log);
   writePidFile(config);
+  if (!hasOutsideChannel(config)) {
+    wlog.warn('no alert channel is configured: alerts go to this log only; set alerts.file or alerts.webhook so operations receive them');
+  }
 
   let stopping = false;
   let publishWanted = false;

@@ -101,14 +101,12 @@ describe('startSchedules', () => {
     await vi.waitFor(() => expect(worker.republish).toHaveBeenCalledTimes(1));
   });
 
-  it('names the config field of a wrong cron expression or time zone', async () => {
-    ws = await tempWorkspace();
-    const { db, log } = ws;
-    const configPath = ws.config.configPath;
-    const start = (schedule: object) => () => startSchedules(host(db, resolveConfig({ ...MINIMAL_CONFIG, schedule }, configPath), log).host);
-    expect(start({ checkpoint: '61 2 * * *' })).toThrow(RiskfoldError);
-    expect(start({ checkpoint: '61 2 * * *' })).toThrow(/schedule\.checkpoint "61 2 \* \* \*" is not a cron expression/);
-    expect(start({ archiveAudit: 'weekly' })).toThrow(/schedule\.archiveAudit "weekly" is not a cron expression/);
-    expect(start({ timezone: 'Mars/Olympus' })).toThrow(/schedule\.timezone "Mars\/Olympus" is not an IANA time zone/);
+  it('refuses a wrong cron expression or time zone when the config is read, naming the field', () => {
+    const read = (schedule: object) => () => resolveConfig({ ...MINIMAL_CONFIG, schedule }, 'c.json');
+    expect(read({ checkpoint: '61 2 * * *' })).toThrow(RiskfoldError);
+    expect(read({ checkpoint: '61 2 * * *' })).toThrow(/"61 2 \* \* \*" is not a cron expression[\s\S]*schedule\.checkpoint/);
+    expect(read({ archiveAudit: 'weekly' })).toThrow(/"weekly" is not a cron expression[\s\S]*schedule\.archiveAudit/);
+    expect(read({ missingData: { cron: '0 25 * * *' } })).toThrow(/schedule\.missingData\.cron/);
+    expect(read({ timezone: 'Mars/Olympus' })).toThrow(/"Mars\/Olympus" is not an IANA time zone[\s\S]*schedule\.timezone/);
   });
 });

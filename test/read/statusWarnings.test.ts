@@ -4,11 +4,11 @@ import { readStatus } from '../../src/read/readStatus.ts';
 import { insertPositions } from '../helpers/rawRows.ts';
 import { tempWorkspace, type TempWorkspace } from '../helpers/workspace.ts';
 
-describe('a limit on a portfolio id no positions name', () => {
+describe('status warns of what would otherwise fail silently', () => {
   let ws: TempWorkspace | undefined;
   afterEach(() => ws?.cleanup());
 
-  it('is listed first by status and logged by the limit check: it watches nothing', async () => {
+  it('lists first a limit on a portfolio id no positions name, which the limit check logs too: it watches nothing', async () => {
     // "acct-grwoth" for "acct-growth": the intended portfolio has no limit of its own
     ws = await tempWorkspace({
       limits: [
@@ -28,7 +28,17 @@ describe('a limit on a portfolio id no positions name', () => {
     expect(first.key).toBe('limitsOnUnknownPortfolios');
     expect(first.result.rows).toEqual([['acct-grwoth', 'vol_ex_ante', 63, 'acct-growth, acct-income']]);
     await runRecompute(ws.db, ws.config, ws.log, { trigger: 'test' });
-    const logged = ws.logLines().filter((l) => l.msg?.startsWith('a limit is set on a portfolio no positions name'));
+    const logged = ws.logLines().filter((l) => String(l.msg).startsWith('a limit is set on a portfolio no positions name'));
     expect(logged).toEqual([expect.objectContaining({ level: 40, portfolio: 'acct-grwoth', window: 63, known: ['acct-growth', 'acct-income'] })]);
+  });
+
+  it('says when no alert channel is configured and alerts go to the log only', async () => {
+    ws = await tempWorkspace({ alerts: {} });
+    expect(ws.config.alerts.file).toBeUndefined();
+    const alerts = async () => (await readStatus(ws!.db, ws!.config, { portfolio: null, details: false, now: new Date() })).find((s) => s.key === 'alerts');
+    expect((await alerts())?.note).toBe('no alert channel is configured (alerts.file, alerts.webhook): alerts go to the worker log only');
+    ws.cleanup();
+    ws = await tempWorkspace();
+    expect((await alerts())?.note).toBeUndefined();
   });
 });
