@@ -10,7 +10,7 @@ import { walkHistorical } from './parallelHistorical.ts';
 import { sigmaRowsToKeep, worstRowsToKeep, type LossState } from './lossState.ts';
 import { continueSecurityVariances } from './securitySigmas.ts';
 import { PRIOR_FLAGS, readPriorFlags, type StoredLossInputs } from './storedReads.ts';
-import { historicalRangeStart, stressRows, type StressBook } from './stressRows.ts';
+import { historicalRanges, rangeKey, stressRows, type StressBook } from './stressRows.ts';
 import { WORST_WINDOW_DAYS, worstWindowsAt, type WorstWindows } from './worstWindows.ts';
 
 /**
@@ -79,7 +79,7 @@ export async function computeLosses(db: Database, config: Config, log: Logger, i
       // from, or the panel does not reach back over the longest window before the run
       const continues = fromRow - Math.max(...WORST_WINDOW_DAYS) >= portfolios.firstRow && portfolios.ids.every((_, p) => storedWorst.has(p));
       const series = continues ? portfolios.logReturn : await readPortfolioReturns(db, portfolios, t);
-      await readStressRanges(db, config, returns);
+      const earlier = await readRangeBlocks(db, returns, historicalRanges(returns.dates, config.stress.scenarios));
       // the last two dates are kept for the next run: a new day continues from the last, a redo of the last date from the one before
       const keep = [t - 2, t - 1].filter((d) => d >= 0 && d >= fromRow - 1);
       const at = new Map<number, Map<number, WorstWindows>>();
@@ -91,7 +91,7 @@ export async function computeLosses(db: Database, config: Config, log: Logger, i
           const windows = worstWindowsAt(series.subarray(p * t, (p + 1) * t), fromRow, [...keep, ...byDate.keys()], continues ? storedWorst.get(p)! : null);
           at.set(p, windows);
           for ([d] of byDate) {
-            const stress = { portfolioId: portfolios.ids[p], d, holdings: byDate.get(d)!, returns, worst: windows.get(d)! };
+            const stress = { portfolioId: portfolios.ids[p], d, holdings: byDate.get(d)!, returns, worst: windows.get(d)!, earlier };
             stressRows(stress, config.stress.scenarios, config.baseCurrency, (row) => stage.addStress(row));
           }
         } catch (err) {
@@ -172,11 +172,30 @@ async function sigmasAfter(
   return { variances, sigmaAfter, fromState: stored !== null };
 }
 
-/** The returns of the configured historical stress ranges, where the run did not read them (they may lie far back). */
-async function readStressRanges(db: Database, config: Config, returns: ReturnPanel): Promise<void> {
-  const starts = config.stress.scenarios.flatMap((s) => (s.kind === 'historical' ? [historicalRangeStart(returns.dates, s.from, s.to)] : []));
-  const first = Math.min(...starts.filter((row) => row !== null));
-  if (Number.isFinite(first) && first < (returns.returnsFrom ?? 0)) await readEarlierReturns(db, returns, first);
+/**
+ * The returns (rows x N, the panel's securities) of each stress range that starts before
+ * the rows the run read: only the range's own rows, a handful against the years between
+ * a range far back and today.
+ */
+async function readRangeBlocks(db: Database, returns: ReturnPanel, ranges: [number, number][]): Promise<Map<string, Float64Array>> {
+  const n = returns.securityIds.length;
+  const blocks = new Map<string, Float64Array>();
+  for (const [first, last] of ranges) {
+    if (first >= (returns.returnsFrom ?? 0) || blocks.has(rangeKey(first, last))) continue;
+    const block = new Float64Array((last - first + 1) * n).fill(Number.NaN);
+    // date_index counts valuation dates from 1, the panel's rows from 0
+    const raw = await readColumns(
+      db,
+      `select s.k, r.date_index, r.log_return::double
+       from ret_securities_since($1) r join risk_in_securities s using (security_id)
+       where r.date_index <= $2`,
+      [first + 1, last + 1],
+      { k: 'int', date_index: 'int', log_return: 'double' },
+    );
+    for (let i = 0; i < raw.rows; i++) block[(raw.columns.date_index[i] - 1 - first) * n + raw.columns.k[i]] = raw.columns.log_return[i];
+    blocks.set(rangeKey(first, last), block);
+  }
+  return blocks;
 }
 
 /**

@@ -25,6 +25,13 @@ export interface StressInputs {
   returns: ReturnPanel;
   /** The worst windows of the portfolio's own history up to row d (worstWindowsUpTo). */
   worst: WorstWindows;
+  /** The returns of ranges lying before the rows the run read (readRangeBlocks), by rangeKey. */
+  earlier: ReadonlyMap<string, Float64Array>;
+}
+
+/** The key of the rows first .. last of a range. */
+export function rangeKey(first: number, last: number): string {
+  return `${first}:${last}`;
 }
 
 export function stressRows(inputs: StressInputs, scenarios: readonly StressScenario[], baseCurrency: string, emit: (row: StressRow) => void): void {
@@ -71,10 +78,13 @@ export function stressRows(inputs: StressInputs, scenarios: readonly StressScena
   }
 }
 
-/** The first row whose return a historical range reads; null: no stored date in it. */
-export function historicalRangeStart(dates: readonly string[], from: string, to: string): number | null {
-  const [first, last] = rangeRows(dates, from, to);
-  return first > last ? null : first;
+/** The rows first .. last whose returns each configured historical range in stored history reads. */
+export function historicalRanges(dates: readonly string[], scenarios: readonly StressScenario[]): [number, number][] {
+  return scenarios.flatMap((s) => {
+    if (s.kind !== 'historical' || !withinHistory(dates, s.from, s.to)) return [];
+    const [first, last] = rangeRows(dates, s.from, s.to);
+    return first > last ? [] : [[first, last] as [number, number]];
+  });
 }
 
 /** Whether stored history spans the whole range: from its first date's close to its last date's close. */
@@ -101,18 +111,21 @@ function withoutData({ returns, holdings }: StressInputs): Float64Array {
   });
 }
 
-/** Each holding's compounded return over rows first .. last (first <= last); base cash 0, a gap NaN. */
+/**
+ * Each holding's compounded return over rows first .. last (first <= last); base cash 0, a
+ * gap NaN. The rows come from the panel, or from the block read for a range before it.
+ */
 function rangeReturns(inputs: StressInputs, first: number, last: number): Float64Array {
   const { returns, holdings } = inputs;
   const n = returns.securityIds.length;
   const position = new Map(returns.securityIds.map((id, j) => [id, j]));
+  const block = inputs.earlier.get(rangeKey(first, last)) ?? returns.returns.subarray(first * n, (last + 1) * n);
   const rows = last - first + 1;
   const logReturns = new Float64Array(rows * holdings.length);
   holdings.forEach((h, a) => {
     const j = position.get(h.security);
     for (let r = 0; r < rows; r++) {
-      logReturns[r * holdings.length + a] =
-        j === undefined ? Number.NaN : returns.isCash[j] === 1 ? 0 : returns.returns[(first + r) * n + j];
+      logReturns[r * holdings.length + a] = j === undefined ? Number.NaN : returns.isCash[j] === 1 ? 0 : block[r * n + j];
     }
   });
   return compoundedReturns(logReturns, rows, holdings.length);

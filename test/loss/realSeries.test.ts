@@ -235,7 +235,8 @@ describe('a recompute from a later date', () => {
  * 2008-10-15 (the index's worst day) as a new day: stress rows stored at both dates.
  */
 async function runUpToThenNewDay(stress: ConfigInput['stress'] = { scenarios: [] }): Promise<{ day: TempWorkspace; cut: number }> {
-  const day = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252, historical: { days: [250, 200] } }, limits: [], stress });
+  // 100 and 50 scenarios: a new day reads the returns of its last 101 dates only, so a range in February lies before them
+  const day = await tempWorkspace({ risk: { windows: [21], tradingDaysPerYear: 252, historical: { days: [100, 50] } }, limits: [], stress });
   await insertPrices(day.db, 2, SP500_DATES.map((date, t) => [date, 'IX-BROAD', SP500_CLOSES[t], 'USD']));
   await insertPositions(day.db, 4, [
     [SP500_DATES[0], 'acct-index', 'IX-BROAD', UNITS],
@@ -251,14 +252,19 @@ async function runUpToThenNewDay(stress: ConfigInput['stress'] = { scenarios: []
 }
 
 describe('a new day after a run', () => {
-  it('continues the worst windows from the stored ones and writes what a full backfill writes', async () => {
-    const { day, cut } = await runUpToThenNewDay();
+  it('continues the worst windows from the stored ones, reads a range before its rows on its own, and writes what a full backfill writes', async () => {
+    const { day, cut } = await runUpToThenNewDay({ scenarios: [{ id: 'february-2008', kind: 'historical', from: '2008-02-01', to: '2008-02-21' }] });
     try {
-      const read = `select scenario_id, pnl_base, pnl_pct, range_from, range_to from stress_results where date = '${SP500_DATES[cut]}' order by scenario_id`;
+      const read = `select scenario_id, pnl_base, pnl_pct, coverage, range_from, range_to from stress_results where date = '${SP500_DATES[cut]}' order by scenario_id`;
       const incremental = await day.db.all(read);
+      expect(day.logLines().filter((l) => l.msg === 'inputs read').at(-1)?.returnsFrom).toBeGreaterThan(SP500_DATES.indexOf('2008-02-21'));
       await runRecompute(day.db, day.config, day.log, { trigger: 'full' });
       expect(incremental).toEqual(await day.db.all(read));
-      expect(incremental.map((r) => r.scenario_id)).toEqual(['worst_1d', 'worst_20d', 'worst_5d']);
+      expect(incremental.map((r) => r.scenario_id)).toEqual(['february-2008', 'worst_1d', 'worst_20d', 'worst_5d']);
+      // the index's move over the range, by hand from the closes, on the holding's value at the cut
+      const move = closeOn('2008-02-21') / closeOn('2008-02-01') - 1;
+      expect(incremental[0].coverage).toBe(1);
+      expect(incremental[0].pnl_base).toBeCloseTo(UNITS * SP500_CLOSES[cut] * move, 6);
     } finally {
       day.cleanup();
     }
