@@ -3,7 +3,7 @@
 -- problem of the whole portfolio.
 create or replace view check_data_quality as
 with settings as (
-  select base_currency, max_stale_days, history_days
+  select base_currency, max_stale_days, history_days, positions_max_age_days
   from pipeline_settings
 ),
 
@@ -122,6 +122,18 @@ suspect_price as (
   where c.cleared_at is null
 ),
 
+-- a portfolio valued from a snapshot older than the limit: is the custodian still sending it?
+-- (a closed portfolio, whose last snapshot holds nothing, has no rows here)
+positions_stale as (
+  select
+    h.portfolio_id, h.date, null::varchar as security_id, 'positions_stale' as problem,
+    format('holdings from the positions snapshot of {}, {} days before this date (more than {}): is the portfolio still delivered?',
+      h.snapshot_date, h.date - h.snapshot_date, settings.positions_max_age_days) as reason
+  from (select distinct portfolio_id, date, snapshot_date from hold_daily_positions) h
+  cross join settings
+  where h.date - h.snapshot_date > settings.positions_max_age_days
+),
+
 problems as (
   select * from stale_past_limit
   union all select * from stale_price
@@ -131,6 +143,7 @@ problems as (
   union all select * from short_history
   union all select * from nonpositive_value
   union all select * from suspect_price
+  union all select * from positions_stale
 )
 
 select * from problems;

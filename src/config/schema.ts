@@ -226,6 +226,14 @@ const suspectPricesSchema = z
 const checksSchema = z
   .object({
     suspectPrices: suspectPricesSchema.default(suspectPricesSchema.parse({})),
+    positionsMaxAgeDays: z
+      .number()
+      .int()
+      .min(1)
+      .default(10)
+      .describe(
+        'A portfolio whose positions snapshot in effect is more than this many calendar days older than a valuation date is listed as a data problem (positions_stale): its risk rests on holdings that may have changed. 10 lets a weekly sender pass and flags a missed week.',
+      ),
   })
   .strict();
 

@@ -23,9 +23,16 @@ export async function openWorkspace(config: Config, log: Logger): Promise<Databa
     await db.transaction(async () => {
       await db.run('delete from pipeline_settings');
       await db.run(
-        `insert into pipeline_settings (base_currency, max_stale_days, trading_days_per_year, windows, history_days)
-         values ($1, $2, $3, $4::integer[], $5::integer[])`,
-        [config.baseCurrency, config.risk.maxStaleDays, config.risk.tradingDaysPerYear, `[${config.risk.windows.join(',')}]`, `[${historyDays(config).join(',')}]`],
+        `insert into pipeline_settings (base_currency, max_stale_days, trading_days_per_year, windows, history_days, positions_max_age_days)
+         values ($1, $2, $3, $4::integer[], $5::integer[], $6)`,
+        [
+          config.baseCurrency,
+          config.risk.maxStaleDays,
+          config.risk.tradingDaysPerYear,
+          `[${config.risk.windows.join(',')}]`,
+          `[${historyDays(config).join(',')}]`,
+          config.checks.positionsMaxAgeDays,
+        ],
       );
     });
     await applyViews(db, log);

@@ -136,6 +136,26 @@ describe('check_data_quality', () => {
     ]);
   });
 
+  it('flags a portfolio valued from a snapshot older than checks.positionsMaxAgeDays, and not one whose last snapshot holds nothing', async () => {
+    ws = await defaultsWorkspace({ risk: { windows: [2] }, checks: { positionsMaxAgeDays: 2 } });
+    await insertPositions(ws.db, 1, [
+      ['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100],
+      ['2024-03-04', 'acct-closed', 'EQ-SALTMARSH', 100],
+      ['2024-03-05', 'acct-closed', 'EQ-SALTMARSH', 0],
+    ]);
+    await insertPrices(ws.db, 2, week.map((d) => [d, 'EQ-SALTMARSH', 10, null]));
+    // Monday's snapshot: 2 days old on Wednesday (at the limit), 3 on Thursday (past it)
+    expect(await problems("problem = 'positions_stale'")).toEqual(
+      ['2024-03-07', '2024-03-08'].map((date, i) => ({
+        portfolio_id: 'acct-growth',
+        date,
+        security_id: null,
+        problem: 'positions_stale',
+        reason: `holdings from the positions snapshot of 2024-03-04, ${3 + i} days before this date (more than 2): is the portfolio still delivered?`,
+      })),
+    );
+  });
+
   it('reports nothing once a fully priced portfolio has a full window of returns', async () => {
     ws = await defaultsWorkspace({ risk: { windows: [2], ewma: { seedDays: 2 } } });
     await insertPositions(ws.db, 1, [['2024-03-04', 'acct-growth', 'EQ-SALTMARSH', 100]]);
