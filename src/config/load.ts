@@ -83,10 +83,17 @@ export function configFromText(text: string, configPath: string): Config {
   return resolveConfig(raw, configPath);
 }
 
-/** Adds "did you mean ...?" to each unknown key that is a near miss of a known one. */
+/**
+ * Adds "did you mean ...?" to each unknown key that is a near miss of a known one, and
+ * says "is missing" for a required key left out (zod's "expected number, received
+ * undefined" reads as if a value were there).
+ */
 function withKeySuggestions(error: z.ZodError): z.ZodError {
   return new z.ZodError(
     error.issues.map((issue) => {
+      if (issue.code === 'invalid_type' && /received undefined$/.test(issue.message)) {
+        return { ...issue, message: `is missing (a ${issue.expected} is required)` };
+      }
       if (issue.code !== 'unrecognized_keys') return issue;
       const known = (knownKeysAt(configSchema, issue.path) ?? []).filter((k) => k !== '$schema');
       const message = issue.keys

@@ -37,6 +37,25 @@ const DESCRIBING_PRAGMA = /^pragma\s+(table_info|storage_info|show|show_tables|s
  * second, clear refusal.
  */
 export async function runReadOnlyQuery(db: Database, sql: string): Promise<QueryResult> {
+  try {
+    return await runChecked(db, sql);
+  } catch (err) {
+    if (err instanceof RiskfoldError || !(err instanceof Error)) throw err;
+    throw new RiskfoldError('query_refused', oneLine(err.message), { cause: err });
+  }
+}
+
+/**
+ * DuckDB's error in one line: its first line and hints ("Did you mean ...?") kept, the
+ * echo of the query and its caret dropped (the user has the query in front of them), and
+ * the client's "Failed to extract statements:" before a parser error.
+ */
+function oneLine(message: string): string {
+  const lines = message.replace(/^Failed to extract statements: /, '').split('\n').map((l) => l.trim());
+  return lines.filter((l) => l !== '' && !/^LINE \d+:/.test(l) && !/^\^+$/.test(l)).join(' ');
+}
+
+async function runChecked(db: Database, sql: string): Promise<QueryResult> {
   const extracted = await db.conn.extractStatements(sql);
   if (extracted.count !== 1) {
     throw new RiskfoldError('query_refused', `expected exactly one SQL statement, got ${extracted.count}`);

@@ -36,6 +36,8 @@ describe('loadConfig', () => {
     expect(() => resolveConfig({ risk: { windows: 'sixty-three' } }, 'cfg.json')).toThrow(/cfg\.json[\s\S]*risk\.windows/);
     expect(() => resolveConfig({ baseCurrency: 'usd' }, 'cfg.json')).toThrow(/baseCurrency[\s\S]*|ISO 4217/);
     expect(() => resolveConfig({ colour: 'blue' }, 'cfg.json')).toThrow(/colour/);
+    // a required key left out is missing, not "received undefined"
+    expect(() => resolveConfig({ limits: [{ portfolio: '*', limit: 0.1 }] }, 'cfg.json')).toThrow(/is missing \(a number is required\)[\s\S]*limits\[0\]\.window/);
   });
 
   it('refuses limits whose levels are out of order or whose window is not computed', () => {

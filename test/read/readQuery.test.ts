@@ -70,6 +70,19 @@ describe('runReadOnlyQuery', () => {
     expect(n).toBe('2');
   });
 
+  it('says a mistyped table or a syntax error in one line, with DuckDB\'s hint, without the echo of the query', async () => {
+    const db = await readOnlyCopy();
+    const failure = (sql: string) => runReadOnlyQuery(db, sql).then(() => null, (err: unknown) => err);
+    const typo = await failure('select * from prise');
+    expect(typo).toBeInstanceOf(RiskfoldError);
+    expect((typo as Error).message).toMatch(/^Catalog Error: Table with name prise does not exist! Did you mean "prices"\?/);
+    expect((typo as Error).message).not.toMatch(/\n|LINE 1|\^/);
+    const syntax = await failure('select from where');
+    expect(syntax).toBeInstanceOf(RiskfoldError);
+    expect((syntax as Error).message).toMatch(/^Parser Error: /);
+    expect((syntax as Error).message).not.toContain('\n');
+  });
+
   it('leaves no trace of a refused EXPORT DATABASE, even in a folder the query may read', async () => {
     const db = await readOnlyCopy(['open']);
     mkdirSync(path.join(dir, 'open'));
