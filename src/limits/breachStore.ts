@@ -129,17 +129,30 @@ export async function loadEpisodesInScope(db: Database, portfolios: readonly str
 }
 
 /**
- * Per series key, the last date before `from` on which an episode closed: on it no
- * episode was open, so a replay can start there. A key without one replays everything.
+ * Per portfolio, the last date before `from` on which the figure of `limit` was below
+ * `clear`: no episode is open after that close (a closing is such a date, and so is every
+ * quiet day), so a replay from it gives exactly what a replay from the first date gives
+ * from there on, a limit added since included. Looked for in the 31 days before `from`
+ * first (a quiet series has one there, and the date bound skips the older rows), then
+ * over every date for the portfolios without one. A portfolio missing from the map has
+ * no such date: replay from the first date.
  */
-export async function lastClosingsBefore(db: Database, portfolios: readonly string[] | null, from: string): Promise<Map<string, string>> {
-  const rows = await db.all<SeriesRow & { portfolio_id: string; closed_on: string }>(
-    `select portfolio_id, metric, method, window_days, estimator, max(closed_on) as closed_on from limit_breaches
-     where ${IN_SCOPE} and not retracted and closed_on < $2::date
-     group by all`,
-    [scopeParam(portfolios), from],
-  );
-  return new Map(rows.map((r) => [seriesKey(r.portfolio_id, seriesOf(r)), r.closed_on]));
+export async function lastClearDates(db: Database, limit: Series, clear: number, portfolios: readonly string[], from: string): Promise<Map<string, string>> {
+  const { value, rows: source } = metricSql(limit);
+  const found = new Map<string, string>();
+  for (const since of [-31, null]) {
+    const missing = portfolios.filter((p) => !found.has(p));
+    if (missing.length === 0) break;
+    const rows = await db.all<{ portfolio_id: string; clear_on: string }>(
+      `select portfolio_id, max(date)::varchar as clear_on from ${source}
+       where ${IN_SCOPE} and window_days = $2 and estimator is not distinct from $3 and date < $4::date
+         and ($5::integer is null or date >= $4::date + $5::integer) and ${value} < $6
+       group by portfolio_id`,
+      [scopeParam(missing), limit.window, limit.estimator, from, since, clear],
+    );
+    for (const r of rows) found.set(r.portfolio_id, r.clear_on);
+  }
+  return found;
 }
 
 /** Per breach_id in scope, the kinds of alert already raised: each transition is alerted at most once. */

@@ -6,7 +6,7 @@ import { limitsOnUnknownPortfolios } from '../read/portfolios.ts';
 import { applicableLimits, limitKey } from './applicableLimits.ts';
 import {
   alertedKinds,
-  lastClosingsBefore,
+  lastClearDates,
   loadEpisodesInScope,
   loadMetricSeries,
   retractEpisodes,
@@ -71,16 +71,13 @@ export async function checkLimits(db: Database, config: Config, log: Logger, sco
 
   const recorded = await loadEpisodesInScope(db, scope.portfolios, scope.from);
   // The state at `from` is known only by replaying from a date with no episode open: the
-  // last closing before `from`. The dates before `from` are unchanged, so an episode open
-  // at `from` is re-derived exactly up to it and continued; one a previous run could not
-  // see (a limit added since) is found too.
-  const closings = scope.from === null ? new Map<string, string>() : await lastClosingsBefore(db, scope.portfolios, scope.from);
-  const watched = portfolios.flatMap(({ portfolio_id: portfolioId }) =>
-    applicableLimits(config.limits, portfolioId).map((limit) => {
-      const replayFrom = scope.from === null ? null : (closings.get(seriesKey(portfolioId, limit)) ?? null);
-      return { portfolioId, limit, replayFrom };
-    }),
-  );
+  // last date before `from` whose figure was below the clear level (lastClearDates). The
+  // dates before `from` are unchanged, so an episode open at `from` is re-derived exactly
+  // up to it and continued; one a previous run could not see (a limit added since) is
+  // found too, as the date comes from the figures, not from the recorded episodes.
+  const pairs = portfolios.flatMap(({ portfolio_id: portfolioId }) => applicableLimits(config.limits, portfolioId).map((limit) => ({ portfolioId, limit })));
+  const starts = scope.from === null ? new Map<string, string>() : await replayStarts(db, pairs, scope.from);
+  const watched = pairs.map((w) => ({ ...w, replayFrom: starts.get(seriesKey(w.portfolioId, w.limit)) ?? null }));
   // each watched figure is read once for all portfolios, from the earliest replay start
   const series = new Map<string, Map<string, MetricPoint[]>>();
   for (const { limit } of watched) {
@@ -137,6 +134,20 @@ export async function checkLimits(db: Database, config: Config, log: Logger, sco
   await saveToldStates(db, toldNow);
   stageLog.info(outcome, 'limits checked');
   return outcome;
+}
+
+/** By seriesKey, where each (portfolio, limit) replays from: lastClearDates, one query per watched figure and clear level. */
+async function replayStarts(db: Database, pairs: { portfolioId: string; limit: ResolvedLimit }[], from: string): Promise<Map<string, string>> {
+  const groups = new Map<string, { limit: ResolvedLimit; portfolios: string[] }>();
+  for (const { portfolioId, limit } of pairs) {
+    const key = `${limitKey(limit)}|${limit.clear}`;
+    (groups.get(key) ?? groups.set(key, { limit, portfolios: [] }).get(key)!).portfolios.push(portfolioId);
+  }
+  const starts = new Map<string, string>();
+  for (const { limit, portfolios } of groups.values()) {
+    for (const [portfolioId, date] of await lastClearDates(db, limit, limit.clear, portfolios, from)) starts.set(seriesKey(portfolioId, limit), date);
+  }
+  return starts;
 }
 
 /**

@@ -92,6 +92,23 @@ describe('checkLimits over corrections and history loads', () => {
     expect((await alertRows(ws.db)).map((a) => [a.kind, a.as_of, a.data.level, a.data.episode_state])).toEqual([['limit_state', today[0], 'breach', 'open']]);
   });
 
+  it('replays from the last quiet day before `from`, however far back: an episode open for 60 business days, a limit added since', async () => {
+    ws = await tempWorkspace();
+    // quiet (below the 12.75% clear level) long ago, then above it for 60 days: no quiet day in the month before `from`
+    const days = path([0.1, 0.12, 0.14, 0.16, ...Array(57).fill(0.13), 0.131, 0.13, 0.1, 0.14]);
+    const [history, [today, quiet, next]] = [days.slice(0, -3), days.slice(-3)];
+    await ws.db.transaction(() => writeRiskSeries(ws!.db, { portfolioId: 'acct-growth', points: history }));
+    await run([today], today[0], 2);
+    expect((await breachRows(ws.db)).map((b) => [b.opened_on, b.escalated_on, b.closed_on, b.peak_value])).toEqual([[history[2][0], history[3][0], null, 0.16]]);
+    // a quiet day in between, inside the month before the next date: the episode closed there, and the next day replays from it
+    await run([quiet], quiet[0], 3);
+    await run([next], next[0], 4);
+    expect((await breachRows(ws.db)).map((b) => [b.opened_on, b.closed_on])).toEqual([
+      [history[2][0], quiet[0]],
+      [next[0], null],
+    ]);
+  });
+
   it('records every episode of a history load but alerts only recent transitions and a still-open episode, once', async () => {
     // maxAgeDays 5 (the default): transitions more than 5 calendar days before the last date stay quiet
     ws = await tempWorkspace();
