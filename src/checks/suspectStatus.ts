@@ -33,7 +33,7 @@ export async function markSuspectWindows(db: Database, runId: number): Promise<n
        join run_rows r on r.via = p.via and r.reader = p.reader and r.date = p.date
        where p.date_index - s.date_index <= case when r.window_days = 0 then longest.days else r.window_days end
      )
-     update risk_daily set status = case when risk_daily.status = 'ok' then 'suspect_price' else risk_daily.status || ',suspect_price' end
+     update risk_daily set status = ${withSuspect('risk_daily')}
      from touched t
      where risk_daily.portfolio_id = t.portfolio_id and risk_daily.date = t.date and risk_daily.window_days = t.window_days
        and risk_daily.estimator = t.estimator and risk_daily.run_id = $1
@@ -63,7 +63,7 @@ export async function markSuspectScenarios(db: Database, runId: number): Promise
        join var_daily v on v.run_id = $1 and v.method <> 'normal' and v.portfolio_id = p.portfolio_id and v.date = p.date
        where p.date_index - s.date_index <= v.window_days
      )
-     update var_daily set status = case when var_daily.status = 'ok' then 'suspect_price' else var_daily.status || ',suspect_price' end
+     update var_daily set status = ${withSuspect('var_daily')}
      from touched t
      where var_daily.portfolio_id = t.portfolio_id and var_daily.date = t.date and var_daily.method = t.method
        and var_daily.window_days = t.window_days and var_daily.run_id = $1
@@ -78,6 +78,9 @@ async function anyFlagOpen(db: Database): Promise<boolean> {
   const [{ open }] = await db.all<{ open: number }>('select count(*)::integer as open from price_checks where cleared_at is null and not held');
   return open > 0;
 }
+
+/** A row's status with suspect_price added: alone in place of ok, else after the others. */
+const withSuspect = (table: string) => `case when ${table}.status = 'ok' then 'suspect_price' else ${table}.status || ',suspect_price' end`;
 
 /** Each open, used flag as (security, date_index of its date). */
 const SUSPECTS = `suspects as (
