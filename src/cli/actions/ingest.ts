@@ -16,7 +16,7 @@ import { strictFailure } from '../strict.ts';
 /**
  * `riskfold ingest [FILE...]`: the given files or the inbox, through the same batch as
  * the worker (applied securities, fx, prices, then positions, by arrival within a kind): ingest each, one recompute, limits,
- * alerts, read copy. A rejected file, or a portfolio the run could not compute, is data,
+ * alerts, read copy. A rejected or held file, or a portfolio the run could not compute, is data,
  * not a failure: it is printed and the exit code stays 0 (non-zero with --strict, after
  * every file has had its turn); a missing file, a locked database or a failed recompute
  * exit non-zero.
@@ -39,7 +39,8 @@ export async function runIngest(files: string[], opts: { config?: string; strict
     if (summary.idle) process.stdout.write(`${summary.idle}\n`);
     if (summary.readCopyBehind !== null) process.stdout.write(`${summary.readCopyBehind}\n`);
     if (summary.runError !== null) throw new Error(`the files are loaded but the recompute failed: ${summary.runError}`);
-    const failure = opts.strict ? strictFailure({ count: rejected, of: summary.files.length }, summary.run) : null;
+    const held = summary.files.filter((f) => f.status === 'held').length;
+    const failure = opts.strict ? strictFailure({ rejected, held, of: summary.files.length }, summary.run) : null;
     if (failure) throw failure;
   } finally {
     db.close();
