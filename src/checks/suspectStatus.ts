@@ -9,9 +9,7 @@ import type { Database } from '../storage/database.ts';
  * rows are written; set-based, and nothing at all while no flag is open.
  */
 export async function markSuspectWindows(db: Database, runId: number): Promise<number> {
-  if (!(await anyFlagOpen(db))) return 0;
-  const rows = await db.all<{ n: number }>(
-    `with ${SUSPECTS},
+  return markTouched(db, runId, 'risk_daily', ['portfolio_id', 'date', 'window_days', 'estimator'], `
      longest as (select list_max(windows) as days from pipeline_settings),
      -- who reads a security's price on a date: a portfolio holding it, a benchmark weighting it
      readers as (
@@ -32,15 +30,7 @@ export async function markSuspectWindows(db: Database, runId: number): Promise<n
        join readers p on p.security_id = s.security_id and p.date_index between s.date_index and s.date_index + longest.days
        join run_rows r on r.via = p.via and r.reader = p.reader and r.date = p.date
        where p.date_index - s.date_index <= case when r.window_days = 0 then longest.days else r.window_days end
-     )
-     update risk_daily set status = ${withSuspect('risk_daily')}
-     from touched t
-     where risk_daily.portfolio_id = t.portfolio_id and risk_daily.date = t.date and risk_daily.window_days = t.window_days
-       and risk_daily.estimator = t.estimator and risk_daily.run_id = $1
-     returning 1 as n`,
-    [runId],
-  );
-  return rows.length;
+     )`);
 }
 
 /**
@@ -51,9 +41,7 @@ export async function markSuspectWindows(db: Database, runId: number): Promise<n
  * older returns, at a weight of at most lambda^N: nothing left to see.) After write_losses.
  */
 export async function markSuspectScenarios(db: Database, runId: number): Promise<number> {
-  if (!(await anyFlagOpen(db))) return 0;
-  const rows = await db.all<{ n: number }>(
-    `with ${SUSPECTS},
+  return markTouched(db, runId, 'var_daily', ['portfolio_id', 'date', 'method', 'window_days'], `
      lookback as (select coalesce(max(window_days), 0) as days from var_daily where run_id = $1 and method <> 'normal'),
      touched as (
        select distinct v.portfolio_id, v.date, v.method, v.window_days
@@ -62,11 +50,22 @@ export async function markSuspectScenarios(db: Database, runId: number): Promise
        join hold_daily_positions p on p.security_id = s.security_id and p.date_index between s.date_index and s.date_index + lookback.days
        join var_daily v on v.run_id = $1 and v.method <> 'normal' and v.portfolio_id = p.portfolio_id and v.date = p.date
        where p.date_index - s.date_index <= v.window_days
-     )
-     update var_daily set status = ${withSuspect('var_daily')}
+     )`);
+}
+
+/**
+ * Adds suspect_price to the status of the run's rows of `table` that the `touched` clause
+ * of `clauses` (after SUSPECTS, with the run id as $1) names by `keys`: alone in place of
+ * ok, else after the others. Nothing at all while no flag is open.
+ */
+async function markTouched(db: Database, runId: number, table: 'risk_daily' | 'var_daily', keys: string[], clauses: string): Promise<number> {
+  if (!(await anyFlagOpen(db))) return 0;
+  const on = keys.map((k) => `${table}.${k} = t.${k}`).join(' and ');
+  const rows = await db.all<{ n: number }>(
+    `with ${SUSPECTS},${clauses}
+     update ${table} set status = case when ${table}.status = 'ok' then 'suspect_price' else ${table}.status || ',suspect_price' end
      from touched t
-     where var_daily.portfolio_id = t.portfolio_id and var_daily.date = t.date and var_daily.method = t.method
-       and var_daily.window_days = t.window_days and var_daily.run_id = $1
+     where ${on} and ${table}.run_id = $1
      returning 1 as n`,
     [runId],
   );
@@ -78,9 +77,6 @@ async function anyFlagOpen(db: Database): Promise<boolean> {
   const [{ open }] = await db.all<{ open: number }>('select count(*)::integer as open from price_checks where cleared_at is null and not held');
   return open > 0;
 }
-
-/** A row's status with suspect_price added: alone in place of ok, else after the others. */
-const withSuspect = (table: string) => `case when ${table}.status = 'ok' then 'suspect_price' else ${table}.status || ',suspect_price' end`;
 
 /** Each open, used flag as (security, date_index of its date). */
 const SUSPECTS = `suspects as (
