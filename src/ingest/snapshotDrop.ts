@@ -23,9 +23,10 @@ interface Verdict {
 const LOOKBACK_DAYS: readonly (number | null)[] = [10, 400, null];
 
 /**
- * A positions file just inserted (not yet committed) that keeps fewer than `keepShare` of
- * a portfolio's non-zero holdings of the snapshot in force before it (the latest one on
- * or before its date, from another file) is what a truncated delivery looks like.
+ * A positions file just inserted (not yet committed) with fewer non-zero holdings for a
+ * portfolio than `keepShare` of those of the snapshot in force before it (the latest one
+ * on or before its date, from another file; a count: which securities is not compared)
+ * is what a truncated delivery looks like.
  * Returns the first such portfolio as a hold reason, or null.
  */
 export async function snapshotDrop(db: Database, fileId: number, keepShare: number): Promise<HoldReason | null> {
@@ -89,8 +90,8 @@ function holdReason(drop: Drop, keepShare: number): HoldReason {
   return {
     code: 'snapshot_drop',
     reason:
-      `portfolio ${drop.portfolio_id} on ${drop.date} keeps ${drop.kept} of the ${drop.held_before} holdings of its snapshot of ${drop.prev_date}` +
-      ` (below ingest.snapshotKeepShare ${keepShare}); a truncated file looks like this.` +
+      `portfolio ${drop.portfolio_id} on ${drop.date} has ${drop.kept} holdings against ${drop.held_before} in its snapshot of ${drop.prev_date}` +
+      ` (fewer than ingest.snapshotKeepShare ${keepShare} of them); a truncated file looks like this.` +
       ` To load it, list the file in ingest.confirmedFiles or deliver the same file again`,
   };
 }

@@ -121,7 +121,7 @@ describe('ingestFile: a positions snapshot that drops most holdings', () => {
     const cut = writeCsv(ws.config.inbox, 'positions_0413.csv', snapshot('2026-04-13', 4));
     const held = await ingestFile(ws.db, ws.config, ws.log, cut);
     expect(held).toMatchObject({ status: 'held', hold: { code: 'snapshot_drop' } });
-    expect(held.hold?.reason).toContain('portfolio acct-growth on 2026-04-13 keeps 4 of the 10 holdings of its snapshot of 2026-04-10');
+    expect(held.hold?.reason).toContain('portfolio acct-growth on 2026-04-13 has 4 holdings against 10 in its snapshot of 2026-04-10');
     expect(await counts(ws)).toMatchObject({ files: 1, positions: 10 });
     await ingestFile(ws.db, ws.config, ws.log, cut);
     const alerts = await ws.db.all<{ kind: string; text: string }>("select kind, payload->>'text' as text from alerts");
@@ -163,6 +163,6 @@ describe('ingestFile: a positions snapshot that drops most holdings', () => {
       writeCsv(ws.config.inbox, 'positions_0410.csv', [POSITION_HEADER, ...rows('2026-04-10', 'acct-growth', 10), ...rows('2026-04-10', 'acct-income', 2)]),
     );
     expect(out).toMatchObject({ status: 'held', hold: { code: 'snapshot_drop' } });
-    expect(out.hold?.reason).toContain('portfolio acct-income on 2026-04-10 keeps 2 of the 10 holdings of its snapshot of 2024-03-01');
+    expect(out.hold?.reason).toContain('portfolio acct-income on 2026-04-10 has 2 holdings against 10 in its snapshot of 2024-03-01');
   });
 });

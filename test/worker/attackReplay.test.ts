@@ -124,7 +124,7 @@ describe('the attack on the worker, replayed', () => {
     writeFileSync(cut, `date,portfolio_id,security_id,quantity\n${rows.slice(0, 20).join('')}`);
     const held = await waitFor(() => worker.logLines().find((l) => l.msg === 'file held in the inbox' && l.file === 'positions_0615.csv'), 30_000, 'the hold');
     expect(held).toMatchObject({ code: 'snapshot_drop' });
-    expect(String(held.reason)).toContain('keeps 20 of the 41 holdings');
+    expect(String(held.reason)).toContain('has 20 holdings against 41');
     appendFileSync(cut, rows.slice(20).join(''));
     await waitFor(() => worker.logLines().find((l) => l.msg === 'file ingested' && l.file === 'positions_0615.csv'), 30_000, 'the whole file');
     await waitFor(() => worker.logLines().some((l) => l.stage === 'alerts' && JSON.stringify(l).includes('RISKFOLD_ATTACK_TOKEN')), 30_000, 'the refused delivery');
