@@ -74,13 +74,15 @@ async function markTouched(db: Database, runId: number, table: 'risk_daily' | 'v
 
 /** Flags open and used (mode flag): until one is, the marking costs one count. */
 async function anyFlagOpen(db: Database): Promise<boolean> {
-  const [{ open }] = await db.all<{ open: number }>('select count(*)::integer as open from price_checks where cleared_at is null and not held');
+  const [{ open }] = await db.all<{ open: number }>(`select count(*)::integer as open from price_checks where ${OPEN_AND_USED}`);
   return open > 0;
 }
+
+/** A price_checks row whose flag is open and whose price is used in risk (mode flag; a held one is left out). */
+export const OPEN_AND_USED = 'cleared_at is null and not held';
 
 /** Each open, used flag as (security, date_index of its date). */
 const SUSPECTS = `suspects as (
        select c.security_id, v.date_index
-       from price_checks c join align_valuation_dates v on v.date = c.date
-       where c.cleared_at is null and not c.held
+       from (select security_id, date from price_checks where ${OPEN_AND_USED}) c join align_valuation_dates v on v.date = c.date
      )`;

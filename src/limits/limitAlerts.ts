@@ -1,3 +1,4 @@
+import { OPEN_AND_USED } from '../checks/suspectStatus.ts';
 import type { ResolvedLimit } from '../config/load.ts';
 import type { NewAlert } from '../alerts/outbox.ts';
 import type { Database } from '../storage/database.ts';
@@ -62,7 +63,7 @@ export async function suspectPricesBehind(db: Database, portfolioId: string, lim
        select w.security_id from hold_benchmark_weights w join figure f using (benchmark_id) where w.date = $2::date
      )
      select security_id, date::varchar as date, price, rules from price_checks
-     where cleared_at is null and not held and date <= $2::date and security_id in (select security_id from held)
+     where ${OPEN_AND_USED} and date <= $2::date and security_id in (select security_id from held)
      order by date desc, security_id limit ${count}`,
     [portfolioId, date, limit.window, limit.estimator],
   );

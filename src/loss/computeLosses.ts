@@ -1,6 +1,6 @@
 import type { Logger } from 'pino';
 import type { Config } from '../config/load.ts';
-import { readEarlierReturns, type PortfolioPanel, type ReturnPanel } from '../risk/inputs/panels.ts';
+import { readEarlierReturns, readReturnRows, type PortfolioPanel, type ReturnPanel } from '../risk/inputs/panels.ts';
 import { readColumns } from '../storage/columnar.ts';
 import type { Database } from '../storage/database.ts';
 import { backtestRows, VarHistory } from './backtestRows.ts';
@@ -183,15 +183,8 @@ async function readRangeBlocks(db: Database, returns: ReturnPanel, ranges: [numb
   for (const [first, last] of ranges) {
     if (first >= (returns.returnsFrom ?? 0) || blocks.has(rangeKey(first, last))) continue;
     const block = new Float64Array((last - first + 1) * n).fill(Number.NaN);
+    const raw = await readReturnRows(db, first, last);
     // date_index counts valuation dates from 1, the panel's rows from 0
-    const raw = await readColumns(
-      db,
-      `select s.k, r.date_index, r.log_return::double
-       from ret_securities_since($1) r join risk_in_securities s using (security_id)
-       where r.date_index <= $2`,
-      [first + 1, last + 1],
-      { k: 'int', date_index: 'int', log_return: 'double' },
-    );
     for (let i = 0; i < raw.rows; i++) block[(raw.columns.date_index[i] - 1 - first) * n + raw.columns.k[i]] = raw.columns.log_return[i];
     blocks.set(rangeKey(first, last), block);
   }

@@ -46,16 +46,16 @@ export function stressRows(inputs: StressInputs, scenarios: readonly StressScena
       emit({ ...base, scenarioId: scenario.id, kind: 'hypothetical', ...figures(result, holdings), rangeFrom: null, rangeTo: null });
       continue;
     }
-    const [first, last] = rangeRows(returns.dates, scenario.from, scenario.to);
+    const range = storedRange(returns.dates, scenario.from, scenario.to);
     const scenarioBase = { ...base, scenarioId: scenario.id, kind: 'historical' as const };
-    if (first > last || !withinHistory(returns.dates, scenario.from, scenario.to)) {
-      // the range is not all in stored history: its unseen days would count as unchanged,
-      // so no figure at all, and every holding that could move is named
+    if (range === null) {
+      // not all in stored history (storedRange): no figure at all, every holding that could move is named
       const simple = withoutData(inputs);
       const missing = holdings.filter((_, a) => Number.isNaN(simple[a])).map((h) => h.security);
       emit({ ...scenarioBase, pnlBase: Number.NaN, pnlPct: Number.NaN, coverage: 0, missing, rangeFrom: scenario.from, rangeTo: scenario.to });
       continue;
     }
+    const [first, last] = range;
     emit({
       ...scenarioBase,
       ...figures(stressPnl(values, rangeReturns(inputs, first, last)), holdings),
@@ -81,15 +81,20 @@ export function stressRows(inputs: StressInputs, scenarios: readonly StressScena
 /** The rows first .. last whose returns each configured historical range in stored history reads. */
 export function historicalRanges(dates: readonly string[], scenarios: readonly StressScenario[]): [number, number][] {
   return scenarios.flatMap((s) => {
-    if (s.kind !== 'historical' || !withinHistory(dates, s.from, s.to)) return [];
-    const [first, last] = rangeRows(dates, s.from, s.to);
-    return first > last ? [] : [[first, last] as [number, number]];
+    const range = s.kind === 'historical' ? storedRange(dates, s.from, s.to) : null;
+    return range === null ? [] : [range];
   });
 }
 
-/** Whether stored history spans the whole range: from its first date's close to its last date's close. */
-function withinHistory(dates: readonly string[], from: string, to: string): boolean {
-  return dates.length > 0 && from >= dates[0] && to <= dates[dates.length - 1];
+/**
+ * The rows first .. last of a range all in stored history (from its first date's close to
+ * its last date's close, with at least one stored date in it); null otherwise: its unseen
+ * days would count as unchanged, so it gets no figure.
+ */
+function storedRange(dates: readonly string[], from: string, to: string): [number, number] | null {
+  if (dates.length === 0 || from < dates[0] || to > dates[dates.length - 1]) return null;
+  const [first, last] = rangeRows(dates, from, to);
+  return first > last ? null : [first, last];
 }
 
 /** The rows whose returns make up the move from the close of `from` to the close of `to`: dates in (from, to]. */

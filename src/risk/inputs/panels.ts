@@ -138,14 +138,7 @@ export async function readEarlierReturns(db: Database, panel: ReturnPanel, first
   if (firstRow >= until) return;
   const t = panel.dates.length;
   const n = panel.securityIds.length;
-  const raw = await readColumns(
-    db,
-    `select s.k, r.date_index, r.log_return::double
-     from ret_securities_since($1) r join risk_in_securities s using (security_id)
-     where r.date_index <= $2`,
-    [firstRow + 1, until],
-    { k: 'int', date_index: 'int', log_return: 'double' },
-  );
+  const raw = await readReturnRows(db, firstRow, until - 1);
   const { returns, returnsBySecurity, runLength } = panel;
   for (let i = 0; i < raw.rows; i++) {
     const d = raw.columns.date_index[i] - 1;
@@ -157,6 +150,21 @@ export async function readEarlierReturns(db: Database, panel: ReturnPanel, first
     for (let j = 0; j < n; j++) runLength[d * n + j] = Number.isFinite(returns[d * n + j]) ? (d > 0 ? runLength[(d - 1) * n + j] : 0) + 1 : 0;
   }
   panel.returnsFrom = firstRow;
+}
+
+/**
+ * The stored returns of rows firstRow .. lastRow (the panel's rows: date_index - 1) of the
+ * run's securities (risk_in_securities), as (k, date_index, log_return) columns.
+ */
+export function readReturnRows(db: Database, firstRow: number, lastRow: number) {
+  return readColumns(
+    db,
+    `select s.k, r.date_index, r.log_return::double
+     from ret_securities_since($1) r join risk_in_securities s using (security_id)
+     where r.date_index <= $2`,
+    [firstRow + 1, lastRow + 1],
+    { k: 'int', date_index: 'int', log_return: 'double' },
+  );
 }
 
 /** From T x N returns: the same N x T (each security contiguous) and the run lengths of non-missing returns. */
