@@ -2,9 +2,13 @@ import type { Config } from '../config/load.ts';
 import { RiskfoldError } from '../errors.ts';
 import type { Database } from '../storage/database.ts';
 
-/** The portfolio ids the positions received name, sorted. */
+/**
+ * The portfolio ids the positions received name, sorted: from the snapshots (one row per
+ * portfolio and date), not the raw positions, which every limit check would otherwise
+ * scan whole (0.44 s on the large bench's 26 million rows, 0.02 s from the snapshots).
+ */
 async function knownPortfolios(db: Database): Promise<string[]> {
-  return (await db.all<{ portfolio_id: string }>('select distinct portfolio_id from positions order by 1')).map((r) => r.portfolio_id);
+  return (await db.all<{ portfolio_id: string }>('select distinct portfolio_id from clean_snapshots order by 1')).map((r) => r.portfolio_id);
 }
 
 /**
